@@ -1,0 +1,75 @@
+using System.CommandLine;
+using PathBench.Cli.Commands;
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Cli;
+
+/// <summary>
+/// Builds the command tree and runs it against the given writers, so tests can drive the
+/// whole program in-process. Exit codes: 0 success, 1 a measured check failed or an
+/// unexpected internal error, 2 bad arguments or bad input (one line on stderr, no stack trace).
+/// </summary>
+public static class CliApp
+{
+    /// <summary>Exit code for bad arguments or unreadable input.</summary>
+    public const int UsageExitCode = 2;
+
+    /// <summary>Runs <paramref name="args"/> and returns the exit code.</summary>
+    public static int Run(string[] args, TextWriter stdout, TextWriter stderr)
+    {
+        ArgumentNullException.ThrowIfNull(args);
+        var io = new CliIo(stdout, stderr);
+        RootCommand root = BuildRoot(io);
+        ParseResult parse = root.Parse(args);
+        if (parse.Errors.Count > 0)
+        {
+            // One line: the parser's messages may span lines (lists of allowed values).
+            string message = string.Join("; ", parse.Errors.Select(e => string.Join(" ", e.Message.Split(['\n', '\r', '\t'], StringSplitOptions.RemoveEmptyEntries))));
+            stderr.WriteLine($"pathbench: error: {message} (see 'pathbench --help')");
+            return UsageExitCode;
+        }
+
+        try
+        {
+            return parse.Invoke(new InvocationConfiguration { Output = stdout, Error = stderr, EnableDefaultExceptionHandler = false });
+        }
+        catch (CliUsageException e)
+        {
+            stderr.WriteLine($"pathbench: error: {e.Message}");
+            return UsageExitCode;
+        }
+        catch (SamplerSpecException e)
+        {
+            stderr.WriteLine($"pathbench: error: {e.Message}");
+            return UsageExitCode;
+        }
+    }
+
+    /// <summary>The root command with every subcommand registered.</summary>
+    internal static RootCommand BuildRoot(CliIo io)
+    {
+        var root = new RootCommand(
+            "PathBench: sample generators, randomizations and measurements for the sampling code of physically based renderers.");
+        root.Subcommands.Add(SamplersCommand.Create(io));
+        root.Subcommands.Add(PointsCommand.Create(io));
+        root.Subcommands.Add(PointStatsCommand.Create(io));
+        root.Subcommands.Add(IntegrandsCommand.Create(io));
+        return root;
+    }
+}
+
+/// <summary>The writers a command prints to.</summary>
+public sealed record CliIo(TextWriter Out, TextWriter Error);
+
+/// <summary>Bad arguments or bad input: reported as one line with exit code 2.</summary>
+public sealed class CliUsageException : Exception
+{
+    /// <summary>Creates the exception with the line to print.</summary>
+    public CliUsageException(string message) : base(message) { }
+
+    /// <summary>Creates the exception with the line to print and its cause.</summary>
+    public CliUsageException(string message, Exception inner) : base(message, inner) { }
+
+    /// <summary>Creates an empty exception.</summary>
+    public CliUsageException() { }
+}

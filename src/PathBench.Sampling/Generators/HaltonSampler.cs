@@ -1,0 +1,57 @@
+using PathBench.Sampling.Hashing;
+using PathBench.Sampling.Sequences;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// The Halton (1960) sequence: coordinate d of point i is the radical inverse of i in the
+/// (d+1)-th prime. Randomizations: Cranley–Patterson rotation, or random digit permutations
+/// (an independent permutation per dimension and digit position, seeded per pixel).
+/// </summary>
+public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
+{
+    /// <inheritdoc/>
+    public override int MaxDimensions => RadicalInverse.PrimeCount;
+
+    /// <inheritdoc/>
+    public override double Sample(ulong pixel, uint index, int dimension)
+    {
+        int b = RadicalInverse.Primes[dimension];
+        switch (Spec.Randomize)
+        {
+            case Randomization.DigitPermutation:
+                return RadicalInverse.Permuted(index, b, SampleHash.Combine(pixel ^ Salts.DigitPermutation, (ulong)dimension));
+            case Randomization.CranleyPatterson:
+                return Rotation.Apply(RadicalInverse.Plain(index, b), pixel, dimension);
+            default:
+                return RadicalInverse.Plain(index, b);
+        }
+    }
+}
+
+/// <summary>
+/// The Hammersley point set for n points: (i/n, φ₂(i), φ₃(i), …) with φ_b the radical
+/// inverse in base b (Hammersley &amp; Handscomb 1964). Randomization: Cranley–Patterson rotation.
+/// </summary>
+public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
+{
+    /// <inheritdoc/>
+    public override int MaxDimensions => RadicalInverse.PrimeCount + 1;
+
+    /// <inheritdoc/>
+    public override double Sample(ulong pixel, uint index, int dimension)
+    {
+        double x = dimension == 0 ? (double)index / Count : RadicalInverse.Plain(index, RadicalInverse.Primes[dimension - 1]);
+        return Spec.Randomize == Randomization.CranleyPatterson ? Rotation.Apply(x, pixel, dimension) : x;
+    }
+}
+
+/// <summary>The Cranley–Patterson (1976) rotation: a random toroidal shift, one offset per pixel and dimension.</summary>
+internal static class Rotation
+{
+    public static double Apply(double x, ulong pixel, int dimension)
+    {
+        double s = x + SampleHash.Uniform(pixel ^ Salts.Rotation, 0, dimension);
+        return s >= 1.0 ? s - 1.0 : s;
+    }
+}

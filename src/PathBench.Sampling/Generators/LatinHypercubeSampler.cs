@@ -1,0 +1,21 @@
+using PathBench.Sampling.Hashing;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// Latin hypercube sampling (McKay, Beckman &amp; Conover 1979): in every dimension the n
+/// points fall one in each of n equal strata, the strata assigned by an independent random
+/// permutation per dimension and the position within a stratum uniform.
+/// </summary>
+public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
+{
+    /// <inheritdoc/>
+    public override int MaxDimensions => int.MaxValue;
+
+    /// <inheritdoc/>
+    public override double Sample(ulong pixel, uint index, int dimension)
+    {
+        uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
+        return (stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count;
+    }
+}

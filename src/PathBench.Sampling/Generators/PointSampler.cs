@@ -1,0 +1,73 @@
+using PathBench.Sampling.Hashing;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// A sample generator bound to its randomization, its planned count and a global seed:
+/// it answers "coordinate <c>d</c> of point <c>i</c> of the set for pixel <c>p</c>".
+/// Immutable and free of shared mutable state, so one instance serves every thread.
+/// </summary>
+/// <remarks>
+/// Sequences (Halton, Sobol, random) accept any index; sets (Hammersley, jittered, Latin
+/// hypercube, multi-jittered) are defined for indices below <see cref="Count"/> only.
+/// Every coordinate lies in [0, 1).
+/// </remarks>
+public abstract class PointSampler
+{
+    /// <summary>Creates the sampler.</summary>
+    protected PointSampler(SamplerSpec spec)
+    {
+        ArgumentNullException.ThrowIfNull(spec);
+        Spec = spec;
+    }
+
+    /// <summary>What this sampler was built from.</summary>
+    public SamplerSpec Spec { get; }
+
+    /// <summary>The planned number of points per pixel.</summary>
+    public int Count => Spec.Count;
+
+    /// <summary>The largest number of dimensions this generator defines.</summary>
+    public abstract int MaxDimensions { get; }
+
+    /// <summary>The key of pixel (x, y) under this sampler's global seed.</summary>
+    public ulong PixelKey(int x, int y) => SampleHash.PixelKey(x, y, Spec.Seed);
+
+    /// <summary>Coordinate <paramref name="dimension"/> of point <paramref name="index"/> for the pixel with key <paramref name="pixel"/>.</summary>
+    public abstract double Sample(ulong pixel, uint index, int dimension);
+
+    /// <summary>
+    /// Dimensions <paramref name="dimension"/> and <paramref name="dimension"/>+1 of one point.
+    /// Generators override it where the pair shares work (an index shuffle, a stratum).
+    /// </summary>
+    public virtual (double X, double Y) Sample2D(ulong pixel, uint index, int dimension) =>
+        (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
+
+    /// <summary>Writes <paramref name="dims"/> coordinates of each of the first <c>points.Length / dims</c> points, row by row.</summary>
+    public void Fill(ulong pixel, int dims, Span<double> points)
+    {
+        if (dims <= 0 || points.Length % dims != 0)
+        {
+            throw new ArgumentException("the buffer must hold whole points", nameof(points));
+        }
+
+        int n = points.Length / dims;
+        for (int i = 0; i < n; i++)
+        {
+            for (int d = 0; d < dims; d++)
+            {
+                points[i * dims + d] = Sample(pixel, (uint)i, d);
+            }
+        }
+    }
+}
+
+/// <summary>What a sampler is built from: generator name, randomization, antithetic pairing, planned count and global seed.</summary>
+public sealed record SamplerSpec(string Generator, Randomization Randomize, bool Antithetic, int Count, ulong Seed)
+{
+    /// <summary>The randomization as written on the command line, e.g. <c>owen</c> or <c>none+antithetic</c>.</summary>
+    public string RandomizeName =>
+        Antithetic
+            ? (Randomize == Randomization.None ? RandomizationNames.Antithetic : RandomizationNames.NameOf(Randomize) + "+" + RandomizationNames.Antithetic)
+            : RandomizationNames.NameOf(Randomize);
+}

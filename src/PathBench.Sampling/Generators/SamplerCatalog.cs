@@ -1,0 +1,133 @@
+namespace PathBench.Sampling.Generators;
+
+/// <summary>One generator: its command-line name, published source, what it needs and which randomizations mean something for it.</summary>
+public sealed record GeneratorInfo(
+    string Name,
+    string Source,
+    bool NeedsCount,
+    int MaxDimensions,
+    IReadOnlyList<Randomization> Randomizations,
+    string WhyOthersRefused,
+    Func<SamplerSpec, PointSampler> Create);
+
+/// <summary>Raised when a sampler cannot be built from what was asked; the message is one line for the user.</summary>
+public sealed class SamplerSpecException : Exception
+{
+    /// <summary>Creates the exception.</summary>
+    public SamplerSpecException(string message) : base(message) { }
+
+    /// <summary>Creates an empty exception.</summary>
+    public SamplerSpecException() { }
+
+    /// <summary>Creates the exception with a cause.</summary>
+    public SamplerSpecException(string message, Exception inner) : base(message, inner) { }
+}
+
+/// <summary>The registry of generators, and the one place that validates a <see cref="SamplerSpec"/>.</summary>
+public static class SamplerCatalog
+{
+    private const string RandomByConstruction =
+        "it is random by construction (its seed drives its jitter and shuffles); a further shift or scramble adds nothing";
+
+    private static readonly GeneratorInfo[] Table =
+    [
+        new("random", "independent uniform; counter-based hash, SplitMix64 finaliser (Steele, Lea & Flood 2014)",
+            false, int.MaxValue, [Randomization.None],
+            "independent uniform points are already as random as they get", s => new RandomSampler(s)),
+        new("jittered", "stratified, one jittered point per cell of a near-square grid, padded per 2-D pair",
+            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new JitteredSampler(s)),
+        new("latin-hypercube", "Latin hypercube; McKay, Beckman & Conover 1979, Technometrics 21(2)",
+            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new LatinHypercubeSampler(s)),
+        new("multi-jittered", "correlated multi-jittered; Kensler 2013, Pixar Technical Memo 13-01",
+            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new MultiJitteredSampler(s)),
+        new("halton", "radical inverse in the first primes; Halton 1960, Numer. Math. 2",
+            false, Sequences.RadicalInverse.PrimeCount, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitPermutation],
+            "Halton is not a base-2 digital sequence beyond its first dimension; use digit-permutation", s => new HaltonSampler(s)),
+        new("hammersley", "(i/n, radical inverses); Hammersley & Handscomb 1964, Monte Carlo Methods",
+            true, Sequences.RadicalInverse.PrimeCount + 1, [Randomization.None, Randomization.CranleyPatterson],
+            "its first coordinate i/n has no digit structure to shift or scramble", s => new HammersleySampler(s)),
+        new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
+            false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen],
+            "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
+    ];
+
+    /// <summary>Every generator, in the order <c>pathbench samplers</c> lists them.</summary>
+    public static IReadOnlyList<GeneratorInfo> Generators => Table;
+
+    /// <summary>The generator of that name, or an error listing the known names.</summary>
+    public static GeneratorInfo Find(string name)
+    {
+        foreach (GeneratorInfo g in Table)
+        {
+            if (string.Equals(g.Name, name, StringComparison.Ordinal))
+            {
+                return g;
+            }
+        }
+
+        throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Table.Select(t => t.Name))}");
+    }
+
+    /// <summary>Parses <c>none</c>, <c>owen</c>, <c>antithetic</c>, <c>owen+antithetic</c> and so on.</summary>
+    public static (Randomization Kind, bool Antithetic) ParseRandomization(string text)
+    {
+        ArgumentNullException.ThrowIfNull(text);
+        bool antithetic = false;
+        Randomization kind = Randomization.None;
+        bool haveKind = false;
+        foreach (string part in text.Split('+'))
+        {
+            if (part == RandomizationNames.Antithetic && !antithetic)
+            {
+                antithetic = true;
+            }
+            else if (!haveKind && RandomizationNames.TryParse(part, out kind))
+            {
+                haveKind = true;
+            }
+            else
+            {
+                string known = string.Join(", ", RandomizationNames.All.Select(r => r.Name)) + ", " + RandomizationNames.Antithetic;
+                throw new SamplerSpecException($"unknown randomization '{text}'; known: {known}, combined as R+antithetic");
+            }
+        }
+
+        return (kind, antithetic);
+    }
+
+    /// <summary>Validates the spec and builds the sampler; <paramref name="dims"/> is how many dimensions the caller will ask for.</summary>
+    public static PointSampler Create(SamplerSpec spec, int dims)
+    {
+        ArgumentNullException.ThrowIfNull(spec);
+        GeneratorInfo g = Find(spec.Generator);
+        if (!g.Randomizations.Contains(spec.Randomize))
+        {
+            throw new SamplerSpecException(
+                $"randomization '{RandomizationNames.NameOf(spec.Randomize)}' is meaningless for '{g.Name}': {g.WhyOthersRefused} " +
+                $"(it takes: {string.Join(", ", g.Randomizations.Select(RandomizationNames.NameOf))}, each optionally +antithetic)");
+        }
+
+        if (spec.Count < 1)
+        {
+            throw new SamplerSpecException($"count must be at least 1, got {spec.Count}");
+        }
+
+        if (dims < 1)
+        {
+            throw new SamplerSpecException($"dims must be at least 1, got {dims}");
+        }
+
+        if (dims > g.MaxDimensions)
+        {
+            throw new SamplerSpecException($"'{g.Name}' defines at most {g.MaxDimensions} dimensions, asked for {dims}");
+        }
+
+        if (!spec.Antithetic)
+        {
+            return g.Create(spec);
+        }
+
+        PointSampler inner = g.Create(spec with { Antithetic = false, Count = (spec.Count + 1) / 2 });
+        return new AntitheticSampler(spec, inner);
+    }
+}

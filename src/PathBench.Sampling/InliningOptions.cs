@@ -1,0 +1,16 @@
+using System.Runtime.CompilerServices;
+
+namespace PathBench.Sampling;
+
+/// <summary>The inlining policy, named once so hot paths say what they want.</summary>
+internal static class InliningOptions
+{
+    /// <summary>Per-sample code: inline aggressively and optimise fully.</summary>
+    public const MethodImplOptions HotPath = MethodImplOptions.AggressiveInlining | MethodImplOptions.AggressiveOptimization;
+
+    /// <summary>Tiny helpers that the JIT should always inline.</summary>
+    public const MethodImplOptions ShortMethod = MethodImplOptions.AggressiveInlining;
+
+    /// <summary>Error paths: keep them out of the callers' code.</summary>
+    public const MethodImplOptions ColdPath = MethodImplOptions.NoInlining;
+}

@@ -1,0 +1,105 @@
+using System.Runtime.CompilerServices;
+using PathBench.Sampling.Hashing;
+
+namespace PathBench.Sampling.Sequences;
+
+/// <summary>
+/// Radical inverses in prime bases, for the Halton (1960) and Hammersley sequences,
+/// plain and with random digit permutations (one independent permutation of the digits
+/// 0..b−1 per digit position, the randomization of Braaten &amp; Weller 1979 made random).
+/// </summary>
+public static class RadicalInverse
+{
+    /// <summary>How many prime bases are available (and so the Halton dimension limit).</summary>
+    public const int PrimeCount = 1024;
+
+    private static readonly int[] PrimeTable = BuildPrimes(PrimeCount);
+
+    /// <summary>The first <see cref="PrimeCount"/> primes, 2, 3, 5, …</summary>
+    public static ReadOnlySpan<int> Primes => PrimeTable;
+
+    /// <summary>The radical inverse of <paramref name="index"/> in base <paramref name="b"/>: its digits mirrored about the radix point.</summary>
+    [MethodImpl(InliningOptions.HotPath)]
+    public static double Plain(uint index, int b)
+    {
+        if (b == 2)
+        {
+            return BitReversal.Reverse(index) * (1.0 / 4294967296.0);
+        }
+
+        // Reverse the digits as an integer, then divide once: a single rounding, so the
+        // result is the correctly rounded value of the exact rational digit expansion.
+        ulong reversed = 0;
+        ulong scale = 1;
+        uint ub = (uint)b;
+        while (index != 0)
+        {
+            uint next = index / ub;
+            reversed = reversed * ub + (index - next * ub);
+            scale *= ub;
+            index = next;
+        }
+
+        return reversed / (double)scale;
+    }
+
+    /// <summary>
+    /// The radical inverse with digit position k mapped through its own permutation
+    /// chosen by hashing (<paramref name="key"/>, k). The digits above the index's leading
+    /// digit are zeros mapped through their permutations too, so the value is uniform on
+    /// [0, 1) to double precision, as the randomization requires.
+    /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
+    public static double Permuted(uint index, int b, ulong key)
+    {
+        if (b == 2)
+        {
+            // In base 2 a permutation of {0, 1} is a flip or not: a digital shift.
+            ulong shift = SampleHash.Mix64(key);
+            ulong bits = ((ulong)BitReversal.Reverse(index) << 32) ^ shift;
+            return (bits >> 11) * (1.0 / 9007199254740992.0);
+        }
+
+        uint ub = (uint)b;
+        double invBase = 1.0 / b;
+        double weight = invBase;
+        double sum = 0;
+        // Digits until their weight falls below double precision of the leading one.
+        for (int k = 0; weight > 1e-17; k++)
+        {
+            uint next = index / ub;
+            uint digit = index - next * ub;
+            sum += KenslerPermutation.Permute(digit, ub, (uint)SampleHash.Combine(key, (ulong)k)) * weight;
+            weight *= invBase;
+            index = next;
+        }
+
+        // The sum of b^-k·(b−1) terms can round to 1; keep the half-open interval.
+        return sum < 1.0 ? sum : Math.BitDecrement(1.0);
+    }
+
+    private static int[] BuildPrimes(int count)
+    {
+        var primes = new int[count];
+        int found = 0;
+        for (int n = 2; found < count; n++)
+        {
+            bool prime = true;
+            for (int i = 0; i < found && primes[i] * primes[i] <= n; i++)
+            {
+                if (n % primes[i] == 0)
+                {
+                    prime = false;
+                    break;
+                }
+            }
+
+            if (prime)
+            {
+                primes[found++] = n;
+            }
+        }
+
+        return primes;
+    }
+}

@@ -1,0 +1,90 @@
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Sampling.Tests.Generators;
+
+/// <summary>A sample is a pure function of (generator, randomization, count, seed, pixel, index, dimension).</summary>
+public sealed class DeterminismTests
+{
+    public static TheoryData<string, string> All => new()
+    {
+        { "random", "none" }, { "jittered", "none" }, { "latin-hypercube", "none" }, { "multi-jittered", "none" },
+        { "halton", "digit-permutation" }, { "hammersley", "cranley-patterson" }, { "sobol", "owen" }, { "sobol", "owen+antithetic" },
+    };
+
+    [Theory]
+    [MemberData(nameof(All))]
+    public void Parallel_and_sequential_evaluation_give_the_same_bits(string generator, string randomize)
+    {
+        (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, 64, 77), 6);
+        const int pixels = 64;
+        var sequential = new double[pixels * 64 * 6];
+        for (int p = 0; p < pixels; p++)
+        {
+            s.Fill(s.PixelKey(p % 8, p / 8), 6, sequential.AsSpan(p * 384, 384));
+        }
+
+        var parallel = new double[sequential.Length];
+        Parallel.For(0, pixels, new ParallelOptions { MaxDegreeOfParallelism = 4 }, p => s.Fill(s.PixelKey(p % 8, p / 8), 6, parallel.AsSpan(p * 384, 384)));
+        Assert.Equal(sequential, parallel);
+
+        // A fresh sampler from the same spec gives the same points too (no hidden state).
+        var again = new double[384];
+        SamplerCatalog.Create(new SamplerSpec(generator, r, anti, 64, 77), 6).Fill(s.PixelKey(0, 0), 6, again);
+        Assert.Equal(sequential.AsSpan(0, 384).ToArray(), again);
+    }
+
+    [Theory]
+    [MemberData(nameof(All))]
+    public void Every_coordinate_lies_in_the_half_open_unit_interval(string generator, string randomize)
+    {
+        (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
+        foreach (int n in new[] { 1, 7, 64 })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, n, 5), 9);
+            var points = new double[n * 9];
+            s.Fill(s.PixelKey(1, 2), 9, points);
+            Assert.All(points, x => Assert.True(x >= 0 && x < 1, $"{x}"));
+        }
+    }
+
+    [Theory]
+    [InlineData("jittered")]
+    [InlineData("multi-jittered")]
+    [InlineData("latin-hypercube")]
+    public void Stratified_sets_put_one_point_in_each_stratum(string generator)
+    {
+        // The defining property of each construction: one point per cell of the n-cell grid
+        // (jittered, multi-jittered), one per 1/n slab in every dimension (Latin, multi-jittered).
+        foreach (int n in new[] { 16, 12, 7 })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, n, 3), 4);
+            ulong key = s.PixelKey(0, 0);
+            StratumGrid grid = StratumGrid.For(n);
+            for (int pair = 0; pair < 2; pair++)
+            {
+                var cells = new HashSet<int>();
+                var slabsX = new HashSet<int>();
+                var slabsY = new HashSet<int>();
+                for (int i = 0; i < n; i++)
+                {
+                    (double x, double y) = s.Sample2D(key, (uint)i, 2 * pair);
+                    cells.Add((int)(x * grid.Columns) + grid.Columns * (int)(y * grid.Rows));
+                    slabsX.Add((int)(x * n));
+                    slabsY.Add((int)(y * n));
+                }
+
+                if (generator != "latin-hypercube")
+                {
+                    Assert.Equal(n, cells.Count);
+                }
+
+                if (generator != "jittered")
+                {
+                    Assert.Equal(n, slabsX.Count);
+                    Assert.Equal(n, slabsY.Count);
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,148 @@
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Sampling.Tests.Generators;
+
+public sealed class RandomizationTests
+{
+    [Fact]
+    public void Cranley_patterson_rotation_keeps_one_point_per_stratum_in_each_dimension()
+    {
+        // Sobol's first 2^m points put one point in each interval [k/2^m, (k+1)/2^m) of every
+        // one-dimensional projection; a toroidal shift by u moves each to [(k+u)/2^m, …) mod 1,
+        // so the gaps between sorted coordinates stay exactly 1/2^m (Cranley & Patterson 1976).
+        const int n = 256, dims = 6;
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.CranleyPatterson, false, n, 11), dims);
+        ulong key = s.PixelKey(2, 9);
+        for (int d = 0; d < dims; d++)
+        {
+            double[] x = Enumerable.Range(0, n).Select(i => s.Sample(key, (uint)i, d)).Order().ToArray();
+            for (int i = 1; i < n; i++)
+            {
+                Assert.Equal(1.0 / n, x[i] - x[i - 1], 12);
+            }
+
+            Assert.Equal(1.0 / n, x[0] + 1 - x[n - 1], 12);
+        }
+    }
+
+    public static TheoryData<string, Randomization> RandomizedMarginals => new()
+    {
+        { "sobol", Randomization.CranleyPatterson },
+        { "halton", Randomization.CranleyPatterson },
+        { "sobol", Randomization.Owen },
+        { "sobol", Randomization.DigitalShift },
+        { "halton", Randomization.DigitPermutation },
+    };
+
+    [Theory]
+    [MemberData(nameof(RandomizedMarginals))]
+    public void A_randomized_coordinate_is_uniform_across_seeds(string generator, Randomization r)
+    {
+        // One fixed point (index 5, dimension 3) over 4000 independent seeds must be U(0,1).
+        // Kolmogorov–Smirnov: √N·D has the asymptotic tail P(K > x) ≈ 2·exp(−2x²) (Kolmogorov
+        // 1933; Smirnov 1948), so x = 1.95 is the α = 0.001 critical value: a correct
+        // implementation fails with probability about 0.001 per case.
+        const int seeds = 4000;
+        var x = new double[seeds];
+        for (int k = 0; k < seeds; k++)
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, false, 16, (ulong)k), 4);
+            x[k] = s.Sample(s.PixelKey(0, 0), 5, 3);
+        }
+
+        Array.Sort(x);
+        double d = 0;
+        for (int i = 0; i < seeds; i++)
+        {
+            d = Math.Max(d, Math.Max((i + 1.0) / seeds - x[i], x[i] - (double)i / seeds));
+        }
+
+        Assert.True(Math.Sqrt(seeds) * d < 1.95, $"KS statistic √N·D = {Math.Sqrt(seeds) * d}");
+    }
+
+    public static TheoryData<string, Randomization> AntitheticCases => new()
+    {
+        { "random", Randomization.None },
+        { "sobol", Randomization.Owen },
+        { "halton", Randomization.DigitPermutation },
+        { "jittered", Randomization.None },
+    };
+
+    [Theory]
+    [MemberData(nameof(AntitheticCases))]
+    public void Antithetic_pairs_sum_to_one(string generator, Randomization r)
+    {
+        // Antithetic variates (Hammersley & Morton 1956): x' = 1 − x in every coordinate.
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, true, 64, 3), 5);
+        ulong key = s.PixelKey(4, 4);
+        for (uint k = 0; k < 32; k++)
+        {
+            for (int d = 0; d < 5; d++)
+            {
+                double a = s.Sample(key, 2 * k, d), b = s.Sample(key, 2 * k + 1, d);
+                Assert.InRange(b, 0.0, Math.BitDecrement(1.0));
+                Assert.True(Math.Abs(a + b - 1.0) <= 2.3e-16, $"pair {k}, dim {d}: {a} + {b}");
+            }
+        }
+    }
+
+    [Fact]
+    public void Pixels_and_seeds_are_decorrelated()
+    {
+        PointSampler a = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 16, 1), 2);
+        PointSampler b = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 16, 2), 2);
+        Assert.NotEqual(a.Sample(a.PixelKey(0, 0), 0, 0), a.Sample(a.PixelKey(1, 0), 0, 0));
+        Assert.NotEqual(a.Sample(a.PixelKey(0, 0), 0, 0), a.Sample(a.PixelKey(0, 1), 0, 0));
+        Assert.NotEqual(a.Sample(a.PixelKey(0, 0), 0, 0), b.Sample(b.PixelKey(0, 0), 0, 0));
+    }
+
+    public static TheoryData<string, string> MeaninglessCombinations => new()
+    {
+        { "random", "owen" },
+        { "random", "cranley-patterson" },
+        { "jittered", "digital-shift" },
+        { "halton", "owen" },
+        { "hammersley", "digit-permutation" },
+        { "sobol", "digit-permutation" },
+    };
+
+    [Theory]
+    [MemberData(nameof(MeaninglessCombinations))]
+    public void Meaningless_combinations_are_refused_with_a_reason(string generator, string randomize)
+    {
+        (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
+        var e = Assert.Throws<SamplerSpecException>(() => SamplerCatalog.Create(new SamplerSpec(generator, r, anti, 16, 0), 2));
+        Assert.Contains("meaningless", e.Message, StringComparison.Ordinal);
+        Assert.Contains(generator, e.Message, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("owen+antithetic", Randomization.Owen, true)]
+    [InlineData("antithetic", Randomization.None, true)]
+    [InlineData("none", Randomization.None, false)]
+    [InlineData("digital-shift", Randomization.DigitalShift, false)]
+    public void Randomization_names_parse(string text, Randomization kind, bool antithetic)
+    {
+        Assert.Equal((kind, antithetic), SamplerCatalog.ParseRandomization(text));
+    }
+
+    [Theory]
+    [InlineData("owen+owen")]
+    [InlineData("scramble")]
+    [InlineData("antithetic+antithetic")]
+    public void Bad_randomization_names_are_refused(string text)
+    {
+        Assert.Throws<SamplerSpecException>(() => SamplerCatalog.ParseRandomization(text));
+    }
+
+    [Theory]
+    [InlineData(16, 4, 4)]
+    [InlineData(12, 3, 4)]
+    [InlineData(7, 1, 7)]
+    [InlineData(32, 4, 8)]
+    [InlineData(1, 1, 1)]
+    public void Stratum_grid_has_exactly_n_cells(int n, int columns, int rows)
+    {
+        Assert.Equal(new StratumGrid(columns, rows), StratumGrid.For(n));
+    }
+}

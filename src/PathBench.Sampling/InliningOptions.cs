@@ -5,8 +5,11 @@ namespace PathBench.Sampling;
 /// <summary>The inlining policy, named once so hot paths say what they want.</summary>
 internal static class InliningOptions
 {
-    /// <summary>Per-sample code: inline aggressively and optimise fully.</summary>
-    public const MethodImplOptions HotPath = MethodImplOptions.AggressiveInlining | MethodImplOptions.AggressiveOptimization;
+    /// <summary>
+    /// Per-sample code: inline aggressively. Not AggressiveOptimization: that skips tiering
+    /// and with it dynamic PGO, which measured slower here (SamplerBenchmarks).
+    /// </summary>
+    public const MethodImplOptions HotPath = MethodImplOptions.AggressiveInlining;
 
     /// <summary>Tiny helpers that the JIT should always inline.</summary>
     public const MethodImplOptions ShortMethod = MethodImplOptions.AggressiveInlining;

@@ -9,6 +9,7 @@ public sealed class BenchConfig : ManualConfig
 {
     public BenchConfig()
     {
+        Add(DefaultConfig.Instance); // loggers, exporters and columns of the default configuration
         AddDiagnoser(MemoryDiagnoser.Default);
         AddJob(Job.Default.WithWarmupCount(3).WithIterationCount(10));
         WithOptions(ConfigOptions.DisableOptimizationsValidator);

@@ -12,7 +12,6 @@ internal static class Salts
     public const ulong Rotation = 0x524F544154450003UL;
     public const ulong DigitalShift = 0x5348494654000004UL;
     public const ulong OwenDimension = 0x4F57454E44000005UL;
-    public const ulong OwenIndex = 0x4F57454E49000006UL;
     public const ulong DigitPermutation = 0x5045524D55000007UL;
     public const ulong Independent = 0x52414E444F000008UL;
 }

@@ -27,8 +27,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         switch (Spec.Randomize)
         {
             case Randomization.Owen:
-                uint shuffled = OwenScrambler.Scramble(index, SampleHash.Combine32(pixel, Salts.OwenIndex));
-                return Owen(pixel, shuffled, dimension);
+                return Owen(pixel, ReversedShuffledIndex(pixel, index), dimension);
             case Randomization.DigitalShift:
                 uint shift = SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
                 return ((_matrices.Sample(index, dimension) ^ shift) + 0.5) * Scale;
@@ -48,14 +47,37 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         }
 
         // The index scramble is shared by every dimension of a point: compute it once.
-        uint shuffled = OwenScrambler.Scramble(index, SampleHash.Combine32(pixel, Salts.OwenIndex));
-        return (Owen(pixel, shuffled, dimension), Owen(pixel, shuffled, dimension + 1));
+        uint reversed = ReversedShuffledIndex(pixel, index);
+        if ((dimension & 1) != 0)
+        {
+            return (Owen(pixel, reversed, dimension), Owen(pixel, reversed, dimension + 1));
+        }
+
+        ulong seeds = PairSeeds(pixel, dimension);
+        return (OwenCoordinate(reversed, dimension, (uint)seeds), OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32)));
     }
 
-    private double Owen(ulong pixel, uint shuffledIndex, int dimension)
+    // The nested scramble of the index (Burley 2020), kept bit-reversed for SampleReversed.
+    // Its seed is the pixel key's upper half: the key is already a full-avalanche hash, and
+    // the dimension seeds below come from a further mix of it, so the two are unrelated.
+    private static uint ReversedShuffledIndex(ulong pixel, uint index) =>
+        OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(index), (uint)(pixel >> 32));
+
+    // One hash gives the scramble seeds of a dimension pair (2k, 2k+1): low and high halves.
+    private static ulong PairSeeds(ulong pixel, int dimension) => SampleHash.Combine(pixel ^ Salts.OwenDimension, (ulong)(dimension >> 1));
+
+    private double Owen(ulong pixel, uint reversedShuffledIndex, int dimension)
     {
-        uint seed = SampleHash.Combine32(pixel ^ Salts.OwenDimension, (ulong)dimension);
-        return (OwenScrambler.Scramble(_matrices.Sample(shuffledIndex, dimension), seed) + 0.5) * Scale;
+        uint seed = (uint)(PairSeeds(pixel, dimension) >> (32 * (dimension & 1)));
+        return OwenCoordinate(reversedShuffledIndex, dimension, seed);
+    }
+
+    // Scramble(Sample(shuffled)) = Reverse(LK(Reverse(Sample(shuffled)))), and the inner
+    // Reverse(Sample(Reverse(r))) is one table walk.
+    private double OwenCoordinate(uint reversedShuffledIndex, int dimension, uint seed)
+    {
+        uint scrambledReversed = OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(reversedShuffledIndex, dimension), seed);
+        return (BitReversal.Reverse(scrambledReversed) + 0.5) * Scale;
     }
 }
 

@@ -45,9 +45,11 @@ public static class RadicalInverse
 
     /// <summary>
     /// The radical inverse with digit position k mapped through its own permutation
-    /// chosen by hashing (<paramref name="key"/>, k). The digits above the index's leading
-    /// digit are zeros mapped through their permutations too, so the value is uniform on
-    /// [0, 1) to double precision, as the randomization requires.
+    /// chosen by hashing (<paramref name="key"/>, k). The zeros above the index's leading
+    /// digit are permuted too: each becomes an independent uniform digit, so together they
+    /// form a uniform number on [0, b^−len) that depends only on (key, len). It is drawn in
+    /// one step from a hash of (key, len): exact in distribution, and len digits of work
+    /// instead of ~53 bits' worth.
     /// </summary>
     [MethodImpl(InliningOptions.HotPath)]
     public static double Permuted(uint index, int b, ulong key)
@@ -64,8 +66,8 @@ public static class RadicalInverse
         double invBase = 1.0 / b;
         double weight = invBase;
         double sum = 0;
-        // Digits until their weight falls below double precision of the leading one.
-        for (int k = 0; weight > 1e-17; k++)
+        int k = 0;
+        for (; index != 0; k++)
         {
             uint next = index / ub;
             uint digit = index - next * ub;
@@ -74,9 +76,14 @@ public static class RadicalInverse
             index = next;
         }
 
-        // The sum of b^-k·(b−1) terms can round to 1; keep the half-open interval.
+        // weight is now b^-(len+1); the tail spans [0, b^-len).
+        sum += SampleHash.ToUnit(SampleHash.Combine(key, TailSalt + (ulong)k)) * weight * b;
+
+        // Rounding can reach 1; keep the half-open interval.
         return sum < 1.0 ? sum : Math.BitDecrement(1.0);
     }
+
+    private const ulong TailSalt = 0x5441494C00000000UL;
 
     private static int[] BuildPrimes(int count)
     {

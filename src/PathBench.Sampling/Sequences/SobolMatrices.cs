@@ -2,6 +2,7 @@ using System.Globalization;
 using System.Numerics;
 using System.Reflection;
 using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 
 namespace PathBench.Sampling.Sequences;
 
@@ -23,10 +24,47 @@ public sealed class SobolMatrices
     // as a 32-bit fixed-point fraction. One flat array so a lookup is one bounds check.
     private readonly uint[] _columns;
 
+    /// <summary>Dimensions served from byte tables (4 KiB each); the rest loop over the index bits.</summary>
+    public const int TabulatedDimensions = 1024;
+
+    // For dimension d < TabulatedDimensions and byte position b: entry [(d * 4 + b) * 256 + x]
+    // is the XOR of the columns selected by byte value x at bits 8b..8b+7. Four lookups replace
+    // up to 32 loop iterations: Owen's index scramble makes indices use all 32 bits.
+    private readonly uint[] _byteTables;
+
+    // The same for Owen scrambling, which works on bit-reversed values: entry [(d * 4 + b) * 256 + x]
+    // is the XOR of the bit-reversed columns selected by byte b of the bit-reversed index, so a
+    // reversed index gives the reversed coordinate with no reversal in between.
+    private readonly uint[] _reversedByteTables;
+
     private SobolMatrices(uint[] columns, int dimensions)
     {
         _columns = columns;
         Dimensions = dimensions;
+        int tabulated = Math.Min(dimensions, TabulatedDimensions);
+        _byteTables = new uint[tabulated * 4 * 256];
+        _reversedByteTables = new uint[tabulated * 4 * 256];
+        for (int d = 0; d < tabulated; d++)
+        {
+            for (int b = 0; b < 4; b++)
+            {
+                Span<uint> table = _byteTables.AsSpan((d * 4 + b) * 256, 256);
+                for (int x = 1; x < 256; x++)
+                {
+                    // Gray-code style build: x differs from x & (x - 1) in its lowest set bit.
+                    int low = BitOperations.TrailingZeroCount(x);
+                    table[x] = table[x & (x - 1)] ^ columns[d * Bits + 8 * b + low];
+                }
+
+                Span<uint> reversed = _reversedByteTables.AsSpan((d * 4 + b) * 256, 256);
+                for (int x = 1; x < 256; x++)
+                {
+                    // Bit j of byte b of the reversed index is bit 31 - 8b - j of the index.
+                    int low = BitOperations.TrailingZeroCount(x);
+                    reversed[x] = reversed[x & (x - 1)] ^ BitReversal.Reverse(columns[d * Bits + Bits - 1 - (8 * b + low)]);
+                }
+            }
+        }
     }
 
     /// <summary>The embedded table, parsed once on first use.</summary>
@@ -42,9 +80,11 @@ public sealed class SobolMatrices
     [MethodImpl(InliningOptions.HotPath)]
     public uint Sample(uint index, int dimension)
     {
-        if (dimension == 0)
+        if ((uint)dimension < (uint)TabulatedDimensions && dimension < Dimensions)
         {
-            return BitReversal.Reverse(index);
+            ref uint t = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_byteTables), dimension * 1024);
+            return Unsafe.Add(ref t, (int)(index & 0xFF)) ^ Unsafe.Add(ref t, 256 + (int)((index >> 8) & 0xFF))
+                ^ Unsafe.Add(ref t, 512 + (int)((index >> 16) & 0xFF)) ^ Unsafe.Add(ref t, 768 + (int)(index >> 24));
         }
 
         ReadOnlySpan<uint> col = new(_columns, dimension * Bits, Bits);
@@ -56,6 +96,26 @@ public sealed class SobolMatrices
         }
 
         return v;
+    }
+
+    /// <summary>
+    /// The bit-reversed coordinate of the point whose bit-reversed index is
+    /// <paramref name="reversedIndex"/>: Reverse(Sample(Reverse(r), d)), the form Owen scrambling
+    /// works in, without the two reversals.
+    /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
+    public uint SampleReversed(uint reversedIndex, int dimension)
+    {
+        if ((uint)dimension < (uint)TabulatedDimensions && dimension < Dimensions)
+        {
+            // The guard above proves every offset in range; skip the four bounds checks.
+            ref uint t = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reversedByteTables), dimension * 1024);
+            uint r = reversedIndex;
+            return Unsafe.Add(ref t, (int)(r & 0xFF)) ^ Unsafe.Add(ref t, 256 + (int)((r >> 8) & 0xFF))
+                ^ Unsafe.Add(ref t, 512 + (int)((r >> 16) & 0xFF)) ^ Unsafe.Add(ref t, 768 + (int)(r >> 24));
+        }
+
+        return BitReversal.Reverse(Sample(BitReversal.Reverse(reversedIndex), dimension));
     }
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>

@@ -2,8 +2,6 @@ using System.Runtime.CompilerServices;
 
 namespace PathBench.Sampling.Warps;
 
-/// <summary>A direction or point in three dimensions, in double precision.</summary>
-public readonly record struct Vec3d(double X, double Y, double Z);
 
 /// <summary>
 /// Maps from the unit square to the domains a renderer samples, each with its density.

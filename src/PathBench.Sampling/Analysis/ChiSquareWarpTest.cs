@@ -10,7 +10,7 @@ namespace PathBench.Sampling.Analysis;
 /// angle, area), with the constant measure of the whole domain.
 /// </summary>
 /// <param name="Name">For reports.</param>
-/// <param name="Sample">The warp under test, returning its output in bin coordinates (a, b) ∈ [0, 1)².</param>
+/// <param name="Sample">The warp under test, returning its output in bin coordinates (a, b) ∈ [0, 1)², or NaN for a rejected sample.</param>
 /// <param name="Density">The claimed density at the domain point with bin coordinates (a, b), per unit of the domain's measure.</param>
 /// <param name="Measure">The domain's measure per unit area of (a, b): 2π for the hemisphere in (cos θ, φ/2π).</param>
 public sealed record WarpCase(string Name, Func<double, double, (double A, double B)> Sample, Func<double, double, double> Density, double Measure);
@@ -35,17 +35,25 @@ public static class ChiSquareWarpTest
     public static ChiSquareResult Run(WarpCase warp, int samples, int binsA, int binsB, ulong seed)
     {
         ArgumentNullException.ThrowIfNull(warp);
-        var observed = new double[binsA * binsB];
+        // One extra bin, last, for samples the warp rejects (NaN coordinates: a BSDF sample
+        // below the horizon); it expects whatever mass the density leaves outside the domain.
+        var observed = new double[binsA * binsB + 1];
         ulong key = SampleHash.Mix64(seed);
         for (int i = 0; i < samples; i++)
         {
             (double a, double b) = warp.Sample(SampleHash.Uniform(key, (uint)i, 0), SampleHash.Uniform(key, (uint)i, 1));
+            if (double.IsNaN(a) || double.IsNaN(b))
+            {
+                observed[binsA * binsB]++;
+                continue;
+            }
+
             int ia = Math.Clamp((int)(a * binsA), 0, binsA - 1);
             int ib = Math.Clamp((int)(b * binsB), 0, binsB - 1);
             observed[ia * binsB + ib]++;
         }
 
-        var expected = new double[binsA * binsB];
+        var expected = new double[binsA * binsB + 1];
         const int sub = 16;
         double cellA = 1.0 / binsA, cellB = 1.0 / binsB;
         for (int ia = 0; ia < binsA; ia++)
@@ -65,6 +73,7 @@ public static class ChiSquareWarpTest
             }
         }
 
+        expected[binsA * binsB] = Math.Max(0, samples - expected.Take(binsA * binsB).Sum());
         return Evaluate(warp.Name, observed, expected);
     }
 

@@ -1,0 +1,194 @@
+namespace PathBench.Rendering;
+
+/// <summary>
+/// Per-pixel accumulators in exact fixed point: for each pixel the number of samples and, per
+/// channel, the sum of values and of squared values as <see cref="Int128"/> multiples of
+/// 2^-32. Integer addition is associative, so the result is bit-identical whatever the
+/// thread count, tile order or split of the sample range, and two films of disjoint sample
+/// ranges merge exactly by adding. Non-finite samples are counted and dropped, never averaged in;
+/// so are finite samples too large for the fixed-point range (|v| ≥ 2^32), counted apart.
+/// </summary>
+public sealed class Film
+{
+    /// <summary>Fixed-point scale: a value v is stored as round(v · 2^32).</summary>
+    public const double Scale = 4294967296.0;
+
+    /// <summary>Largest accepted magnitude of one sample's channel value.</summary>
+    // 2^32: a square is below 2^64·2^32 = 2^96 in fixed point, so even 2^31 samples of the
+    // largest value (more than an int spp can ask for) sum below Int128's 2^127.
+    public const double MaxValue = 4294967296.0;
+
+    /// <summary>Bytes of accumulator storage per pixel.</summary>
+    public const int BytesPerPixel = 8 + 6 * 16;
+
+    /// <summary>The most accumulator memory a film may take (16 GiB on a 24 GiB machine leaves room for the rest).</summary>
+    public const long MaxBytes = 16L << 30;
+
+    private readonly long[] _count;
+    private readonly Int128[] _sum;
+    private readonly Int128[] _sumSquares;
+
+    /// <summary>Allocates a film, after checking its size.</summary>
+    public Film(int width, int height)
+    {
+        long bytes = RequiredBytes(width, height);
+        if (bytes > MaxBytes)
+        {
+            throw new ArgumentOutOfRangeException(nameof(width), $"a {width}×{height} film needs {bytes >> 20} MiB of accumulators, more than the {MaxBytes >> 30} GiB limit");
+        }
+
+        Width = width;
+        Height = height;
+        int n = width * height;
+        _count = new long[n];
+        _sum = new Int128[3 * n];
+        _sumSquares = new Int128[3 * n];
+    }
+
+    /// <summary>Width in pixels.</summary>
+    public int Width { get; }
+
+    /// <summary>Height in pixels.</summary>
+    public int Height { get; }
+
+    /// <summary>Samples dropped because a channel was NaN or infinite.</summary>
+    public long NonFiniteSamples { get; private set; }
+
+    /// <summary>Samples dropped because a channel's magnitude reached <see cref="MaxValue"/>.</summary>
+    public long OutOfRangeSamples { get; private set; }
+
+    /// <summary>The accumulator bytes a film of this size needs; throws for non-positive sizes.</summary>
+    public static long RequiredBytes(int width, int height)
+    {
+        if (width <= 0 || height <= 0)
+        {
+            throw new ArgumentOutOfRangeException(nameof(width), $"film size must be positive, got {width}×{height}");
+        }
+
+        return (long)width * height * BytesPerPixel;
+    }
+
+    /// <summary>Samples accumulated in pixel (x, y).</summary>
+    public long Count(int x, int y) => _count[y * Width + x];
+
+    /// <summary>The mean of pixel (x, y), channel c (0 R, 1 G, 2 B); 0 where no sample landed.</summary>
+    public double Mean(int x, int y, int c)
+    {
+        int i = y * Width + x;
+        return _count[i] == 0 ? 0 : (double)_sum[3 * i + c] / Scale / _count[i];
+    }
+
+    /// <summary>The unbiased sample variance of pixel (x, y), channel c; 0 with fewer than two samples.</summary>
+    public double Variance(int x, int y, int c)
+    {
+        int i = y * Width + x;
+        long n = _count[i];
+        if (n < 2)
+        {
+            return 0;
+        }
+
+        // (Σv² − (Σv)²/n)/(n − 1) in double: the squared sum can exceed Int128.
+        double mean = (double)_sum[3 * i + c] / Scale / n;
+        double meanSquare = (double)_sumSquares[3 * i + c] / Scale / n;
+        return Math.Max(0, (meanSquare - mean * mean) * n / (n - 1));
+    }
+
+    /// <summary>Accumulates one pixel's tile of samples, already reduced by the caller.</summary>
+    internal void Store(int x, int y, in PixelAccumulator a)
+    {
+        int i = y * Width + x;
+        _count[i] += a.Count;
+        for (int c = 0; c < 3; c++)
+        {
+            _sum[3 * i + c] += a.Sum(c);
+            _sumSquares[3 * i + c] += a.SumSquares(c);
+        }
+    }
+
+    internal void AddDropped(long nonFinite, long outOfRange)
+    {
+        NonFiniteSamples += nonFinite;
+        OutOfRangeSamples += outOfRange;
+    }
+
+    /// <summary>Adds another film of the same size (a disjoint sample range) into this one; exact.</summary>
+    public void Merge(Film other)
+    {
+        ArgumentNullException.ThrowIfNull(other);
+        if (other.Width != Width || other.Height != Height)
+        {
+            throw new ArgumentException($"cannot merge a {other.Width}×{other.Height} film into a {Width}×{Height} one", nameof(other));
+        }
+
+        for (int i = 0; i < _count.Length; i++)
+        {
+            _count[i] += other._count[i];
+        }
+
+        for (int i = 0; i < _sum.Length; i++)
+        {
+            _sum[i] += other._sum[i];
+            _sumSquares[i] += other._sumSquares[i];
+        }
+
+        AddDropped(other.NonFiniteSamples, other.OutOfRangeSamples);
+    }
+
+    /// <summary>The image of pixel means as float RGB, row 0 at the top, channels interleaved.</summary>
+    public float[] ToRgb()
+    {
+        var data = new float[3 * Width * Height];
+        for (int y = 0; y < Height; y++)
+        {
+            for (int x = 0; x < Width; x++)
+            {
+                for (int c = 0; c < 3; c++)
+                {
+                    data[3 * (y * Width + x) + c] = (float)Mean(x, y, c);
+                }
+            }
+        }
+
+        return data;
+    }
+}
+
+/// <summary>One pixel's running fixed-point sums; a struct so the per-sample path allocates nothing.</summary>
+internal struct PixelAccumulator
+{
+    private Int128 _r, _g, _b, _rr, _gg, _bb;
+
+    public long Count;
+    public long NonFinite;
+    public long OutOfRange;
+
+    public void Add(Rgb v)
+    {
+        if (!v.IsFinite)
+        {
+            NonFinite++;
+            return;
+        }
+
+        if (Math.Abs(v.R) >= Film.MaxValue || Math.Abs(v.G) >= Film.MaxValue || Math.Abs(v.B) >= Film.MaxValue)
+        {
+            OutOfRange++;
+            return;
+        }
+
+        Count++;
+        _r += Fixed(v.R);
+        _g += Fixed(v.G);
+        _b += Fixed(v.B);
+        _rr += Fixed(v.R * v.R);
+        _gg += Fixed(v.G * v.G);
+        _bb += Fixed(v.B * v.B);
+    }
+
+    public readonly Int128 Sum(int c) => c == 0 ? _r : c == 1 ? _g : _b;
+
+    public readonly Int128 SumSquares(int c) => c == 0 ? _rr : c == 1 ? _gg : _bb;
+
+    private static Int128 Fixed(double v) => (Int128)Math.Round(v * Film.Scale);
+}

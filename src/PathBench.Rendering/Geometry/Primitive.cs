@@ -1,0 +1,214 @@
+using System.Runtime.CompilerServices;
+using PathBench.Sampling.Warps;
+
+namespace PathBench.Rendering.Geometry;
+
+/// <summary>The kinds of primitive the BVH holds.</summary>
+public enum PrimitiveKind : byte
+{
+    /// <summary>A sphere: <see cref="Primitive.A"/> centre, <see cref="Primitive.Radius"/>.</summary>
+    Sphere,
+
+    /// <summary>A parallelogram: <see cref="Primitive.A"/> corner, <see cref="Primitive.B"/> edge u, <see cref="Primitive.C"/> edge v.</summary>
+    Quad,
+
+    /// <summary>A disk: <see cref="Primitive.A"/> centre, <see cref="Primitive.Normal"/>, <see cref="Primitive.Radius"/>.</summary>
+    Disk,
+
+    /// <summary>A triangle: vertices <see cref="Primitive.A"/>, <see cref="Primitive.B"/>, <see cref="Primitive.C"/>.</summary>
+    Triangle,
+}
+
+/// <summary>
+/// One primitive, in a flat struct so every kind lives in one array the BVH indexes directly
+/// (no per-ray virtual dispatch or allocation).
+/// </summary>
+public struct Primitive
+{
+    /// <summary>Which kind.</summary>
+    public PrimitiveKind Kind;
+
+    /// <summary>Index into the scene's material table.</summary>
+    public int Material;
+
+    /// <summary>See <see cref="PrimitiveKind"/>.</summary>
+    public Vec3d A, B, C;
+
+    /// <summary>Unit normal of planar kinds (quad, disk, triangle); unused for spheres.</summary>
+    public Vec3d Normal;
+
+    /// <summary>Sphere or disk radius.</summary>
+    public double Radius;
+
+    /// <summary>Surface area.</summary>
+    public double Area;
+
+    /// <summary>Offset of this triangle's three shading normals in the scene's normal array, or −1.</summary>
+    public int ShadingNormals;
+
+    /// <summary>A sphere.</summary>
+    public static Primitive Sphere(Vec3d center, double radius, int material) => new()
+    {
+        Kind = PrimitiveKind.Sphere, A = center, Radius = radius, Material = material, Area = 4 * Math.PI * radius * radius, ShadingNormals = -1,
+    };
+
+    /// <summary>A parallelogram with normal normalize(u × v).</summary>
+    public static Primitive Quad(Vec3d corner, Vec3d u, Vec3d v, int material)
+    {
+        Vec3d cross = Vec3d.Cross(u, v);
+        return new() { Kind = PrimitiveKind.Quad, A = corner, B = u, C = v, Normal = cross.Normalized(), Area = cross.Length, Material = material, ShadingNormals = -1 };
+    }
+
+    /// <summary>A disk.</summary>
+    public static Primitive Disk(Vec3d center, Vec3d normal, double radius, int material) => new()
+    {
+        Kind = PrimitiveKind.Disk, A = center, Normal = normal.Normalized(), Radius = radius, Area = Math.PI * radius * radius, Material = material, ShadingNormals = -1,
+    };
+
+    /// <summary>A triangle with normal normalize((b − a) × (c − a)).</summary>
+    public static Primitive Triangle(Vec3d a, Vec3d b, Vec3d c, int material, int shadingNormals)
+    {
+        Vec3d cross = Vec3d.Cross(b - a, c - a);
+        return new() { Kind = PrimitiveKind.Triangle, A = a, B = b, C = c, Normal = cross.Normalized(), Area = 0.5 * cross.Length, Material = material, ShadingNormals = shadingNormals };
+    }
+
+    /// <summary>The axis-aligned bounds.</summary>
+    public readonly (Vec3d Min, Vec3d Max) Bounds()
+    {
+        switch (Kind)
+        {
+            case PrimitiveKind.Sphere:
+                var r = new Vec3d(Radius, Radius, Radius);
+                return (A - r, A + r);
+            case PrimitiveKind.Quad:
+                Vec3d p1 = A + B, p2 = A + C, p3 = A + B + C;
+                return (Vec3d.Min(Vec3d.Min(A, p1), Vec3d.Min(p2, p3)), Vec3d.Max(Vec3d.Max(A, p1), Vec3d.Max(p2, p3)));
+            case PrimitiveKind.Disk:
+                // Exact bounds of a disk: extent along axis k is r·sqrt(1 − n_k²).
+                var e = new Vec3d(
+                    Radius * Math.Sqrt(Math.Max(0, 1 - Normal.X * Normal.X)),
+                    Radius * Math.Sqrt(Math.Max(0, 1 - Normal.Y * Normal.Y)),
+                    Radius * Math.Sqrt(Math.Max(0, 1 - Normal.Z * Normal.Z)));
+                return (A - e, A + e);
+            default:
+                return (Vec3d.Min(A, Vec3d.Min(B, C)), Vec3d.Max(A, Vec3d.Max(B, C)));
+        }
+    }
+
+    /// <summary>The ray parameter of the nearest hit in (tMin, tMax), or +∞.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public readonly double Intersect(in Ray ray, double tMax)
+    {
+        switch (Kind)
+        {
+            case PrimitiveKind.Sphere:
+                return IntersectSphere(ray, tMax);
+            case PrimitiveKind.Triangle:
+                return IntersectTriangle(ray, tMax);
+            default:
+                return IntersectPlanar(ray, tMax);
+        }
+    }
+
+    private readonly double IntersectSphere(in Ray ray, double tMax)
+    {
+        // Half-b form with the discriminant computed from the distance to the closest
+        // approach, which loses less precision for small spheres far away (common practice).
+        Vec3d oc = ray.Origin - A;
+        double b = Vec3d.Dot(oc, ray.Direction);
+        Vec3d perp = oc - ray.Direction * b;
+        double disc = Radius * Radius - perp.LengthSquared;
+        if (disc < 0)
+        {
+            return double.PositiveInfinity;
+        }
+
+        double s = Math.Sqrt(disc);
+        double c = oc.LengthSquared - Radius * Radius;
+        // Stable roots: q = −b − sign(b)·s, t0 = c/q, t1 = q (direction is unit).
+        double q = b > 0 ? -b - s : -b + s;
+        double t0 = q, t1 = q != 0 ? c / q : 0;
+        if (t0 > t1)
+        {
+            (t0, t1) = (t1, t0);
+        }
+
+        if (t0 > 0 && t0 < tMax)
+        {
+            return t0;
+        }
+
+        return t1 > 0 && t1 < tMax ? t1 : double.PositiveInfinity;
+    }
+
+    private readonly double IntersectPlanar(in Ray ray, double tMax)
+    {
+        double denom = Vec3d.Dot(Normal, ray.Direction);
+        if (denom == 0)
+        {
+            return double.PositiveInfinity;
+        }
+
+        double t = Vec3d.Dot(Normal, A - ray.Origin) / denom;
+        if (!(t > 0 && t < tMax))
+        {
+            return double.PositiveInfinity;
+        }
+
+        Vec3d p = ray.At(t) - A;
+        if (Kind == PrimitiveKind.Disk)
+        {
+            return p.LengthSquared <= Radius * Radius ? t : double.PositiveInfinity;
+        }
+
+        // Coordinates in the (u, v) frame: w = n_raw / |n_raw|², α = w·(p × v), β = w·(u × p).
+        Vec3d n = Vec3d.Cross(B, C);
+        double inv = 1.0 / n.LengthSquared;
+        double alpha = Vec3d.Dot(n, Vec3d.Cross(p, C)) * inv;
+        double beta = Vec3d.Dot(n, Vec3d.Cross(B, p)) * inv;
+        return alpha >= 0 && alpha <= 1 && beta >= 0 && beta <= 1 ? t : double.PositiveInfinity;
+    }
+
+    private readonly double IntersectTriangle(in Ray ray, double tMax)
+    {
+        // Möller & Trumbore (1997), "Fast, minimum storage ray-triangle intersection", J. Graphics Tools 2(1).
+        Vec3d e1 = B - A, e2 = C - A;
+        Vec3d pvec = Vec3d.Cross(ray.Direction, e2);
+        double det = Vec3d.Dot(e1, pvec);
+        if (det == 0)
+        {
+            return double.PositiveInfinity;
+        }
+
+        double invDet = 1.0 / det;
+        Vec3d tvec = ray.Origin - A;
+        double u = Vec3d.Dot(tvec, pvec) * invDet;
+        if (u < 0 || u > 1)
+        {
+            return double.PositiveInfinity;
+        }
+
+        Vec3d qvec = Vec3d.Cross(tvec, e1);
+        double v = Vec3d.Dot(ray.Direction, qvec) * invDet;
+        if (v < 0 || u + v > 1)
+        {
+            return double.PositiveInfinity;
+        }
+
+        double t = Vec3d.Dot(e2, qvec) * invDet;
+        return t > 0 && t < tMax ? t : double.PositiveInfinity;
+    }
+
+    /// <summary>The geometric normal at a point on the surface.</summary>
+    public readonly Vec3d NormalAt(Vec3d p) => Kind == PrimitiveKind.Sphere ? (p - A).Normalized() : Normal;
+
+    /// <summary>Barycentric (b1, b2) of a point on a triangle, for interpolating shading normals.</summary>
+    public readonly (double B1, double B2) Barycentric(Vec3d p)
+    {
+        Vec3d e1 = B - A, e2 = C - A, d = p - A;
+        double d11 = Vec3d.Dot(e1, e1), d12 = Vec3d.Dot(e1, e2), d22 = Vec3d.Dot(e2, e2);
+        double dp1 = Vec3d.Dot(d, e1), dp2 = Vec3d.Dot(d, e2);
+        double inv = 1.0 / (d11 * d22 - d12 * d12);
+        return ((d22 * dp1 - d12 * dp2) * inv, (d11 * dp2 - d12 * dp1) * inv);
+    }
+}

@@ -1,0 +1,218 @@
+using PathBench.Rendering.Geometry;
+using PathBench.Rendering.Materials;
+using PathBench.Sampling.Warps;
+
+namespace PathBench.Rendering;
+
+/// <summary>A light sample as seen from a shading point.</summary>
+/// <param name="Direction">Unit direction from the shading point to the light.</param>
+/// <param name="Distance">Distance to the sampled point (∞ for the environment).</param>
+/// <param name="Radiance">Emitted radiance towards the shading point (black when the back side faces it).</param>
+/// <param name="Pdf">Density per unit solid angle at the shading point, including the light-selection probability.</param>
+public readonly record struct LightSample(Vec3d Direction, double Distance, Rgb Radiance, double Pdf);
+
+/// <summary>
+/// Every emissive primitive is an area light, chosen with probability proportional to its
+/// power (mean emitted radiance × area × sides); the constant environment, when present, is
+/// chosen with probability 1/2 (all of it when there are no area lights) and sampled uniformly
+/// over the sphere. Spheres are sampled by the solid angle of their visible cap from outside,
+/// by area from inside.
+/// </summary>
+public sealed class LightSet
+{
+    private readonly int[] _primitives;      // primitive index per area light
+    private readonly double[] _cdf;          // cumulative selection probability over area lights
+    private readonly double[] _probability;  // selection probability per area light
+    private readonly int[] _lightOfPrimitive;
+    private readonly Primitive[] _prims;
+    private readonly Material[] _materials;
+
+    private LightSet(int[] primitives, double[] probability, int[] lightOfPrimitive, Primitive[] prims, Material[] materials, Rgb environment, double environmentProbability)
+    {
+        _primitives = primitives;
+        _probability = probability;
+        _cdf = new double[probability.Length];
+        double c = 0;
+        for (int i = 0; i < probability.Length; i++)
+        {
+            c += probability[i];
+            _cdf[i] = c;
+        }
+
+        _lightOfPrimitive = lightOfPrimitive;
+        _prims = prims;
+        _materials = materials;
+        Environment = environment;
+        EnvironmentProbability = environmentProbability;
+    }
+
+    /// <summary>Number of area lights.</summary>
+    public int AreaLightCount => _primitives.Length;
+
+    /// <summary>True when there is nothing to sample.</summary>
+    public bool IsEmpty => _primitives.Length == 0 && EnvironmentProbability == 0;
+
+    /// <summary>Environment radiance.</summary>
+    public Rgb Environment { get; }
+
+    /// <summary>Probability of choosing the environment.</summary>
+    public double EnvironmentProbability { get; }
+
+    internal static LightSet Build(ReadOnlySpan<Primitive> prims, Material[] materials, Rgb environment)
+    {
+        var lights = new List<int>();
+        var power = new List<double>();
+        var lightOf = new int[prims.Length];
+        for (int i = 0; i < prims.Length; i++)
+        {
+            lightOf[i] = -1;
+            Material m = materials[prims[i].Material];
+            if (m.IsEmissive)
+            {
+                lightOf[i] = lights.Count;
+                lights.Add(i);
+                power.Add(m.Emission.Average * prims[i].Area * (m.TwoSided ? 2 : 1));
+            }
+        }
+
+        bool hasEnvironment = !environment.IsBlack;
+        double envP = hasEnvironment ? (lights.Count > 0 ? 0.5 : 1.0) : 0.0;
+        double total = power.Sum();
+        double[] probability = power.Select(p => total > 0 ? p / total * (1 - envP) : 0).ToArray();
+        return new LightSet(lights.ToArray(), probability, lightOf, prims.ToArray(), materials, environment, envP);
+    }
+
+    /// <summary>Samples a light from point <paramref name="p"/>: <paramref name="uSelect"/> chooses the light, (u1, u2) the point on it.</summary>
+    public LightSample Sample(Vec3d p, double uSelect, double u1, double u2)
+    {
+        if (uSelect < EnvironmentProbability)
+        {
+            Vec3d w = Warp.UniformSphere(u1, u2);
+            return new LightSample(w, double.PositiveInfinity, Environment, EnvironmentProbability / (4 * Math.PI));
+        }
+
+        if (_primitives.Length == 0)
+        {
+            return default;
+        }
+
+        // The area lights' cumulative probabilities run from the environment's share up to 1.
+        double u = uSelect - EnvironmentProbability;
+        int k = Array.BinarySearch(_cdf, u);
+        k = k < 0 ? ~k : k + 1;
+        k = Math.Min(k, _primitives.Length - 1);
+        while (k > 0 && _probability[k] == 0)
+        {
+            k--;
+        }
+
+        double select = _probability[k];
+        if (select <= 0)
+        {
+            return default;
+        }
+
+        ref readonly Primitive prim = ref _prims[_primitives[k]];
+        Material m = _materials[prim.Material];
+        if (prim.Kind == PrimitiveKind.Sphere)
+        {
+            Vec3d toCenter = prim.A - p;
+            double d2 = toCenter.LengthSquared;
+            double r2 = prim.Radius * prim.Radius;
+            if (d2 > r2 * (1 + 1e-9))
+            {
+                double d = Math.Sqrt(d2);
+                double sin2Max = r2 / d2;
+                double cosMax = Math.Sqrt(Math.Max(0, 1 - sin2Max));
+                double oneMinusCos = sin2Max / (1 + cosMax); // no cancellation for small caps
+                double cosT = 1 - u1 * oneMinusCos;
+                double sinT2 = Math.Max(0, 1 - cosT * cosT);
+                var frame = new ShadingFrame(toCenter / d);
+                (double s, double c) = Math.SinCos(2 * Math.PI * u2);
+                double sinT = Math.Sqrt(sinT2);
+                Vec3d w = frame.ToWorld(new Vec3d(sinT * c, sinT * s, cosT));
+                // Distance to the near side of the sphere along w.
+                double dist = d * cosT - Math.Sqrt(Math.Max(0, r2 - d2 * sinT2));
+                Vec3d y = p + w * dist;
+                Rgb le = m.Emitted((y - prim.A).Normalized(), -w);
+                return new LightSample(w, dist, le, select / (2 * Math.PI * oneMinusCos));
+            }
+        }
+
+        (Vec3d point, Vec3d n) = SamplePoint(prim, u1, u2);
+        Vec3d to = point - p;
+        double dist2 = to.LengthSquared;
+        double dist1 = Math.Sqrt(dist2);
+        Vec3d dir = to / dist1;
+        double cosLight = Math.Abs(Vec3d.Dot(n, dir));
+        if (cosLight <= 0 || dist1 <= 0)
+        {
+            return default;
+        }
+
+        return new LightSample(dir, dist1, m.Emitted(n, -dir), select * dist2 / (cosLight * prim.Area));
+    }
+
+    /// <summary>
+    /// The density, per unit solid angle at <paramref name="p"/>, with which <see cref="Sample"/>
+    /// would have chosen the point <paramref name="y"/> on primitive <paramref name="primitive"/>; 0 when it is not a light.
+    /// </summary>
+    public double Pdf(int primitive, Vec3d p, Vec3d y, Vec3d lightNormal)
+    {
+        int k = _lightOfPrimitive[primitive];
+        if (k < 0)
+        {
+            return 0;
+        }
+
+        ref readonly Primitive prim = ref _prims[primitive];
+        double select = _probability[k];
+        if (prim.Kind == PrimitiveKind.Sphere)
+        {
+            double d2 = (prim.A - p).LengthSquared;
+            double r2 = prim.Radius * prim.Radius;
+            if (d2 > r2 * (1 + 1e-9))
+            {
+                double sin2Max = r2 / d2;
+                double cosMax = Math.Sqrt(Math.Max(0, 1 - sin2Max));
+                return select / (2 * Math.PI * (sin2Max / (1 + cosMax)));
+            }
+        }
+
+        Vec3d to = y - p;
+        double dist2 = to.LengthSquared;
+        double cosLight = Math.Abs(Vec3d.Dot(lightNormal, to)) / Math.Sqrt(dist2);
+        return cosLight > 0 ? select * dist2 / (cosLight * prim.Area) : 0;
+    }
+
+    /// <summary>The density of choosing an environment direction.</summary>
+    public double EnvironmentPdf => EnvironmentProbability / (4 * Math.PI);
+
+    private static (Vec3d Point, Vec3d Normal) SamplePoint(in Primitive prim, double u1, double u2)
+    {
+        switch (prim.Kind)
+        {
+            case PrimitiveKind.Quad:
+                return (prim.A + prim.B * u1 + prim.C * u2, prim.Normal);
+            case PrimitiveKind.Disk:
+            {
+                (double x, double y) = Warp.ConcentricDisk(u1, u2);
+                var frame = new ShadingFrame(prim.Normal);
+                return (prim.A + frame.ToWorld(new Vec3d(x * prim.Radius, y * prim.Radius, 0)), prim.Normal);
+            }
+
+            case PrimitiveKind.Triangle:
+            {
+                (double b1, double b2) = Warp.UniformTriangle(u1, u2);
+                return (prim.A + (prim.B - prim.A) * b1 + (prim.C - prim.A) * b2, prim.Normal);
+            }
+
+            default:
+            {
+                // Sphere seen from inside: uniform over its area.
+                Vec3d n = Warp.UniformSphere(u1, u2);
+                return (prim.A + n * prim.Radius, n);
+            }
+        }
+    }
+}

@@ -1,0 +1,80 @@
+using System.Diagnostics;
+using PathBench.Rendering.Integrators;
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Rendering;
+
+/// <summary>What to render: the sample range [<paramref name="FirstSample"/>, <paramref name="EndSample"/>) of every pixel.</summary>
+/// <param name="Scene">The scene.</param>
+/// <param name="Sampler">Generator + randomization, planned for the total spp and seeded with the global seed.</param>
+/// <param name="Options">Path tracer options.</param>
+/// <param name="FirstSample">First sample index (inclusive).</param>
+/// <param name="EndSample">End sample index (exclusive).</param>
+/// <param name="Threads">Worker threads; the image does not depend on it.</param>
+public sealed record RenderJob(Scene Scene, PointSampler Sampler, PathTracerOptions Options, int FirstSample, int EndSample, int Threads);
+
+/// <summary>The rendered film and how long it took.</summary>
+public sealed record RenderResult(Film Film, long Rays, double WallSeconds);
+
+/// <summary>Renders tiles in parallel. Each pixel's samples are a pure function of the job, so the film is bit-identical for any thread count.</summary>
+public static class Renderer
+{
+    /// <summary>Tile edge in pixels.</summary>
+    public const int TileSize = 16;
+
+    /// <summary>Renders the job, reporting finished tiles to <paramref name="progress"/> (may be null).</summary>
+    public static RenderResult Render(RenderJob job, Action<int, int>? progress = null, CancellationToken cancel = default)
+    {
+        ArgumentNullException.ThrowIfNull(job);
+        Camera camera = job.Scene.Camera;
+        if (job.FirstSample < 0 || job.EndSample < job.FirstSample)
+        {
+            throw new ArgumentOutOfRangeException(nameof(job), $"sample range [{job.FirstSample}, {job.EndSample}) is empty or negative");
+        }
+
+        var film = new Film(camera.Width, camera.Height);
+        int tilesX = (camera.Width + TileSize - 1) / TileSize;
+        int tilesY = (camera.Height + TileSize - 1) / TileSize;
+        int tiles = tilesX * tilesY;
+        var tracer = new PathTracer(job.Scene, job.Options);
+        long rays = 0, nonFinite = 0, outOfRange = 0;
+        int done = 0;
+        var clock = Stopwatch.StartNew();
+        var parallel = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, job.Threads), CancellationToken = cancel };
+        Parallel.For(0, tiles, parallel, tile =>
+        {
+            int x0 = tile % tilesX * TileSize, y0 = tile / tilesX * TileSize;
+            int x1 = Math.Min(x0 + TileSize, camera.Width), y1 = Math.Min(y0 + TileSize, camera.Height);
+            long tileRays = 0, tileNonFinite = 0, tileOutOfRange = 0;
+            for (int y = y0; y < y1; y++)
+            {
+                for (int x = x0; x < x1; x++)
+                {
+                    var acc = new PixelAccumulator();
+                    ulong key = job.Sampler.PixelKey(x, y);
+                    for (int s = job.FirstSample; s < job.EndSample; s++)
+                    {
+                        var stream = new SampleStream(job.Sampler, key, (uint)s);
+                        (double fx, double fy) = stream.Get2D(DimensionLayout.Pixel);
+                        (double lu, double lv) = stream.Get2D(DimensionLayout.Lens);
+                        var ray = camera.Generate(x + fx, y + fy, lu, lv);
+                        acc.Add(tracer.Radiance(ray, stream, ref tileRays));
+                    }
+
+                    // Each pixel belongs to one tile and so to one thread: no locking.
+                    film.Store(x, y, acc);
+                    tileNonFinite += acc.NonFinite;
+                    tileOutOfRange += acc.OutOfRange;
+                }
+            }
+
+            Interlocked.Add(ref rays, tileRays);
+            Interlocked.Add(ref nonFinite, tileNonFinite);
+            Interlocked.Add(ref outOfRange, tileOutOfRange);
+            progress?.Invoke(Interlocked.Increment(ref done), tiles);
+        });
+
+        film.AddDropped(nonFinite, outOfRange);
+        return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
+    }
+}

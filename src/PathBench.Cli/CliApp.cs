@@ -54,6 +54,9 @@ public static class CliApp
         root.Subcommands.Add(PointsCommand.Create(io));
         root.Subcommands.Add(PointStatsCommand.Create(io));
         root.Subcommands.Add(IntegrandsCommand.Create(io));
+        root.Subcommands.Add(RenderCommand.Create(io));
+        root.Subcommands.Add(CompareCommand.Create(io));
+        root.Subcommands.Add(ConvertCommand.Create(io));
         return root;
     }
 }

@@ -1,15 +1,19 @@
 using System.Text;
+using System.Text.Encodings.Web;
 using System.Text.Json;
 
 namespace PathBench.Cli.Commands;
 
-/// <summary>Machine-readable output: indented UTF-8 JSON with stable snake_case field names; non-finite numbers become null.</summary>
+/// <summary>
+/// Machine-readable output: indented UTF-8 JSON with stable snake_case field names; non-finite
+/// numbers become null. Relaxed escaping keeps paths and versions readable (a file, not HTML).
+/// </summary>
 internal static class JsonOutput
 {
     public static void Write(TextWriter output, Action<Utf8JsonWriter> body)
     {
         using var buffer = new MemoryStream();
-        using (var json = new Utf8JsonWriter(buffer, new JsonWriterOptions { Indented = true }))
+        using (var json = new Utf8JsonWriter(buffer, new JsonWriterOptions { Indented = true, Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping }))
         {
             body(json);
         }

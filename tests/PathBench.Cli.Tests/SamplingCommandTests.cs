@@ -1,20 +1,13 @@
 using System.Globalization;
 using System.Text.Json;
-using PathBench.Cli;
 using PathBench.Sampling.Generators;
 
-namespace PathBench.Sampling.Tests.Cli;
+namespace PathBench.Cli.Tests;
 
 /// <summary>The sampling commands driven in-process, as a user runs them.</summary>
-public sealed class CliCommandTests
+public sealed class SamplingCommandTests
 {
-    private static (int Code, string Out, string Err) Run(params string[] args)
-    {
-        using var stdout = new StringWriter(CultureInfo.InvariantCulture);
-        using var stderr = new StringWriter(CultureInfo.InvariantCulture);
-        int code = CliApp.Run(args, stdout, stderr);
-        return (code, stdout.ToString(), stderr.ToString());
-    }
+    private static (int Code, string Out, string Err) Run(params string[] args) => CliRunner.Run(args);
 
     [Fact]
     public void Samplers_lists_every_generator_and_randomization()

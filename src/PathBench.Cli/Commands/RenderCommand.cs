@@ -1,0 +1,203 @@
+using System.CommandLine;
+using System.Globalization;
+using System.Reflection;
+using PathBench.Imaging;
+using PathBench.Rendering;
+using PathBench.Rendering.Integrators;
+using PathBench.Rendering.Materials;
+using PathBench.Rendering.Scenes;
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Cli.Commands;
+
+/// <summary><c>pathbench render</c>: path-trace a scene file and write the image with a JSON sidecar of everything it depends on.</summary>
+internal static class RenderCommand
+{
+    public static Command Create(CliIo io)
+    {
+        var scenePath = new Argument<string>("scene") { Description = "Scene file (YAML; see scenes/README.md)" };
+        var spp = new Option<int?>("--spp") { Description = "Samples per pixel (default: the scene's render.spp)" };
+        var generator = new Option<string>("--generator") { Description = "Sample generator (see 'pathbench samplers')", DefaultValueFactory = _ => "sobol" };
+        var randomize = new Option<string>("--randomize") { Description = "Randomization, optionally +antithetic", DefaultValueFactory = _ => "owen" };
+        var hemisphere = new Option<string>("--hemisphere") { Description = "How diffuse bounces sample directions", DefaultValueFactory = _ => "cosine" };
+        hemisphere.AcceptOnlyFromAmong("uniform", "cosine");
+        var lights = new Option<string>("--lights") { Description = "bsdf (no light sampling), nee (light sampling only) or mis (both, power heuristic)", DefaultValueFactory = _ => "mis" };
+        lights.AcceptOnlyFromAmong("bsdf", "nee", "mis");
+        var seed = new Option<ulong>("--seed") { Description = "Global seed; different seeds give independent renders", DefaultValueFactory = _ => 0UL };
+        var threads = new Option<int>("--threads") { Description = "Worker threads (the image does not depend on it)", DefaultValueFactory = _ => Environment.ProcessorCount };
+        var maxDepth = new Option<int?>("--max-depth") { Description = "Longest path in bounces (default: the scene's render.max_depth)" };
+        var noRoulette = new Option<bool>("--no-roulette") { Description = "Switch Russian roulette off (paths run to --max-depth)" };
+        var output = new Option<string?>("--out") { Description = "Output image: .exr, .pfm or .png (default: SCENE-NAME.exr here); a .json sidecar is written beside it" };
+
+        var command = new Command("render", "Path-trace a scene with a chosen generator, randomization and strategy");
+        command.Arguments.Add(scenePath);
+        foreach (Option o in new Option[] { spp, generator, randomize, hemisphere, lights, seed, threads, maxDepth, noRoulette, output })
+        {
+            command.Options.Add(o);
+        }
+
+        command.SetAction(parse =>
+        {
+            string path = parse.GetValue(scenePath)!;
+            string outPath = parse.GetValue(output) ?? Path.GetFileNameWithoutExtension(path) + ".exr";
+            ImageFormat format = OutputFormat(outPath);
+            SceneDescription description;
+            try
+            {
+                description = SceneLoader.Load(path);
+            }
+            catch (SceneException e)
+            {
+                throw new CliUsageException(e.Message, e);
+            }
+
+            int n = parse.GetValue(spp) ?? description.Render.Spp;
+            int depth = parse.GetValue(maxDepth) ?? description.Render.MaxDepth;
+            int t = parse.GetValue(threads);
+            SamplerOptions.RequireAtLeast("--spp", n, 1);
+            SamplerOptions.RequireAtMost("--spp", n, SceneLoader.MaxSpp, "samples per pixel");
+            SamplerOptions.RequireAtLeast("--max-depth", depth, 1);
+            SamplerOptions.RequireAtMost("--max-depth", depth, SceneLoader.MaxDepth, "bounces");
+            SamplerOptions.RequireAtLeast("--threads", t, 1);
+
+            (Randomization kind, bool antithetic) = ParseRandomization(parse.GetValue(randomize)!);
+            var spec = new SamplerSpec(parse.GetValue(generator)!, kind, antithetic, n, parse.GetValue(seed));
+            PointSampler sampler;
+            try
+            {
+                // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
+                GeneratorInfo info = SamplerCatalog.Find(spec.Generator);
+                sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
+            }
+            catch (SamplerSpecException e)
+            {
+                throw new CliUsageException(e.Message, e);
+            }
+
+            var options = new PathTracerOptions(
+                parse.GetValue(hemisphere) == "uniform" ? HemisphereStrategy.Uniform : HemisphereStrategy.Cosine,
+                parse.GetValue(lights) switch { "bsdf" => LightStrategy.Bsdf, "nee" => LightStrategy.Nee, _ => LightStrategy.Mis },
+                depth,
+                !parse.GetValue(noRoulette));
+
+            Scene scene = Scene.Build(description);
+            RenderResult result = Renderer.Render(new RenderJob(scene, sampler, options, 0, n, t), Progress(io));
+            var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
+            WriteImage(outPath, format, image);
+            string sidecar = Path.ChangeExtension(outPath, ".json");
+            using (var writer = new StreamWriter(sidecar))
+            {
+                JsonOutput.Write(writer, w =>
+                {
+                    w.WriteStartObject();
+                    w.WriteString("version", Version);
+                    w.WriteString("scene", description.SourcePath);
+                    w.WriteString("scene_sha256", description.Sha256);
+                    w.WriteString("output", outPath);
+                    w.WriteString("generator", spec.Generator);
+                    w.WriteString("randomize", spec.RandomizeName);
+                    w.WriteString("hemisphere", options.Hemisphere == HemisphereStrategy.Uniform ? "uniform" : "cosine");
+                    w.WriteString("lights", parse.GetValue(lights));
+                    w.WriteNumber("seed", spec.Seed);
+                    w.WriteNumber("spp", n);
+                    w.WriteNumber("max_depth", depth);
+                    w.WriteBoolean("russian_roulette", options.RussianRoulette);
+                    w.WriteNumber("width", result.Film.Width);
+                    w.WriteNumber("height", result.Film.Height);
+                    w.WriteNumber("threads", t);
+                    w.Number("wall_seconds", result.WallSeconds);
+                    w.WriteNumber("rays", result.Rays);
+                    w.Number("mrays_per_second", result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9));
+                    w.WriteNumber("nonfinite_samples", result.Film.NonFiniteSamples);
+                    w.WriteNumber("out_of_range_samples", result.Film.OutOfRangeSamples);
+                    w.WriteNumber("dimensions_per_path", DimensionLayout.Total(depth));
+                    w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
+                    w.WriteEndObject();
+                });
+            }
+
+            io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"{outPath}: {result.Film.Width}x{result.Film.Height}, {n} spp, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples"));
+            return 0;
+        });
+        return command;
+    }
+
+    private static string Version =>
+        typeof(RenderCommand).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion ?? "unknown";
+
+    private static (Randomization, bool) ParseRandomization(string text)
+    {
+        try
+        {
+            return SamplerCatalog.ParseRandomization(text);
+        }
+        catch (SamplerSpecException e)
+        {
+            throw new CliUsageException(e.Message, e);
+        }
+    }
+
+    private static ImageFormat OutputFormat(string path)
+    {
+        string ext = Path.GetExtension(path).ToLowerInvariant();
+        return ext switch
+        {
+            ".exr" => ImageFormat.Exr,
+            ".pfm" => ImageFormat.Pfm,
+            ".png" => ImageFormat.Png,
+            _ => throw new CliUsageException($"--out {path}: unknown image format '{ext}'; use .exr, .pfm or .png"),
+        };
+    }
+
+    private static void WriteImage(string path, ImageFormat format, RgbImage image)
+    {
+        try
+        {
+            switch (format)
+            {
+                case ImageFormat.Exr:
+                    ExrCodec.Write(path, image);
+                    break;
+                case ImageFormat.Pfm:
+                    PfmCodec.Write(path, image);
+                    break;
+                default:
+                    PngCodec.Write(path, image);
+                    break;
+            }
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
+        }
+    }
+
+    /// <summary>Tile progress on stderr when it is a terminal; nothing when redirected (logs stay clean).</summary>
+    private static Action<int, int>? Progress(CliIo io)
+    {
+        if (Console.IsErrorRedirected || !ReferenceEquals(io.Error, Console.Error))
+        {
+            return null;
+        }
+
+        object gate = new();
+        int lastPercent = -1;
+        return (done, total) =>
+        {
+            int percent = (int)(100L * done / total);
+            lock (gate)
+            {
+                if (percent > lastPercent)
+                {
+                    lastPercent = percent;
+                    io.Error.Write(string.Create(CultureInfo.InvariantCulture, $"\rrendering {percent,3}%"));
+                    if (done == total)
+                    {
+                        io.Error.WriteLine();
+                    }
+                }
+            }
+        };
+    }
+}

@@ -1,0 +1,112 @@
+using System.Text.Json;
+using static PathBench.Cli.Tests.CliRunner;
+
+namespace PathBench.Cli.Tests;
+
+public sealed class RenderCommandTests
+{
+    private const string Scene = """
+        camera: { position: [0, 1, 3], look_at: [0, 0.5, 0], fov: 40, resolution: [12, 8] }
+        render: { spp: 4, max_depth: 4 }
+        environment: { radiance: [0.5, 0.6, 0.7] }
+        materials:
+          ground: { type: diffuse, albedo: [0.5, 0.5, 0.5] }
+          lamp:   { type: diffuse, albedo: [0, 0, 0], emission: [20, 20, 20] }
+        shapes:
+          - { type: quad, corner: [-5, 0, 5], edge_u: [10, 0, 0], edge_v: [0, 0, -10], material: ground }
+          - { type: sphere, center: [0.5, 1.5, 0], radius: 0.2, material: lamp }
+        """;
+
+    [Fact]
+    public void Render_writes_the_image_and_a_sidecar_with_the_documented_fields()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("yard.yaml"), Scene);
+        (int code, _, string err) = Run("render", dir.File("yard.yaml"), "--out", dir.File("yard.pfm"), "--threads", "1");
+        Assert.True(code == 0, err);
+        Assert.True(File.Exists(dir.File("yard.pfm")));
+        using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("yard.json")));
+        JsonElement j = doc.RootElement;
+        foreach (string field in new[] { "scene_sha256", "generator", "randomize", "hemisphere", "lights", "seed", "spp", "width", "height", "threads", "wall_seconds", "rays", "mrays_per_second", "nonfinite_samples", "version" })
+        {
+            Assert.True(j.TryGetProperty(field, out _), $"sidecar lacks '{field}'");
+        }
+
+        Assert.Equal(4, j.GetProperty("spp").GetInt32());
+        Assert.Equal(12, j.GetProperty("width").GetInt32());
+        Assert.Equal("sobol", j.GetProperty("generator").GetString());
+        Assert.Equal("owen", j.GetProperty("randomize").GetString());
+        Assert.True(j.GetProperty("rays").GetInt64() >= 12 * 8 * 4);
+        // sha256 of the scene's bytes, as sha256sum would print it (FIPS 180-4 via the framework).
+        string expected = Convert.ToHexStringLower(System.Security.Cryptography.SHA256.HashData(File.ReadAllBytes(dir.File("yard.yaml"))));
+        Assert.Equal(expected, j.GetProperty("scene_sha256").GetString());
+    }
+
+    [Fact]
+    public void Thread_count_does_not_change_the_file_bytes()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("s.yaml"), Scene);
+        Assert.Equal(0, Run("render", dir.File("s.yaml"), "--out", dir.File("one.exr"), "--threads", "1", "--spp", "8").Code);
+        Assert.Equal(0, Run("render", dir.File("s.yaml"), "--out", dir.File("two.exr"), "--threads", "2", "--spp", "8").Code);
+        Assert.Equal(0, Run("render", dir.File("s.yaml"), "--out", dir.File("other.exr"), "--threads", "2", "--spp", "8", "--seed", "1").Code);
+        Assert.Equal(File.ReadAllBytes(dir.File("one.exr")), File.ReadAllBytes(dir.File("two.exr")));
+        Assert.NotEqual(File.ReadAllBytes(dir.File("one.exr")), File.ReadAllBytes(dir.File("other.exr")));
+    }
+
+    [Theory]
+    [InlineData("--generator", "nonesuch", "unknown generator 'nonesuch'")]
+    [InlineData("--randomize", "owen", "meaningless for 'halton'")]
+    [InlineData("--lights", "some", "some")]
+    [InlineData("--spp", "0", "--spp must be at least 1")]
+    [InlineData("--out", "x.tiff", "unknown image format '.tiff'")]
+    public void Bad_render_arguments_exit_2_with_one_line(string option, string value, string message)
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("s.yaml"), Scene);
+        string[] args = option switch
+        {
+            "--randomize" => ["render", dir.File("s.yaml"), "--generator", "halton", option, value, "--out", dir.File("o.pfm")],
+            "--out" => ["render", dir.File("s.yaml"), "--out", dir.File(value)],
+            _ => ["render", dir.File("s.yaml"), option, value, "--out", dir.File("o.pfm")],
+        };
+        (int code, _, string err) = Run(args);
+        Assert.Equal(2, code);
+        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        Assert.Contains(message, err, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_bad_scene_names_file_line_and_column()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("bad.yaml"), Scene.Replace("albedo: [0.5, 0.5, 0.5]", "albdo: [0.5, 0.5, 0.5]", StringComparison.Ordinal));
+        (int code, _, string err) = Run("render", dir.File("bad.yaml"), "--out", dir.File("o.pfm"));
+        Assert.Equal(2, code);
+        Assert.Contains("bad.yaml:5:", err, StringComparison.Ordinal);
+        Assert.Contains("albdo", err, StringComparison.Ordinal);
+        Assert.False(File.Exists(dir.File("o.pfm")), "nothing is written for a scene that does not load");
+    }
+
+    [Fact]
+    public void Every_demo_scene_loads()
+    {
+        string scenes = Path.Combine(RepoRoot(), "scenes");
+        foreach (string file in Directory.GetFiles(scenes, "*.yaml").Concat(Directory.GetFiles(Path.Combine(scenes, "validation"), "*.yaml")))
+        {
+            PathBench.Rendering.Scenes.SceneDescription d = PathBench.Rendering.Scenes.SceneLoader.Load(file);
+            Assert.NotEmpty(d.Shapes);
+        }
+    }
+
+    private static string RepoRoot()
+    {
+        var dir = new DirectoryInfo(AppContext.BaseDirectory);
+        while (dir is not null && !File.Exists(Path.Combine(dir.FullName, "PathBench.sln")))
+        {
+            dir = dir.Parent;
+        }
+
+        return dir?.FullName ?? throw new DirectoryNotFoundException("repository root not found");
+    }
+}

@@ -1,0 +1,257 @@
+using System.Buffers.Binary;
+
+namespace PathBench.Imaging.Tests;
+
+/// <summary>
+/// OpenEXR codec: round trips, and live interoperability with the reference implementation in
+/// Debian's openexr package (OpenEXR 3.1): exrheader and exrinfo -s accept every file we write;
+/// exrmultiview decodes our chunks with the library and re-encodes them with the library's own
+/// compressor, exrstdattr and exrmultipart -separate rewrite our files through the library, and we
+/// read all of those back with the pixels we wrote. exrmaketiled and exrmultipart -combine make
+/// tiled and multi-part files, which must be refused by name.
+/// </summary>
+public sealed class ExrTests
+{
+    private const string Package = "openexr";
+
+    public static TheoryData<string, ExrCompression, ExrPixelType, ExrChannelSet> WriteModes()
+    {
+        var data = new TheoryData<string, ExrCompression, ExrPixelType, ExrChannelSet>();
+        foreach (ExrCompression c in Enum.GetValues<ExrCompression>())
+        {
+            foreach (ExrPixelType t in new[] { ExrPixelType.Half, ExrPixelType.Float })
+            {
+                foreach (ExrChannelSet s in Enum.GetValues<ExrChannelSet>())
+                {
+                    data.Add($"{c}_{t}_{s}".ToLowerInvariant(), c, t, s);
+                }
+            }
+        }
+
+        return data;
+    }
+
+    /// <summary>37×21 (odd, not a multiple of ZIP's 16-line blocks) noisy gradient with HDR and negative values.</summary>
+    private static RgbImage Sample()
+    {
+        RgbImage image = SyntheticImages.Noisy(SyntheticImages.Gradient(37, 21, scale: 4), 0.3, seed: 21);
+        image.At(0, 0, 0) = 60000f; // near the top of the half range
+        return image;
+    }
+
+    /// <summary>What a file written in <paramref name="set"/> with <paramref name="type"/> should read back as.</summary>
+    private static RgbImage Expected(RgbImage image, ExrPixelType type, ExrChannelSet set)
+    {
+        RgbImage e = image.Clone();
+        for (long i = 0; i < e.PixelCount; i++)
+        {
+            if (set == ExrChannelSet.Y)
+            {
+                float y = (float)Luminance.Rec709(e.Data[i * 3], e.Data[(i * 3) + 1], e.Data[(i * 3) + 2]);
+                e.Data[i * 3] = e.Data[(i * 3) + 1] = e.Data[(i * 3) + 2] = y;
+            }
+
+            if (type == ExrPixelType.Half)
+            {
+                for (int c = 0; c < 3; c++)
+                {
+                    e.Data[(i * 3) + c] = (float)(Half)e.Data[(i * 3) + c];
+                }
+            }
+        }
+
+        return e;
+    }
+
+    private static void AssertSameBits(RgbImage expected, RgbImage actual, string what)
+    {
+        Assert.Equal((expected.Width, expected.Height), (actual.Width, actual.Height));
+        for (int i = 0; i < expected.Data.Length; i++)
+        {
+            if (BitConverter.SingleToInt32Bits(expected.Data[i]) != BitConverter.SingleToInt32Bits(actual.Data[i]))
+            {
+                Assert.Fail(FormattableString.Invariant($"{what}: value {i} (pixel {i / 3}, channel {i % 3}) is {actual.Data[i]:R}, expected {expected.Data[i]:R}"));
+            }
+        }
+    }
+
+    [Theory]
+    [MemberData(nameof(WriteModes))]
+    public void Write_then_read_gives_the_written_values(string name, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
+    {
+        RgbImage image = Sample();
+        var stream = new MemoryStream();
+        ExrCodec.Write(stream, image, new ExrWriteOptions(compression, type, set));
+        stream.Position = 0;
+        ImageReadResult back = ExrCodec.Read(stream, name + ".exr");
+        AssertSameBits(Expected(image, type, set), back.Image, name);
+        Assert.Contains(compression.ToString().ToUpperInvariant(), back.Format, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [MemberData(nameof(WriteModes))]
+    public void Exrheader_and_exrinfo_accept_every_file_we_write(string name, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
+    {
+        using var dir = new TempDir();
+        string path = dir.File(name + ".exr");
+        ExrCodec.Write(path, Sample(), new ExrWriteOptions(compression, type, set));
+
+        ExternalTool.Result header = ExternalTool.Run("exrheader", Package, [path]);
+        Assert.True(header.ExitCode == 0, $"exrheader rejected {name}: {header.Stderr}");
+
+        // exrheader's wording for the compression and sample type (OpenEXR 3.1 output).
+        string expectedCompression = compression switch
+        {
+            ExrCompression.None => "compression (type compression): none",
+            ExrCompression.Zips => "compression (type compression): zip, individual scanlines",
+            _ => "compression (type compression): zip, multi-scanline blocks",
+        };
+        Assert.Contains(expectedCompression, header.Stdout, StringComparison.Ordinal);
+        string sample = type == ExrPixelType.Half ? "16-bit floating-point" : "32-bit floating-point";
+        string[] names = set switch
+        {
+            ExrChannelSet.Rgb => ["B", "G", "R"],
+            ExrChannelSet.Rgba => ["A", "B", "G", "R"],
+            _ => ["Y"],
+        };
+        foreach (string channel in names)
+        {
+            Assert.Contains($"    {channel}, {sample}, sampling 1 1", header.Stdout, StringComparison.Ordinal);
+        }
+
+        Assert.Contains("dataWindow (type box2i): (0 0) - (36 20)", header.Stdout, StringComparison.Ordinal);
+
+        ExternalTool.Result strict = ExternalTool.Run("exrinfo", Package, ["-s", path]);
+        Assert.True(strict.ExitCode == 0, $"exrinfo -s rejected {name}: {strict.Stdout}{strict.Stderr}");
+    }
+
+    public static TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet> LibraryRewrites()
+    {
+        var data = new TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet>();
+        foreach (ExrCompression c in Enum.GetValues<ExrCompression>())
+        {
+            foreach (ExrPixelType t in new[] { ExrPixelType.Half, ExrPixelType.Float })
+            {
+                foreach (string library in new[] { "none", "zip" })
+                {
+                    data.Add($"ours_{c}_{t}_rgb_to_library_{library}".ToLowerInvariant(), library, c, t, ExrChannelSet.Rgb);
+                }
+            }
+        }
+
+        data.Add("ours_zip_half_rgba_to_library_zip", "zip", ExrCompression.Zip, ExrPixelType.Half, ExrChannelSet.Rgba);
+        data.Add("ours_zips_float_y_to_library_none", "none", ExrCompression.Zips, ExrPixelType.Float, ExrChannelSet.Y);
+        data.Add("ours_zip_half_y_to_library_zip", "zip", ExrCompression.Zip, ExrPixelType.Half, ExrChannelSet.Y);
+        return data;
+    }
+
+    [Theory]
+    [MemberData(nameof(LibraryRewrites))]
+    public void Files_the_library_decodes_and_re_encodes_read_back_exactly(
+        string name, string libraryCompression, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
+    {
+        using var dir = new TempDir();
+        RgbImage image = Sample();
+        string ours = dir.File("ours.exr");
+        string other = dir.File("other.exr");
+        string combined = dir.File("library.exr");
+        ExrCodec.Write(ours, image, new ExrWriteOptions(compression, type, set));
+
+        // A second, different view so a mix-up of views cannot pass: the first view is the default
+        // and keeps the plain channel names; the library decodes both inputs and compresses the output itself.
+        ExrCodec.Write(other, SyntheticImages.Uniform(37, 21, 0, 1, seed: 5), new ExrWriteOptions(compression, type, set));
+        ExternalTool.Result r = ExternalTool.Run("exrmultiview", Package, ["-z", libraryCompression, "left", ours, "right", other, combined]);
+        Assert.True(r.ExitCode == 0, $"exrmultiview failed: {r.Stderr}");
+
+        ImageReadResult back = ExrCodec.Read(combined);
+        AssertSameBits(Expected(image, type, set), back.Image, name);
+        Assert.Contains(back.Notes, n => n.StartsWith("channels ignored: ", StringComparison.Ordinal) && n.Contains("right.", StringComparison.Ordinal));
+        ExternalTool.Result header = ExternalTool.Run("exrheader", Package, [combined]);
+        Assert.Contains(libraryCompression == "none" ? "compression): none" : "compression): zip, multi-scanline blocks", header.Stdout, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("zips_half", ExrCompression.Zips, ExrPixelType.Half)]
+    [InlineData("zip_float", ExrCompression.Zip, ExrPixelType.Float)]
+    [InlineData("none_half", ExrCompression.None, ExrPixelType.Half)]
+    public void Files_rewritten_by_exrstdattr_and_exrmultipart_separate_read_back_exactly(string name, ExrCompression compression, ExrPixelType type)
+    {
+        using var dir = new TempDir();
+        RgbImage image = Sample();
+        string ours = dir.File("ours.exr");
+        ExrCodec.Write(ours, image, new ExrWriteOptions(compression, type));
+        RgbImage expected = Expected(image, type, ExrChannelSet.Rgb);
+
+        string annotated = dir.File("annotated.exr");
+        ExternalTool.Result std = ExternalTool.Run("exrstdattr", Package, ["-comments", "PathBench interoperability test", "-owner", "test", ours, annotated]);
+        Assert.True(std.ExitCode == 0, $"exrstdattr failed: {std.Stderr}");
+        AssertSameBits(expected, ExrCodec.Read(annotated).Image, name + " via exrstdattr");
+
+        string multi = dir.File("multi.exr");
+        ExternalTool.Result combine = ExternalTool.Run("exrmultipart", Package, ["-combine", "-i", ours, annotated, "-o", multi]);
+        Assert.True(combine.ExitCode == 0, $"exrmultipart -combine failed: {combine.Stdout}{combine.Stderr}");
+        string separateBase = dir.File("part");
+        ExternalTool.Result separate = ExternalTool.Run("exrmultipart", Package, ["-separate", "-i", multi, "-o", separateBase]);
+        Assert.True(separate.ExitCode == 0, $"exrmultipart -separate failed: {separate.Stdout}{separate.Stderr}");
+        AssertSameBits(expected, ExrCodec.Read(separateBase + ".1.exr").Image, name + " via exrmultipart -separate (part 1)");
+        AssertSameBits(expected, ExrCodec.Read(separateBase + ".2.exr").Image, name + " via exrmultipart -separate (part 2)");
+    }
+
+    public static TheoryData<string, string[], string> RefusedByName => new()
+    {
+        { "tiled_by_exrmaketiled", ["exrmaketiled", "{in}", "{out}"], "not supported: tiled OpenEXR file" },
+        { "mipmapped_by_exrmaketiled", ["exrmaketiled", "-m", "{in}", "{out}"], "not supported: tiled OpenEXR file" },
+        { "multi_part_by_exrmultipart", ["exrmultipart", "-combine", "-i", "{in}", "{in}", "-o", "{out}"], "not supported: multi-part OpenEXR file" },
+        { "piz_by_exrmultiview", ["exrmultiview", "-z", "piz", "a", "{in}", "b", "{in}", "{out}"], "not supported: PIZ compression" },
+        { "rle_by_exrmultiview", ["exrmultiview", "-z", "rle", "a", "{in}", "b", "{in}", "{out}"], "not supported: RLE compression" },
+        { "pxr24_by_exrmultiview", ["exrmultiview", "-z", "pxr24", "a", "{in}", "b", "{in}", "{out}"], "not supported: PXR24 compression" },
+        { "b44_by_exrmultiview", ["exrmultiview", "-z", "b44", "a", "{in}", "b", "{in}", "{out}"], "not supported: B44 compression" },
+        { "dwaa_by_exrmultiview", ["exrmultiview", "-z", "dwaa", "a", "{in}", "b", "{in}", "{out}"], "not supported: DWAA compression" },
+    };
+
+    [Theory]
+    [MemberData(nameof(RefusedByName))]
+    public void Files_the_library_writes_in_unsupported_layouts_are_refused_by_name(string name, string[] command, string message)
+    {
+        using var dir = new TempDir();
+        string input = dir.File("in.exr");
+        string output = dir.File(name + ".exr");
+        ExrCodec.Write(input, Sample(), new ExrWriteOptions(ExrCompression.Zip, ExrPixelType.Half));
+        ExternalTool.Result r = ExternalTool.Run(command[0], Package, command.Skip(1).Select(a => a.Replace("{in}", input, StringComparison.Ordinal).Replace("{out}", output, StringComparison.Ordinal)));
+        Assert.True(r.ExitCode == 0 && File.Exists(output), $"{command[0]} failed: {r.Stdout}{r.Stderr}");
+        ImageNotSupportedException e = Assert.Throws<ImageNotSupportedException>(() => ExrCodec.Read(output));
+        Assert.Equal($"{output}: {message}", e.Message);
+    }
+
+    [Fact]
+    public void A_data_window_away_from_the_origin_is_read_with_a_note()
+    {
+        // Shift the data window of one of our files to (100,200): every chunk's y moves with it.
+        var stream = new MemoryStream();
+        RgbImage image = Sample();
+        ExrCodec.Write(stream, image, new ExrWriteOptions(ExrCompression.Zip, ExrPixelType.Float));
+        byte[] bytes = stream.ToArray();
+        int box = IndexOf(bytes, "dataWindow\0box2i\0"u8) + "dataWindow\0box2i\0".Length + 4;
+        BinaryPrimitives.WriteInt32LittleEndian(bytes.AsSpan(box), 100);
+        BinaryPrimitives.WriteInt32LittleEndian(bytes.AsSpan(box + 4), 200);
+        BinaryPrimitives.WriteInt32LittleEndian(bytes.AsSpan(box + 8), 136);
+        BinaryPrimitives.WriteInt32LittleEndian(bytes.AsSpan(box + 12), 220);
+        int tableStart = IndexOf(bytes, "screenWindowWidth\0float\0"u8) + "screenWindowWidth\0float\0".Length + 8 + 1;
+        for (int i = 0; i < 2; i++)
+        {
+            int chunk = (int)BinaryPrimitives.ReadUInt64LittleEndian(bytes.AsSpan(tableStart + (8 * i)));
+            BinaryPrimitives.WriteInt32LittleEndian(bytes.AsSpan(chunk), 200 + (16 * i));
+        }
+
+        ImageReadResult back = ExrCodec.Read(new MemoryStream(bytes), "shifted.exr");
+        AssertSameBits(image, back.Image, "shifted data window");
+        Assert.Contains(back.Notes, n => n.Contains("display window", StringComparison.Ordinal));
+    }
+
+    internal static int IndexOf(byte[] haystack, ReadOnlySpan<byte> needle)
+    {
+        int i = haystack.AsSpan().IndexOf(needle);
+        Assert.True(i >= 0, "marker not found in the file");
+        return i;
+    }
+}

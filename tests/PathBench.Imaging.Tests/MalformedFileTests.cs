@@ -1,0 +1,274 @@
+using System.Buffers.Binary;
+using System.Diagnostics;
+using System.IO.Compression;
+using System.Text;
+
+namespace PathBench.Imaging.Tests;
+
+/// <summary>
+/// A corpus of malformed PFM, OpenEXR and PNG files, made by mutating valid files in code
+/// (invented data). Each must give an <see cref="ImageFileException"/> whose message is one
+/// line starting with the file name — no other exception, no hang, and no managed allocation
+/// beyond a small bound however large the header's claims.
+/// </summary>
+public sealed class MalformedFileTests
+{
+    // Every base file is below 20 KB; decoding one allocates well under 1 MB. 8 MB leaves room for
+    // runtime noise but fails at once if a reader trusts a lying header (the smallest lie below
+    // claims hundreds of MB).
+    private const long AllocationBound = 8L << 20;
+
+    // A clean error takes milliseconds; 10 s means a loop that does not end.
+    private static readonly TimeSpan HangBound = TimeSpan.FromSeconds(10);
+
+    /// <summary>Name, mutated bytes, and a fragment the message must contain.</summary>
+    public sealed record Malformed(string Name, Func<byte[]> Bytes, string Expect);
+
+    private static readonly Malformed[] Corpus = BuildCorpus();
+
+    public static TheoryData<string> Names => new(Corpus.Select(c => c.Name));
+
+    [Fact]
+    public void Corpus_has_at_least_forty_files_of_each_kind_together()
+    {
+        Assert.True(Corpus.Length >= 40, $"only {Corpus.Length} malformed files");
+        Assert.Equal(Corpus.Length, Corpus.Select(c => c.Name).Distinct().Count());
+        foreach (string prefix in new[] { "pfm_", "exr_", "png_" })
+        {
+            Assert.True(Corpus.Count(c => c.Name.StartsWith(prefix, StringComparison.Ordinal)) >= 10, prefix);
+        }
+    }
+
+    [Theory]
+    [MemberData(nameof(Names))]
+    public async Task Malformed_file_gives_one_clean_line(string name)
+    {
+        Malformed c = Corpus.Single(k => k.Name == name);
+        using var dir = new TempDir();
+        string path = dir.File(name + ".img");
+        File.WriteAllBytes(path, c.Bytes());
+
+        Exception? caught = null;
+        long allocated = 0;
+        var clock = Stopwatch.StartNew();
+        var task = Task.Run(() =>
+        {
+            long before = GC.GetAllocatedBytesForCurrentThread();
+            try
+            {
+                ImageFile.Read(path);
+            }
+            catch (Exception e)
+            {
+                caught = e;
+            }
+
+            allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+        });
+        Task finished = await Task.WhenAny(task, Task.Delay(HangBound));
+        Assert.True(finished == task, $"{name}: reader still running after {HangBound.TotalSeconds} s");
+        await task;
+
+        Assert.NotNull(caught);
+        Assert.IsAssignableFrom<ImageFileException>(caught);
+        string message = caught!.Message;
+        Assert.StartsWith(path + ": ", message, StringComparison.Ordinal);
+        Assert.DoesNotContain('\n', message);
+        Assert.True(message.Contains(c.Expect, StringComparison.Ordinal), $"{name}: message lacks '{c.Expect}': {message}");
+        Assert.True(allocated < AllocationBound, $"{name}: reader allocated {allocated} bytes before failing");
+        Assert.True(clock.Elapsed < HangBound);
+    }
+
+    // ---- base files -------------------------------------------------------------------------
+
+    private static byte[] ValidPfm()
+    {
+        var s = new MemoryStream();
+        PfmCodec.Write(s, SyntheticImages.Uniform(4, 3, 0, 1, seed: 1));
+        return s.ToArray();
+    }
+
+    private static byte[] ValidExr(ExrCompression compression = ExrCompression.Zip, ExrPixelType type = ExrPixelType.Float)
+    {
+        var s = new MemoryStream();
+        // A smooth gradient compresses, so ZIP chunks hold real zlib streams (noise would be stored raw).
+        ExrCodec.Write(s, SyntheticImages.Gradient(37, 21), new ExrWriteOptions(compression, type));
+        return s.ToArray();
+    }
+
+    private static byte[] ValidPng()
+    {
+        var s = new MemoryStream();
+        PngCodec.Write(s, SyntheticImages.Uniform(5, 4, 0, 1, seed: 3));
+        return s.ToArray();
+    }
+
+    private static byte[] Ascii(string text, int binaryBytes = 0) => [.. Encoding.ASCII.GetBytes(text), .. new byte[binaryBytes]];
+
+    private static byte[] Mutate(byte[] bytes, Action<byte[]> change)
+    {
+        byte[] copy = (byte[])bytes.Clone();
+        change(copy);
+        return copy;
+    }
+
+    // Positions inside an EXR written by ExrCodec (attribute values follow name\0type\0size).
+    private static int AttributeValue(byte[] exr, string name, string type) =>
+        ExrTests.IndexOf(exr, Encoding.ASCII.GetBytes($"{name}\0{type}\0")) + name.Length + type.Length + 2 + 4;
+
+    private static int AttributeSize(byte[] exr, string name, string type) => AttributeValue(exr, name, type) - 4;
+
+    // Our writer puts screenWindowWidth last: its 4-byte value, then the header's null byte, then the table.
+    private static int OffsetTable(byte[] exr) => AttributeValue(exr, "screenWindowWidth", "float") + 4 + 1;
+
+    private static int Chunk(byte[] exr, int index) => (int)BinaryPrimitives.ReadUInt64LittleEndian(exr.AsSpan(OffsetTable(exr) + (8 * index)));
+
+    // Channel entries in the chlist value: B, G, R, each name\0 + 16 bytes.
+    private static int ChannelEntry(byte[] exr, int index) => AttributeValue(exr, "channels", "chlist") + (18 * index);
+
+    private static void WriteInt(byte[] b, int at, int value) => BinaryPrimitives.WriteInt32LittleEndian(b.AsSpan(at), value);
+
+    private static byte[] Zlib(byte[] data)
+    {
+        var s = new MemoryStream();
+        using (var z = new ZLibStream(s, CompressionLevel.Optimal, leaveOpen: true))
+        {
+            z.Write(data);
+        }
+
+        return s.ToArray();
+    }
+
+    /// <summary>Replaces chunk 0's data (and its size field) by <paramref name="payload"/>, keeping chunk 1 reachable.</summary>
+    private static byte[] ReplaceChunk0(byte[] exr, byte[] payload)
+    {
+        int table = OffsetTable(exr);
+        int c0 = Chunk(exr, 0), c1 = Chunk(exr, 1);
+        byte[] head = exr[..(c0 + 4)];
+        byte[] rest = exr[c1..];
+        byte[] result = [.. head, .. new byte[4], .. payload, .. rest];
+        WriteInt(result, c0 + 4, payload.Length);
+        BinaryPrimitives.WriteUInt64LittleEndian(result.AsSpan(table + 8), (ulong)(c0 + 8 + payload.Length));
+        return result;
+    }
+
+    // ---- PNG helpers: IHDR fields at fixed offsets after the 8-byte signature -----------------
+
+    private static byte[] PngWithIhdr(uint width, uint height, byte depth = 8, byte colourType = 2) => Mutate(ValidPng(), b =>
+    {
+        BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(16), width);
+        BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(20), height);
+        b[24] = depth;
+        b[25] = colourType;
+    });
+
+    private static Malformed[] BuildCorpus()
+    {
+        const int RawChunk0 = 37 * 3 * 4 * 16; // 16 FLOAT RGB lines of 37 pixels = 7104 bytes
+        return
+        [
+            // PFM
+            new("pfm_empty_file", () => [], "unknown image format"),
+            new("pfm_magic_only", () => Ascii("PF\n"), "truncated"),
+            new("pfm_wrong_magic_after_P", () => Ascii("PZ\n4 3\n-1\n", 48), "unknown image format"),
+            new("pfm_magic_with_extra_letter", () => Ascii("PFF\n4 3\n-1\n", 48), "unknown image format"),
+            new("pfm_negative_width", () => Ascii("PF\n-4 3\n-1.0\n", 144), "width -4 is out of range"),
+            new("pfm_zero_height", () => Ascii("PF\n4 0\n-1.0\n", 144), "height 0 is out of range"),
+            new("pfm_huge_size", () => Ascii("PF\n100000 100000\n-1.0\n", 64), "above the limit"),
+            new("pfm_width_overflows_long", () => Ascii("PF\n99999999999999999999 1\n-1.0\n", 12), "is not an integer"),
+            new("pfm_width_not_a_number", () => Ascii("PF\nfour 3\n-1.0\n", 144), "'four' is not an integer"),
+            new("pfm_scale_zero", () => Ascii("PF\n4 3\n0\n", 144), "scale '0' is not a non-zero number"),
+            new("pfm_scale_nan", () => Ascii("PF\n4 3\nnan\n", 144), "is not a non-zero number"),
+            new("pfm_scale_missing", () => Ascii("PF\n4 3\n"), "truncated"),
+            new("pfm_header_without_pixels", () => Ascii("PF\n4 3\n-1.0\n"), "truncated: header declares 4x3"),
+            new("pfm_truncated_pixels", () => ValidPfm()[..^20], "truncated: header declares 4x3 PF = 144 bytes of pixels, but 124 follow"),
+            new("pfm_lying_dimensions", () => [.. Ascii("PF\n4000 3000\n-1.0\n"), .. ValidPfm()[12..]], "but 144 follow"),
+            new("pfm_grey_lying_dimensions", () => Ascii("Pf\n9000 9000\n1.0\n", 400), "truncated: header declares 9000x9000 Pf"),
+            new("pfm_binary_garbage_header", () => [.. Ascii("PF\n"), .. Enumerable.Range(0, 300).Select(i => (byte)(((i * 37) % 200) + 33))], "truncated or malformed PFM header"),
+
+            // OpenEXR: version field and flags
+            new("exr_only_magic", () => ValidExr()[..4], "truncated: 4 bytes is too short"),
+            new("exr_truncated_after_version", () => ValidExr()[..8], "truncated"),
+            new("exr_version_1", () => Mutate(ValidExr(), b => b[4] = 1), "not supported: OpenEXR file format version 1"),
+            new("exr_tiled_flag", () => Mutate(ValidExr(), b => b[5] |= 0x02), "not supported: tiled OpenEXR file"),
+            new("exr_deep_flag", () => Mutate(ValidExr(), b => b[5] |= 0x08), "not supported: deep OpenEXR data"),
+            new("exr_multipart_flag", () => Mutate(ValidExr(), b => b[5] |= 0x10), "not supported: multi-part OpenEXR file"),
+            new("exr_unknown_flag", () => Mutate(ValidExr(), b => b[6] |= 0x40), "not supported: unknown OpenEXR version flags"),
+
+            // OpenEXR: header attributes
+            new("exr_truncated_in_header", () => ValidExr()[..60], "truncated"),
+            new("exr_missing_channels", () => Mutate(ValidExr(), b => b[AttributeValue(b, "channels", "chlist") - 4 - 7 - 2] = (byte)'z'), "lacks the required attribute 'channels'"),
+            new("exr_attribute_size_huge", () => Mutate(ValidExr(), b => WriteInt(b, AttributeSize(b, "channels", "chlist"), int.MaxValue)), "attribute 'channels' declares 2147483647 bytes"),
+            new("exr_attribute_size_negative", () => Mutate(ValidExr(), b => WriteInt(b, AttributeSize(b, "pixelAspectRatio", "float"), -5)), "declares -5 bytes"),
+            new("exr_attribute_wrong_type", () => Mutate(ValidExr(), b => b[AttributeValue(b, "dataWindow", "box2i") - 4 - 2] = (byte)'f'), "has type 'box2f', expected 'box2i'"),
+            new("exr_attribute_name_unterminated", () => [.. ValidExr()[..8], .. Ascii(new string('x', 40))], "attribute name is longer than 31 bytes"),
+            new("exr_channel_type_unknown", () => Mutate(ValidExr(), b => WriteInt(b, ChannelEntry(b, 2) + 2, 7)), "channel 'R' has unknown pixel type 7"),
+            new("exr_channel_uint", () => Mutate(ValidExr(), b => WriteInt(b, ChannelEntry(b, 2) + 2, 0)), "not supported: UINT channel 'R'"),
+            new("exr_channel_subsampled", () => Mutate(ValidExr(), b => WriteInt(b, ChannelEntry(b, 1) + 2 + 8, 2)), "not supported: subsampled channel 'G' (2x1)"),
+            new("exr_channel_duplicate", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 1)] = (byte)'B'), "channel 'B' appears twice"),
+            new("exr_no_rgb_or_y", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 2)] = (byte)'Q'), "not supported: channel set B,G,Q (need R,G,B or Y)"),
+            new("exr_chlist_unterminated", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 3)] = (byte)'Z'), "channel list"),
+            new("exr_compression_piz", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 4), "not supported: PIZ compression"),
+            new("exr_compression_unknown", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 42), "not supported: code 42 compression"),
+            new("exr_data_window_inverted", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, -10)), "data window (0,0)-(-10,20) is empty"),
+            new("exr_data_window_huge", () => Mutate(ValidExr(), b =>
+            {
+                WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 1 << 30);
+                WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 12, 1 << 30);
+            }), "above the limit"),
+            new("exr_data_window_full_int_range", () => Mutate(ValidExr(), b =>
+            {
+                WriteInt(b, AttributeValue(b, "dataWindow", "box2i"), int.MinValue);
+                WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, int.MaxValue);
+            }), "is empty or too large"),
+            new("exr_data_window_wide_lie", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 39_999)), "cannot hold the 40000x21 pixels"),
+            new("exr_none_data_window_lie", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 99)), "cannot hold the 100x21 pixels"),
+            new("exr_data_window_tall_lie", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 12, 2_000_000)), "offset table"),
+
+            // OpenEXR: offset table and chunks
+            new("exr_truncated_offset_table", () => { byte[] b = ValidExr(); return b[..(OffsetTable(b) + 4)]; }, "truncated: the offset table"),
+            new("exr_offset_beyond_file", () => Mutate(ValidExr(), b => BinaryPrimitives.WriteUInt64LittleEndian(b.AsSpan(OffsetTable(b)), 1UL << 40)), "offset table entry 0 points to byte 1099511627776"),
+            new("exr_offset_into_header", () => Mutate(ValidExr(), b => BinaryPrimitives.WriteUInt64LittleEndian(b.AsSpan(OffsetTable(b) + 8), 12)), "offset table entry 1 points to byte 12"),
+            new("exr_offset_table_zeroed", () => Mutate(ValidExr(), b => b.AsSpan(OffsetTable(b), 16).Clear()), "points to byte 0"),
+            new("exr_chunk_wrong_y", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 1), 3)), "chunk 1 is for scanline 3, expected 16"),
+            new("exr_chunk_size_huge", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 0) + 4, int.MaxValue)), "chunk 0 (y=0) declares 2147483647 bytes"),
+            new("exr_chunk_size_negative", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 0) + 4, -1)), "declares -1 bytes"),
+            new("exr_chunk_size_zero", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 1) + 4, 0)), "chunk 1 (y=16) declares 0 bytes"),
+            new("exr_chunk_larger_than_file", () => { byte[] b = ValidExr(); return b[..(Chunk(b, 1) + 20)]; }, "truncated: chunk 1"),
+            new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed scanlines need 444"),
+            new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
+            {
+                int c0 = Chunk(b, 0);
+                for (int i = c0 + 8; i < c0 + 40; i++)
+                {
+                    b[i] ^= 0xA5;
+                }
+            }), "chunk 0 (y=0): "),
+            new("exr_zlib_not_zlib", () => ReplaceChunk0(ValidExr(), Enumerable.Repeat((byte)0xFF, 500).ToArray()), "chunk 0 (y=0): bad zlib stream"),
+            new("exr_zlib_cut_short", () => ReplaceChunk0(ValidExr(), Zlib(new byte[RawChunk0])[..^6]), "chunk 0 (y=0): "),
+            new("exr_zlib_too_little", () => ReplaceChunk0(ValidExr(), Zlib(new byte[RawChunk0 - 100])), "zlib data ends after 7004 of 7104 bytes"),
+            new("exr_zlib_bomb", () => ReplaceChunk0(ValidExr(), Zlib(new byte[5_000_000])), "inflates to more than the 7104 bytes"),
+
+            // PNG
+            new("png_signature_only", () => ValidPng()[..8], "truncated: 8 bytes is too short for a PNG file"),
+            new("png_short_header", () => ValidPng()[..20], "truncated: 20 bytes is too short for a PNG file"),
+            new("png_missing_ihdr", () => Mutate(ValidPng(), b => b[12] = (byte)'X'), "does not start with a 13-byte IHDR chunk"),
+            new("png_ihdr_wrong_length", () => Mutate(ValidPng(), b => b[11] = 14), "does not start with a 13-byte IHDR chunk"),
+            new("png_zero_width", () => PngWithIhdr(0, 4), "PNG size 0x4 is out of range"),
+            new("png_negative_height", () => PngWithIhdr(5, 0x80000000), "is out of range"),
+            new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the limit"),
+            new("png_lying_dimensions", () => PngWithIhdr(8000, 8000), "cannot hold the 8000x8000 pixels"),
+            new("png_bad_bit_depth", () => PngWithIhdr(5, 4, depth: 3), "bit depth 3 is invalid for colour type 2"),
+            new("png_bad_colour_type", () => PngWithIhdr(5, 4, colourType: 5), "colour type 5 does not exist"),
+            new("png_truncated_image_data", () => ValidPng()[..50], "PNG"),
+            new("png_corrupt_image_data", () => Mutate(ValidPng(), b =>
+            {
+                int idat = ExrTests.IndexOf(b, "IDAT"u8);
+                for (int i = idat + 6; i < Math.Min(idat + 30, b.Length - 16); i++)
+                {
+                    b[i] ^= 0x5A;
+                }
+            }), "PNG"),
+        ];
+    }
+}

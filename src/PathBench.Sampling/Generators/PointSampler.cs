@@ -43,6 +43,25 @@ public abstract class PointSampler
     public virtual (double X, double Y) Sample2D(ulong pixel, uint index, int dimension) =>
         (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
 
+    /// <summary>
+    /// Dimensions <paramref name="dimension"/> and <paramref name="dimension"/>+1 of the
+    /// consecutive points <paramref name="firstIndex"/>, <paramref name="firstIndex"/>+1, …, one per
+    /// element of <paramref name="xs"/>: the same values as <see cref="Sample2D"/>, for callers
+    /// that want many at once (generators may vectorise it).
+    /// </summary>
+    public virtual void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (xs.Length != ys.Length)
+        {
+            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
+        }
+
+        for (int i = 0; i < xs.Length; i++)
+        {
+            (xs[i], ys[i]) = Sample2D(pixel, firstIndex + (uint)i, dimension);
+        }
+    }
+
     /// <summary>Writes <paramref name="dims"/> coordinates of each of the first <c>points.Length / dims</c> points, row by row.</summary>
     public void Fill(ulong pixel, int dims, Span<double> points)
     {

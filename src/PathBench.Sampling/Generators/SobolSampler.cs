@@ -57,6 +57,33 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         return (OwenCoordinate(reversed, dimension, (uint)seeds), OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32)));
     }
 
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (Spec.Randomize != Randomization.Owen || (dimension & 1) != 0 || dimension + 1 >= Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
+        {
+            base.Sample2DBatch(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        if (xs.Length != ys.Length)
+        {
+            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
+        }
+
+        ulong seeds = PairSeeds(pixel, dimension);
+        int done = OwenSobolBatch.Run(
+            _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),
+            firstIndex, (uint)(pixel >> 32), (uint)seeds, (uint)(seeds >> 32), xs, ys);
+        // The scalar tail (and the whole batch without AVX2): the reference the vector code is tested against.
+        for (int i = done; i < xs.Length; i++)
+        {
+            uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);
+            xs[i] = OwenCoordinate(reversed, dimension, (uint)seeds);
+            ys[i] = OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32));
+        }
+    }
+
     // The nested scramble of the index (Burley 2020), kept bit-reversed for SampleReversed.
     // Its seed is the pixel key's upper half: the key is already a full-avalanche hash, and
     // the dimension seeds below come from a further mix of it, so the two are unrelated.

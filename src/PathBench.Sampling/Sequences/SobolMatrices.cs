@@ -118,6 +118,13 @@ public sealed class SobolMatrices
         return BitReversal.Reverse(Sample(BitReversal.Reverse(reversedIndex), dimension));
     }
 
+    /// <summary>The four 256-entry byte tables behind <see cref="SampleReversed"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
+    public ReadOnlySpan<uint> ReversedTables(int dimension)
+    {
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
+        return new ReadOnlySpan<uint>(_reversedByteTables, dimension * 1024, 1024);
+    }
+
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>
     /// <param name="rows">Per dimension from the second on: degree s, inner coefficients a, initial m_1..m_s.</param>
     public static SobolMatrices FromDirectionNumbers(IReadOnlyList<(int Degree, uint Coefficients, uint[] M)> rows)

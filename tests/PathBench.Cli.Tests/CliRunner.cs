@@ -12,16 +12,4 @@ internal static class CliRunner
         int code = CliApp.Run(args, stdout, stderr);
         return (code, stdout.ToString(), stderr.ToString());
     }
-
-    /// <summary>A fresh folder under the system temp folder, deleted on dispose.</summary>
-    public sealed class TempFolder : IDisposable
-    {
-        public TempFolder() => Directory.CreateDirectory(Path);
-
-        public string Path { get; } = System.IO.Path.Combine(System.IO.Path.GetTempPath(), "pathbench-cli-" + Guid.NewGuid().ToString("N"));
-
-        public string File(string name) => System.IO.Path.Combine(Path, name);
-
-        public void Dispose() => Directory.Delete(Path, recursive: true);
-    }
 }

@@ -91,22 +91,11 @@ public sealed class RenderCommandTests
     [Fact]
     public void Every_demo_scene_loads()
     {
-        string scenes = Path.Combine(RepoRoot(), "scenes");
+        string scenes = RepositoryPaths.Scenes;
         foreach (string file in Directory.GetFiles(scenes, "*.yaml").Concat(Directory.GetFiles(Path.Combine(scenes, "validation"), "*.yaml")))
         {
             PathBench.Rendering.Scenes.SceneDescription d = PathBench.Rendering.Scenes.SceneLoader.Load(file);
             Assert.NotEmpty(d.Shapes);
         }
-    }
-
-    private static string RepoRoot()
-    {
-        var dir = new DirectoryInfo(AppContext.BaseDirectory);
-        while (dir is not null && !File.Exists(Path.Combine(dir.FullName, "PathBench.sln")))
-        {
-            dir = dir.Parent;
-        }
-
-        return dir?.FullName ?? throw new DirectoryNotFoundException("repository root not found");
     }
 }

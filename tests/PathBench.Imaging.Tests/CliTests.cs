@@ -26,7 +26,7 @@ public sealed class CliTests
     [Fact]
     public void Compare_json_has_the_required_fields_and_the_library_values()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage reference = SyntheticImages.Gradient(32, 24);
         RgbImage test = SyntheticImages.Noisy(reference, 0.05, seed: 3);
         ExrCodec.Write(dir.File("ref.exr"), reference);
@@ -55,7 +55,7 @@ public sealed class CliTests
     [Fact]
     public void Compare_roi_restricts_the_metrics_and_counts_non_finite_pixels()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage reference = SyntheticImages.Gradient(40, 30);
         RgbImage test = SyntheticImages.Noisy(reference, 0.1, seed: 4);
         test.At(12, 12, 0) = float.NaN;  // inside the region
@@ -77,7 +77,7 @@ public sealed class CliTests
     [Fact]
     public void Compare_of_identical_images_reports_infinite_psnr_as_null_and_ssim_one()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         ExrCodec.Write(dir.File("a.exr"), SyntheticImages.Gradient(16, 16));
         var r = Run("compare", dir.File("a.exr"), dir.File("a.exr"), "--json");
         using JsonDocument doc = JsonDocument.Parse(r.Out);
@@ -90,7 +90,7 @@ public sealed class CliTests
     [Fact]
     public void Compare_table_names_every_metric()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         PfmCodec.Write(dir.File("r.pfm"), SyntheticImages.Gradient(20, 20));
         PfmCodec.Write(dir.File("t.pfm"), SyntheticImages.Noisy(SyntheticImages.Gradient(20, 20), 0.01, seed: 1));
         var r = Run("compare", dir.File("r.pfm"), dir.File("t.pfm"));
@@ -118,7 +118,7 @@ public sealed class CliTests
     [MemberData(nameof(BadCompares))]
     public void Compare_bad_input_is_one_line_and_exit_2(string name, string[] args, string fragment)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         ExrCodec.Write(dir.File("a.exr"), SyntheticImages.Gradient(16, 12));
         PfmCodec.Write(dir.File("small.pfm"), SyntheticImages.Gradient(8, 8));
         File.WriteAllText(dir.File("text.exr"), "this is not an image\n");
@@ -140,7 +140,7 @@ public sealed class CliTests
     [Fact]
     public void Compare_writes_heatmap_and_side_by_side()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         PfmCodec.Write(dir.File("r.pfm"), SyntheticImages.Gradient(30, 20));
         PfmCodec.Write(dir.File("t.pfm"), SyntheticImages.Noisy(SyntheticImages.Gradient(30, 20), 0.05, seed: 2));
         var r = Run("compare", dir.File("r.pfm"), dir.File("t.pfm"), "--heatmap", dir.File("h.png"), "--side-by-side", dir.File("s.png"), "--error", "absolute", "--json");
@@ -154,7 +154,7 @@ public sealed class CliTests
     [Fact]
     public void Convert_exr_to_pfm_to_exr_float_is_lossless_bit_for_bit()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage image = SyntheticImages.Uniform(19, 11, -1e5, 1e5, seed: 8);
         image.Data[0] = float.NaN;
         image.Data[1] = float.PositiveInfinity;
@@ -172,7 +172,7 @@ public sealed class CliTests
     [Fact]
     public void Convert_half_and_compression_options_reach_the_file()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage image = SyntheticImages.Gradient(10, 10, scale: 3);
         PfmCodec.Write(dir.File("in.pfm"), image);
         Assert.Equal(0, Run("convert", dir.File("in.pfm"), dir.File("h.exr"), "--half", "--compression", "none").Code);
@@ -184,7 +184,7 @@ public sealed class CliTests
     [Fact]
     public void Convert_to_png_applies_exposure_and_tone_curve()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         PfmCodec.Write(dir.File("in.pfm"), SyntheticImages.Flat(4, 4, 0.5f, 0.5f, 0.5f));
         Assert.Equal(0, Run("convert", dir.File("in.pfm"), dir.File("o.png"), "--exposure", "1", "--tone", "reinhard").Code);
 
@@ -196,7 +196,7 @@ public sealed class CliTests
     [Fact]
     public void Convert_float_output_with_exposure_scales_the_values()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         PfmCodec.Write(dir.File("in.pfm"), SyntheticImages.Flat(3, 2, 0.25f, 1f, 4f));
         Assert.Equal(0, Run("convert", dir.File("in.pfm"), dir.File("o.exr"), "--exposure", "-2").Code);
         Assert.Equal(SyntheticImages.Flat(3, 2, 0.0625f, 0.25f, 1f).Data, ExrCodec.Read(dir.File("o.exr")).Image.Data);
@@ -216,7 +216,7 @@ public sealed class CliTests
     [MemberData(nameof(BadConverts))]
     public void Convert_bad_input_is_one_line_and_exit_2(string name, string[] args, string fragment)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         PfmCodec.Write(dir.File("in.pfm"), SyntheticImages.Gradient(8, 8));
         File.WriteAllBytes(dir.File("cut.pfm"), File.ReadAllBytes(dir.File("in.pfm"))[..100]);
         string[] expanded = args.Select(a => a

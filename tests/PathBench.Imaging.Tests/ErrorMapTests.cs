@@ -10,7 +10,7 @@ public sealed class ErrorMapTests
     public void Viridis_table_equals_matplotlib()
     {
         // Live: the published viridis data as shipped in Debian's python3-matplotlib.
-        ExternalTool.Result r = ExternalTool.Run(
+        ReferenceTools.Result r = ExternalTool.Run(
             ExternalTool.Python,
             "python3-matplotlib",
             ["-c", "from matplotlib import _cm_listed as c; print('\\n'.join(' '.join(repr(v) for v in row) for row in c._viridis_data))"]);
@@ -58,7 +58,7 @@ public sealed class ErrorMapTests
     [Fact]
     public void Heatmap_png_shows_the_map_the_bar_and_its_labels()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         string path = dir.File("heat.png");
         var errors = new float[40 * 20];
         for (int i = 0; i < errors.Length; i++)
@@ -98,7 +98,7 @@ public sealed class ErrorMapTests
     [Fact]
     public void Side_by_side_holds_reference_test_and_error_panels()
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         string path = dir.File("strip.png");
         RgbImage r = SyntheticImages.Flat(16, 16, 0.18f, 0.18f, 0.18f);
         RgbImage t = SyntheticImages.Flat(16, 16, 1f, 1f, 1f);

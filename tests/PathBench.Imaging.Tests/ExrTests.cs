@@ -92,11 +92,11 @@ public sealed class ExrTests
     [MemberData(nameof(WriteModes))]
     public void Exrheader_and_exrinfo_accept_every_file_we_write(string name, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         string path = dir.File(name + ".exr");
         ExrCodec.Write(path, Sample(), new ExrWriteOptions(compression, type, set));
 
-        ExternalTool.Result header = ExternalTool.Run("exrheader", Package, [path]);
+        ReferenceTools.Result header = ExternalTool.Run("exrheader", Package, [path]);
         Assert.True(header.ExitCode == 0, $"exrheader rejected {name}: {header.Stderr}");
 
         // exrheader's wording for the compression and sample type (OpenEXR 3.1 output).
@@ -121,7 +121,7 @@ public sealed class ExrTests
 
         Assert.Contains("dataWindow (type box2i): (0 0) - (36 20)", header.Stdout, StringComparison.Ordinal);
 
-        ExternalTool.Result strict = ExternalTool.Run("exrinfo", Package, ["-s", path]);
+        ReferenceTools.Result strict = ExternalTool.Run("exrinfo", Package, ["-s", path]);
         Assert.True(strict.ExitCode == 0, $"exrinfo -s rejected {name}: {strict.Stdout}{strict.Stderr}");
     }
 
@@ -150,7 +150,7 @@ public sealed class ExrTests
     public void Files_the_library_decodes_and_re_encodes_read_back_exactly(
         string name, string libraryCompression, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage image = Sample();
         string ours = dir.File("ours.exr");
         string other = dir.File("other.exr");
@@ -160,13 +160,13 @@ public sealed class ExrTests
         // A second, different view so a mix-up of views cannot pass: the first view is the default
         // and keeps the plain channel names; the library decodes both inputs and compresses the output itself.
         ExrCodec.Write(other, SyntheticImages.Uniform(37, 21, 0, 1, seed: 5), new ExrWriteOptions(compression, type, set));
-        ExternalTool.Result r = ExternalTool.Run("exrmultiview", Package, ["-z", libraryCompression, "left", ours, "right", other, combined]);
+        ReferenceTools.Result r = ExternalTool.Run("exrmultiview", Package, ["-z", libraryCompression, "left", ours, "right", other, combined]);
         Assert.True(r.ExitCode == 0, $"exrmultiview failed: {r.Stderr}");
 
         ImageReadResult back = ExrCodec.Read(combined);
         AssertSameBits(Expected(image, type, set), back.Image, name);
         Assert.Contains(back.Notes, n => n.StartsWith("channels ignored: ", StringComparison.Ordinal) && n.Contains("right.", StringComparison.Ordinal));
-        ExternalTool.Result header = ExternalTool.Run("exrheader", Package, [combined]);
+        ReferenceTools.Result header = ExternalTool.Run("exrheader", Package, [combined]);
         Assert.Contains(libraryCompression == "none" ? "compression): none" : "compression): zip, multi-scanline blocks", header.Stdout, StringComparison.Ordinal);
     }
 
@@ -176,22 +176,22 @@ public sealed class ExrTests
     [InlineData("none_half", ExrCompression.None, ExrPixelType.Half)]
     public void Files_rewritten_by_exrstdattr_and_exrmultipart_separate_read_back_exactly(string name, ExrCompression compression, ExrPixelType type)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage image = Sample();
         string ours = dir.File("ours.exr");
         ExrCodec.Write(ours, image, new ExrWriteOptions(compression, type));
         RgbImage expected = Expected(image, type, ExrChannelSet.Rgb);
 
         string annotated = dir.File("annotated.exr");
-        ExternalTool.Result std = ExternalTool.Run("exrstdattr", Package, ["-comments", "PathBench interoperability test", "-owner", "test", ours, annotated]);
+        ReferenceTools.Result std = ExternalTool.Run("exrstdattr", Package, ["-comments", "PathBench interoperability test", "-owner", "test", ours, annotated]);
         Assert.True(std.ExitCode == 0, $"exrstdattr failed: {std.Stderr}");
         AssertSameBits(expected, ExrCodec.Read(annotated).Image, name + " via exrstdattr");
 
         string multi = dir.File("multi.exr");
-        ExternalTool.Result combine = ExternalTool.Run("exrmultipart", Package, ["-combine", "-i", ours, annotated, "-o", multi]);
+        ReferenceTools.Result combine = ExternalTool.Run("exrmultipart", Package, ["-combine", "-i", ours, annotated, "-o", multi]);
         Assert.True(combine.ExitCode == 0, $"exrmultipart -combine failed: {combine.Stdout}{combine.Stderr}");
         string separateBase = dir.File("part");
-        ExternalTool.Result separate = ExternalTool.Run("exrmultipart", Package, ["-separate", "-i", multi, "-o", separateBase]);
+        ReferenceTools.Result separate = ExternalTool.Run("exrmultipart", Package, ["-separate", "-i", multi, "-o", separateBase]);
         Assert.True(separate.ExitCode == 0, $"exrmultipart -separate failed: {separate.Stdout}{separate.Stderr}");
         AssertSameBits(expected, ExrCodec.Read(separateBase + ".1.exr").Image, name + " via exrmultipart -separate (part 1)");
         AssertSameBits(expected, ExrCodec.Read(separateBase + ".2.exr").Image, name + " via exrmultipart -separate (part 2)");
@@ -213,11 +213,11 @@ public sealed class ExrTests
     [MemberData(nameof(RefusedByName))]
     public void Files_the_library_writes_in_unsupported_layouts_are_refused_by_name(string name, string[] command, string message)
     {
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         string input = dir.File("in.exr");
         string output = dir.File(name + ".exr");
         ExrCodec.Write(input, Sample(), new ExrWriteOptions(ExrCompression.Zip, ExrPixelType.Half));
-        ExternalTool.Result r = ExternalTool.Run(command[0], Package, command.Skip(1).Select(a => a.Replace("{in}", input, StringComparison.Ordinal).Replace("{out}", output, StringComparison.Ordinal)));
+        ReferenceTools.Result r = ExternalTool.Run(command[0], Package, command.Skip(1).Select(a => a.Replace("{in}", input, StringComparison.Ordinal).Replace("{out}", output, StringComparison.Ordinal)));
         Assert.True(r.ExitCode == 0 && File.Exists(output), $"{command[0]} failed: {r.Stdout}{r.Stderr}");
         ImageNotSupportedException e = Assert.Throws<ImageNotSupportedException>(() => ExrCodec.Read(output));
         Assert.Equal($"{output}: {message}", e.Message);

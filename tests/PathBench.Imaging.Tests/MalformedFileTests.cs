@@ -44,7 +44,7 @@ public sealed class MalformedFileTests
     public async Task Malformed_file_gives_one_clean_line(string name)
     {
         Malformed c = Corpus.Single(k => k.Name == name);
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         string path = dir.File(name + ".img");
         File.WriteAllBytes(path, c.Bytes());
 

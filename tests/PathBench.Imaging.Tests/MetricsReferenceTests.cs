@@ -121,7 +121,7 @@ public sealed class MetricsReferenceTests : IClassFixture<MetricsReferenceTests.
 
         private static Dictionary<string, Dictionary<string, double>> Compute()
         {
-            using var dir = new TempDir();
+            using var dir = new TempFolder();
             var manifest = new List<string>();
             foreach (Case c in Cases)
             {
@@ -133,7 +133,7 @@ public sealed class MetricsReferenceTests : IClassFixture<MetricsReferenceTests.
             }
 
             File.WriteAllLines(dir.File("manifest.txt"), manifest);
-            ExternalTool.Result result = ExternalTool.RunPythonScript("reference_metrics.py", dir.Path);
+            ReferenceTools.Result result = ExternalTool.RunPythonScript("reference_metrics.py", dir.Path);
             var values = new Dictionary<string, Dictionary<string, double>>();
             foreach (string line in result.Stdout.Split('\n', StringSplitOptions.RemoveEmptyEntries))
             {

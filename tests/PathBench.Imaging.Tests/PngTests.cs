@@ -86,11 +86,11 @@ public sealed class PngTests
     public void Python_imaging_library_reads_the_codes_we_wrote()
     {
         // Independent decoder: PIL from Debian's python3-pil (a dependency of python3-matplotlib, which python3-skimage depends on).
-        using var dir = new TempDir();
+        using var dir = new TempFolder();
         RgbImage image = SyntheticImages.Uniform(6, 4, 0, 1, seed: 4);
         string path = dir.File("codes.png");
         PngCodec.Write(path, image);
-        ExternalTool.Result r = ExternalTool.Run(
+        ReferenceTools.Result r = ExternalTool.Run(
             ExternalTool.Python,
             "python3-pil",
             ["-c", "import sys; from PIL import Image; im = Image.open(sys.argv[1]).convert('RGB'); print(' '.join(str(v) for p in im.getdata() for v in p))", path]);

@@ -15,20 +15,7 @@ namespace PathBench.Rendering.Tests.Integrators;
 /// </summary>
 public sealed class ValidationSceneTests
 {
-    private static string Folder
-    {
-        get
-        {
-            // The repository root is the nearest folder above the test binaries with scenes/validation.
-            var dir = new DirectoryInfo(AppContext.BaseDirectory);
-            while (dir is not null && !Directory.Exists(Path.Combine(dir.FullName, "scenes", "validation")))
-            {
-                dir = dir.Parent;
-            }
-
-            return dir is null ? throw new DirectoryNotFoundException("scenes/validation not found above " + AppContext.BaseDirectory) : Path.Combine(dir.FullName, "scenes", "validation");
-        }
-    }
+    private static string Folder => Path.Combine(RepositoryPaths.Scenes, "validation");
 
     public static TheoryData<string> Scenes => new(Directory.GetFiles(Folder, "*.yaml").Select(Path.GetFileName).Order(StringComparer.Ordinal)!);
 

@@ -37,7 +37,7 @@ public sealed class ScipyQmcTests
             x = qmc.Sobol({{firstDim + dims}}, scramble=False).random({{n}})[:, {{firstDim}}:]
             print(" ".join(repr(float(v)) for v in x.ravel()))
             """;
-        double[] scipy = DebianPython.Numbers(DebianPython.Run(script));
+        double[] scipy = ReferenceTools.ParseNumbers(ReferenceTools.RunPython(script));
         double[] ours = Ours("sobol", n, dims, firstDim);
         Assert.Equal(n * dims, scipy.Length);
         for (int k = 0; k < n; k++)
@@ -61,7 +61,7 @@ public sealed class ScipyQmcTests
             x = qmc.Halton({{dims}}, scramble=False).random({{n}})
             print(" ".join(repr(float(v)) for v in x.ravel()))
             """;
-        double[] scipy = DebianPython.Numbers(DebianPython.Run(script));
+        double[] scipy = ReferenceTools.ParseNumbers(ReferenceTools.RunPython(script));
         double[] ours = Ours("halton", n, dims);
         Assert.Equal(ours.Length, scipy.Length);
         for (int i = 0; i < ours.Length; i++)
@@ -92,7 +92,7 @@ public sealed class ScipyQmcTests
             x = np.array([float(t) for t in sys.stdin.read().split()]).reshape({{n}}, {{dims}})
             print(repr(float(qmc.discrepancy(x, method="L2-star"))))
             """;
-        double scipy = DebianPython.Numbers(DebianPython.Run(script, DebianPython.Format(points)))[0];
+        double scipy = ReferenceTools.ParseNumbers(ReferenceTools.RunPython(script, ReferenceTools.FormatNumbers(points)))[0];
         double ours = Discrepancy.L2Star(points, dims);
         Assert.True(Math.Abs(scipy - ours) <= 1e-12 * Math.Abs(scipy) + 1e-15, $"scipy {scipy}, ours {ours}");
     }
@@ -110,7 +110,7 @@ public sealed class ScipyQmcTests
             x = np.array([float(t) for t in sys.stdin.read().split()]).reshape({{n}}, {{dims}})
             print(repr(float(qmc.discrepancy(x, method="L2-star"))))
             """;
-        double scipy = DebianPython.Numbers(DebianPython.Run(script, DebianPython.Format(points)))[0];
+        double scipy = ReferenceTools.ParseNumbers(ReferenceTools.RunPython(script, ReferenceTools.FormatNumbers(points)))[0];
         Assert.Equal(scipy, Discrepancy.L2Star(points, dims), 12);
     }
 }

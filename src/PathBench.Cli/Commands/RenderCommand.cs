@@ -7,6 +7,7 @@ using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
 using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
+using Spectre.Console;
 
 namespace PathBench.Cli.Commands;
 
@@ -81,7 +82,7 @@ internal static class RenderCommand
                 !parse.GetValue(noRoulette));
 
             Scene scene = Scene.Build(description);
-            RenderResult result = Renderer.Render(new RenderJob(scene, sampler, options, 0, n, t), Progress(io));
+            RenderResult result = RenderWithProgress(io, new RenderJob(scene, sampler, options, 0, n, t));
             var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
             WriteImage(outPath, format, image);
             string sidecar = Path.ChangeExtension(outPath, ".json");
@@ -173,31 +174,35 @@ internal static class RenderCommand
         }
     }
 
-    /// <summary>Tile progress on stderr when it is a terminal; nothing when redirected (logs stay clean).</summary>
-    private static Action<int, int>? Progress(CliIo io)
+    /// <summary>
+    /// Renders with a Spectre.Console progress bar on stderr when stderr is the process's own
+    /// terminal; silently when it is redirected (logs, CI) or when a test supplies its own writers.
+    /// </summary>
+    private static RenderResult RenderWithProgress(CliIo io, RenderJob job)
     {
         if (Console.IsErrorRedirected || !ReferenceEquals(io.Error, Console.Error))
         {
-            return null;
+            return Renderer.Render(job);
         }
 
-        object gate = new();
-        int lastPercent = -1;
-        return (done, total) =>
-        {
-            int percent = (int)(100L * done / total);
-            lock (gate)
+        IAnsiConsole console = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) });
+        RenderResult? result = null;
+        console.Progress()
+            .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
+            .Start(ctx =>
             {
-                if (percent > lastPercent)
+                ProgressTask task = ctx.AddTask("rendering", maxValue: 1);
+                object gate = new();
+                // The display is not thread-safe: tiles finish on several threads, so updates take a lock.
+                result = Renderer.Render(job, (done, total) =>
                 {
-                    lastPercent = percent;
-                    io.Error.Write(string.Create(CultureInfo.InvariantCulture, $"\rrendering {percent,3}%"));
-                    if (done == total)
+                    lock (gate)
                     {
-                        io.Error.WriteLine();
+                        task.MaxValue = total;
+                        task.Value = Math.Max(task.Value, done);
                     }
-                }
-            }
-        };
+                });
+            });
+        return result!;
     }
 }

@@ -87,6 +87,11 @@ public sealed class Scene
             }
         }
 
+        if (prims.Count == 0)
+        {
+            throw new SceneException($"{d.SourcePath}: no shape has a nonzero area (every mesh triangle is degenerate), so there is nothing to render");
+        }
+
         return Build(prims.ToArray(), materials, normals.ToArray(), Camera.From(d.Camera), d.EnvironmentRadiance);
     }
 

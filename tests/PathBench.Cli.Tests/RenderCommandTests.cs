@@ -98,4 +98,50 @@ public sealed class RenderCommandTests
             Assert.NotEmpty(d.Shapes);
         }
     }
+
+    [Fact]
+    public void Unwritable_outputs_are_refused_before_rendering()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("s.yaml"), Scene);
+        (int code, _, string err) = Run("render", dir.File("s.yaml"), "--out", dir.File("missing/o.exr"));
+        Assert.Equal(2, code);
+        Assert.Contains("does not exist", err, StringComparison.Ordinal);
+        Directory.CreateDirectory(dir.File("o.json")); // the sidecar's path is taken by a folder
+        (code, _, err) = Run("render", dir.File("s.yaml"), "--out", dir.File("o.exr"));
+        Assert.Equal(2, code);
+        Assert.Contains("o.json: is a folder", err, StringComparison.Ordinal);
+        Assert.False(File.Exists(dir.File("o.exr")));
+    }
+
+    [Fact]
+    public void A_scene_of_only_degenerate_triangles_is_a_clean_error()
+    {
+        using var dir = new TempFolder();
+        dir.Write("flat.obj", "v 0 0 0\nv 1 0 0\nv 2 0 0\nf 1 2 3\n");
+        File.WriteAllText(dir.File("s.yaml"), """
+            camera: { position: [0, 1, 3], look_at: [0, 0, 0], fov: 40, resolution: [4, 4] }
+            materials: { m: { type: diffuse, albedo: [0.5, 0.5, 0.5] } }
+            shapes: [ { type: mesh, file: flat.obj, material: m } ]
+            """);
+        (int code, _, string err) = Run("render", dir.File("s.yaml"), "--out", dir.File("o.pfm"));
+        Assert.Equal(2, code);
+        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        Assert.Contains("nonzero area", err, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_deterministic_set_is_rendered_with_a_note_and_marked_biased()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("s.yaml"), Scene);
+        (int code, _, string err) = Run("render", dir.File("s.yaml"), "--randomize", "none", "--out", dir.File("o.pfm"));
+        Assert.Equal(0, code);
+        Assert.Contains("deterministic quadrature", err, StringComparison.Ordinal);
+        using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("o.json")));
+        Assert.False(doc.RootElement.GetProperty("unbiased").GetBoolean());
+        Assert.Equal(0, Run("render", dir.File("s.yaml"), "--out", dir.File("p.pfm")).Code);
+        using JsonDocument owen = JsonDocument.Parse(File.ReadAllText(dir.File("p.json")));
+        Assert.True(owen.RootElement.GetProperty("unbiased").GetBoolean());
+    }
 }

@@ -52,6 +52,10 @@ internal static class RenderCommand
                 throw new CliUsageException(e.Message, e);
             }
 
+            string sidecar = Path.ChangeExtension(outPath, ".json");
+            // Check the outputs can be written before spending the render on them.
+            RequireWritable(outPath);
+            RequireWritable(sidecar);
             int n = parse.GetValue(spp) ?? description.Render.Spp;
             int depth = parse.GetValue(maxDepth) ?? description.Render.MaxDepth;
             int t = parse.GetValue(threads);
@@ -64,15 +68,22 @@ internal static class RenderCommand
             (Randomization kind, bool antithetic) = ParseRandomization(parse.GetValue(randomize)!);
             var spec = new SamplerSpec(parse.GetValue(generator)!, kind, antithetic, n, parse.GetValue(seed));
             PointSampler sampler;
+            GeneratorInfo info;
             try
             {
                 // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
-                GeneratorInfo info = SamplerCatalog.Find(spec.Generator);
+                info = SamplerCatalog.Find(spec.Generator);
                 sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
             }
             catch (SamplerSpecException e)
             {
                 throw new CliUsageException(e.Message, e);
+            }
+
+            bool unbiased = info.IsRandomized(kind);
+            if (!unbiased)
+            {
+                io.Error.WriteLine($"pathbench: note: {spec.Generator} with --randomize none is a deterministic quadrature (the same points in every pixel), not an unbiased estimate; add a randomization for that");
             }
 
             var options = new PathTracerOptions(
@@ -81,14 +92,20 @@ internal static class RenderCommand
                 depth,
                 !parse.GetValue(noRoulette));
 
-            Scene scene = Scene.Build(description);
+            Scene scene;
+            try
+            {
+                scene = Scene.Build(description);
+            }
+            catch (SceneException e)
+            {
+                throw new CliUsageException(e.Message, e);
+            }
+
             RenderResult result = RenderWithProgress(io, new RenderJob(scene, sampler, options, 0, n, t));
             var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
             WriteImage(outPath, format, image);
-            string sidecar = Path.ChangeExtension(outPath, ".json");
-            using (var writer = new StreamWriter(sidecar))
-            {
-                JsonOutput.Write(writer, w =>
+            WriteSidecar(sidecar, w =>
                 {
                     w.WriteStartObject();
                     w.WriteString("version", Version);
@@ -113,9 +130,9 @@ internal static class RenderCommand
                     w.WriteNumber("out_of_range_samples", result.Film.OutOfRangeSamples);
                     w.WriteNumber("dimensions_per_path", DimensionLayout.Total(depth));
                     w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
+                    w.WriteBoolean("unbiased", unbiased);
                     w.WriteEndObject();
                 });
-            }
 
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {n} spp, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples"));
@@ -136,6 +153,52 @@ internal static class RenderCommand
         catch (SamplerSpecException e)
         {
             throw new CliUsageException(e.Message, e);
+        }
+    }
+
+    private static void RequireWritable(string path)
+    {
+        string full = Path.GetFullPath(path);
+        if (Directory.Exists(full))
+        {
+            throw new CliUsageException($"{path}: is a folder, not a file to write");
+        }
+
+        string? folder = Path.GetDirectoryName(full);
+        if (folder is null || !Directory.Exists(folder))
+        {
+            throw new CliUsageException($"{path}: cannot write: the folder {folder} does not exist");
+        }
+
+        try
+        {
+            // Opening for append creates nothing new to lose and leaves an existing file as it is.
+            bool existed = File.Exists(full);
+            using (new FileStream(full, FileMode.Append, FileAccess.Write))
+            {
+            }
+
+            if (!existed)
+            {
+                File.Delete(full);
+            }
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
+        }
+    }
+
+    private static void WriteSidecar(string path, Action<System.Text.Json.Utf8JsonWriter> body)
+    {
+        try
+        {
+            using var writer = new StreamWriter(path);
+            JsonOutput.Write(writer, body);
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
         }
     }
 

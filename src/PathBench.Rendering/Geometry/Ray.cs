@@ -38,7 +38,19 @@ public static class RayOffset
     /// </summary>
     public static Vec3d Offset(Vec3d p, Vec3d n, Vec3d direction)
     {
-        double scale = 1e-9 * (1 + Math.Max(Math.Abs(p.X), Math.Max(Math.Abs(p.Y), Math.Abs(p.Z))));
+        double scale = Scale(p);
         return Vec3d.Dot(n, direction) >= 0 ? p + n * scale : p - n * scale;
     }
+
+    /// <summary>The offset distance used at <paramref name="p"/>: 1e-9 · (1 + max |coordinate|).</summary>
+    public static double Scale(Vec3d p) => 1e-9 * (1 + Math.Max(Math.Abs(p.X), Math.Max(Math.Abs(p.Y), Math.Abs(p.Z))));
+
+    /// <summary>
+    /// The largest ray parameter a shadow ray from <paramref name="from"/> (already offset) may test
+    /// against a light point <paramref name="distance"/> away, <paramref name="to"/>: short of the
+    /// light's own surface by more than both points' offsets and their rounding, so the light does
+    /// not shadow itself at any scale.
+    /// </summary>
+    public static double ShadowLimit(Vec3d from, Vec3d to, double distance) =>
+        distance - 4 * (Scale(from) + Scale(to)) - 1e-9 * distance;
 }

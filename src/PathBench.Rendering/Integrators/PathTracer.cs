@@ -25,8 +25,10 @@ public sealed record PathTracerOptions(HemisphereStrategy Hemisphere, LightStrat
 /// <summary>
 /// The fixed dimension layout of one path sample. A generator's consecutive dimensions then
 /// mean the same thing in every path: 0–1 the position in the pixel, 2–3 the lens, and per
-/// path vertex k (0-based) seven dimensions from 4 + 7k: direction (2), lobe choice (1),
-/// light choice (1), position on the light (2), Russian roulette (1).
+/// path vertex k (0-based) eight dimensions from 4 + 8k: direction (2), position on the light
+/// (2), lobe choice, light choice, Russian roulette, and one unused. Eight keeps every 2-D
+/// quantity on an even-aligned pair (2j, 2j+1), which pair-padded generators (jittered,
+/// multi-jittered) stratify together; with an odd stride every other vertex would straddle two pairs.
 /// </summary>
 public static class DimensionLayout
 {
@@ -40,19 +42,19 @@ public static class DimensionLayout
     public const int FirstVertex = 4;
 
     /// <summary>Dimensions per path vertex.</summary>
-    public const int PerVertex = 7;
+    public const int PerVertex = 8;
 
     /// <summary>Offset of the direction pair within a vertex.</summary>
     public const int Direction = 0;
 
+    /// <summary>Offset of the light position pair within a vertex.</summary>
+    public const int LightPosition = 2;
+
     /// <summary>Offset of the lobe choice within a vertex.</summary>
-    public const int Lobe = 2;
+    public const int Lobe = 4;
 
     /// <summary>Offset of the light choice within a vertex.</summary>
-    public const int LightChoice = 3;
-
-    /// <summary>Offset of the light position pair within a vertex.</summary>
-    public const int LightPosition = 4;
+    public const int LightChoice = 5;
 
     /// <summary>Offset of the roulette decision within a vertex.</summary>
     public const int Roulette = 6;
@@ -147,7 +149,9 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
                 break;
             }
 
-            Vec3d ns = ShadingNormal(prim, hit);
+            // A dielectric tells entering from leaving by its normal: the geometric one, since an
+            // interpolated normal can put the viewer on the wrong side near silhouettes.
+            Vec3d ns = m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : ShadingNormal(prim, hit);
             var frame = new ShadingFrame(ns);
             Vec3d woLocal = frame.ToLocal(wo);
             Rgb albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
@@ -167,7 +171,9 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
                     {
                         rays++;
                         var shadow = new Ray(RayOffset.Offset(hit.Point, hit.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
-                        double tMax = double.IsPositiveInfinity(ls.Distance) ? double.PositiveInfinity : ls.Distance * (1 - 1e-7);
+                        double tMax = double.IsPositiveInfinity(ls.Distance)
+                            ? double.PositiveInfinity
+                            : RayOffset.ShadowLimit(hit.Point, hit.Point + ls.Direction * ls.Distance, ls.Distance);
                         if (!scene.Bvh.Occluded(shadow, tMax))
                         {
                             double w = options.Lights == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;

@@ -43,8 +43,14 @@ internal sealed class YamlNodeReader(string sourcePath)
         // NaN, Infinity and overflowing literals such as 1e999 (which parse to infinity) end here.
         if (!double.IsFinite(value))
             throw Error(node, $"{what} must be a finite number, got '{Shown(text)}'");
+        // Squares of lengths (sphere radii, distances) must stay finite in double.
+        if (Math.Abs(value) > MaxMagnitude)
+            throw Error(node, $"{what} must be at most 1e100 in magnitude, got '{Shown(text)}'");
         return value;
     }
+
+    /// <summary>The largest magnitude any number in a scene may have: its square and products of two stay far from overflow.</summary>
+    public const double MaxMagnitude = 1e100;
 
     /// <summary>A whole number written as digits (64, not 64.0 or 6.4e1), within [min, max].</summary>
     public int Integer(YamlNode node, string what, long min, long max)

@@ -23,8 +23,9 @@ public sealed class JitteredSampler : PointSampler
     {
         uint cell = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1)));
         double jitter = SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension);
-        return (dimension & 1) == 0
+        double x = (dimension & 1) == 0
             ? (cell % (uint)_grid.Columns + jitter) / _grid.Columns
             : (cell / (uint)_grid.Columns + jitter) / _grid.Rows;
+        return UnitInterval.Clamp(x);
     }
 }

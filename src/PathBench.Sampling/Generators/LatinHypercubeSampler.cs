@@ -16,6 +16,6 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
-        return (stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count;
+        return UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
     }
 }

@@ -48,6 +48,6 @@ public sealed class MultiJitteredSampler : PointSampler
         double jy = SampleHash.Uniform(pixel ^ Salts.Jitter, s, 2 * pair + 1);
         double x = (column + (sy + jx) / n) / m;
         double y = (row + (sx + jy) / m) / n;
-        return (x, y);
+        return (UnitInterval.Clamp(x), UnitInterval.Clamp(y));
     }
 }

@@ -8,7 +8,18 @@ public sealed record GeneratorInfo(
     int MaxDimensions,
     IReadOnlyList<Randomization> Randomizations,
     string WhyOthersRefused,
-    Func<SamplerSpec, PointSampler> Create);
+    Func<SamplerSpec, PointSampler> Create)
+{
+    /// <summary>True for generators whose points are random with no randomization on top (random, jittered, Latin hypercube, multi-jittered).</summary>
+    public bool RandomByConstruction => Randomizations.Count == 1 && Randomizations[0] == Randomization.None;
+
+    /// <summary>
+    /// True when the sampler built with <paramref name="randomize"/> gives random points, so that a
+    /// render with it is an unbiased estimate; false for a deterministic set (the same points in
+    /// every pixel: a quadrature rule, biased at any finite count).
+    /// </summary>
+    public bool IsRandomized(Randomization randomize) => RandomByConstruction || randomize != Randomization.None;
+}
 
 /// <summary>Raised when a sampler cannot be built from what was asked; the message is one line for the user.</summary>
 public sealed class SamplerSpecException : Exception

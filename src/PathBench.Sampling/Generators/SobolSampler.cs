@@ -114,8 +114,6 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 /// </summary>
 public sealed class AntitheticSampler(SamplerSpec spec, PointSampler inner) : PointSampler(spec)
 {
-    // 1 − x for x = 0 would be 1, outside [0, 1); the largest double below 1 stands in.
-    private static readonly double BelowOne = Math.BitDecrement(1.0);
 
     /// <inheritdoc/>
     public override int MaxDimensions => inner.MaxDimensions;
@@ -127,6 +125,7 @@ public sealed class AntitheticSampler(SamplerSpec spec, PointSampler inner) : Po
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         double x = inner.Sample(pixel, index >> 1, dimension);
-        return (index & 1) == 0 ? x : Math.Min(1.0 - x, BelowOne);
+        // 1 − x for x = 0 would be 1, outside [0, 1): the clamp keeps the interval half-open.
+        return (index & 1) == 0 ? x : UnitInterval.Clamp(1.0 - x);
     }
 }

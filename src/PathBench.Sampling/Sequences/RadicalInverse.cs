@@ -44,12 +44,14 @@ public static class RadicalInverse
     }
 
     /// <summary>
-    /// The radical inverse with digit position k mapped through its own permutation
-    /// chosen by hashing (<paramref name="key"/>, k). The zeros above the index's leading
-    /// digit are permuted too: each becomes an independent uniform digit, so together they
-    /// form a uniform number on [0, b^−len) that depends only on (key, len). It is drawn in
-    /// one step from a hash of (key, len): exact in distribution, and len digits of work
-    /// instead of ~53 bits' worth.
+    /// The radical inverse with digit position k mapped through its own permutation π_k
+    /// chosen by hashing (<paramref name="key"/>, k). The zeros above the index's leading digit
+    /// go through their positions' permutations too: π_k(0) at position k is tied to π_k(d) of
+    /// every longer index, and that tie is what keeps the first b^m points one per b^−m stratum.
+    /// So every position below <see cref="DigitsFor"/>(b) (the most digits a 32-bit index has) is
+    /// permuted; the positions beyond are zeros for every index, so together they are one
+    /// uniform number on [0, b^−K) shared by all points, drawn from one hash: exact in
+    /// distribution for the whole point set.
     /// </summary>
     [MethodImpl(InliningOptions.HotPath)]
     public static double Permuted(uint index, int b, ulong key)
@@ -66,8 +68,8 @@ public static class RadicalInverse
         double invBase = 1.0 / b;
         double weight = invBase;
         double sum = 0;
-        int k = 0;
-        for (; index != 0; k++)
+        int digits = DigitsFor(b);
+        for (int k = 0; k < digits; k++)
         {
             uint next = index / ub;
             uint digit = index - next * ub;
@@ -76,11 +78,23 @@ public static class RadicalInverse
             index = next;
         }
 
-        // weight is now b^-(len+1); the tail spans [0, b^-len).
-        sum += SampleHash.ToUnit(SampleHash.Combine(key, TailSalt + (ulong)k)) * weight * b;
+        // weight is now b^-(K+1); the shared tail spans [0, b^-K).
+        sum += SampleHash.ToUnit(SampleHash.Combine(key, TailSalt)) * weight * b;
 
         // Rounding can reach 1; keep the half-open interval.
-        return sum < 1.0 ? sum : Math.BitDecrement(1.0);
+        return UnitInterval.Clamp(sum);
+    }
+
+    /// <summary>The number of base-<paramref name="b"/> digits of the largest 32-bit index: ⌈32 / log₂ b⌉.</summary>
+    public static int DigitsFor(int b)
+    {
+        int k = 0;
+        for (ulong p = 1; p <= uint.MaxValue; p *= (ulong)b)
+        {
+            k++;
+        }
+
+        return k;
     }
 
     private const ulong TailSalt = 0x5441494C00000000UL;

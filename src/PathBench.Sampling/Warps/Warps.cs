@@ -12,11 +12,14 @@ public static class Warp
     private const double InvPi = 1.0 / Math.PI;
     private const double InvTwoPi = 0.5 / Math.PI;
 
-    /// <summary>Uniform over the unit hemisphere z ≥ 0: z = u, φ = 2πv.</summary>
+    /// <summary>
+    /// Uniform over the unit hemisphere z ≥ 0: z = 1 − u, φ = 2πv. (1 − u rather than u so that
+    /// u ∈ [0, 1) never gives the horizon, which a point set's first point, 0, would hit exactly.)
+    /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vec3d UniformHemisphere(double u, double v)
     {
-        double z = u;
+        double z = 1.0 - u;
         double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
         (double s, double c) = Math.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);

@@ -63,6 +63,29 @@ public sealed class AnalyticValidationTests
         { LightStrategy.Mis, HemisphereStrategy.Uniform },
     };
 
+    public static TheoryData<LightStrategy, double> FarFromTheOrigin => new()
+    {
+        { LightStrategy.Nee, 1e3 }, { LightStrategy.Mis, 1e3 }, { LightStrategy.Nee, 1e5 }, { LightStrategy.Mis, 1e5 },
+    };
+
+    [Theory]
+    [MemberData(nameof(FarFromTheOrigin))]
+    public void Light_sampling_works_far_from_the_origin(LightStrategy lights, double offset)
+    {
+        // The same disk configuration factor (Howell's catalog, F = R²/(R² + h²)), moved far from
+        // the origin and made small: a light must not shadow itself at any scale.
+        const double rho = 0.8, emission = 5, r = 0.05, h = 0.1;
+        double expected = rho * emission * r * r / (r * r + h * h);
+        var o = new PathBench.Sampling.Warps.Vec3d(offset, -offset / 2, offset / 3);
+        var scene = Scene.Build(
+            [Primitive.Disk(o + new PathBench.Sampling.Warps.Vec3d(0, 0, h), new(0, 0, -1), r, 1), Primitive.Quad(o + new PathBench.Sampling.Warps.Vec3d(-1, -1, 0), new(2, 0, 0), new(0, 2, 0), 0)],
+            [Material.Diffuse("floor", Rgb.Grey(rho)), Material.Diffuse("lamp", Rgb.Black, Rgb.Grey(emission))],
+            [], new Camera(o + new PathBench.Sampling.Warps.Vec3d(0, 0, 0.05), o, new(0, 1, 0), 0.5, 2, 2), Rgb.Black);
+        var options = new PathTracerOptions(HemisphereStrategy.Cosine, lights, 1, RussianRoulette: false);
+        var estimate = Replicated(seed => Render(scene, "sobol", "owen", 256, seed, options), K);
+        AssertWithin(estimate, expected, Z, 1e-3 * expected, $"disk at {offset:E0} {lights}");
+    }
+
     [Theory]
     [MemberData(nameof(Strategies))]
     public void Point_on_the_axis_of_a_parallel_disk_sees_rho_L_F(LightStrategy lights, HemisphereStrategy hemisphere)

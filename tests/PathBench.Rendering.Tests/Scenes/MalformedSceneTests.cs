@@ -280,8 +280,13 @@ public sealed class MalformedSceneTests(CorpusMeshes meshes) : IClassFixture<Cor
             "the rotation of shape 1 (mesh) is missing required key 'degrees'", 3, 84),
         ["mesh_transform_key_typo"] = new(Scene(shapes: "[ { type: mesh, file: meshes/tri.obj, material: wall, transform: { rotation: { axis: [0, 1, 0], degrees: 30 } } } ]"),
             "unknown key 'rotation' in the transform of shape 1 (mesh); expected one of: translate, rotate, scale", 3, 76),
-        ["mesh_transform_overflow"] = new(Scene(shapes: "[ { type: mesh, file: meshes/tri.obj, material: wall, transform: { scale: 1e308, translate: [1e308, 0, 0] } } ]"),
-            "the transform of shape 1 (mesh) takes a vertex of 'meshes/tri.obj' to a non-finite position", 3, 74),
+        // Numbers above 1e100 are refused where they stand, before any transform could overflow.
+        ["mesh_transform_huge_number"] = new(Scene(shapes: "[ { type: mesh, file: meshes/tri.obj, material: wall, transform: { scale: 1e308, translate: [1e308, 0, 0] } } ]"),
+            "component 1 of 'translate' in the transform of shape 1 (mesh) must be at most 1e100 in magnitude, got '1e308'", 3, 102),
+        ["mesh_transform_overflow"] = new(Scene(shapes: "[ { type: mesh, file: meshes/huge.obj, material: wall, transform: { scale: 1e100 } } ]"),
+            "the transform of shape 1 (mesh) takes a vertex of 'meshes/huge.obj' to a non-finite position", 3, 75),
+        ["sphere_radius_huge"] = new(Scene(shapes: "[ { type: sphere, center: [0, 0, 0], radius: 1e200, material: wall } ]"),
+            "'radius' in shape 1 (sphere) must be at most 1e100 in magnitude, got '1e200'", 3, 54),
     };
 
     public static TheoryData<string> Names => new(Corpus.Keys);

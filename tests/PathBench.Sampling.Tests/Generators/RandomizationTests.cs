@@ -146,3 +146,34 @@ public sealed class RandomizationTests
         Assert.Equal(new StratumGrid(columns, rows), StratumGrid.For(n));
     }
 }
+
+/// <summary>
+/// Random digit permutations keep the radical inverse's stratification: the first b^m points
+/// of a base-b dimension fall one in each interval [j b^−m, (j+1) b^−m), for any permutations
+/// (each index below b^m has a distinct m-digit tuple, and permuting each digit position keeps
+/// the tuples distinct; Braaten &amp; Weller 1979; Owen 1995 §3 for the nested case).
+/// </summary>
+public sealed class DigitPermutationStratificationTests
+{
+    [Theory]
+    [InlineData(1, 3, 3)]   // dimension 1: base 3, 27 points
+    [InlineData(1, 3, 4)]   // 81 points
+    [InlineData(2, 5, 3)]   // base 5, 125 points
+    [InlineData(3, 7, 2)]   // base 7, 49 points
+    public void First_b_to_the_m_points_fill_every_stratum(int dimension, int b, int m)
+    {
+        int n = (int)Math.Pow(b, m);
+        for (ulong seed = 0; seed < 50; seed++)
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec("halton", Randomization.DigitPermutation, false, n, seed), dimension + 1);
+            ulong key = s.PixelKey((int)seed, 3);
+            var strata = new bool[n];
+            for (int i = 0; i < n; i++)
+            {
+                int j = (int)(s.Sample(key, (uint)i, dimension) * n);
+                Assert.False(strata[j], $"seed {seed}: stratum {j} of {n} hit twice");
+                strata[j] = true;
+            }
+        }
+    }
+}

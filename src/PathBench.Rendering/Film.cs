@@ -78,7 +78,12 @@ public sealed class Film
         return _count[i] == 0 ? 0 : (double)_sum[3 * i + c] / Scale / _count[i];
     }
 
-    /// <summary>The unbiased sample variance of pixel (x, y), channel c; 0 with fewer than two samples.</summary>
+    /// <summary>
+    /// The unbiased sample variance of pixel (x, y), channel c; 0 with fewer than two samples.
+    /// Squares are stored at the same 2^-32 resolution as values, so the variance of pixels
+    /// darker than about 1e-4 is dominated by that rounding: nothing reports it yet, and a finer
+    /// scale for the squares must come before anything does.
+    /// </summary>
     public double Variance(int x, int y, int c)
     {
         int i = y * Width + x;

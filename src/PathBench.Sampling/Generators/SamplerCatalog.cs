@@ -79,6 +79,27 @@ public static class SamplerCatalog
         throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Table.Select(t => t.Name))}");
     }
 
+    /// <summary>
+    /// Every meaningful generator × randomization, as the command line writes them (each also
+    /// with <c>+antithetic</c> when <paramref name="withAntithetic"/>), that gives random points:
+    /// the combinations whose estimates must be unbiased.
+    /// </summary>
+    public static IEnumerable<(string Generator, string Randomize)> RandomizedCombinations(bool withAntithetic)
+    {
+        foreach (GeneratorInfo g in Table)
+        {
+            foreach (Randomization r in g.Randomizations.Where(g.IsRandomized))
+            {
+                string name = RandomizationNames.NameOf(r);
+                yield return (g.Name, name);
+                if (withAntithetic)
+                {
+                    yield return (g.Name, r == Randomization.None ? RandomizationNames.Antithetic : name + "+" + RandomizationNames.Antithetic);
+                }
+            }
+        }
+    }
+
     /// <summary>Parses <c>none</c>, <c>owen</c>, <c>antithetic</c>, <c>owen+antithetic</c> and so on.</summary>
     public static (Randomization Kind, bool Antithetic) ParseRandomization(string text)
     {

@@ -1,6 +1,7 @@
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
+using PathBench.Sampling.Generators;
 using static PathBench.Rendering.Tests.Integrators.RenderFixtures;
 
 namespace PathBench.Rendering.Tests.Integrators;
@@ -16,21 +17,20 @@ public sealed class AnalyticValidationTests
     private const int K = 8;
     private const double Z = 4.5;
 
-    public static TheoryData<string, string> RandomizedGenerators => new()
+    // Every randomized combination the catalog knows, and Owen-scrambled Sobol with antithetic pairing.
+    public static TheoryData<string, string> RandomizedGenerators
     {
-        { "random", "none" },
-        { "random", "antithetic" },
-        { "jittered", "none" },
-        { "latin-hypercube", "none" },
-        { "multi-jittered", "none" },
-        { "halton", "cranley-patterson" },
-        { "halton", "digit-permutation" },
-        { "hammersley", "cranley-patterson" },
-        { "sobol", "cranley-patterson" },
-        { "sobol", "digital-shift" },
-        { "sobol", "owen" },
-        { "sobol", "owen+antithetic" },
-    };
+        get
+        {
+            var data = new TheoryData<string, string>();
+            foreach ((string generator, string randomize) in SamplerCatalog.RandomizedCombinations(withAntithetic: false).Append(("sobol", "owen+antithetic")))
+            {
+                data.Add(generator, randomize);
+            }
+
+            return data;
+        }
+    }
 
     [Theory]
     [InlineData("halton", "digit-permutation")]

@@ -14,6 +14,9 @@ public static class CliApp
     /// <summary>Exit code for bad arguments or unreadable input.</summary>
     public const int UsageExitCode = 2;
 
+    /// <summary>Exit code for an unexpected internal error.</summary>
+    public const int InternalErrorExitCode = 1;
+
     /// <summary>Runs <paramref name="args"/> and returns the exit code.</summary>
     public static int Run(string[] args, TextWriter stdout, TextWriter stderr)
     {
@@ -42,6 +45,13 @@ public static class CliApp
         {
             stderr.WriteLine($"pathbench: error: {e.Message}");
             return UsageExitCode;
+        }
+        catch (Exception e) when (e is not OutOfMemoryException)
+        {
+            // A bug or an input no check foresaw: say so in one line (the type names the place
+            // to look) and exit 1; nothing is written as if it had worked.
+            stderr.WriteLine($"pathbench: internal error: {e.GetType().Name}: {e.Message.ReplaceLineEndings(" ")}");
+            return InternalErrorExitCode;
         }
     }
 

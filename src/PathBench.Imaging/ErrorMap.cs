@@ -95,10 +95,11 @@ public static class ErrorMap
     public static void WriteHeatmap(string path, float[] errors, int width, int height, double top, string title)
     {
         ArgumentNullException.ThrowIfNull(errors);
-        int mag = Magnification(height);
+        int mag = Magnification(width, height, 1);
         int panelW = width * mag, panelH = height * mag;
         int canvasW = Margin + panelW + Margin + BarWidth + LabelWidth;
         int canvasH = TitleHeight + panelH + Margin;
+        RequireCanvas(path, canvasW, canvasH);
         using var bitmap = new SKBitmap(new SKImageInfo(canvasW, canvasH, SKColorType.Rgba8888, SKAlphaType.Opaque));
         using var canvas = new SKCanvas(bitmap);
         canvas.Clear(SKColors.White);
@@ -114,10 +115,12 @@ public static class ErrorMap
     {
         ArgumentNullException.ThrowIfNull(reference);
         ArgumentNullException.ThrowIfNull(test);
-        int mag = Magnification(region.Height);
+        int mag = Magnification(region.Width, region.Height, 3);
         int panelW = region.Width * mag, panelH = region.Height * mag;
-        int canvasW = Margin + (3 * (panelW + Margin)) + BarWidth + LabelWidth;
+        long canvasWide = Margin + (3L * (panelW + Margin)) + BarWidth + LabelWidth;
         int canvasH = TitleHeight + panelH + Margin;
+        RequireCanvas(path, canvasWide, canvasH);
+        int canvasW = (int)canvasWide;
         using var bitmap = new SKBitmap(new SKImageInfo(canvasW, canvasH, SKColorType.Rgba8888, SKAlphaType.Opaque));
         using var canvas = new SKCanvas(bitmap);
         canvas.Clear(SKColors.White);
@@ -154,7 +157,26 @@ public static class ErrorMap
         return labels;
     }
 
-    private static int Magnification(int height) => Math.Clamp((MinPanelHeight + height - 1) / height, 1, 16);
+    // Small images are enlarged so they can be seen (up to 16×), by their height, but never
+    // so much that the panels grow wider than MaxCanvasSide.
+    private static int Magnification(int width, int height, int panels) =>
+        Math.Clamp(Math.Min((MinPanelHeight + height - 1) / height, MaxCanvasSide / Math.Max(1, panels * width)), 1, 16);
+
+    /// <summary>The widest canvas an error map is drawn on before enlargement stops.</summary>
+    private const int MaxCanvasSide = 8192;
+
+    /// <summary>The most pixels an error-map canvas may have (1 GiB of RGBA).</summary>
+    private const long MaxCanvasPixels = 1L << 28;
+
+    private static void RequireCanvas(string path, long width, long height)
+    {
+        PngCodec.RequireEncodable(path, width, height);
+        if (width * height > MaxCanvasPixels)
+        {
+            throw new ImageFileException(path, FormattableString.Invariant(
+                $"a {width}x{height} error map is more than {MaxCanvasPixels} pixels; pass --roi to map a smaller region"));
+        }
+    }
 
     private static SKBitmap HeatBitmap(float[] errors, int width, int height, double top)
     {

@@ -72,14 +72,25 @@ public static class ImageFile
     /// <summary>Opens a file for reading, turning I/O failures into a one-line <see cref="ImageFileException"/>.</summary>
     public static FileStream OpenRead(string path)
     {
+        FileStream stream;
         try
         {
-            return new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16);
+            stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16);
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException or NotSupportedException)
         {
             throw new ImageFileException(path, $"cannot open: {e.Message}", e);
         }
+
+        // The readers check the header against the file's length and seek to chunks: a pipe or
+        // a device has neither, so it is refused here rather than half-read.
+        if (!stream.CanSeek)
+        {
+            stream.Dispose();
+            throw new ImageFileException(path, "not a regular file (a pipe or device cannot be read; save it to a file first)");
+        }
+
+        return stream;
     }
 
     /// <summary>Creates (or truncates) a file for writing, turning I/O failures into a one-line <see cref="ImageFileException"/>.</summary>

@@ -64,12 +64,25 @@ public static class PfmCodec
             throw new ImageFileException(fileName, "PFM scale is not followed by a whitespace byte");
         }
 
+        // A writer in Windows text mode ends header lines with CR LF. The LF is then part of the
+        // separator, not the first pixel byte, exactly when the file is one byte longer than the
+        // pixels need: then it is skipped, with a note.
+        bool crlf = header[pos] == (byte)'\r' && pos + 1 < header.Length && header[pos + 1] == (byte)'\n';
         pos++;
         limits.Check(fileName, width, height, channels);
 
         bool littleEndian = scale < 0;
-        long dataStart = start + pos;
         long expected = width * height * channels * sizeof(float);
+        if (crlf && length - (start + pos) == expected + 1)
+        {
+            pos++;
+        }
+        else
+        {
+            crlf = false;
+        }
+
+        long dataStart = start + pos;
         long available = length - dataStart;
         if (available < expected)
         {
@@ -80,6 +93,11 @@ public static class PfmCodec
         }
 
         var notes = new List<string>();
+        if (crlf)
+        {
+            notes.Add("header lines end in CR LF; the LF after the scale was taken as part of the header");
+        }
+
         if (available > expected)
         {
             notes.Add(FormattableString.Invariant($"{available - expected} bytes after the pixel data ignored"));

@@ -96,4 +96,20 @@ public sealed class PfmTests
         byte[] bytes = stream.ToArray();
         Assert.Equal(42f, BinaryPrimitives.ReadSingleLittleEndian(bytes.AsSpan("PF\n1 2\n-1.0\n".Length)));
     }
+
+    [Fact]
+    public void A_header_with_crlf_line_ends_is_read_with_a_note()
+    {
+        // A writer in Windows text mode: "PF\r\n2 1\r\n-1.0\r\n" then 2·1·3 little-endian floats.
+        float[] values = [0.5f, 1.5f, -2f, 3.25f, 0f, 8f];
+        var bytes = new List<byte>(System.Text.Encoding.ASCII.GetBytes("PF\r\n2 1\r\n-1.0\r\n"));
+        foreach (float v in values)
+        {
+            bytes.AddRange(BitConverter.GetBytes(v));
+        }
+
+        ImageReadResult r = PfmCodec.Read(new MemoryStream(bytes.ToArray()), "crlf.pfm");
+        Assert.Equal(values, r.Image.Data);
+        Assert.Contains(r.Notes, n => n.Contains("CR LF", StringComparison.Ordinal));
+    }
 }

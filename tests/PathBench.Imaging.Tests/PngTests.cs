@@ -98,4 +98,15 @@ public sealed class PngTests
         byte[] codes = r.Stdout.Split(' ', StringSplitOptions.RemoveEmptyEntries).Select(v => byte.Parse(v, CultureInfo.InvariantCulture)).ToArray();
         Assert.Equal(image.Data.Select(v => Srgb.EncodeToByte(v)).ToArray(), codes);
     }
+
+    [Fact]
+    public void An_image_wider_than_the_encoder_allows_is_refused_before_writing()
+    {
+        using var dir = new TempFolder();
+        var image = new RgbImage(PngCodec.MaxSide + 1, 1);
+        string path = dir.File("wide.png");
+        var e = Assert.Throws<ImageFileException>(() => PngCodec.Write(path, image));
+        Assert.Contains("beyond the encoder's limit", e.Message, StringComparison.Ordinal);
+        Assert.False(File.Exists(path));
+    }
 }

@@ -109,19 +109,17 @@ internal static class CompareCommand
                 string title = kind == ErrorMapKind.Relative
                     ? FormattableString.Invariant($"relative error |x-r|/sqrt(r²+{eps:G3})")
                     : "absolute error |x-r|";
-                ImageIo.Guard(heatmapPath ?? stripPath!, () =>
+                if (heatmapPath is not null)
                 {
-                    if (heatmapPath is not null)
-                    {
-                        ErrorMap.WriteHeatmap(heatmapPath, errors, report.Width, report.Height, top, title);
-                    }
+                    ImageIo.Guard(heatmapPath, () => ErrorMap.WriteHeatmap(heatmapPath, errors, report.Width, report.Height, top, title));
+                }
 
-                    if (stripPath is not null)
-                    {
-                        var display = new DisplayTransform(stops, DisplayTransform.ParseCurve(parse.GetValue(tone)!));
-                        ErrorMap.WriteSideBySide(stripPath, r.Image, t.Image, report.Region, errors, top, display, kind == ErrorMapKind.Relative ? "relative error" : "absolute error");
-                    }
-                });
+                if (stripPath is not null)
+                {
+                    var display = new DisplayTransform(stops, DisplayTransform.ParseCurve(parse.GetValue(tone)!));
+                    ImageIo.Guard(stripPath, () => ErrorMap.WriteSideBySide(
+                        stripPath, r.Image, t.Image, report.Region, errors, top, display, kind == ErrorMapKind.Relative ? "relative error" : "absolute error"));
+                }
             }
 
             if (parse.GetValue(json))

@@ -50,14 +50,19 @@ internal readonly struct MeshTransform
                 n[3 * row + col] = r[3 * row + col] / scale[col];
             }
         }
-        return new MeshTransform(m, n, translate, scale.X * scale.Y * scale.Z < 0);
+        // Count the negative factors: the product of three tiny scales can underflow to −0.
+        int negatives = (scale.X < 0 ? 1 : 0) + (scale.Y < 0 ? 1 : 0) + (scale.Z < 0 ? 1 : 0);
+        return new MeshTransform(m, n, translate, negatives % 2 == 1);
     }
 
     /// <summary>Maps a point.</summary>
     public Vec3d Point(Vec3d p) => Apply(_m, p) + _translate;
 
     /// <summary>Maps a non-zero normal and renormalizes it.</summary>
-    public Vec3d Normal(Vec3d n) => Apply(_n, n).Normalized();
+    public Vec3d Normal(Vec3d n) => Unit(Apply(_n, n));
+
+    // Normalise after scaling by the largest component, so tiny or huge (finite) vectors do not under- or overflow.
+    private static Vec3d Unit(Vec3d v) => (v / Math.Max(Math.Abs(v.X), Math.Max(Math.Abs(v.Y), Math.Abs(v.Z)))).Normalized();
 
     private static Vec3d Apply(double[] a, Vec3d v) => new(
         a[0] * v.X + a[1] * v.Y + a[2] * v.Z,
@@ -67,7 +72,7 @@ internal readonly struct MeshTransform
     /// <summary>Rodrigues' rotation matrix R = cos θ·I + sin θ·[k]ₓ + (1 − cos θ)·k·kᵀ for the unit axis k.</summary>
     private static double[] Rotation(Vec3d axis, double degrees)
     {
-        Vec3d k = axis.Normalized();
+        Vec3d k = Unit(axis);
         (double s, double c) = SinCosDegrees(degrees);
         double t = 1 - c;
         return

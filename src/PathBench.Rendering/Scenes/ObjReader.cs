@@ -35,15 +35,78 @@ internal static class ObjReader
     /// <param name="maxVertices">The limit on each of v, vt, vn; only tests pass less than <see cref="MaxVertices"/>.</param>
     public static ObjMesh Read(TextReader text, string displayPath, int maxTriangles = MaxTriangles, int maxVertices = MaxVertices)
     {
+        ArgumentNullException.ThrowIfNull(text);
         var state = new ObjState(displayPath, maxTriangles, maxVertices);
-        string? line;
+        var lines = new BoundedLineReader(text, MaxLineLength);
         int lineNumber = 0;
-        while ((line = text.ReadLine()) is not null)
+        while (true)
         {
+            string? line;
+            try
+            {
+                line = lines.ReadLine();
+            }
+            catch (LineTooLongException)
+            {
+                throw new SceneException(FormattableString.Invariant($"{displayPath}:{lineNumber + 1}:1: line longer than {MaxLineLength} characters"));
+            }
+
+            if (line is null)
+                break;
             lineNumber++;
             state.Line(line, lineNumber);
         }
         return state.Finish();
+    }
+
+    /// <summary>Longest OBJ line accepted, 1 MiB of characters: a file with no line breaks (or a device) must not become one unbounded string.</summary>
+    public const int MaxLineLength = 1 << 20;
+
+    private sealed class LineTooLongException : Exception;
+
+    /// <summary>ReadLine with a cap on the line length, reading in blocks.</summary>
+    private sealed class BoundedLineReader(TextReader text, int maxLength)
+    {
+        private readonly char[] _buffer = new char[1 << 16];
+        private readonly System.Text.StringBuilder _line = new();
+        private int _position, _count;
+
+        public string? ReadLine()
+        {
+            _line.Clear();
+            bool any = false;
+            while (true)
+            {
+                if (_position == _count)
+                {
+                    _count = text.Read(_buffer, 0, _buffer.Length);
+                    _position = 0;
+                    if (_count == 0)
+                        return any ? Finish() : null;
+                }
+
+                any = true;
+                int start = _position;
+                while (_position < _count && _buffer[_position] != '\n')
+                    _position++;
+                _line.Append(_buffer, start, _position - start);
+                if (_line.Length > maxLength)
+                    throw new LineTooLongException();
+                if (_position < _count)
+                {
+                    _position++; // the '\n'
+                    return Finish();
+                }
+            }
+        }
+
+        private string Finish()
+        {
+            // ReadLine semantics: "\r\n" and "\n" both end a line.
+            if (_line.Length > 0 && _line[^1] == '\r')
+                _line.Length--;
+            return _line.ToString();
+        }
     }
 
     private enum IndexKind { Position, TexCoord, Normal }
@@ -269,6 +332,9 @@ internal static class ObjReader
                     throw Error(line, column, $"{what} '{YamlNodeReader.Shown(text)}' is not a number");
                 if (!double.IsFinite(value))
                     throw Error(line, column, $"{what} '{YamlNodeReader.Shown(text)}' is not a finite number");
+                // The scene's own bound on numbers (squared lengths must stay finite).
+                if (Math.Abs(value) > YamlNodeReader.MaxMagnitude)
+                    throw Error(line, column, $"{what} '{YamlNodeReader.Shown(text)}' is above 1e100 in magnitude");
                 values[i - 1] = value;
             }
             return values;

@@ -180,6 +180,12 @@ public static class SceneLoader
         {
             throw reader.Error(e.Start, $"YAML syntax error: {OneLine(e.Message)}");
         }
+        catch (InvalidOperationException)
+        {
+            // YamlDotNet's scanner throws this on some unclosed flow collections ("[0, 1," then a
+            // plain scalar on the next line) instead of a YamlException with a position.
+            throw reader.Error(LastPosition(text), "YAML syntax error: an unclosed '[' or '{' (a missing ']' or '}')");
+        }
         if (documents == 0)
             throw reader.Error(1, 1, "the file is empty; a scene is a mapping with keys camera, materials and shapes");
 
@@ -197,10 +203,58 @@ public static class SceneLoader
         {
             throw reader.Error(e.Start, $"YAML syntax error: {OneLine(e.Message)}");
         }
+        catch (InvalidOperationException)
+        {
+            throw reader.Error(LastPosition(text), "YAML syntax error: an unclosed '[' or '{' (a missing ']' or '}')");
+        }
         return stream.Documents[0].RootNode;
     }
 
     private const string DuplicateKeyPrefix = "Duplicate key ";
+
+    /// <summary>
+    /// Where the scanner gave up when it reports no position: the last unclosed '[' or '{' before
+    /// the end, found by a plain bracket count that ignores quoted text and comments.
+    /// </summary>
+    private static Mark LastPosition(string text)
+    {
+        var open = new Stack<(int Line, int Column)>();
+        int line = 1, column = 1;
+        char quote = '\0';
+        bool comment = false;
+        foreach (char c in text)
+        {
+            if (c == '\n')
+            {
+                line++;
+                column = 1;
+                comment = false;
+                continue;
+            }
+
+            if (!comment)
+            {
+                if (quote != '\0')
+                {
+                    if (c == quote)
+                        quote = '\0';
+                }
+                else if (c is '"' or '\'')
+                    quote = c;
+                else if (c == '#')
+                    comment = true;
+                else if (c is '[' or '{')
+                    open.Push((line, column));
+                else if (c is ']' or '}' && open.Count > 0)
+                    open.Pop();
+            }
+
+            column++;
+        }
+
+        (int l, int col) = open.Count > 0 ? open.Peek() : (1, 1);
+        return new Mark(0, l, col);
+    }
 
     private static bool IsKey(Stack<(bool IsMapping, bool ExpectKey, string? Anchor)> open) =>
         open.Count > 0 && open.Peek() is { IsMapping: true, ExpectKey: true };
@@ -411,6 +465,9 @@ public static class SceneLoader
         Vec3d center = reader.Vector(s.Required("center"), s.Of("center"));
         Vec3d normal = NonZeroVector(reader, s, "normal");
         double radius = PositiveNumber(reader, s, "radius");
+        // Scale by the largest component before normalising: a tiny but valid normal such as
+        // [0, 1e-170, 0] would square to 0 and normalise to NaN.
+        normal /= Math.Max(Math.Abs(normal.X), Math.Max(Math.Abs(normal.Y), Math.Abs(normal.Z)));
         return new DiskShape(MaterialName(reader, s, materials), center, normal.Normalized(), radius);
     }
 

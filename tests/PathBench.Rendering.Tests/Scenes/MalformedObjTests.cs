@@ -36,6 +36,10 @@ public sealed class MalformedObjTests
         // 1e999 overflows IEEE 754 binary64 and parses to +∞.
         ["coordinate_infinite"] = new("v 0 0 0\nv 1e999 0 0\n", "coordinate '1e999' is not a finite number", 2, 3),
         ["coordinate_nan"] = new("v 0 0 0\nv NaN 0 0\n", "coordinate 'NaN' is not a finite number", 2, 3),
+        // The scene's bound on every number (squared lengths must stay finite in binary64).
+        ["coordinate_above_the_bound"] = new("v 0 0 0\nv 1e300 0 0\n", "coordinate '1e300' is above 1e100 in magnitude", 2, 3),
+        // A file without line breaks (or a device such as /dev/zero) must not become one unbounded string.
+        ["line_longer_than_the_limit"] = new("v 0 0 0\n#" + new string('x', 1 << 20) + "\n", "line longer than 1048576 characters", 2, 1),
         ["vertex_with_two_coordinates"] = new("v 0 0 0\nv 1 0\n", "'v' takes 3 coordinates (x y z), got 2", 2, 1),
         ["vertex_weight_not_one"] = new("v 0 0 0\nv 1 0 0 2\n", "vertex weight w = 2 is not supported (only w = 1)", 2, 9),
         ["unknown_statement"] = new(Cube + "l 1 2\n", "unsupported OBJ statement 'l' (read: v, vt, vn, f; ignored: o, g, s, usemtl, mtllib)", 9, 1),

@@ -39,6 +39,10 @@ public sealed class MalformedSceneTests(CorpusMeshes meshes) : IClassFixture<Cor
         // YAML 1.2.2: a flow sequence ends with ']' (from memory); position as YamlDotNet reports it
         ["unclosed_flow_sequence"] = new("camera: { position: [0, 1, 5\n",
             "YAML syntax error: While parsing a flow sequence, did not find expected ',' or ']'.", 2, 1),
+        // The same mistake followed by a plain scalar on the next line, where the YAML library's
+        // scanner fails without a position: reported at the '[' left open.
+        ["unclosed_flow_sequence_then_scalar"] = new("camera: [0, 1,\nfov: 3\n",
+            "YAML syntax error: an unclosed '[' or '{' (a missing ']' or '}')", 1, 9),
         // YAML 1.2.2: block mapping entries share one indentation (from memory); position as YamlDotNet reports it
         ["bad_indentation"] = new("camera:\n  fov: 40\n    up: [0, 1, 0]\n",
             "YAML syntax error: While scanning a plain scalar value, found invalid mapping.", 3, 7),
@@ -283,8 +287,6 @@ public sealed class MalformedSceneTests(CorpusMeshes meshes) : IClassFixture<Cor
         // Numbers above 1e100 are refused where they stand, before any transform could overflow.
         ["mesh_transform_huge_number"] = new(Scene(shapes: "[ { type: mesh, file: meshes/tri.obj, material: wall, transform: { scale: 1e308, translate: [1e308, 0, 0] } } ]"),
             "component 1 of 'translate' in the transform of shape 1 (mesh) must be at most 1e100 in magnitude, got '1e308'", 3, 102),
-        ["mesh_transform_overflow"] = new(Scene(shapes: "[ { type: mesh, file: meshes/huge.obj, material: wall, transform: { scale: 1e100 } } ]"),
-            "the transform of shape 1 (mesh) takes a vertex of 'meshes/huge.obj' to a non-finite position", 3, 75),
         ["sphere_radius_huge"] = new(Scene(shapes: "[ { type: sphere, center: [0, 0, 0], radius: 1e200, material: wall } ]"),
             "'radius' in shape 1 (sphere) must be at most 1e100 in magnitude, got '1e200'", 3, 54),
     };

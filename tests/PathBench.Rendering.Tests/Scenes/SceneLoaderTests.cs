@@ -100,6 +100,19 @@ public sealed class SceneLoaderTests
         Assert.Equal(new RenderSettings(64, 1), SceneLoader.Parse(Minimal + "render: { max_depth: 1 }\n", "r.yaml", ".").Render);
     }
 
+    [Fact]
+    public void A_tiny_but_valid_disk_normal_is_normalised()
+    {
+        // 1e-170 squared underflows to 0 in binary64; the direction is still exactly +Y.
+        const string text = """
+            camera: { position: [0, 1, 3], look_at: [0, 0, 0], fov: 40, resolution: [4, 4] }
+            materials: { m: { type: diffuse, albedo: [0.5, 0.5, 0.5] } }
+            shapes: [ { type: disk, center: [0, 0, 0], normal: [0, 1e-170, 0], radius: 1, material: m } ]
+            """;
+        var disk = (DiskShape)SceneLoader.Parse(text, "d.yaml", ".").Shapes[0];
+        Assert.Equal(new PathBench.Sampling.Warps.Vec3d(0, 1, 0), disk.Normal);
+    }
+
     public static TheoryData<string, bool> Booleans => new()
     {
         // The YAML 1.2 core schema's boolean spellings (from memory).

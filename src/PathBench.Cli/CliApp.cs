@@ -1,5 +1,7 @@
 using System.CommandLine;
 using PathBench.Cli.Commands;
+using PathBench.Imaging;
+using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
 
 namespace PathBench.Cli;
@@ -41,8 +43,10 @@ public static class CliApp
             stderr.WriteLine($"pathbench: error: {e.Message}");
             return UsageExitCode;
         }
-        catch (SamplerSpecException e)
+        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException)
         {
+            // The libraries' bad-input exceptions already carry the one line to print
+            // (file, position, what was wrong); mapped to exit 2 here, once, for every command.
             stderr.WriteLine($"pathbench: error: {e.Message}");
             return UsageExitCode;
         }

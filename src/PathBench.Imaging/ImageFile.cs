@@ -34,6 +34,28 @@ public static class ImageFile
         };
     }
 
+    /// <summary>
+    /// Writes <paramref name="image"/> in the format its extension names: EXR with
+    /// <paramref name="exr"/> (default: FLOAT, ZIP), PFM, or PNG through <paramref name="display"/>
+    /// (default: no exposure, clamp).
+    /// </summary>
+    /// <exception cref="ImageFileException">Unknown extension, or a file that cannot be created.</exception>
+    public static void Write(string path, RgbImage image, ExrWriteOptions? exr = null, DisplayTransform? display = null)
+    {
+        switch (FormatFromExtension(path))
+        {
+            case ImageFormat.Pfm:
+                PfmCodec.Write(path, image);
+                break;
+            case ImageFormat.Exr:
+                ExrCodec.Write(path, image, exr);
+                break;
+            default:
+                PngCodec.Write(path, image, display);
+                break;
+        }
+    }
+
     /// <summary>The format whose magic the bytes start with, or null.</summary>
     public static ImageFormat? Sniff(ReadOnlySpan<byte> start)
     {

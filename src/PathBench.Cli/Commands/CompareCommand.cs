@@ -84,8 +84,8 @@ internal static class CompareCommand
                 }
             }
 
-            ImageReadResult r = ImageIo.Read(refPath);
-            ImageReadResult t = ImageIo.Read(testPath);
+            ImageReadResult r = ImageFile.Read(refPath);
+            ImageReadResult t = ImageFile.Read(testPath);
             var options = new ComparisonOptions { Epsilon = eps, DataRange = range, Region = region };
             ComparisonReport report;
             try
@@ -254,29 +254,14 @@ internal static class CompareCommand
 /// <summary>Image reading and writing for the commands: library errors become one-line usage errors.</summary>
 internal static class ImageIo
 {
-    public static ImageReadResult Read(string path)
-    {
-        try
-        {
-            return ImageFile.Read(path);
-        }
-        catch (ImageFileException e)
-        {
-            throw new CliUsageException(e.Message, e);
-        }
-    }
-
+    /// <summary>Runs a write; an I/O failure without a file name of its own is reported with <paramref name="path"/>.</summary>
     public static void Guard(string path, Action write)
     {
         try
         {
             write();
         }
-        catch (ImageFileException e)
-        {
-            throw new CliUsageException(e.Message, e);
-        }
-        catch (IOException e)
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
             throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
         }

@@ -38,15 +38,7 @@ internal static class ConvertCommand
                 throw new CliUsageException("--exposure must be a finite number of stops");
             }
 
-            ImageFormat format;
-            try
-            {
-                format = ImageFile.FormatFromExtension(outPath);
-            }
-            catch (ImageFileException e)
-            {
-                throw new CliUsageException(e.Message, e);
-            }
+            ImageFormat format = ImageFile.FormatFromExtension(outPath);
 
             string? toneName = parse.GetValue(tone);
             if (toneName is not null && format != ImageFormat.Png)
@@ -59,7 +51,7 @@ internal static class ConvertCommand
                 throw new CliUsageException($"--half and --compression apply to OpenEXR output only; {outPath} is {format.ToString().ToUpperInvariant()}");
             }
 
-            ImageReadResult read = ImageIo.Read(inPath);
+            ImageReadResult read = ImageFile.Read(inPath);
             foreach (string note in read.Notes)
             {
                 io.Error.WriteLine($"pathbench: note: {inPath}: {note}");
@@ -77,27 +69,15 @@ internal static class ConvertCommand
                 }
             }
 
-            ImageIo.Guard(outPath, () =>
+            ExrCompression c = parse.GetValue(compression) switch
             {
-                switch (format)
-                {
-                    case ImageFormat.Pfm:
-                        PfmCodec.Write(outPath, image);
-                        break;
-                    case ImageFormat.Exr:
-                        ExrCompression c = parse.GetValue(compression) switch
-                        {
-                            "none" => ExrCompression.None,
-                            "zips" => ExrCompression.Zips,
-                            _ => ExrCompression.Zip,
-                        };
-                        ExrCodec.Write(outPath, image, new ExrWriteOptions(c, parse.GetValue(half) ? ExrPixelType.Half : ExrPixelType.Float));
-                        break;
-                    default:
-                        PngCodec.Write(outPath, image, new DisplayTransform(stops, DisplayTransform.ParseCurve(toneName ?? "clamp")));
-                        break;
-                }
-            });
+                "none" => ExrCompression.None,
+                "zips" => ExrCompression.Zips,
+                _ => ExrCompression.Zip,
+            };
+            var exrOptions = new ExrWriteOptions(c, parse.GetValue(half) ? ExrPixelType.Half : ExrPixelType.Float);
+            var display = new DisplayTransform(stops, DisplayTransform.ParseCurve(toneName ?? "clamp"));
+            ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image, exrOptions, display));
             io.Out.WriteLine(FormattableString.Invariant($"{inPath} ({read.Format}, {image.Width}x{image.Height}) -> {outPath}"));
             return 0;
         });

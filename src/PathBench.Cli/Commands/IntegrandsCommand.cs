@@ -40,15 +40,7 @@ internal static class IntegrandsCommand
             }
 
             SamplerSpec spec = sampler.Spec(parse, lo);
-            IReadOnlyList<IntegrandConvergence> results;
-            try
-            {
-                results = ConvergenceStudy.Run(spec.Generator, spec.Randomize, spec.Antithetic, lo, hi, k, spec.Seed, t);
-            }
-            catch (SamplerSpecException e)
-            {
-                throw new CliUsageException(e.Message, e);
-            }
+            IReadOnlyList<IntegrandConvergence> results = ConvergenceStudy.Run(spec.Generator, spec.Randomize, spec.Antithetic, lo, hi, k, spec.Seed, t);
 
             if (parse.GetValue(json))
             {

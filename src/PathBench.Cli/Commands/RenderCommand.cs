@@ -17,14 +17,12 @@ internal static class RenderCommand
     public static Command Create(CliIo io)
     {
         var scenePath = new Argument<string>("scene") { Description = "Scene file (YAML; see scenes/README.md)" };
+        var sampling = new SamplerOptions(defaultGenerator: "sobol", defaultRandomize: "owen");
         var spp = new Option<int?>("--spp") { Description = "Samples per pixel (default: the scene's render.spp)" };
-        var generator = new Option<string>("--generator") { Description = "Sample generator (see 'pathbench samplers')", DefaultValueFactory = _ => "sobol" };
-        var randomize = new Option<string>("--randomize") { Description = "Randomization, optionally +antithetic", DefaultValueFactory = _ => "owen" };
         var hemisphere = new Option<string>("--hemisphere") { Description = "How diffuse bounces sample directions", DefaultValueFactory = _ => "cosine" };
         hemisphere.AcceptOnlyFromAmong("uniform", "cosine");
         var lights = new Option<string>("--lights") { Description = "bsdf (no light sampling), nee (light sampling only) or mis (both, power heuristic)", DefaultValueFactory = _ => "mis" };
         lights.AcceptOnlyFromAmong("bsdf", "nee", "mis");
-        var seed = new Option<ulong>("--seed") { Description = "Global seed; different seeds give independent renders", DefaultValueFactory = _ => 0UL };
         var threads = new Option<int>("--threads") { Description = "Worker threads (the image does not depend on it)", DefaultValueFactory = _ => Environment.ProcessorCount };
         var maxDepth = new Option<int?>("--max-depth") { Description = "Longest path in bounces (default: the scene's render.max_depth)" };
         var noRoulette = new Option<bool>("--no-roulette") { Description = "Switch Russian roulette off (paths run to --max-depth)" };
@@ -32,7 +30,8 @@ internal static class RenderCommand
 
         var command = new Command("render", "Path-trace a scene with a chosen generator, randomization and strategy");
         command.Arguments.Add(scenePath);
-        foreach (Option o in new Option[] { spp, generator, randomize, hemisphere, lights, seed, threads, maxDepth, noRoulette, output })
+        sampling.AddTo(command);
+        foreach (Option o in new Option[] { spp, hemisphere, lights, threads, maxDepth, noRoulette, output })
         {
             command.Options.Add(o);
         }
@@ -41,16 +40,8 @@ internal static class RenderCommand
         {
             string path = parse.GetValue(scenePath)!;
             string outPath = parse.GetValue(output) ?? Path.GetFileNameWithoutExtension(path) + ".exr";
-            ImageFormat format = OutputFormat(outPath);
-            SceneDescription description;
-            try
-            {
-                description = SceneLoader.Load(path);
-            }
-            catch (SceneException e)
-            {
-                throw new CliUsageException(e.Message, e);
-            }
+            ImageFile.FormatFromExtension(outPath); // an unknown extension fails before any work
+            SceneDescription description = SceneLoader.Load(path);
 
             string sidecar = Path.ChangeExtension(outPath, ".json");
             // Check the outputs can be written before spending the render on them.
@@ -65,22 +56,11 @@ internal static class RenderCommand
             SamplerOptions.RequireAtMost("--max-depth", depth, SceneLoader.MaxDepth, "bounces");
             SamplerOptions.RequireAtLeast("--threads", t, 1);
 
-            (Randomization kind, bool antithetic) = ParseRandomization(parse.GetValue(randomize)!);
-            var spec = new SamplerSpec(parse.GetValue(generator)!, kind, antithetic, n, parse.GetValue(seed));
-            PointSampler sampler;
-            GeneratorInfo info;
-            try
-            {
-                // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
-                info = SamplerCatalog.Find(spec.Generator);
-                sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
-            }
-            catch (SamplerSpecException e)
-            {
-                throw new CliUsageException(e.Message, e);
-            }
-
-            bool unbiased = info.IsRandomized(kind);
+            SamplerSpec spec = sampling.Spec(parse, n);
+            GeneratorInfo info = SamplerCatalog.Find(spec.Generator);
+            // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
+            PointSampler sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
+            bool unbiased = info.IsRandomized(spec.Randomize);
             if (!unbiased)
             {
                 io.Error.WriteLine($"pathbench: note: {spec.Generator} with --randomize none is a deterministic quadrature (the same points in every pixel), not an unbiased estimate; add a randomization for that");
@@ -92,20 +72,12 @@ internal static class RenderCommand
                 depth,
                 !parse.GetValue(noRoulette));
 
-            Scene scene;
-            try
-            {
-                scene = Scene.Build(description);
-            }
-            catch (SceneException e)
-            {
-                throw new CliUsageException(e.Message, e);
-            }
+            Scene scene = Scene.Build(description);
 
             RenderResult result = RenderWithProgress(io, new RenderJob(scene, sampler, options, 0, n, t));
             var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
-            WriteImage(outPath, format, image);
-            WriteSidecar(sidecar, w =>
+            ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image));
+            ImageIo.Guard(sidecar, () => WriteSidecar(sidecar, w =>
                 {
                     w.WriteStartObject();
                     w.WriteString("version", Version);
@@ -132,7 +104,7 @@ internal static class RenderCommand
                     w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
                     w.WriteBoolean("unbiased", unbiased);
                     w.WriteEndObject();
-                });
+                }));
 
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {n} spp, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples"));
@@ -143,18 +115,6 @@ internal static class RenderCommand
 
     private static string Version =>
         typeof(RenderCommand).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion ?? "unknown";
-
-    private static (Randomization, bool) ParseRandomization(string text)
-    {
-        try
-        {
-            return SamplerCatalog.ParseRandomization(text);
-        }
-        catch (SamplerSpecException e)
-        {
-            throw new CliUsageException(e.Message, e);
-        }
-    }
 
     private static void RequireWritable(string path)
     {
@@ -191,50 +151,8 @@ internal static class RenderCommand
 
     private static void WriteSidecar(string path, Action<System.Text.Json.Utf8JsonWriter> body)
     {
-        try
-        {
-            using var writer = new StreamWriter(path);
-            JsonOutput.Write(writer, body);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
-        }
-    }
-
-    private static ImageFormat OutputFormat(string path)
-    {
-        string ext = Path.GetExtension(path).ToLowerInvariant();
-        return ext switch
-        {
-            ".exr" => ImageFormat.Exr,
-            ".pfm" => ImageFormat.Pfm,
-            ".png" => ImageFormat.Png,
-            _ => throw new CliUsageException($"--out {path}: unknown image format '{ext}'; use .exr, .pfm or .png"),
-        };
-    }
-
-    private static void WriteImage(string path, ImageFormat format, RgbImage image)
-    {
-        try
-        {
-            switch (format)
-            {
-                case ImageFormat.Exr:
-                    ExrCodec.Write(path, image);
-                    break;
-                case ImageFormat.Pfm:
-                    PfmCodec.Write(path, image);
-                    break;
-                default:
-                    PngCodec.Write(path, image);
-                    break;
-            }
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
-        }
+        using var writer = new StreamWriter(path);
+        JsonOutput.Write(writer, body);
     }
 
     /// <summary>

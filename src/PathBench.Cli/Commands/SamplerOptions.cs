@@ -5,19 +5,32 @@ using PathBench.Sampling.Generators;
 namespace PathBench.Cli.Commands;
 
 /// <summary>The options every sampling command shares, and their translation into a <see cref="SamplerSpec"/>.</summary>
+/// <remarks>Library errors (<see cref="SamplerSpecException"/>) propagate: <see cref="CliApp"/> prints them with exit code 2.</remarks>
 internal sealed class SamplerOptions
 {
-    public Option<string> Generator { get; } = new("--generator")
+    /// <summary>Creates the options; with no <paramref name="defaultGenerator"/>, --generator is required.</summary>
+    public SamplerOptions(string? defaultGenerator = null, string defaultRandomize = "none")
     {
-        Description = "Sample generator (see 'pathbench samplers')",
-        Required = true,
-    };
+        Generator = new Option<string>("--generator") { Description = "Sample generator (see 'pathbench samplers')" };
+        if (defaultGenerator is null)
+        {
+            Generator.Required = true;
+        }
+        else
+        {
+            Generator.DefaultValueFactory = _ => defaultGenerator;
+        }
 
-    public Option<string> Randomize { get; } = new("--randomize")
-    {
-        Description = "Randomization: none, cranley-patterson, digital-shift, owen, digit-permutation; append +antithetic to pair points",
-        DefaultValueFactory = _ => "none",
-    };
+        Randomize = new Option<string>("--randomize")
+        {
+            Description = "Randomization: none, cranley-patterson, digital-shift, owen, digit-permutation; append +antithetic to pair points",
+            DefaultValueFactory = _ => defaultRandomize,
+        };
+    }
+
+    public Option<string> Generator { get; }
+
+    public Option<string> Randomize { get; }
 
     public Option<ulong> Seed { get; } = new("--seed")
     {
@@ -33,32 +46,15 @@ internal sealed class SamplerOptions
     }
 
     /// <summary>Builds and validates the sampler for <paramref name="count"/> points of <paramref name="dims"/> dimensions.</summary>
-    public PointSampler CreateSampler(ParseResult parse, int count, int dims)
-    {
-        SamplerSpec spec = Spec(parse, count);
-        try
-        {
-            return SamplerCatalog.Create(spec, dims);
-        }
-        catch (SamplerSpecException e)
-        {
-            throw new CliUsageException(e.Message, e);
-        }
-    }
+    public PointSampler CreateSampler(ParseResult parse, int count, int dims) => SamplerCatalog.Create(Spec(parse, count), dims);
 
+    /// <summary>The spec the options describe, with the generator and randomization names checked.</summary>
     public SamplerSpec Spec(ParseResult parse, int count)
     {
         string generator = parse.GetValue(Generator)!;
-        try
-        {
-            SamplerCatalog.Find(generator);
-            (Randomization kind, bool antithetic) = SamplerCatalog.ParseRandomization(parse.GetValue(Randomize)!);
-            return new SamplerSpec(generator, kind, antithetic, count, parse.GetValue(Seed));
-        }
-        catch (SamplerSpecException e)
-        {
-            throw new CliUsageException(e.Message, e);
-        }
+        SamplerCatalog.Find(generator);
+        (Randomization kind, bool antithetic) = SamplerCatalog.ParseRandomization(parse.GetValue(Randomize)!);
+        return new SamplerSpec(generator, kind, antithetic, count, parse.GetValue(Seed));
     }
 
     /// <summary>Parses "X,Y" as two non-negative integers.</summary>

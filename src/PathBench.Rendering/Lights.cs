@@ -119,12 +119,10 @@ public sealed class LightSet
             Vec3d toCenter = prim.A - p;
             double d2 = toCenter.LengthSquared;
             double r2 = prim.Radius * prim.Radius;
-            if (d2 > r2 * (1 + 1e-9))
+            if (SeesCapFromOutside(d2, r2))
             {
                 double d = Math.Sqrt(d2);
-                double sin2Max = r2 / d2;
-                double cosMax = Math.Sqrt(Math.Max(0, 1 - sin2Max));
-                double oneMinusCos = sin2Max / (1 + cosMax); // no cancellation for small caps
+                double oneMinusCos = CapOneMinusCos(d2, r2);
                 double cosT = 1 - u1 * oneMinusCos;
                 double sinT2 = Math.Max(0, 1 - cosT * cosT);
                 var frame = new ShadingFrame(toCenter / d);
@@ -171,11 +169,9 @@ public sealed class LightSet
         {
             double d2 = (prim.A - p).LengthSquared;
             double r2 = prim.Radius * prim.Radius;
-            if (d2 > r2 * (1 + 1e-9))
+            if (SeesCapFromOutside(d2, r2))
             {
-                double sin2Max = r2 / d2;
-                double cosMax = Math.Sqrt(Math.Max(0, 1 - sin2Max));
-                return select / (2 * Math.PI * (sin2Max / (1 + cosMax)));
+                return select / (2 * Math.PI * CapOneMinusCos(d2, r2));
             }
         }
 
@@ -187,6 +183,17 @@ public sealed class LightSet
 
     /// <summary>The density of choosing an environment direction.</summary>
     public double EnvironmentPdf => EnvironmentProbability / (4 * Math.PI);
+
+    // A sphere is sampled by its visible cap only from clearly outside it; from inside (or on it), by area.
+    private static bool SeesCapFromOutside(double d2, double r2) => d2 > r2 * (1 + 1e-9);
+
+    // 1 − cos θ_max of the cap a sphere of squared radius r2 subtends at squared distance d2,
+    // as sin²/(1 + cos) so small caps lose no precision to cancellation.
+    private static double CapOneMinusCos(double d2, double r2)
+    {
+        double sin2Max = r2 / d2;
+        return sin2Max / (1 + Math.Sqrt(Math.Max(0, 1 - sin2Max)));
+    }
 
     private static (Vec3d Point, Vec3d Normal) SamplePoint(in Primitive prim, double u1, double u2)
     {

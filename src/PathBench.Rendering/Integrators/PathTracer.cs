@@ -120,10 +120,7 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
             {
                 if (!scene.Environment.IsBlack)
                 {
-                    double w = afterDelta || !sampleLights ? 1.0
-                        : options.Lights == LightStrategy.Nee ? 0.0
-                        : PowerHeuristic(previousPdf, lights.EnvironmentPdf);
-                    l += beta * scene.Environment * w;
+                    l += beta * scene.Environment * EmissionWeight(afterDelta, sampleLights, previousPdf, lights.EnvironmentPdf);
                 }
 
                 break;
@@ -137,10 +134,10 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
                 Rgb le = m.Emitted(hit.GeometricNormal, wo);
                 if (!le.IsBlack)
                 {
-                    double w = afterDelta || !sampleLights ? 1.0
-                        : options.Lights == LightStrategy.Nee ? 0.0
-                        : PowerHeuristic(previousPdf, lights.Pdf(hit.Primitive, previousPoint, hit.Point, hit.GeometricNormal));
-                    l += beta * le * w;
+                    // The light pdf matters only to the MIS weight: not looked up otherwise.
+                    double lightPdf = options.Lights == LightStrategy.Mis && sampleLights && !afterDelta
+                        ? lights.Pdf(hit.Primitive, previousPoint, hit.Point, hit.GeometricNormal) : 0;
+                    l += beta * le * EmissionWeight(afterDelta, sampleLights, previousPdf, lightPdf);
                 }
             }
 
@@ -224,6 +221,16 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
 
         return l;
     }
+
+    /// <summary>
+    /// The weight of emission found by a BSDF-sampled ray: 1 where light sampling could not
+    /// have found it (camera rays, after a delta bounce, or no light sampling), 0 under pure
+    /// next-event estimation (light sampling counts it instead), else the MIS weight.
+    /// </summary>
+    private double EmissionWeight(bool afterDelta, bool sampleLights, double bsdfPdf, double lightPdf) =>
+        afterDelta || !sampleLights ? 1.0
+        : options.Lights == LightStrategy.Nee ? 0.0
+        : PowerHeuristic(bsdfPdf, lightPdf);
 
     private Vec3d ShadingNormal(in Primitive prim, in SurfaceHit hit)
     {

@@ -161,7 +161,8 @@ public static class ChiSquareWarpTest
 
     private static (double, double) SphereBin(Vec3d w) => ((w.Z + 1) / 2, Azimuth(w));
 
-    private static (double, double) ConeBin(Vec3d w, double c) => ((1 - w.Z) / (1 - c), Azimuth(w));
+    /// <summary>Bin coordinates of a direction in the cone cos θ ≥ <paramref name="c"/>: ((1 − cos θ)/(1 − c), φ / 2π).</summary>
+    public static (double A, double B) ConeBin(Vec3d w, double c) => ((1 - w.Z) / (1 - c), Azimuth(w));
 
     private static (double, double) DiskBin((double X, double Y) p) =>
         (p.X * p.X + p.Y * p.Y, Azimuth(new Vec3d(p.X, p.Y, 0)));

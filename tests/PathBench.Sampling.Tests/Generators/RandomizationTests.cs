@@ -38,10 +38,9 @@ public sealed class RandomizationTests
     [MemberData(nameof(RandomizedMarginals))]
     public void A_randomized_coordinate_is_uniform_across_seeds(string generator, Randomization r)
     {
-        // One fixed point (index 5, dimension 3) over 4000 independent seeds must be U(0,1).
-        // Kolmogorov–Smirnov: √N·D has the asymptotic tail P(K > x) ≈ 2·exp(−2x²) (Kolmogorov
-        // 1933; Smirnov 1948), so x = 1.95 is the α = 0.001 critical value: a correct
-        // implementation fails with probability about 0.001 per case.
+        // One fixed point (index 5, dimension 3) over 4000 independent seeds must be U(0,1):
+        // Kolmogorov–Smirnov at α = 0.001 (see Uniformity), so a correct implementation fails
+        // with probability about 0.001 per case.
         const int seeds = 4000;
         var x = new double[seeds];
         for (int k = 0; k < seeds; k++)
@@ -50,14 +49,8 @@ public sealed class RandomizationTests
             x[k] = s.Sample(s.PixelKey(0, 0), 5, 3);
         }
 
-        Array.Sort(x);
-        double d = 0;
-        for (int i = 0; i < seeds; i++)
-        {
-            d = Math.Max(d, Math.Max((i + 1.0) / seeds - x[i], x[i] - (double)i / seeds));
-        }
-
-        Assert.True(Math.Sqrt(seeds) * d < 1.95, $"KS statistic √N·D = {Math.Sqrt(seeds) * d}");
+        double ks = Uniformity.KolmogorovSmirnov(x);
+        Assert.True(ks < Uniformity.CriticalValue001, $"KS statistic √N·D = {ks}");
     }
 
     public static TheoryData<string, Randomization> AntitheticCases => new()

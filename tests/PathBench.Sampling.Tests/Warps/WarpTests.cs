@@ -37,12 +37,7 @@ public sealed class WarpTests
     {
         // A 5 % error in the cone's solid angle: the test must have the power to see it.
         const double c = 0.8;
-        var wrong = new WarpCase("cone-with-wrong-angle", (u, v) =>
-            {
-                Vec3d w = Warp.UniformCone(u, v, c);
-                double phi = Math.Atan2(w.Y, w.X);
-                return ((1 - w.Z) / (1 - c), (phi < 0 ? phi + 2 * Math.PI : phi) / (2 * Math.PI));
-            },
+        var wrong = new WarpCase("cone-with-wrong-angle", (u, v) => ChiSquareWarpTest.ConeBin(Warp.UniformCone(u, v, c), c),
             (a, b) => Warp.UniformConePdf(new Vec3d(0, 0, 1 - a * (1 - c)), c) * (a < 0.5 ? 1.05 : 0.95), 2 * Math.PI * (1 - c));
         Assert.True(ChiSquareWarpTest.Run(wrong, Samples, 16, 32, seed: 42).PValue < 1e-6);
     }

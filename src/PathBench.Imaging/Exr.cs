@@ -62,7 +62,7 @@ public static class ExrCodec
         int[] select = SelectChannels(channels, fileName, notes, out bool grey);
         int w = (int)width;
         int h = (int)height;
-        int linesPerChunk = header.Compression == ExrCompression.Zip ? 16 : 1;
+        int linesPerChunk = ExrChunkCodecs.LinesPerChunk(header.Compression);
         long chunkCountLong = (height + linesPerChunk - 1) / linesPerChunk;
         long tableStart = stream.Position;
         if (chunkCountLong * 8 > length - tableStart)
@@ -93,11 +93,12 @@ public static class ExrCodec
         }
 
         // The chunks must be able to hold the pixels the header declares before anything that size is
-        // allocated: uncompressed they need every byte; zlib cannot expand data by more than about
-        // 1032:1 (deflate's longest match, 258 bytes, costs at least two bits; from memory).
+        // allocated: uncompressed they need every byte, compressed at least a codec's bound of them.
         long chunkArea = length - firstChunk;
         long pixelBytes = rowBytes * height;
-        long needed = header.Compression == ExrCompression.None ? pixelBytes + (8 * chunkCountLong) : (pixelBytes / 1032) + (9 * chunkCountLong);
+        long needed = header.Compression == ExrCompression.None
+            ? pixelBytes + (8 * chunkCountLong)
+            : (pixelBytes / ExrChunkCodecs.MaxExpansion(header.Compression)) + (9 * chunkCountLong);
         if (chunkArea < needed)
         {
             throw new ImageFileException(
@@ -107,6 +108,7 @@ public static class ExrCodec
 
         var image = new RgbImage(w, h);
         byte[] chunkHead = new byte[8];
+        ExrChannelLayout[] layouts = channels.Select(c => new ExrChannelLayout(c.Name, c.Type, 1, 1, false)).ToArray();
 
         // Chunks are read in order in batches, then inflated and decoded in parallel: rows of
         // different chunks are disjoint, and the first failing chunk (lowest index) is reported.
@@ -166,7 +168,7 @@ public static class ExrCodec
             Parallel.For(
                 b0,
                 b1,
-                () => (Inflated: new byte[maxChunkBytes], Raw: new byte[maxChunkBytes]),
+                () => (Scratch: new byte[maxChunkBytes], Raw: new byte[maxChunkBytes]),
                 (i, _, buffers) =>
                 {
                     int y = ys[i - b0];
@@ -178,12 +180,16 @@ public static class ExrCodec
                         byte[] source = payload;
                         if (payload.Length != rawSize)
                         {
-                            Inflate(payload, payload.Length, buffers.Inflated, rawSize, fileName, i, y);
-                            ExrZip.Decode(buffers.Inflated.AsSpan(0, rawSize), buffers.Raw.AsSpan(0, rawSize));
+                            var block = new ExrBlock(layouts, header.DataWindow.XMin, y, w, lines);
+                            ExrChunkCodecs.Decompress(header.Compression, payload, buffers.Raw.AsSpan(0, rawSize), block, buffers.Scratch);
                             source = buffers.Raw;
                         }
 
                         DecodeLines(source, channels, select, grey, image, y - header.DataWindow.YMin, lines, w);
+                    }
+                    catch (ExrCodecException e)
+                    {
+                        failures[i - b0] = new ImageFileException(fileName, FormattableString.Invariant($"chunk {i} (y={y}): {e.Message}"), e);
                     }
                     catch (ImageFileException e)
                     {
@@ -222,7 +228,7 @@ public static class ExrCodec
             throw new ArgumentException($"pixel type {options.PixelType} cannot be written", nameof(options));
         }
 
-        if (!Enum.IsDefined(options.Compression))
+        if (options.Compression is not (ExrCompression.None or ExrCompression.Zips or ExrCompression.Zip))
         {
             throw new ArgumentException($"compression {options.Compression} cannot be written", nameof(options));
         }
@@ -412,38 +418,6 @@ public static class ExrCodec
         }
     }
 
-    private static void Inflate(byte[] packed, int size, byte[] raw, int rawSize, string fileName, int chunk, int y)
-    {
-        try
-        {
-            using var z = new ZLibStream(new MemoryStream(packed, 0, size, writable: false), CompressionMode.Decompress);
-            int total = 0;
-            while (total < rawSize)
-            {
-                int n = z.Read(raw, total, rawSize - total);
-                if (n == 0)
-                {
-                    throw new ImageFileException(
-                        fileName, FormattableString.Invariant($"chunk {chunk} (y={y}): zlib data ends after {total} of {rawSize} bytes"));
-                }
-
-                total += n;
-            }
-
-            // A stream that inflates to more than the scanlines hold is as wrong as a short one.
-            Span<byte> extra = stackalloc byte[1];
-            if (z.Read(extra) != 0)
-            {
-                throw new ImageFileException(
-                    fileName, FormattableString.Invariant($"chunk {chunk} (y={y}): zlib data inflates to more than the {rawSize} bytes of its scanlines"));
-            }
-        }
-        catch (InvalidDataException e)
-        {
-            throw new ImageFileException(fileName, FormattableString.Invariant($"chunk {chunk} (y={y}): bad zlib stream: {e.Message}"), e);
-        }
-    }
-
     private static int[] SelectChannels(Channel[] channels, string fileName, List<string> notes, out bool grey)
     {
         var select = new int[channels.Length];
@@ -596,7 +570,7 @@ public static class ExrCodec
                         break;
                     case "compression":
                         byte code = ReadValue(name, type, "compression", size, 1)[0];
-                        if (code is not (0 or 2 or 3))
+                        if (code >= CompressionNames.Length || !ExrChunkCodecs.CanDecode((ExrCompression)code))
                         {
                             string known = code < CompressionNames.Length ? CompressionNames[code] : FormattableString.Invariant($"code {code}");
                             throw new ImageNotSupportedException(fileName, $"{known} compression");

@@ -1,16 +1,40 @@
 namespace PathBench.Imaging;
 
-/// <summary>The OpenEXR compressions PathBench reads and writes; values are the codes stored in the file.</summary>
+/// <summary>
+/// The OpenEXR compressions; values are the codes stored in the file (OpenEXR file layout
+/// specification). The writer writes <see cref="None"/>, <see cref="Zips"/> and <see cref="Zip"/>.
+/// </summary>
 public enum ExrCompression
 {
     /// <summary>Uncompressed, one scanline per chunk.</summary>
     None = 0,
+
+    /// <summary>Run-length coding of the predictor-coded bytes, one scanline per chunk.</summary>
+    Rle = 1,
 
     /// <summary>zlib over one predictor-coded scanline per chunk.</summary>
     Zips = 2,
 
     /// <summary>zlib over blocks of 16 predictor-coded scanlines.</summary>
     Zip = 3,
+
+    /// <summary>Haar wavelet and Huffman coding over blocks of 32 scanlines (lossless).</summary>
+    Piz = 4,
+
+    /// <summary>FLOAT rounded to 24 bits, then byte planes and zlib, 16 scanlines (lossy for FLOAT only).</summary>
+    Pxr24 = 5,
+
+    /// <summary>HALF in 4×4 blocks of 14 bytes, 32 scanlines (lossy).</summary>
+    B44 = 6,
+
+    /// <summary>B44 with flat blocks in 3 bytes (lossy).</summary>
+    B44A = 7,
+
+    /// <summary>DCT-based lossy coding, 32 scanlines.</summary>
+    Dwaa = 8,
+
+    /// <summary>DCT-based lossy coding, 256 scanlines.</summary>
+    Dwab = 9,
 }
 
 /// <summary>Channel sample types; values are the codes stored in the file.</summary>

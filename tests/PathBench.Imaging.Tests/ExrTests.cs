@@ -14,10 +14,13 @@ public sealed class ExrTests
 {
     private const string Package = "openexr";
 
+    /// <summary>The compressions our writer writes.</summary>
+    private static readonly ExrCompression[] Writable = [ExrCompression.None, ExrCompression.Zips, ExrCompression.Zip];
+
     public static TheoryData<string, ExrCompression, ExrPixelType, ExrChannelSet> WriteModes()
     {
         var data = new TheoryData<string, ExrCompression, ExrPixelType, ExrChannelSet>();
-        foreach (ExrCompression c in Enum.GetValues<ExrCompression>())
+        foreach (ExrCompression c in Writable)
         {
             foreach (ExrPixelType t in new[] { ExrPixelType.Half, ExrPixelType.Float })
             {
@@ -128,7 +131,7 @@ public sealed class ExrTests
     public static TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet> LibraryRewrites()
     {
         var data = new TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet>();
-        foreach (ExrCompression c in Enum.GetValues<ExrCompression>())
+        foreach (ExrCompression c in Writable)
         {
             foreach (ExrPixelType t in new[] { ExrPixelType.Half, ExrPixelType.Float })
             {

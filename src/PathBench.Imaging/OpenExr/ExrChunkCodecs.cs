@@ -1,0 +1,61 @@
+namespace PathBench.Imaging;
+
+/// <summary>
+/// What each OpenEXR compression needs from the reader: how many scanlines a chunk holds, the
+/// largest ratio of raw to stored bytes it can reach (so a file too short for the pixels its header
+/// declares is refused before the image is allocated), and its decoder.
+/// </summary>
+internal static class ExrChunkCodecs
+{
+    /// <summary>The compressions the reader decodes.</summary>
+    public static bool CanDecode(ExrCompression c) => c is ExrCompression.None or ExrCompression.Zips or ExrCompression.Zip;
+
+    /// <summary>Scanlines per chunk of a scanline part (OpenEXR file layout specification, "Compression").</summary>
+    public static int LinesPerChunk(ExrCompression c) => c switch
+    {
+        ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips => 1,
+        ExrCompression.Zip or ExrCompression.Pxr24 => 16,
+        ExrCompression.Piz or ExrCompression.B44 or ExrCompression.B44A or ExrCompression.Dwaa => 32,
+        ExrCompression.Dwab => 256,
+        _ => throw new ArgumentOutOfRangeException(nameof(c), c, "unknown compression"),
+    };
+
+    /// <summary>
+    /// An upper bound on raw bytes per stored byte. zlib cannot expand data by more than about 1032:1
+    /// (deflate's longest match, 258 bytes, costs at least two bits; from memory); RLE turns two bytes
+    /// into at most 128. DWA's run-length-coded AC data go through zlib as well, so it has no useful
+    /// bound and only the image size limit applies.
+    /// </summary>
+    public static long MaxExpansion(ExrCompression c) => c switch
+    {
+        ExrCompression.None => 1,
+        ExrCompression.Rle => 64,
+        ExrCompression.Zips or ExrCompression.Zip => 1032,
+        ExrCompression.Pxr24 => 1032 * 4 / 3 + 1, // FLOAT samples lose a byte before zlib
+        _ => long.MaxValue,
+    };
+
+    /// <summary>
+    /// Decodes one chunk's stored bytes into its raw layout (see <see cref="ExrBlock"/>). The caller
+    /// handles chunks stored uncompressed (stored size = raw size) and checks that the stored size is
+    /// below the raw size.
+    /// </summary>
+    /// <param name="compression">The part's compression.</param>
+    /// <param name="packed">The chunk's stored bytes (array-backed).</param>
+    /// <param name="raw">Receives the <see cref="ExrBlock.RawSize"/> raw bytes.</param>
+    /// <param name="block">The chunk's rectangle and channels.</param>
+    /// <param name="scratch">At least <see cref="ExrBlock.RawSize"/> bytes of working space, reused between chunks.</param>
+    /// <exception cref="ExrCodecException">The stored bytes break the codec's rules.</exception>
+    public static void Decompress(ExrCompression compression, ReadOnlyMemory<byte> packed, Span<byte> raw, ExrBlock block, Span<byte> scratch)
+    {
+        switch (compression)
+        {
+            case ExrCompression.Zips:
+            case ExrCompression.Zip:
+                ExrZip.Decompress(packed, raw, scratch);
+                break;
+            default:
+                throw new ArgumentOutOfRangeException(nameof(compression), compression, "no decoder for this compression");
+        }
+    }
+}

@@ -4,7 +4,9 @@ namespace PathBench.Imaging.Tests;
 
 /// <summary>
 /// OpenEXR codec: round trips, and live interoperability with the reference implementation in
-/// Debian's openexr package (OpenEXR 3.1): exrheader and exrinfo -s accept every file we write;
+/// Debian's openexr package (OpenEXR 3.1): exrheader describes every file we write as written and
+/// OpenImageIO (python3-openimageio, through the OpenEXR library) decodes its every pixel to the bits
+/// we wrote;
 /// exrmultiview decodes our chunks with the library and re-encodes them with the library's own
 /// compressor, exrstdattr and exrmultipart -separate rewrite our files through the library, and we
 /// read all of those back with the pixels we wrote. exrmaketiled and exrmultipart -combine make
@@ -93,12 +95,15 @@ public sealed class ExrTests
 
     [Theory]
     [MemberData(nameof(WriteModes))]
-    public void Exrheader_and_exrinfo_accept_every_file_we_write(string name, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
+    public void Exrheader_describes_and_OpenImageIO_decodes_every_file_we_write(string name, ExrCompression compression, ExrPixelType type, ExrChannelSet set)
     {
         using var dir = new TempFolder();
         string path = dir.File(name + ".exr");
-        ExrCodec.Write(path, Sample(), new ExrWriteOptions(compression, type, set));
+        RgbImage image = Sample();
+        ExrCodec.Write(path, image, new ExrWriteOptions(compression, type, set));
 
+        // exrheader's status is checked together with its text; exrinfo -s is not used: on a valid
+        // file it was seen here returning non-zero statuses at random (OpenEXR 3.1.5).
         ReferenceTools.Result header = ExternalTool.Run("exrheader", Package, [path]);
         Assert.True(header.ExitCode == 0, $"exrheader rejected {name}: {header.Stderr}");
 
@@ -124,8 +129,26 @@ public sealed class ExrTests
 
         Assert.Contains("dataWindow (type box2i): (0 0) - (36 20)", header.Stdout, StringComparison.Ordinal);
 
-        ReferenceTools.Result strict = ExternalTool.Run("exrinfo", Package, ["-s", path]);
-        Assert.True(strict.ExitCode == 0, $"exrinfo -s rejected {name}: {strict.Stdout}{strict.Stderr}");
+        // Every pixel of every channel as the OpenEXR library decodes it, bit for bit.
+        OiioReference.Decoded decoded = OiioReference.Decode(path);
+        Assert.Equal(names.Order(StringComparer.Ordinal), decoded.Info.Channels.Order(StringComparer.Ordinal));
+        Assert.All(decoded.Info.Formats, f => Assert.Equal(type == ExrPixelType.Half ? "half" : "float", f));
+        RgbImage expected = Expected(image, type, set);
+        for (int y = 0; y < image.Height; y++)
+        {
+            for (int x = 0; x < image.Width; x++)
+            {
+                foreach (string channel in names)
+                {
+                    float want = channel switch { "A" => 1f, "R" or "Y" => expected.At(x, y, 0), "G" => expected.At(x, y, 1), _ => expected.At(x, y, 2) };
+                    uint got = decoded.At(x, y, channel);
+                    if (got != BitConverter.SingleToUInt32Bits(want))
+                    {
+                        Assert.Fail(FormattableString.Invariant($"{name}: OpenImageIO decodes pixel ({x},{y}) {channel} as 0x{got:x8}; we wrote {want:R}"));
+                    }
+                }
+            }
+        }
     }
 
     public static TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet> LibraryRewrites()

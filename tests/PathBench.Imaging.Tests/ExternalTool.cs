@@ -28,4 +28,21 @@ internal static class ExternalTool
         Assert.True(result.ExitCode == 0, $"{script} failed (exit {result.ExitCode}): {result.Stderr}");
         return result;
     }
+
+    // Checked once per test run: the modules do not come and go while the tests run.
+    private static readonly Lazy<ReferenceTools.Result> OiioProbe = new(() => Run(Python, "python3-openimageio", ["-c", "import numpy, OpenImageIO"]));
+
+    /// <summary>Runs tools/imaging/oiio_exr.py, checking first that Debian's interpreter has OpenImageIO and numpy.</summary>
+    public static ReferenceTools.Result RunOiioScript(string[] args)
+    {
+        string path = Path.Combine(AppContext.BaseDirectory, "tools", "oiio_exr.py");
+        Assert.True(File.Exists(path), $"{path} is missing from the test output");
+        ReferenceTools.Result probe = OiioProbe.Value;
+        Assert.True(
+            probe.ExitCode == 0,
+            $"{Python} cannot import OpenImageIO/numpy: install the Debian packages python3-openimageio python3-numpy ({probe.Stderr.Trim()})");
+        ReferenceTools.Result result = Run(Python, "python3-openimageio", [path, .. args], timeoutSeconds: 120);
+        Assert.True(result.ExitCode == 0, $"oiio_exr.py {string.Join(' ', args)} failed (exit {result.ExitCode}): {result.Stderr}");
+        return result;
+    }
 }

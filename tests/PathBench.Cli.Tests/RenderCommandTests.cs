@@ -42,6 +42,26 @@ public sealed class RenderCommandTests
         Assert.Equal(expected, j.GetProperty("scene_sha256").GetString());
     }
 
+    /// <summary>With no --randomize, each generator gets the catalog's default for it, and the sidecar says which.</summary>
+    [Theory]
+    [InlineData("random", "none")]
+    [InlineData("jittered", "none")]
+    [InlineData("latin-hypercube", "none")]
+    [InlineData("multi-jittered", "none")]
+    [InlineData("halton", "digit-permutation")]
+    [InlineData("hammersley", "cranley-patterson")]
+    [InlineData("sobol", "owen")]
+    public void Without_randomize_the_generator_brings_its_own_default(string generator, string expected)
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("s.yaml"), Scene);
+        (int code, _, string err) = Run("render", dir.File("s.yaml"), "--generator", generator, "--spp", "2", "--out", dir.File("s.pfm"), "--threads", "1");
+        Assert.True(code == 0, err);
+        using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("s.json")));
+        Assert.Equal(expected, doc.RootElement.GetProperty("randomize").GetString());
+        Assert.True(doc.RootElement.GetProperty("unbiased").GetBoolean());
+    }
+
     [Fact]
     public void Thread_count_does_not_change_the_file_bytes()
     {

@@ -17,7 +17,7 @@ internal static class RenderCommand
     public static Command Create(CliIo io)
     {
         var scenePath = new Argument<string>("scene") { Description = "Scene file (YAML; see scenes/README.md)" };
-        var sampling = new SamplerOptions(defaultGenerator: "sobol", defaultRandomize: "owen");
+        var sampling = new SamplerOptions(defaultGenerator: "sobol");
         var spp = new Option<int?>("--spp") { Description = "Samples per pixel (default: the scene's render.spp)" };
         var hemisphere = new Option<string>("--hemisphere") { Description = "How diffuse bounces sample directions", DefaultValueFactory = _ => "cosine" };
         hemisphere.AcceptOnlyFromAmong("uniform", "cosine");

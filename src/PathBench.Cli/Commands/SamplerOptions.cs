@@ -8,8 +8,12 @@ namespace PathBench.Cli.Commands;
 /// <remarks>Library errors (<see cref="SamplerSpecException"/>) propagate: <see cref="CliApp"/> prints them with exit code 2.</remarks>
 internal sealed class SamplerOptions
 {
-    /// <summary>Creates the options; with no <paramref name="defaultGenerator"/>, --generator is required.</summary>
-    public SamplerOptions(string? defaultGenerator = null, string defaultRandomize = "none")
+    /// <summary>
+    /// Creates the options; with no <paramref name="defaultGenerator"/>, --generator is required. With
+    /// no --randomize, the generator's own default from the catalog is used (owen for sobol,
+    /// digit-permutation for halton, none for the sets that are random by construction).
+    /// </summary>
+    public SamplerOptions(string? defaultGenerator = null)
     {
         Generator = new Option<string>("--generator") { Description = "Sample generator (see 'pathbench samplers')" };
         if (defaultGenerator is null)
@@ -23,8 +27,8 @@ internal sealed class SamplerOptions
 
         Randomize = new Option<string>("--randomize")
         {
-            Description = "Randomization: none, cranley-patterson, digital-shift, owen, digit-permutation; append +antithetic to pair points",
-            DefaultValueFactory = _ => defaultRandomize,
+            Description = "Randomization: none, cranley-patterson, digital-shift, owen, digit-permutation; append +antithetic to pair points " +
+                "(default: the generator's own, see 'pathbench samplers')",
         };
     }
 
@@ -52,8 +56,10 @@ internal sealed class SamplerOptions
     public SamplerSpec Spec(ParseResult parse, int count)
     {
         string generator = parse.GetValue(Generator)!;
-        SamplerCatalog.Find(generator);
-        (Randomization kind, bool antithetic) = SamplerCatalog.ParseRandomization(parse.GetValue(Randomize)!);
+        GeneratorInfo info = SamplerCatalog.Find(generator);
+        (Randomization kind, bool antithetic) = parse.GetValue(Randomize) is { } text
+            ? SamplerCatalog.ParseRandomization(text)
+            : (info.DefaultRandomization, false);
         return new SamplerSpec(generator, kind, antithetic, count, parse.GetValue(Seed));
     }
 

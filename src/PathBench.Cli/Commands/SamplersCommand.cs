@@ -16,7 +16,7 @@ internal static class SamplersCommand
             {
                 string dims = g.MaxDimensions == int.MaxValue ? "any dims" : $"<= {g.MaxDimensions} dims";
                 string randomizations = string.Join("|", g.Randomizations.Select(RandomizationNames.NameOf));
-                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}, randomize {randomizations}");
+                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}, randomize {randomizations} (default {RandomizationNames.NameOf(g.DefaultRandomization)})");
             }
 
             io.Out.WriteLine("randomizations:");

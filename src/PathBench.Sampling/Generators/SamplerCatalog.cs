@@ -1,12 +1,17 @@
 namespace PathBench.Sampling.Generators;
 
-/// <summary>One generator: its command-line name, published source, what it needs and which randomizations mean something for it.</summary>
+/// <summary>
+/// One generator: its command-line name, published source, what it needs, which randomizations mean
+/// something for it, and the one used when none is asked for (the usual randomized form of the
+/// generator, so that a plain render is an unbiased estimate).
+/// </summary>
 public sealed record GeneratorInfo(
     string Name,
     string Source,
     bool NeedsCount,
     int MaxDimensions,
     IReadOnlyList<Randomization> Randomizations,
+    Randomization DefaultRandomization,
     string WhyOthersRefused,
     Func<SamplerSpec, PointSampler> Create)
 {
@@ -43,22 +48,22 @@ public static class SamplerCatalog
     private static readonly GeneratorInfo[] Table =
     [
         new("random", "independent uniform; counter-based hash, SplitMix64 finaliser (Steele, Lea & Flood 2014)",
-            false, int.MaxValue, [Randomization.None],
+            false, int.MaxValue, [Randomization.None], Randomization.None,
             "independent uniform points are already as random as they get", s => new RandomSampler(s)),
         new("jittered", "stratified, one jittered point per cell of a near-square grid, padded per 2-D pair",
-            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new JitteredSampler(s)),
+            true, int.MaxValue, [Randomization.None], Randomization.None, RandomByConstruction, s => new JitteredSampler(s)),
         new("latin-hypercube", "Latin hypercube; McKay, Beckman & Conover 1979, Technometrics 21(2)",
-            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new LatinHypercubeSampler(s)),
+            true, int.MaxValue, [Randomization.None], Randomization.None, RandomByConstruction, s => new LatinHypercubeSampler(s)),
         new("multi-jittered", "correlated multi-jittered; Kensler 2013, Pixar Technical Memo 13-01",
-            true, int.MaxValue, [Randomization.None], RandomByConstruction, s => new MultiJitteredSampler(s)),
+            true, int.MaxValue, [Randomization.None], Randomization.None, RandomByConstruction, s => new MultiJitteredSampler(s)),
         new("halton", "radical inverse in the first primes; Halton 1960, Numer. Math. 2",
-            false, Sequences.RadicalInverse.PrimeCount, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitPermutation],
+            false, Sequences.RadicalInverse.PrimeCount, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitPermutation], Randomization.DigitPermutation,
             "Halton is not a base-2 digital sequence beyond its first dimension; use digit-permutation", s => new HaltonSampler(s)),
         new("hammersley", "(i/n, radical inverses); Hammersley & Handscomb 1964, Monte Carlo Methods",
-            true, Sequences.RadicalInverse.PrimeCount + 1, [Randomization.None, Randomization.CranleyPatterson],
+            true, Sequences.RadicalInverse.PrimeCount + 1, [Randomization.None, Randomization.CranleyPatterson], Randomization.CranleyPatterson,
             "its first coordinate i/n has no digit structure to shift or scramble", s => new HammersleySampler(s)),
         new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
-            false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen],
+            false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
             "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
     ];
 

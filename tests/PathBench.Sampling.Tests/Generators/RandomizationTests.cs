@@ -146,6 +146,27 @@ public sealed class RandomizationTests
 /// (each index below b^m has a distinct m-digit tuple, and permuting each digit position keeps
 /// the tuples distinct; Braaten &amp; Weller 1979; Owen 1995 §3 for the nested case).
 /// </summary>
+/// <summary>The default randomization each generator brings when none is asked for.</summary>
+public sealed class DefaultRandomizationTests
+{
+    /// <summary>
+    /// Every default is one the generator accepts and gives random points, so a render with no
+    /// --randomize is an unbiased estimate (common practice: the usual randomized form of each family,
+    /// Owen 1995 for Sobol, digit permutations for Halton, Cranley and Patterson 1976 for Hammersley).
+    /// </summary>
+    [Fact]
+    public void Every_default_is_accepted_and_randomized()
+    {
+        foreach (GeneratorInfo g in SamplerCatalog.Generators)
+        {
+            Assert.Contains(g.DefaultRandomization, g.Randomizations);
+            Assert.True(g.IsRandomized(g.DefaultRandomization), $"{g.Name}'s default {g.DefaultRandomization} leaves it deterministic");
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(g.Name, g.DefaultRandomization, false, 16, 1), 2);
+            Assert.InRange(s.Sample(0, 3, 1), 0.0, 1.0);
+        }
+    }
+}
+
 public sealed class DigitPermutationStratificationTests
 {
     [Theory]

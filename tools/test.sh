@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# The whole test suite on a fresh machine: installs the reference tools the live cross-checks
+# compare against (Debian packages, apt as root; otherwise prints the apt line and exits 2), runs
+# `dotnet test PathBench.sln`, and ends with the line "N passed, N failed" summed over every test
+# assembly. Exit status: dotnet test's, 1 when the install fails, 2 when it needs root.
+set -uo pipefail
+cd "$(dirname "$0")/.."
+
+# What each is for: /usr/bin/python3 with scipy.stats.qmc (Sobol, Halton, L2-star), scikit-image
+# (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding) and OpenImageIO (decodes
+# every OpenEXR pixel through the OpenEXR library); the OpenEXR command-line tools (exrheader and
+# the rewriting tools); and the fonts and fontconfig SkiaSharp's native library needs to draw labels.
+packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
+          openexr fonts-dejavu-core libfontconfig1)
+
+missing=()
+for p in "${packages[@]}"; do
+  # dpkg-query prints "install ok installed" only for a package that is fully installed.
+  if [ "$(dpkg-query -W -f='${Status}' "$p" 2>/dev/null)" != "install ok installed" ]; then
+    missing+=("$p")
+  fi
+done
+
+if [ "${#missing[@]}" -gt 0 ]; then
+  if [ "$(id -u)" != 0 ]; then
+    echo "tools/test.sh: missing reference tools: ${missing[*]}" >&2
+    echo "install them as root, then run this again:" >&2
+    echo "  apt-get update && apt-get install -y --no-install-recommends ${packages[*]}" >&2
+    exit 2
+  fi
+  echo "tools/test.sh: installing ${missing[*]}" >&2
+  export DEBIAN_FRONTEND=noninteractive
+  if ! { apt-get update -qq >/dev/null && apt-get install -y -qq --no-install-recommends "${packages[@]}" >/dev/null; }; then
+    echo "tools/test.sh: apt-get install failed" >&2
+    echo "0 passed, 1 failed"
+    exit 1
+  fi
+fi
+
+if ! command -v dotnet >/dev/null; then
+  echo "tools/test.sh: the .NET 10 SDK (dotnet) is not on PATH" >&2
+  echo "0 passed, 1 failed"
+  exit 1
+fi
+
+log=$(mktemp)
+trap 'rm -f "$log"' EXIT
+dotnet test PathBench.sln 2>&1 | tee "$log"
+status=${PIPESTATUS[0]}
+
+# dotnet prints one summary per assembly: "Passed!  - Failed: 0, Passed: 126, Skipped: 0, ..."
+passed=$(grep -oE 'Passed: +[0-9]+' "$log" | awk '{ s += $2 } END { print s + 0 }')
+failed=$(grep -oE 'Failed: +[0-9]+' "$log" | awk '{ s += $2 } END { print s + 0 }')
+if [ "$status" -ne 0 ] && [ "$failed" -eq 0 ]; then
+  failed=1 # a build error or crashed test host: no summary to count, but not a pass
+fi
+echo "$passed passed, $failed failed"
+exit "$status"

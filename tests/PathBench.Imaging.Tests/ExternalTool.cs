@@ -12,7 +12,7 @@ internal static class ExternalTool
     public static string Python => ReferenceTools.Python;
 
     /// <summary>Runs a program (absolute path or a name under /usr/bin) and waits at most <paramref name="timeoutSeconds"/>.</summary>
-    public static ReferenceTools.Result Run(string program, string debianPackage, IEnumerable<string> args, int timeoutSeconds = 60) =>
+    public static ReferenceTools.Result Run(string program, string debianPackage, IEnumerable<string> args, int timeoutSeconds = 300) =>
         ReferenceTools.Run(program, debianPackage, args, timeoutSeconds: timeoutSeconds);
 
     /// <summary>Runs a Python script from the tools folder copied beside the tests, checking the modules first.</summary>
@@ -24,7 +24,7 @@ internal static class ExternalTool
         Assert.True(
             probe.ExitCode == 0,
             $"{Python} cannot import numpy/skimage/scipy: install the Debian packages python3-numpy python3-skimage python3-scipy ({probe.Stderr.Trim()})");
-        ReferenceTools.Result result = Run(Python, "python3", [path, .. args], timeoutSeconds: 120);
+        ReferenceTools.Result result = Run(Python, "python3", [path, .. args], timeoutSeconds: 300);
         Assert.True(result.ExitCode == 0, $"{script} failed (exit {result.ExitCode}): {result.Stderr}");
         return result;
     }
@@ -41,7 +41,7 @@ internal static class ExternalTool
         Assert.True(
             probe.ExitCode == 0,
             $"{Python} cannot import OpenImageIO/numpy: install the Debian packages python3-openimageio python3-numpy ({probe.Stderr.Trim()})");
-        ReferenceTools.Result result = Run(Python, "python3-openimageio", [path, .. args], timeoutSeconds: 120);
+        ReferenceTools.Result result = Run(Python, "python3-openimageio", [path, .. args], timeoutSeconds: 300);
         Assert.True(result.ExitCode == 0, $"oiio_exr.py {string.Join(' ', args)} failed (exit {result.ExitCode}): {result.Stderr}");
         return result;
     }

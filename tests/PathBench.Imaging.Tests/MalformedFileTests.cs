@@ -1,5 +1,4 @@
 using System.Buffers.Binary;
-using System.Diagnostics;
 using System.IO.Compression;
 using System.Text;
 
@@ -18,8 +17,10 @@ public sealed class MalformedFileTests
     // claims hundreds of MB).
     private const long AllocationBound = 8L << 20;
 
-    // A clean error takes milliseconds; 10 s means a loop that does not end.
-    private static readonly TimeSpan HangBound = TimeSpan.FromSeconds(10);
+    // A clean error takes milliseconds; a minute means a loop that does not end. The bound only
+    // catches hangs: it is far above any time a loaded two-core machine needs, so the outcome does not
+    // depend on scheduling.
+    private static readonly TimeSpan HangBound = TimeSpan.FromSeconds(60);
 
     /// <summary>Name, mutated bytes, and a fragment the message must contain.</summary>
     public sealed record Malformed(string Name, Func<byte[]> Bytes, string Expect);
@@ -50,7 +51,6 @@ public sealed class MalformedFileTests
 
         Exception? caught = null;
         long allocated = 0;
-        var clock = Stopwatch.StartNew();
         var task = Task.Run(() =>
         {
             long before = GC.GetAllocatedBytesForCurrentThread();
@@ -76,7 +76,6 @@ public sealed class MalformedFileTests
         Assert.DoesNotContain('\n', message);
         Assert.True(message.Contains(c.Expect, StringComparison.Ordinal), $"{name}: message lacks '{c.Expect}': {message}");
         Assert.True(allocated < AllocationBound, $"{name}: reader allocated {allocated} bytes before failing");
-        Assert.True(clock.Elapsed < HangBound);
     }
 
     // ---- base files -------------------------------------------------------------------------

@@ -21,7 +21,7 @@ public static class ReferenceTools
     public sealed record Result(int ExitCode, string Stdout, string Stderr);
 
     /// <summary>Runs a program (an absolute path or a name under /usr/bin) with <paramref name="stdin"/>, waiting at most <paramref name="timeoutSeconds"/>.</summary>
-    public static Result Run(string program, string debianPackage, IEnumerable<string> args, string stdin = "", int timeoutSeconds = 60)
+    public static Result Run(string program, string debianPackage, IEnumerable<string> args, string stdin = "", int timeoutSeconds = 300)
     {
         ArgumentNullException.ThrowIfNull(program);
         ArgumentNullException.ThrowIfNull(args);
@@ -60,7 +60,7 @@ public static class ReferenceTools
     }
 
     /// <summary>Runs Python code under <see cref="Python"/> and returns its standard output; a non-zero exit is an exception with its stderr.</summary>
-    public static string RunPython(string code, string stdin = "", int timeoutSeconds = 120)
+    public static string RunPython(string code, string stdin = "", int timeoutSeconds = 300)
     {
         Result r = Run(Python, "python3", ["-c", code], stdin, timeoutSeconds);
         return r.ExitCode == 0 ? r.Stdout : throw new InvalidOperationException($"{Python} failed ({r.ExitCode}): {r.Stderr}");

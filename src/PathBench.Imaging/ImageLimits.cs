@@ -33,4 +33,8 @@ public sealed record ImageLimits(long MaxValues)
 /// <param name="Image">The linear RGB pixels.</param>
 /// <param name="Format">What the file was, e.g. "OpenEXR HALF ZIP" or "PFM colour".</param>
 /// <param name="Notes">One line each: channels ignored, conversions applied.</param>
-public sealed record ImageReadResult(RgbImage Image, string Format, IReadOnlyList<string> Notes);
+public sealed record ImageReadResult(RgbImage Image, string Format, IReadOnlyList<string> Notes)
+{
+    /// <summary>Where the image sits in its file's coordinates (an OpenEXR display window); null for formats without one (origin 0,0).</summary>
+    public PixelRect? DisplayWindow { get; init; }
+}

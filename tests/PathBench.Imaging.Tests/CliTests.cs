@@ -110,7 +110,7 @@ public sealed class CliTests
         { "roi_malformed", ["compare", "{a}", "{a}", "--roi", "1,2,3"], "--roi: region '1,2,3' is not X,Y,W,H" },
         { "roi_empty", ["compare", "{a}", "{a}", "--roi", "0,0,0,5"], "is empty" },
         { "epsilon_zero", ["compare", "{a}", "{a}", "--epsilon", "0"], "--epsilon must be a positive number" },
-        { "tiled_exr", ["compare", "{a}", "{tiled}"], "not supported: tiled OpenEXR file" },
+        { "tiled_exr", ["compare", "{a}", "{tiled}"], "header lacks the required attribute 'tiles'" },
         { "all_nonfinite", ["compare", "{a}", "{nan}"], "no pixel of region" },
     };
 

@@ -1,0 +1,116 @@
+namespace PathBench.Imaging.Tests.OpenExr;
+
+/// <summary>
+/// File layouts other renderers write, made by OpenImageIO (python3-openimageio, through the OpenEXR
+/// library) and checked pixel for pixel against its own decode: tiles, several parts, layers and
+/// chosen channels, UINT channels, and a data window inside a larger display window.
+/// </summary>
+public sealed class ExrLayoutTests
+{
+    public static TheoryData<string, string, string, string[]> Layouts => new()
+    {
+        { "scanline_none_half", "none", "half", [] },
+        { "scanline_zips_float", "zips", "float", [] },
+        { "tiled_zip_half_16x16", "zip", "half", ["--tile", "16", "16"] },
+        { "tiled_none_float_7x5", "none", "float", ["--tile", "7", "5"] },
+        { "tiled_zips_half_64x64", "zips", "half", ["--tile", "64", "64"] },
+        { "tiled_zip_float_origin", "zip", "float", ["--tile", "8", "8", "--origin", "-3", "11"] },
+    };
+
+    [Theory]
+    [MemberData(nameof(Layouts))]
+    public void OpenImageIO_files_read_bit_exactly(string name, string compression, string type, string[] extra)
+    {
+        using var dir = new TempFolder();
+        string path = dir.File(name + ".exr");
+        OiioReference.Write(path, 37, 21, compression, type, "R,G,B", extra);
+        OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path), ["R", "G", "B"]);
+    }
+
+    [Fact]
+    public void Every_part_of_a_multi_part_file_reads_by_index_and_by_name()
+    {
+        using var dir = new TempFolder();
+        string path = dir.File("parts.exr");
+        OiioReference.Write(path, 29, 17, "zip", "half", "R,G,B", "--parts", "3");
+        ImageReadResult first = ExrCodec.Read(path);
+        Assert.Contains(first.Notes, n => n.Contains("3 parts", StringComparison.Ordinal));
+        OiioReference.AssertSameAsOurs(path, first, ["R", "G", "B"], subimage: 0);
+        for (int p = 0; p < 3; p++)
+        {
+            string index = p.ToString(System.Globalization.CultureInfo.InvariantCulture);
+            OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path, options: new ExrReadOptions(Part: index)), ["R", "G", "B"], subimage: p);
+            OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path, options: new ExrReadOptions(Part: "part" + index)), ["R", "G", "B"], subimage: p);
+        }
+
+        ImageFileException e = Assert.Throws<ImageFileException>(() => ExrCodec.Read(path, options: new ExrReadOptions(Part: "beauty")));
+        Assert.Equal($"{path}: no part 'beauty'; parts: 0: 'part0', 1: 'part1', 2: 'part2'", e.Message);
+    }
+
+    [Fact]
+    public void Layers_and_channels_choose_what_is_read()
+    {
+        using var dir = new TempFolder();
+        string path = dir.File("layers.exr");
+        OiioReference.Write(path, 23, 13, "zip", "half", "diffuse.R,diffuse.G,diffuse.B,R,G,B,depth.Z");
+        OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path), ["R", "G", "B"]);
+        OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path, options: new ExrReadOptions(Layer: "diffuse")), ["diffuse.R", "diffuse.G", "diffuse.B"]);
+        OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path, options: new ExrReadOptions(Channels: ["depth.Z"])), ["depth.Z"]);
+        OiioReference.AssertSameAsOurs(
+            path, ExrCodec.Read(path, options: new ExrReadOptions(Channels: ["diffuse.B", "G", "depth.Z"])), ["diffuse.B", "G", "depth.Z"]);
+
+        ImageFileException noLayer = Assert.Throws<ImageFileException>(() => ExrCodec.Read(path, options: new ExrReadOptions(Layer: "specular")));
+        Assert.Equal(
+            $"{path}: layer 'specular' has no R,G,B or Y channels; layers: (none) (B,G,R), depth (Z), diffuse (B,G,R) (choose with --layer NAME or --channels A,B,C)",
+            noLayer.Message);
+        ImageFileException noChannel = Assert.Throws<ImageFileException>(() => ExrCodec.Read(path, options: new ExrReadOptions(Channels: ["Q"])));
+        Assert.Contains("no channel 'Q'; channels: ", noChannel.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Uint_channels_read_as_their_float_values()
+    {
+        using var dir = new TempFolder();
+        string path = dir.File("uint.exr");
+        OiioReference.Write(path, 19, 11, "zip", "uint", "R,G,B");
+        OiioReference.Decoded reference = OiioReference.Decode(path);
+        ImageReadResult ours = ExrCodec.Read(path);
+        Assert.Contains(ours.Notes, n => n.Contains("UINT channel", StringComparison.Ordinal));
+        for (int y = 0; y < 11; y++)
+        {
+            for (int x = 0; x < 19; x++)
+            {
+                for (int c = 0; c < 3; c++)
+                {
+                    // The pattern's integers stay below 2^24, where float holds every integer exactly.
+                    Assert.Equal((float)reference.At(x, y, "RGB"[c].ToString()), ours.Image.At(x, y, c));
+                }
+            }
+        }
+    }
+
+    [Fact]
+    public void A_data_window_inside_the_display_window_reads_as_the_display_window_with_zeros_around()
+    {
+        using var dir = new TempFolder();
+        string path = dir.File("window.exr");
+        OiioReference.Write(path, 20, 10, "zip", "float", "R,G,B", "--origin", "5", "3", "--display", "0", "0", "32", "18");
+        OiioReference.Decoded reference = OiioReference.Decode(path);
+        Assert.Equal([0, 0, 32, 18], reference.Info.Full);
+        ImageReadResult ours = ExrCodec.Read(path);
+        Assert.Equal((32, 18), (ours.Image.Width, ours.Image.Height));
+        Assert.Contains(ours.Notes, n => n.Contains("pixels outside it are zero", StringComparison.Ordinal));
+        for (int y = 0; y < 18; y++)
+        {
+            for (int x = 0; x < 32; x++)
+            {
+                bool inside = x >= 5 && x < 25 && y >= 3 && y < 13;
+                for (int c = 0; c < 3; c++)
+                {
+                    uint expected = inside ? reference.At(x - 5, y - 3, "RGB"[c].ToString()) : 0u;
+                    Assert.Equal(expected, BitConverter.SingleToUInt32Bits(ours.Image.At(x, y, c)));
+                }
+            }
+        }
+    }
+}

@@ -16,9 +16,9 @@ public enum ImageFormat
 /// <summary>Format dispatch: readers pick the format from the file's first bytes, writers from its extension.</summary>
 public static class ImageFile
 {
-    /// <summary>Reads a PFM, OpenEXR or PNG file, recognised by its magic bytes.</summary>
+    /// <summary>Reads a PFM, OpenEXR or PNG file, recognised by its magic bytes; <paramref name="exr"/> picks an OpenEXR file's part and channels.</summary>
     /// <exception cref="ImageFileException">Unreadable, unknown format, malformed or unsupported.</exception>
-    public static ImageReadResult Read(string path, ImageLimits? limits = null)
+    public static ImageReadResult Read(string path, ImageLimits? limits = null, ExrReadOptions? exr = null)
     {
         using FileStream stream = OpenRead(path);
         Span<byte> magic = stackalloc byte[8];
@@ -28,7 +28,7 @@ public static class ImageFile
         return format switch
         {
             ImageFormat.Pfm => PfmCodec.Read(stream, path, limits),
-            ImageFormat.Exr => ExrCodec.Read(stream, path, limits),
+            ImageFormat.Exr => ExrCodec.Read(stream, path, limits, exr),
             ImageFormat.Png => PngCodec.Read(stream, path, limits),
             _ => throw new ImageFileException(path, "unknown image format (expected PFM, OpenEXR or PNG by its first bytes)"),
         };

@@ -137,6 +137,33 @@ public sealed class CliTests
         _ = name;
     }
 
+    /// <summary>A layer of an OpenImageIO-written file (python3-openimageio) compared with itself by name, and the refusals around it.</summary>
+    [Fact]
+    public void Compare_and_convert_read_the_layer_and_part_asked_for()
+    {
+        using var dir = new TempFolder();
+        string layered = dir.File("layers.exr");
+        OiioReference.Write(layered, 23, 13, "zip", "half", "diffuse.R,diffuse.G,diffuse.B,R,G,B");
+        var converted = Run("convert", layered, dir.File("diffuse.pfm"), "--layer", "diffuse");
+        Assert.True(converted.Code == 0, converted.Err);
+        OiioReference.AssertSameAsOurs(layered, PfmCodec.Read(dir.File("diffuse.pfm")), ["diffuse.R", "diffuse.G", "diffuse.B"]);
+
+        var same = Run("compare", layered, dir.File("diffuse.pfm"), "--layer", "diffuse", "--json");
+        Assert.True(same.Code == 0, same.Err);
+        using (JsonDocument doc = JsonDocument.Parse(same.Out))
+        {
+            Assert.Equal(0.0, doc.RootElement.GetProperty("mse").GetDouble());
+        }
+
+        AssertOneLineError(Run("compare", layered, layered, "--layer", "specular"), "layer 'specular' has no R,G,B or Y channels; layers: (none) (B,G,R), diffuse (B,G,R)");
+        AssertOneLineError(Run("compare", layered, layered, "--part", "2"), "no part '2'; parts: 0");
+        AssertOneLineError(Run("compare", layered, layered, "--channels", "R,G"), "--channels takes one name or three");
+
+        string shifted = dir.File("shifted.exr");
+        OiioReference.Write(shifted, 23, 13, "zip", "half", "R,G,B", "--origin", "4", "0", "--display", "4", "0", "23", "13");
+        AssertOneLineError(Run("compare", layered, shifted), "display windows differ: 23x13 at (0,0) and 23x13 at (4,0)");
+    }
+
     [Fact]
     public void Compare_writes_heatmap_and_side_by_side()
     {

@@ -40,6 +40,7 @@ internal static class CompareCommand
         tone.AcceptOnlyFromAmong("clamp", "reinhard");
         var json = new Option<bool>("--json") { Description = "Write JSON instead of a table" };
 
+        var exrSelection = new ExrSelectionOptions();
         var command = new Command("compare", "Error metrics of a test image against a reference image");
         command.Arguments.Add(reference);
         command.Arguments.Add(test);
@@ -47,6 +48,8 @@ internal static class CompareCommand
         {
             command.Options.Add(o);
         }
+
+        exrSelection.AddTo(command);
 
         command.SetAction(parse =>
         {
@@ -84,8 +87,17 @@ internal static class CompareCommand
                 }
             }
 
-            ImageReadResult r = ImageFile.Read(refPath);
-            ImageReadResult t = ImageFile.Read(testPath);
+            ExrReadOptions exr = exrSelection.Read(parse);
+            ImageReadResult r = ImageFile.Read(refPath, exr: exr);
+            ImageReadResult t = ImageFile.Read(testPath, exr: exr);
+            PixelRect rw = r.DisplayWindow ?? PixelRect.Full(r.Image.Width, r.Image.Height);
+            PixelRect tw = t.DisplayWindow ?? PixelRect.Full(t.Image.Width, t.Image.Height);
+            // Different sizes get the comparison's own size message; same sizes at different places are refused here.
+            if (rw != tw && (rw.Width, rw.Height) == (tw.Width, tw.Height))
+            {
+                throw new CliUsageException(FormattableString.Invariant(
+                    $"{refPath} vs {testPath}: display windows differ: {rw.Width}x{rw.Height} at ({rw.X},{rw.Y}) and {tw.Width}x{tw.Height} at ({tw.X},{tw.Y})"));
+            }
             var options = new ComparisonOptions { Epsilon = eps, DataRange = range, Region = region };
             ComparisonReport report;
             try

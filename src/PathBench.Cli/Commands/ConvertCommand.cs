@@ -28,6 +28,8 @@ internal static class ConvertCommand
         command.Options.Add(tone);
         command.Options.Add(half);
         command.Options.Add(compression);
+        var exrSelection = new ExrSelectionOptions();
+        exrSelection.AddTo(command);
         command.SetAction(parse =>
         {
             string inPath = parse.GetValue(input)!;
@@ -51,7 +53,7 @@ internal static class ConvertCommand
                 throw new CliUsageException($"--half and --compression apply to OpenEXR output only; {outPath} is {format.ToString().ToUpperInvariant()}");
             }
 
-            ImageReadResult read = ImageFile.Read(inPath);
+            ImageReadResult read = ImageFile.Read(inPath, exr: exrSelection.Read(parse));
             foreach (string note in read.Notes)
             {
                 io.Error.WriteLine($"pathbench: note: {inPath}: {note}");

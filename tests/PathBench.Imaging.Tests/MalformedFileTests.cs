@@ -120,6 +120,24 @@ public sealed class MalformedFileTests
     // Our writer puts screenWindowWidth last: its 4-byte value, then the header's null byte, then the table.
     private static int OffsetTable(byte[] exr) => AttributeValue(exr, "screenWindowWidth", "float") + 4 + 1;
 
+    /// <summary>An OpenImageIO-written fixture (Fixtures/exr) and where its first offset table starts, found by our header parser.</summary>
+    private static (byte[] Bytes, int Table) Fixture(string name)
+    {
+        byte[] bytes = File.ReadAllBytes(Path.Combine(AppContext.BaseDirectory, "Fixtures", "exr", name + ".exr"));
+        var stream = new MemoryStream(bytes);
+        new ExrHeaderReader(stream, name, bytes.Length).ReadHeaders();
+        return (bytes, (int)stream.Position);
+    }
+
+    private static byte[] MutateFixture(string name, Action<byte[], int> change)
+    {
+        (byte[] bytes, int table) = Fixture(name);
+        change(bytes, table);
+        return bytes;
+    }
+
+    private static int FixtureChunk(byte[] b, int table, int index) => (int)BinaryPrimitives.ReadUInt64LittleEndian(b.AsSpan(table + (8 * index)));
+
     private static int Chunk(byte[] exr, int index) => (int)BinaryPrimitives.ReadUInt64LittleEndian(exr.AsSpan(OffsetTable(exr) + (8 * index)));
 
     // Channel entries in the chlist value: B, G, R, each name\0 + 16 bytes.
@@ -234,6 +252,12 @@ public sealed class MalformedFileTests
             new("exr_chunk_size_negative", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 0) + 4, -1)), "declares -1 bytes"),
             new("exr_chunk_size_zero", () => Mutate(ValidExr(), b => WriteInt(b, Chunk(b, 1) + 4, 0)), "chunk 1 (y=16) declares 0 bytes"),
             new("exr_chunk_larger_than_file", () => { byte[] b = ValidExr(); return b[..(Chunk(b, 1) + 20)]; }, "truncated: chunk 1"),
+            new("exr_tile_offset_out_of_range", () => MutateFixture("tiled_zip_half_8x8", (b, t) => BinaryPrimitives.WriteUInt64LittleEndian(b.AsSpan(t + 8), 1UL << 40)), "offset table entry 1 points to byte 1099511627776"),
+            new("exr_tile_coordinates_wrong", () => MutateFixture("tiled_zip_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0), 5)), "chunk 0 is tile (5,0) of level (0,0); expected tile (0,0)"),
+            new("exr_tile_level_wrong", () => MutateFixture("tiled_zip_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 2) + 8, 1)), "chunk 2 is tile (2,0) of level (1,0)"),
+            new("exr_tile_size_lie", () => MutateFixture("tiled_zip_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 16, 1 << 20)), "chunk 0 (tile at x=0, y=0) declares 1048576 bytes of data; it must be 1..384"),
+            new("exr_part_number_wrong", () => MutateFixture("two_parts_zip_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0), 1)), "chunk 0 belongs to part 1, expected part 0"),
+            new("exr_chunk_count_lie", () => MutateFixture("two_parts_zip_half", (b, _) => WriteInt(b, AttributeValue(b, "chunkCount", "int"), 0)), "chunkCount 0 is not positive"),
             new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed it needs 444"),
             new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
             {

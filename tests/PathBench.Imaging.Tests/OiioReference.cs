@@ -39,11 +39,17 @@ internal static class OiioReference
     {
         string prefix = path + ".oiio" + subimage.ToString(CultureInfo.InvariantCulture);
         ExternalTool.RunOiioScript(["decode", path, prefix, "--subimage", subimage.ToString(CultureInfo.InvariantCulture)]);
+        return Load(prefix);
+    }
+
+    /// <summary>A decode oiio_exr.py wrote to <paramref name="prefix"/>.json and .bin (live, or recorded beside a fixture).</summary>
+    public static Decoded Load(string prefix)
+    {
         Info info = JsonSerializer.Deserialize<Info>(File.ReadAllText(prefix + ".json"), new JsonSerializerOptions { PropertyNameCaseInsensitive = true })
             ?? throw new InvalidOperationException("oiio_exr.py wrote an empty description");
         byte[] bytes = File.ReadAllBytes(prefix + ".bin");
         long expected = (long)info.Width * info.Height * info.Channels.Length * 4;
-        Assert.True(bytes.Length == expected, $"oiio_exr.py decode wrote {bytes.Length} bytes; its description needs {expected}");
+        Assert.True(bytes.Length == expected, $"{prefix}.bin has {bytes.Length} bytes; its description needs {expected}");
         var bits = new uint[bytes.Length / 4];
         Buffer.BlockCopy(bytes, 0, bits, 0, bytes.Length);
         return new Decoded(info, bits);
@@ -53,24 +59,37 @@ internal static class OiioReference
     /// Asserts that our reader's image of <paramref name="path"/> holds, bit for bit, OpenImageIO's
     /// decode of channels <paramref name="rgb"/> (three names for R, G, B, or one copied to all three).
     /// </summary>
-    public static void AssertSameAsOurs(string path, ImageReadResult ours, string[] rgb, int subimage = 0)
+    public static void AssertSameAsOurs(string path, ImageReadResult ours, string[] rgb, int subimage = 0) =>
+        AssertSame(Decode(path, subimage), ours, Path.GetFileName(path), rgb);
+
+    /// <summary>
+    /// Asserts that <paramref name="ours"/> (the display window) holds <paramref name="reference"/> (the
+    /// data window) where the two overlap, and zero elsewhere.
+    /// </summary>
+    public static void AssertSame(Decoded reference, ImageReadResult ours, string what, string[] rgb)
     {
-        Decoded reference = Decode(path, subimage);
         RgbImage image = ours.Image;
-        Assert.Equal((reference.Info.Width, reference.Info.Height), (image.Width, image.Height));
+        Info info = reference.Info;
+        Assert.Equal((info.Full[2], info.Full[3]), (image.Width, image.Height));
+        int dx = info.X - info.Full[0];
+        int dy = info.Y - info.Full[1];
+        bool uint32 = info.Formats.All(f => f == "uint"); // read by us as float: exact below 2^24
         for (int y = 0; y < image.Height; y++)
         {
             for (int x = 0; x < image.Width; x++)
             {
+                bool inside = x - dx >= 0 && x - dx < info.Width && y - dy >= 0 && y - dy < info.Height;
                 for (int c = 0; c < 3; c++)
                 {
                     string name = rgb[rgb.Length == 1 ? 0 : c];
-                    uint expected = reference.At(x, y, name);
+                    uint expected = !inside ? 0u
+                        : uint32 ? BitConverter.SingleToUInt32Bits(reference.At(x - dx, y - dy, name))
+                        : reference.At(x - dx, y - dy, name);
                     uint actual = BitConverter.SingleToUInt32Bits(image.At(x, y, c));
                     if (expected != actual)
                     {
                         Assert.Fail(FormattableString.Invariant(
-                            $"{Path.GetFileName(path)}: pixel ({x},{y}) channel {name} is {BitConverter.UInt32BitsToSingle(actual):R} (0x{actual:x8}); OpenImageIO decodes {BitConverter.UInt32BitsToSingle(expected):R} (0x{expected:x8})"));
+                            $"{what}: pixel ({x},{y}) channel {name} is {BitConverter.UInt32BitsToSingle(actual):R} (0x{actual:x8}); OpenImageIO decodes {BitConverter.UInt32BitsToSingle(expected):R} (0x{expected:x8})"));
                     }
                 }
             }

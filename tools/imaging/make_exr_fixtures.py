@@ -1,0 +1,42 @@
+#!/usr/bin/python3
+"""Regenerates the OpenEXR fixtures of tests/PathBench.Imaging.Tests/Fixtures/exr: small files written
+by OpenImageIO (Debian python3-openimageio) in the layouts and compressions our reader supports, each
+with OpenImageIO's own decode recorded beside it (NAME.json, NAME.bin; see oiio_exr.py decode). The
+reader's fixture tests need no reference tool; ExrFixtureTests re-decodes each fixture live, so a
+recorded decode that no longer matches the library fails.
+
+  tools/imaging/make_exr_fixtures.py            (from the repository root)
+"""
+import os
+import subprocess
+import sys
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+OUT = os.path.join(HERE, "..", "..", "tests", "PathBench.Imaging.Tests", "Fixtures", "exr")
+SCRIPT = os.path.join(HERE, "oiio_exr.py")
+
+# name, compression, pixel type, channels, extra options of oiio_exr.py write
+FIXTURES = [
+    ("scanline_none_half", "none", "half", "R,G,B", []),
+    ("scanline_zips_float", "zips", "float", "R,G,B", []),
+    ("scanline_zip_half", "zip", "half", "R,G,B", ["--seed", "3"]),
+    ("tiled_zip_half_8x8", "zip", "half", "R,G,B", ["--tile", "8", "8"]),
+    ("two_parts_zip_half", "zip", "half", "R,G,B", ["--parts", "2"]),
+    ("layers_zip_half", "zip", "half", "R,G,B,diffuse.R,diffuse.G,diffuse.B", []),
+    ("uint_zip", "zip", "uint", "R,G,B", []),
+    ("window_zip_float", "zip", "float", "R,G,B", ["--origin", "3", "2", "--display", "0", "0", "27", "16"]),
+]
+
+
+def main():
+    os.makedirs(OUT, exist_ok=True)
+    for name, compression, pixel, channels, extra in FIXTURES:
+        path = os.path.join(OUT, name + ".exr")
+        subprocess.run([sys.executable, SCRIPT, "write", path, "--size", "21", "11", "--channels", channels,
+                        "--type", pixel, "--compression", compression, *extra], check=True)
+        subprocess.run([sys.executable, SCRIPT, "decode", path, os.path.join(OUT, name)], check=True)
+        print(name, os.path.getsize(path), "bytes")
+
+
+if __name__ == "__main__":
+    main()

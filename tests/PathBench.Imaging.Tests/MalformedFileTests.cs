@@ -258,6 +258,10 @@ public sealed class MalformedFileTests
             new("exr_tile_size_lie", () => MutateFixture("tiled_zip_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 16, 1 << 20)), "chunk 0 (tile at x=0, y=0) declares 1048576 bytes of data; it must be 1..384"),
             new("exr_part_number_wrong", () => MutateFixture("two_parts_zip_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0), 1)), "chunk 0 belongs to part 1, expected part 0"),
             new("exr_chunk_count_lie", () => MutateFixture("two_parts_zip_half", (b, _) => WriteInt(b, AttributeValue(b, "chunkCount", "int"), 0)), "chunkCount 0 is not positive"),
+            new("exr_rle_literal_past_end", () => MutateFixture("scanline_rle_half", (b, t) => b[FixtureChunk(b, t, 0) + 8] = 0x81), "chunk 0 (y=0): RLE literal run of 127 bytes at byte 0 runs past the end of the chunk"),
+            new("exr_rle_repeat_too_long", () => MutateFixture("scanline_rle_half", (b, t) => b[FixtureChunk(b, t, 0) + 8] = 0x7f), "chunk 0 (y=0): RLE data decode to more than the 126 bytes expected"),
+            new("exr_pxr24_zlib_corrupt", () => MutateFixture("scanline_pxr24_float", (b, t) => b[FixtureChunk(b, t, 0) + 8] = 0), "chunk 0 (y=0): bad zlib stream"),
+            new("exr_pxr24_zlib_short", () => MutateFixture("scanline_pxr24_float", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 12)), "chunk 0 (y=0): zlib data ends after"),
             new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed it needs 444"),
             new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
             {

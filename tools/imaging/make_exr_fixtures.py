@@ -24,6 +24,10 @@ FIXTURES = [
     ("two_parts_zip_half", "zip", "half", "R,G,B", ["--parts", "2"]),
     ("layers_zip_half", "zip", "half", "R,G,B,diffuse.R,diffuse.G,diffuse.B", []),
     ("uint_zip", "zip", "uint", "R,G,B", []),
+    ("scanline_rle_half", "rle", "half", "R,G,B", []),
+    ("tiled_rle_float_8x4", "rle", "float", "R,G,B", ["--tile", "8", "4"]),
+    ("scanline_pxr24_float", "pxr24", "float", "R,G,B", []),
+    ("scanline_pxr24_half", "pxr24", "half", "R,G,B", ["--seed", "2"]),
     ("window_zip_float", "zip", "float", "R,G,B", ["--origin", "3", "2", "--display", "0", "0", "27", "16"]),
 ]
 

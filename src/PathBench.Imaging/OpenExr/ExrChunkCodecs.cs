@@ -8,7 +8,8 @@ namespace PathBench.Imaging;
 internal static class ExrChunkCodecs
 {
     /// <summary>The compressions the reader decodes.</summary>
-    public static bool CanDecode(ExrCompression c) => c is ExrCompression.None or ExrCompression.Zips or ExrCompression.Zip;
+    public static bool CanDecode(ExrCompression c) =>
+        c is ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Pxr24;
 
     /// <summary>Scanlines per chunk of a scanline part (OpenEXR file layout specification, "Compression").</summary>
     public static int LinesPerChunk(ExrCompression c) => c switch
@@ -50,9 +51,15 @@ internal static class ExrChunkCodecs
     {
         switch (compression)
         {
+            case ExrCompression.Rle:
+                ExrRle.Decompress(packed.Span, raw, scratch);
+                break;
             case ExrCompression.Zips:
             case ExrCompression.Zip:
                 ExrZip.Decompress(packed, raw, scratch);
+                break;
+            case ExrCompression.Pxr24:
+                ExrPxr24.Decompress(packed, raw, block, scratch);
                 break;
             default:
                 throw new ArgumentOutOfRangeException(nameof(compression), compression, "no decoder for this compression");

@@ -20,8 +20,9 @@ public sealed class ExrFixtureTests
         // The names tools/imaging/make_exr_fixtures.py writes.
         string[] expected =
         [
-            "layers_zip_half", "scanline_none_half", "scanline_zip_half", "scanline_zips_float", "tiled_zip_half_8x8",
-            "two_parts_zip_half", "uint_zip", "window_zip_float",
+            "layers_zip_half", "scanline_none_half", "scanline_pxr24_float", "scanline_pxr24_half", "scanline_rle_half",
+            "scanline_zip_half", "scanline_zips_float", "tiled_rle_float_8x4", "tiled_zip_half_8x8", "two_parts_zip_half",
+            "uint_zip", "window_zip_float",
         ];
         Assert.Subset(Files.ToHashSet(), expected.ToHashSet());
     }

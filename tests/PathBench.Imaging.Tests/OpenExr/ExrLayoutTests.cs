@@ -15,6 +15,14 @@ public sealed class ExrLayoutTests
         { "tiled_none_float_7x5", "none", "float", ["--tile", "7", "5"] },
         { "tiled_zips_half_64x64", "zips", "half", ["--tile", "64", "64"] },
         { "tiled_zip_float_origin", "zip", "float", ["--tile", "8", "8", "--origin", "-3", "11"] },
+        { "scanline_rle_half", "rle", "half", [] },
+        { "scanline_rle_float", "rle", "float", ["--seed", "4"] },
+        { "tiled_rle_half_8x8", "rle", "half", ["--tile", "8", "8"] },
+        { "scanline_pxr24_half", "pxr24", "half", [] },
+        { "scanline_pxr24_float", "pxr24", "float", ["--seed", "5"] },
+        { "tiled_pxr24_float_16x8", "pxr24", "float", ["--tile", "16", "8"] },
+        { "scanline_pxr24_uint", "pxr24", "uint", [] },
+        { "scanline_rle_uint", "rle", "uint", [] },
     };
 
     [Theory]

@@ -262,6 +262,8 @@ public sealed class MalformedFileTests
             new("exr_rle_repeat_too_long", () => MutateFixture("scanline_rle_half", (b, t) => b[FixtureChunk(b, t, 0) + 8] = 0x7f), "chunk 0 (y=0): RLE data decode to more than the 126 bytes expected"),
             new("exr_pxr24_zlib_corrupt", () => MutateFixture("scanline_pxr24_float", (b, t) => b[FixtureChunk(b, t, 0) + 8] = 0), "chunk 0 (y=0): bad zlib stream"),
             new("exr_pxr24_zlib_short", () => MutateFixture("scanline_pxr24_float", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 12)), "chunk 0 (y=0): zlib data ends after"),
+            new("exr_b44_chunk_short", () => MutateFixture("scanline_b44_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 20)), "chunk 0 (y=0): B44 data end inside a block of channel 'B' at (4,0)"),
+            new("exr_b44_bytes_left_over", () => MutateFixture("tiled_b44a_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 16, 383)), "chunk 0 (tile at x=0, y=0): B44 chunk has"),
             new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed it needs 444"),
             new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
             {

@@ -28,6 +28,8 @@ FIXTURES = [
     ("tiled_rle_float_8x4", "rle", "float", "R,G,B", ["--tile", "8", "4"]),
     ("scanline_pxr24_float", "pxr24", "float", "R,G,B", []),
     ("scanline_pxr24_half", "pxr24", "half", "R,G,B", ["--seed", "2"]),
+    ("scanline_b44_half", "b44", "half", "R,G,B", []),
+    ("tiled_b44a_half_8x8", "b44a", "half", "R,G,B", ["--tile", "8", "8"]),
     ("window_zip_float", "zip", "float", "R,G,B", ["--origin", "3", "2", "--display", "0", "0", "27", "16"]),
 ]
 

@@ -9,7 +9,8 @@ internal static class ExrChunkCodecs
 {
     /// <summary>The compressions the reader decodes.</summary>
     public static bool CanDecode(ExrCompression c) =>
-        c is ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Pxr24;
+        c is ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Pxr24
+        or ExrCompression.B44 or ExrCompression.B44A;
 
     /// <summary>Scanlines per chunk of a scanline part (OpenEXR file layout specification, "Compression").</summary>
     public static int LinesPerChunk(ExrCompression c) => c switch
@@ -24,7 +25,7 @@ internal static class ExrChunkCodecs
     /// <summary>
     /// An upper bound on raw bytes per stored byte. zlib cannot expand data by more than about 1032:1
     /// (deflate's longest match, 258 bytes, costs at least two bits; from memory); RLE turns two bytes
-    /// into at most 128. DWA's run-length-coded AC data go through zlib as well, so it has no useful
+    /// into at most 128; a flat B44A block codes 32 bytes in 3. DWA's run-length-coded AC data go through zlib as well, so it has no useful
     /// bound and only the image size limit applies.
     /// </summary>
     public static long MaxExpansion(ExrCompression c) => c switch
@@ -33,6 +34,7 @@ internal static class ExrChunkCodecs
         ExrCompression.Rle => 64,
         ExrCompression.Zips or ExrCompression.Zip => 1032,
         ExrCompression.Pxr24 => 1032 * 4 / 3 + 1, // FLOAT samples lose a byte before zlib
+        ExrCompression.B44 or ExrCompression.B44A => 11, // a flat B44A block: 3 bytes for 32
         _ => long.MaxValue,
     };
 
@@ -60,6 +62,10 @@ internal static class ExrChunkCodecs
                 break;
             case ExrCompression.Pxr24:
                 ExrPxr24.Decompress(packed, raw, block, scratch);
+                break;
+            case ExrCompression.B44:
+            case ExrCompression.B44A:
+                ExrB44.Decompress(packed.Span, raw, block, scratch);
                 break;
             default:
                 throw new ArgumentOutOfRangeException(nameof(compression), compression, "no decoder for this compression");

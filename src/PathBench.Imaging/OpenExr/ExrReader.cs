@@ -47,6 +47,14 @@ internal static class ExrReader
         }
 
         limits.Check(fileName, data.Width, data.Height, part.Channels.Length);
+
+        // B44 codes perceptually linear HALF channels through an exp/log table this reader does not have.
+        if (part.Compression is ExrCompression.B44 or ExrCompression.B44A
+            && part.Channels.FirstOrDefault(c => c.PerceptuallyLinear && c.Type == ExrPixelType.Half) is { Name: { } linear })
+        {
+            throw new ImageNotSupportedException(fileName, $"B44 with the perceptually linear channel '{linear}'");
+        }
+
         limits.Check(fileName, display.Width, display.Height, RgbImage.Channels);
         Selection selection = SelectChannels(part.Channels, options, fileName, notes);
 

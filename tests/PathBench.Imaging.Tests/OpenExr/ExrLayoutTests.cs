@@ -23,6 +23,11 @@ public sealed class ExrLayoutTests
         { "tiled_pxr24_float_16x8", "pxr24", "float", ["--tile", "16", "8"] },
         { "scanline_pxr24_uint", "pxr24", "uint", [] },
         { "scanline_rle_uint", "rle", "uint", [] },
+        { "scanline_b44_half", "b44", "half", [] },
+        { "scanline_b44_float", "b44", "float", [] },
+        { "scanline_b44a_half", "b44a", "half", ["--seed", "6"] },
+        { "tiled_b44a_half_8x8", "b44a", "half", ["--tile", "8", "8"] },
+        { "tiled_b44_half_13x7", "b44", "half", ["--tile", "13", "7"] },
     };
 
     [Theory]

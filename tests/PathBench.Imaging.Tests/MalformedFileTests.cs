@@ -225,7 +225,7 @@ public sealed class MalformedFileTests
             new("exr_channel_duplicate", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 1)] = (byte)'B'), "channel 'B' appears twice"),
             new("exr_no_rgb_or_y", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 2)] = (byte)'Q'), "no R,G,B or Y channels; layers: (none) (B,G,Q)"),
             new("exr_chlist_unterminated", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 3)] = (byte)'Z'), "channel list"),
-            new("exr_compression_piz", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 4), "not supported: PIZ compression"),
+            new("exr_compression_dwaa", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 8), "not supported: DWAA compression"),
             new("exr_compression_unknown", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 42), "not supported: code 42 compression"),
             new("exr_data_window_inverted", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, -10)), "data window (0,0)-(-10,20) is empty"),
             new("exr_data_window_huge", () => Mutate(ValidExr(), b =>
@@ -264,6 +264,8 @@ public sealed class MalformedFileTests
             new("exr_pxr24_zlib_short", () => MutateFixture("scanline_pxr24_float", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 12)), "chunk 0 (y=0): zlib data ends after"),
             new("exr_b44_chunk_short", () => MutateFixture("scanline_b44_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 20)), "chunk 0 (y=0): B44 data end inside a block of channel 'B' at (4,0)"),
             new("exr_b44_bytes_left_over", () => MutateFixture("tiled_b44a_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 16, 383)), "chunk 0 (tile at x=0, y=0): B44 chunk has"),
+            new("exr_piz_bitmap_range_lie", () => MutateFixture("scanline_piz_half", (b, t) => b[FixtureChunk(b, t, 0) + 9] = 0x30), "chunk 0 (y=0): PIZ bitmap range"),
+            new("exr_piz_huffman_cut", () => MutateFixture("scanline_piz_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 40)), "chunk 0 (y=0): "),
             new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed it needs 444"),
             new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
             {

@@ -30,6 +30,9 @@ FIXTURES = [
     ("scanline_pxr24_half", "pxr24", "half", "R,G,B", ["--seed", "2"]),
     ("scanline_b44_half", "b44", "half", "R,G,B", []),
     ("tiled_b44a_half_8x8", "b44a", "half", "R,G,B", ["--tile", "8", "8"]),
+    # Broad steps, so that PIZ chunks compress instead of being stored raw.
+    ("scanline_piz_half", "piz", "half", "R,G,B", ["--steps", "--size", "64", "40"]),
+    ("tiled_piz_float_32x16", "piz", "float", "R,G,B", ["--tile", "32", "16", "--steps", "--size", "70", "40"]),
     ("window_zip_float", "zip", "float", "R,G,B", ["--origin", "3", "2", "--display", "0", "0", "27", "16"]),
 ]
 

@@ -3,7 +3,7 @@
 the OpenEXR library) for PathBench's live cross-checks of its own EXR reader and writer.
 
   oiio_exr.py write OUT.exr --size W H --channels R,G,B --type half|float|uint[,…] \
-      --compression NAME [--tile W H] [--seed S] [--origin X Y] [--display X Y W H] [--parts N]
+      --compression NAME [--tile W H] [--seed S] [--noise SIGMA] [--origin X Y] [--display X Y W H] [--parts N]
   oiio_exr.py decode IN.exr OUT_PREFIX [--subimage N]
 
 `write` fills every channel with a deterministic test pattern (noise over a gradient, flat
@@ -21,13 +21,13 @@ import numpy as np
 import OpenImageIO as oiio
 
 
-def pattern(width, height, channels, seed):
+def pattern(width, height, channels, seed, noise_scale=0.25):
     rng = np.random.default_rng(seed)
     y, x = np.mgrid[0:height, 0:width].astype(np.float64)
     planes = []
     for c in range(channels):
         base = (x / max(width - 1, 1)) * (1.5 + c) + (y / max(height - 1, 1)) * 0.5
-        noise = rng.normal(0.0, 0.25, size=(height, width))
+        noise = rng.normal(0.0, noise_scale, size=(height, width))
         v = base + noise * (1 + c)
         v[(x // 8 + y // 8) % 5 == 0] = 0.375 + 0.125 * c          # flat 8x8-ish blocks
         v[(x // 4) % 7 == 3] *= 40.0                               # HDR stripes
@@ -35,6 +35,12 @@ def pattern(width, height, channels, seed):
         v[(x + y) % 13 == 0] *= 1e-5                               # tiny values
         planes.append(v)
     return np.stack(planes, axis=-1)
+
+
+def steps(width, height, channels):
+    """A compressible pattern: broad steps of a few distinct values, for codecs that store noise raw."""
+    y, x = np.mgrid[0:height, 0:width].astype(np.float64)
+    return np.stack([(x // 6 + y // 5) * 0.125 + c for c in range(channels)], axis=-1)
 
 
 def write(args):
@@ -45,7 +51,7 @@ def write(args):
         types = types * len(names)
     if len(types) != len(names):
         raise SystemExit("--type needs one type or one per channel")
-    data = pattern(width, height, len(names), args.seed)
+    data = steps(width, height, len(names)) if args.steps else pattern(width, height, len(names), args.seed, args.noise)
     parts = []
     for p in range(args.parts):
         spec = oiio.ImageSpec(width, height, len(names), oiio.FLOAT)
@@ -124,6 +130,8 @@ def main():
     w.add_argument("--compression", required=True)
     w.add_argument("--tile", nargs=2, type=int)
     w.add_argument("--seed", type=int, default=1)
+    w.add_argument("--steps", action="store_true", help="write broad steps instead of the noisy pattern")
+    w.add_argument("--noise", type=float, default=0.25, help="standard deviation of the noise over the gradient")
     w.add_argument("--origin", nargs=2, type=int, default=[0, 0])
     w.add_argument("--display", nargs=4, type=int)
     w.add_argument("--parts", type=int, default=1)

@@ -10,7 +10,7 @@ internal static class ExrChunkCodecs
     /// <summary>The compressions the reader decodes.</summary>
     public static bool CanDecode(ExrCompression c) =>
         c is ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Pxr24
-        or ExrCompression.B44 or ExrCompression.B44A;
+        or ExrCompression.B44 or ExrCompression.B44A or ExrCompression.Piz;
 
     /// <summary>Scanlines per chunk of a scanline part (OpenEXR file layout specification, "Compression").</summary>
     public static int LinesPerChunk(ExrCompression c) => c switch
@@ -25,7 +25,8 @@ internal static class ExrChunkCodecs
     /// <summary>
     /// An upper bound on raw bytes per stored byte. zlib cannot expand data by more than about 1032:1
     /// (deflate's longest match, 258 bytes, costs at least two bits; from memory); RLE turns two bytes
-    /// into at most 128; a flat B44A block codes 32 bytes in 3. DWA's run-length-coded AC data go through zlib as well, so it has no useful
+    /// into at most 128; a flat B44A block codes 32 bytes in 3; PIZ's Huffman runs bound it near 453
+    /// (see <see cref="ExrPiz.MaxExpansion"/>). DWA's run-length-coded AC data go through zlib as well, so it has no useful
     /// bound and only the image size limit applies.
     /// </summary>
     public static long MaxExpansion(ExrCompression c) => c switch
@@ -35,6 +36,7 @@ internal static class ExrChunkCodecs
         ExrCompression.Zips or ExrCompression.Zip => 1032,
         ExrCompression.Pxr24 => 1032 * 4 / 3 + 1, // FLOAT samples lose a byte before zlib
         ExrCompression.B44 or ExrCompression.B44A => 11, // a flat B44A block: 3 bytes for 32
+        ExrCompression.Piz => ExrPiz.MaxExpansion,
         _ => long.MaxValue,
     };
 
@@ -66,6 +68,9 @@ internal static class ExrChunkCodecs
             case ExrCompression.B44:
             case ExrCompression.B44A:
                 ExrB44.Decompress(packed.Span, raw, block, scratch);
+                break;
+            case ExrCompression.Piz:
+                ExrPiz.Decompress(packed.Span, raw, block, scratch);
                 break;
             default:
                 throw new ArgumentOutOfRangeException(nameof(compression), compression, "no decoder for this compression");

@@ -20,7 +20,7 @@ public sealed class ExrFixtureTests
         // The names tools/imaging/make_exr_fixtures.py writes.
         string[] expected =
         [
-            "layers_zip_half", "scanline_b44_half", "scanline_none_half", "tiled_b44a_half_8x8", "scanline_pxr24_float", "scanline_pxr24_half", "scanline_rle_half",
+            "layers_zip_half", "scanline_b44_half", "scanline_none_half", "scanline_piz_half", "tiled_b44a_half_8x8", "tiled_piz_float_32x16", "scanline_pxr24_float", "scanline_pxr24_half", "scanline_rle_half",
             "scanline_zip_half", "scanline_zips_float", "tiled_rle_float_8x4", "tiled_zip_half_8x8", "two_parts_zip_half",
             "uint_zip", "window_zip_float",
         ];

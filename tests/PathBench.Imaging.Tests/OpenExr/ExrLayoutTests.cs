@@ -28,7 +28,30 @@ public sealed class ExrLayoutTests
         { "scanline_b44a_half", "b44a", "half", ["--seed", "6"] },
         { "tiled_b44a_half_8x8", "b44a", "half", ["--tile", "8", "8"] },
         { "tiled_b44_half_13x7", "b44", "half", ["--tile", "13", "7"] },
+        { "scanline_piz_half", "piz", "half", [] },
+        { "scanline_piz_float", "piz", "float", ["--seed", "8"] },
+        { "scanline_piz_uint", "piz", "uint", [] },
+        { "scanline_piz_half_steps", "piz", "half", ["--steps"] },
+        { "scanline_piz_float_steps", "piz", "float", ["--steps"] },
+        { "tiled_piz_half_steps_16x8", "piz", "half", ["--tile", "16", "8", "--steps"] },
+        { "tiled_piz_half_16x16", "piz", "half", ["--tile", "16", "16"] },
+        { "tiled_piz_float_8x5", "piz", "float", ["--tile", "8", "5"] },
     };
+
+    /// <summary>PIZ over several 32-line chunks with a short last one, a 1-pixel column and a 1-line row.</summary>
+    [Theory]
+    [InlineData("piz_half_61x70", 61, 70, "half")]
+    [InlineData("piz_half_61x70_steps", 61, 70, "half", "steps")]
+    [InlineData("piz_float_300x40_steps", 300, 40, "float", "steps")]
+    [InlineData("piz_float_1x40", 1, 40, "float")]
+    [InlineData("piz_half_50x1", 50, 1, "half")]
+    public void PIZ_files_of_awkward_sizes_read_bit_exactly(string name, int width, int height, string type, string content = "noise")
+    {
+        using var dir = new TempFolder();
+        string path = dir.File(name + ".exr");
+        OiioReference.Write(path, width, height, "piz", type, "R,G,B", content == "steps" ? ["--steps"] : ["--seed", "3"]);
+        OiioReference.AssertSameAsOurs(path, ExrCodec.Read(path), ["R", "G", "B"]);
+    }
 
     [Theory]
     [MemberData(nameof(Layouts))]

@@ -92,24 +92,7 @@ internal static class ExrPiz
         Span<ushort> words = MemoryMarshal.Cast<byte, ushort>(scratch[..raw.Length]);
         ExrHuffman.Decode(packed.Slice(p, hufLength), words);
 
-        int start = 0;
-        for (int c = 0; c < block.Channels.Length; c++)
-        {
-            int nx = block.SamplesPerLine(c);
-            int ny = block.LineCount(c);
-            int wordsPerSample = block.Channels[c].Size / 2;
-            if (nx == 0 || ny == 0)
-            {
-                continue;
-            }
-
-            for (int j = 0; j < wordsPerSample; j++)
-            {
-                ExrWavelet.Decode(words, start + j, nx, wordsPerSample, ny, wordsPerSample * nx, valueCount - 1);
-            }
-
-            start += nx * ny * wordsPerSample;
-        }
+        TransformPlanes(block, words, valueCount - 1, inverse: true);
 
         // The wavelet is exactly invertible, so a valid chunk yields only ranks of used values.
         for (int i = 0; i < words.Length; i++)
@@ -175,24 +158,7 @@ internal static class ExrPiz
             words[i] = rank[words[i]];
         }
 
-        int start = 0;
-        for (int c = 0; c < block.Channels.Length; c++)
-        {
-            int nx = block.SamplesPerLine(c);
-            int ny = block.LineCount(c);
-            int wordsPerSample = block.Channels[c].Size / 2;
-            if (nx == 0 || ny == 0)
-            {
-                continue;
-            }
-
-            for (int j = 0; j < wordsPerSample; j++)
-            {
-                ExrWavelet.Encode(words, start + j, nx, wordsPerSample, ny, wordsPerSample * nx, valueCount - 1);
-            }
-
-            start += nx * ny * wordsPerSample;
-        }
+        TransformPlanes(block, words, valueCount - 1, inverse: false);
 
         byte[] huffman = ExrHuffman.Encode(words);
         int bitmapBytes = minByte <= maxByte ? maxByte - minByte + 1 : 0;
@@ -279,5 +245,38 @@ internal static class ExrPiz
         }
 
         return lines;
+    }
+
+    /// <summary>
+    /// Runs the wavelet (or its inverse) over each channel's plane of 16-bit words: a HALF sample is
+    /// one word, a FLOAT or UINT sample two, each word position transformed as its own image.
+    /// </summary>
+    private static void TransformPlanes(ExrBlock block, Span<ushort> words, int maxValue, bool inverse)
+    {
+        int start = 0;
+        for (int c = 0; c < block.Channels.Length; c++)
+        {
+            int nx = block.SamplesPerLine(c);
+            int ny = block.LineCount(c);
+            int wordsPerSample = block.Channels[c].Size / 2;
+            if (nx == 0 || ny == 0)
+            {
+                continue;
+            }
+
+            for (int j = 0; j < wordsPerSample; j++)
+            {
+                if (inverse)
+                {
+                    ExrWavelet.Decode(words, start + j, nx, wordsPerSample, ny, wordsPerSample * nx, maxValue);
+                }
+                else
+                {
+                    ExrWavelet.Encode(words, start + j, nx, wordsPerSample, ny, wordsPerSample * nx, maxValue);
+                }
+            }
+
+            start += nx * ny * wordsPerSample;
+        }
     }
 }

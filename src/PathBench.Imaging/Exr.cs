@@ -55,7 +55,7 @@ public static class ExrCodec
             throw new ArgumentException($"pixel type {options.PixelType} cannot be written", nameof(options));
         }
 
-        if (options.Compression is not (ExrCompression.None or ExrCompression.Zips or ExrCompression.Zip))
+        if (options.Compression is not (ExrCompression.None or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Piz))
         {
             throw new ArgumentException($"compression {options.Compression} cannot be written", nameof(options));
         }
@@ -111,7 +111,7 @@ public static class ExrCodec
         hw.Write((byte)0);
         hw.Flush();
 
-        int linesPerChunk = options.Compression == ExrCompression.Zip ? 16 : 1;
+        int linesPerChunk = ExrChunkCodecs.LinesPerChunk(options.Compression);
         int chunkCount = (h + linesPerChunk - 1) / linesPerChunk;
         long start = stream.Position;
         stream.Write(header.GetBuffer(), 0, (int)header.Length);
@@ -120,6 +120,7 @@ public static class ExrCodec
 
         int sampleSize = options.PixelType == ExrPixelType.Half ? 2 : 4;
         int rowBytes = w * layout.Length * sampleSize;
+        ExrChannelLayout[] channelLayouts = [.. layout.Select(l => new ExrChannelLayout(l.Name, options.PixelType, 1, 1, false))];
         var offsets = new byte[chunkCount * 8];
         var chunkHead = new byte[8];
         for (int b0 = 0; b0 < chunkCount; b0 += ChunkBatch)
@@ -132,7 +133,12 @@ public static class ExrCodec
                 int rawSize = rowBytes * Math.Min(linesPerChunk, h - y0);
                 var raw = new byte[rawSize];
                 EncodeLines(image, layout, options.PixelType, y0, rawSize / rowBytes, raw);
-                payloads[i - b0] = options.Compression == ExrCompression.None ? raw : Deflate(raw);
+                payloads[i - b0] = options.Compression switch
+                {
+                    ExrCompression.None => raw,
+                    ExrCompression.Piz => ExrPiz.Compress(raw, new ExrBlock(channelLayouts, 0, y0, w, rawSize / rowBytes)) ?? raw,
+                    _ => Deflate(raw),
+                };
             });
 
             for (int i = b0; i < b1; i++)

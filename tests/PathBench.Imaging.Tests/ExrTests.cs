@@ -17,7 +17,7 @@ public sealed class ExrTests
     private const string Package = "openexr";
 
     /// <summary>The compressions our writer writes.</summary>
-    private static readonly ExrCompression[] Writable = [ExrCompression.None, ExrCompression.Zips, ExrCompression.Zip];
+    private static readonly ExrCompression[] Writable = [ExrCompression.None, ExrCompression.Zips, ExrCompression.Zip, ExrCompression.Piz];
 
     public static TheoryData<string, ExrCompression, ExrPixelType, ExrChannelSet> WriteModes()
     {
@@ -112,6 +112,7 @@ public sealed class ExrTests
         {
             ExrCompression.None => "compression (type compression): none",
             ExrCompression.Zips => "compression (type compression): zip, individual scanlines",
+            ExrCompression.Piz => "compression (type compression): piz",
             _ => "compression (type compression): zip, multi-scanline blocks",
         };
         Assert.Contains(expectedCompression, header.Stdout, StringComparison.Ordinal);
@@ -149,6 +150,61 @@ public sealed class ExrTests
                 }
             }
         }
+    }
+
+    [Theory]
+    [InlineData(ExrPixelType.Half)]
+    [InlineData(ExrPixelType.Float)]
+    public void Our_PIZ_chunks_are_coded_not_stored_and_OpenImageIO_decodes_them_exactly(ExrPixelType type)
+    {
+        // A smooth 70×75 gradient (three 32-line chunks, the last partial) in steps of 1/64, so that
+        // FLOAT samples repeat too: PIZ shrinks every chunk, so the encoder, not the raw fallback,
+        // wrote each one. The OpenEXR library's decode is the check.
+        using var dir = new TempFolder();
+        string path = dir.File("piz.exr");
+        RgbImage image = SyntheticImages.Gradient(70, 75, scale: 3);
+        for (int i = 0; i < image.Data.Length; i++)
+        {
+            image.Data[i] = MathF.Round(image.Data[i] * 64) / 64;
+        }
+
+        ExrCodec.Write(path, image, new ExrWriteOptions(ExrCompression.Piz, type, ExrChannelSet.Rgba));
+
+        byte[] file = File.ReadAllBytes(path);
+        int rawChunk = 70 * 32 * 4 * (type == ExrPixelType.Half ? 2 : 4);
+        int table = FindOffsetTable(file);
+        for (int i = 0; i < 3; i++)
+        {
+            // Offsets table, then per chunk: int32 y, int32 stored size.
+            long offset = (long)BitConverter.ToUInt64(file, table + (i * 8));
+            int stored = BitConverter.ToInt32(file, (int)offset + 4);
+            int lines = i < 2 ? 32 : 75 - 64;
+            Assert.True(stored < rawChunk * lines / 32, FormattableString.Invariant($"chunk {i} is stored raw ({stored} bytes)"));
+        }
+
+        ImageReadResult ours = ExrCodec.Read(path);
+        AssertSameBits(Expected(image, type, ExrChannelSet.Rgba), ours.Image, "piz");
+        OiioReference.AssertSameAsOurs(path, ours, ["R", "G", "B"]);
+    }
+
+    /// <summary>The offset table starts right after the header's terminating null byte (single-part scanline file).</summary>
+    private static int FindOffsetTable(byte[] file)
+    {
+        int p = 8; // magic and version
+        while (file[p] != 0)
+        {
+            while (file[p++] != 0)
+            {
+            }
+
+            while (file[p++] != 0)
+            {
+            }
+
+            p += 4 + BitConverter.ToInt32(file, p);
+        }
+
+        return p + 1;
     }
 
     public static TheoryData<string, string, ExrCompression, ExrPixelType, ExrChannelSet> LibraryRewrites()

@@ -18,8 +18,8 @@ internal static class ConvertCommand
         var tone = new Option<string?>("--tone") { Description = "Tone curve for PNG output: clamp (default) or reinhard" };
         tone.AcceptOnlyFromAmong("clamp", "reinhard");
         var half = new Option<bool>("--half") { Description = "Write OpenEXR channels as HALF instead of FLOAT" };
-        var compression = new Option<string?>("--compression") { Description = "OpenEXR compression: none, zips or zip (default)" };
-        compression.AcceptOnlyFromAmong("none", "zips", "zip");
+        var compression = new Option<string?>("--compression") { Description = "OpenEXR compression: none, zips, zip (default) or piz" };
+        compression.AcceptOnlyFromAmong("none", "zips", "zip", "piz");
 
         var command = new Command("convert", "Convert between PFM, OpenEXR and PNG");
         command.Arguments.Add(input);
@@ -75,6 +75,7 @@ internal static class ConvertCommand
             {
                 "none" => ExrCompression.None,
                 "zips" => ExrCompression.Zips,
+                "piz" => ExrCompression.Piz,
                 _ => ExrCompression.Zip,
             };
             var exrOptions = new ExrWriteOptions(c, parse.GetValue(half) ? ExrPixelType.Half : ExrPixelType.Float);

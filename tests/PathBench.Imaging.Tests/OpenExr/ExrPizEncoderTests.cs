@@ -1,7 +1,7 @@
 namespace PathBench.Imaging.Tests.OpenExr;
 
 /// <summary>
-/// The PIZ encoder (not yet used by the writer): what it codes, the decoder — itself checked bit for
+/// The PIZ encoder (the writer's, also checked through OpenImageIO in <see cref="ExrTests"/>): what it codes, the decoder — itself checked bit for
 /// bit against OpenImageIO in <see cref="ExrLayoutTests"/> — must give back exactly (common practice: a
 /// lossless encoder inverts its checked decoder).
 /// </summary>

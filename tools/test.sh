@@ -13,29 +13,13 @@ cd "$(dirname "$0")/.."
 packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
           openexr fonts-dejavu-core libfontconfig1)
 
-missing=()
-for p in "${packages[@]}"; do
-  # dpkg-query prints "install ok installed" only for a package that is fully installed.
-  if [ "$(dpkg-query -W -f='${Status}' "$p" 2>/dev/null)" != "install ok installed" ]; then
-    missing+=("$p")
-  fi
-done
-
-if [ "${#missing[@]}" -gt 0 ]; then
-  if [ "$(id -u)" != 0 ]; then
-    echo "tools/test.sh: missing reference tools: ${missing[*]}" >&2
-    echo "install them as root, then run this again:" >&2
-    echo "  apt-get update && apt-get install -y --no-install-recommends ${packages[*]}" >&2
-    exit 2
-  fi
-  echo "tools/test.sh: installing ${missing[*]}" >&2
-  export DEBIAN_FRONTEND=noninteractive
-  if ! { apt-get update -qq >/dev/null && apt-get install -y -qq --no-install-recommends "${packages[@]}" >/dev/null; }; then
-    echo "tools/test.sh: apt-get install failed" >&2
-    echo "0 passed, 1 failed"
-    exit 1
-  fi
-fi
+source tools/require-debian.sh
+require_debian_packages tools/test.sh "${packages[@]}"
+case $? in
+  0) ;;
+  2) exit 2 ;;
+  *) echo "0 passed, 1 failed"; exit 1 ;;
+esac
 
 if ! command -v dotnet >/dev/null; then
   echo "tools/test.sh: the .NET 10 SDK (dotnet) is not on PATH" >&2

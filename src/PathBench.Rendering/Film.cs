@@ -1,9 +1,13 @@
+using System.Numerics;
+
 namespace PathBench.Rendering;
 
 /// <summary>
 /// Per-pixel accumulators in exact fixed point: for each pixel the number of samples and, per
-/// channel, the sum of values and of squared values as <see cref="Int128"/> multiples of
-/// 2^-32. Integer addition is associative, so the result is bit-identical whatever the
+/// channel, the sum of the values q = round(v · 2^32) (an <see cref="Int128"/>) and the exact sum
+/// of their squares q² (192 bits: a <see cref="UInt128"/> and a carry word). The squares are of the
+/// rounded values themselves, so the variance is exactly that of the accumulated samples, down to
+/// the darkest pixel. Integer addition is associative, so the result is bit-identical whatever the
 /// thread count, tile order or split of the sample range, and two films of disjoint sample
 /// ranges merge exactly by adding. Non-finite samples are counted and dropped, never averaged in;
 /// so are finite samples too large for the fixed-point range (|v| ≥ 2^32), counted apart.
@@ -18,15 +22,19 @@ public sealed class Film
     // largest value (more than an int spp can ask for) sum below Int128's 2^127.
     public const double MaxValue = 4294967296.0;
 
-    /// <summary>Bytes of accumulator storage per pixel.</summary>
-    public const int BytesPerPixel = 8 + 6 * 16;
+    /// <summary>Bytes of accumulator storage per pixel: count, three sums, three 20-byte sums of squares.</summary>
+    public const int BytesPerPixel = 8 + (3 * 16) + (3 * 20);
 
     /// <summary>The most accumulator memory a film may take (16 GiB on a 24 GiB machine leaves room for the rest).</summary>
     public const long MaxBytes = 16L << 30;
 
     private readonly long[] _count;
     private readonly Int128[] _sum;
-    private readonly Int128[] _sumSquares;
+    private readonly UInt128[] _sumSquaresLow;
+
+    // The carries out of the low words: each sample adds less than 2^128 (|q| < 2^64), so a pixel's
+    // carry count stays below its sample count, which an int spp bounds below 2^32.
+    private readonly uint[] _sumSquaresHigh;
 
     /// <summary>Allocates a film, after checking its size.</summary>
     public Film(int width, int height)
@@ -42,7 +50,8 @@ public sealed class Film
         int n = width * height;
         _count = new long[n];
         _sum = new Int128[3 * n];
-        _sumSquares = new Int128[3 * n];
+        _sumSquaresLow = new UInt128[3 * n];
+        _sumSquaresHigh = new uint[3 * n];
     }
 
     /// <summary>Width in pixels.</summary>
@@ -79,10 +88,10 @@ public sealed class Film
     }
 
     /// <summary>
-    /// The unbiased sample variance of pixel (x, y), channel c; 0 with fewer than two samples.
-    /// Squares are stored at the same 2^-32 resolution as values, so the variance of pixels
-    /// darker than about 1e-4 is dominated by that rounding: nothing reports it yet, and a finer
-    /// scale for the squares must come before anything does.
+    /// The unbiased sample variance of pixel (x, y), channel c, of the samples as accumulated
+    /// (each rounded to 2^-32); 0 with fewer than two samples. Computed exactly as
+    /// (n·Σq² − (Σq)²) / (n(n − 1)) in integers, then rounded once to double, so no cancellation
+    /// loses the variance of a bright, quiet pixel or of a dark one.
     /// </summary>
     public double Variance(int x, int y, int c)
     {
@@ -93,10 +102,20 @@ public sealed class Film
             return 0;
         }
 
-        // (Σv² − (Σv)²/n)/(n − 1) in double: the squared sum can exceed Int128.
-        double mean = (double)_sum[3 * i + c] / Scale / n;
-        double meanSquare = (double)_sumSquares[3 * i + c] / Scale / n;
-        return Math.Max(0, (meanSquare - mean * mean) * n / (n - 1));
+        BigInteger sum = (BigInteger)_sum[3 * i + c];
+        BigInteger squares = ((BigInteger)_sumSquaresHigh[3 * i + c] << 128) + (BigInteger)_sumSquaresLow[3 * i + c];
+        BigInteger numerator = (n * squares) - (sum * sum);
+        return (double)numerator / ((double)n * (n - 1)) / (Scale * Scale);
+    }
+
+    /// <summary>
+    /// The variance of pixel (x, y)'s mean, channel c: <see cref="Variance"/> / n, the squared
+    /// standard error of the pixel value; 0 with fewer than two samples.
+    /// </summary>
+    public double VarianceOfMean(int x, int y, int c)
+    {
+        long n = _count[y * Width + x];
+        return n < 2 ? 0 : Variance(x, y, c) / n;
     }
 
     /// <summary>Accumulates one pixel's tile of samples, already reduced by the caller.</summary>
@@ -107,8 +126,15 @@ public sealed class Film
         for (int c = 0; c < 3; c++)
         {
             _sum[3 * i + c] += a.Sum(c);
-            _sumSquares[3 * i + c] += a.SumSquares(c);
+            AddSquares(3 * i + c, a.SumSquaresLow(c), a.SumSquaresHigh(c));
         }
+    }
+
+    private void AddSquares(int i, UInt128 low, ulong high)
+    {
+        UInt128 before = _sumSquaresLow[i];
+        _sumSquaresLow[i] = before + low;
+        _sumSquaresHigh[i] = checked((uint)(_sumSquaresHigh[i] + high + (_sumSquaresLow[i] < before ? 1UL : 0UL)));
     }
 
     internal void AddDropped(long nonFinite, long outOfRange)
@@ -134,7 +160,7 @@ public sealed class Film
         for (int i = 0; i < _sum.Length; i++)
         {
             _sum[i] += other._sum[i];
-            _sumSquares[i] += other._sumSquares[i];
+            AddSquares(i, other._sumSquaresLow[i], other._sumSquaresHigh[i]);
         }
 
         AddDropped(other.NonFiniteSamples, other.OutOfRangeSamples);
@@ -162,7 +188,9 @@ public sealed class Film
 /// <summary>One pixel's running fixed-point sums; a struct so the per-sample path allocates nothing.</summary>
 internal struct PixelAccumulator
 {
-    private Int128 _r, _g, _b, _rr, _gg, _bb;
+    private Int128 _r, _g, _b;
+    private UInt128 _rr, _gg, _bb;
+    private ulong _rrHigh, _ggHigh, _bbHigh;
 
     public long Count;
     public long NonFinite;
@@ -183,17 +211,30 @@ internal struct PixelAccumulator
         }
 
         Count++;
-        _r += Fixed(v.R);
-        _g += Fixed(v.G);
-        _b += Fixed(v.B);
-        _rr += Fixed(v.R * v.R);
-        _gg += Fixed(v.G * v.G);
-        _bb += Fixed(v.B * v.B);
+        Accumulate(v.R, ref _r, ref _rr, ref _rrHigh);
+        Accumulate(v.G, ref _g, ref _gg, ref _ggHigh);
+        Accumulate(v.B, ref _b, ref _bb, ref _bbHigh);
     }
 
     public readonly Int128 Sum(int c) => c == 0 ? _r : c == 1 ? _g : _b;
 
-    public readonly Int128 SumSquares(int c) => c == 0 ? _rr : c == 1 ? _gg : _bb;
+    public readonly UInt128 SumSquaresLow(int c) => c == 0 ? _rr : c == 1 ? _gg : _bb;
 
-    private static Int128 Fixed(double v) => (Int128)Math.Round(v * Film.Scale);
+    public readonly ulong SumSquaresHigh(int c) => c == 0 ? _rrHigh : c == 1 ? _ggHigh : _bbHigh;
+
+    private static void Accumulate(double v, ref Int128 sum, ref UInt128 squares, ref ulong carries)
+    {
+        // |v| < 2^32, so |q| < 2^64 and q² < 2^128: one 64×64 → 128-bit product, exact.
+        double q = Math.Round(v * Film.Scale);
+        sum += (Int128)q;
+        ulong magnitude = (ulong)Math.Abs(q);
+        ulong high = Math.BigMul(magnitude, magnitude, out ulong low);
+        UInt128 square = new(high, low);
+        UInt128 before = squares;
+        squares += square;
+        if (squares < before)
+        {
+            carries++;
+        }
+    }
 }

@@ -69,6 +69,9 @@ public static class CliApp
         root.Subcommands.Add(PointStatsCommand.Create(io));
         root.Subcommands.Add(IntegrandsCommand.Create(io));
         root.Subcommands.Add(RenderCommand.Create(io));
+        root.Subcommands.Add(RenderCommand.CreateReference(io));
+        root.Subcommands.Add(StudyCommand.CreateStudy(io));
+        root.Subcommands.Add(StudyCommand.CreateDemo(io));
         root.Subcommands.Add(CompareCommand.Create(io));
         root.Subcommands.Add(ConvertCommand.Create(io));
         return root;

@@ -1,6 +1,7 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Reflection;
+using PathBench.Analysis;
 using PathBench.Imaging;
 using PathBench.Rendering;
 using PathBench.Rendering.Integrators;
@@ -11,10 +12,20 @@ using Spectre.Console;
 
 namespace PathBench.Cli.Commands;
 
-/// <summary><c>pathbench render</c>: path-trace a scene file and write the image with a JSON sidecar of everything it depends on.</summary>
+/// <summary>
+/// <c>pathbench render</c>: path-trace a scene file and write the image with a JSON sidecar of
+/// everything it depends on. <c>pathbench reference</c> is the same render made as a ground truth:
+/// it refuses a deterministic sampler, writes the image as FLOAT OpenEXR and, beside it,
+/// <c>NAME.variance.exr</c>, the variance of each pixel's mean from the film's exact sums, which a
+/// study subtracts from its squared errors; the sidecar adds spp and the mean variance.
+/// </summary>
 internal static class RenderCommand
 {
-    public static Command Create(CliIo io)
+    public static Command Create(CliIo io) => Create(io, reference: false);
+
+    public static Command CreateReference(CliIo io) => Create(io, reference: true);
+
+    private static Command Create(CliIo io, bool reference)
     {
         var scenePath = new Argument<string>("scene") { Description = "Scene file (YAML; see scenes/README.md)" };
         var sampling = new SamplerOptions(defaultGenerator: "sobol");
@@ -26,9 +37,16 @@ internal static class RenderCommand
         var threads = new Option<int>("--threads") { Description = "Worker threads (the image does not depend on it)", DefaultValueFactory = _ => Environment.ProcessorCount };
         var maxDepth = new Option<int?>("--max-depth") { Description = "Longest path in bounces (default: the scene's render.max_depth)" };
         var noRoulette = new Option<bool>("--no-roulette") { Description = "Switch Russian roulette off (paths run to --max-depth)" };
-        var output = new Option<string?>("--out") { Description = "Output image: .exr, .pfm or .png (default: SCENE-NAME.exr here); a .json sidecar is written beside it" };
+        var output = new Option<string?>("--out")
+        {
+            Description = reference
+                ? "Output image, .exr (default: SCENE-NAME.exr here); NAME.variance.exr and a .json sidecar are written beside it"
+                : "Output image: .exr, .pfm or .png (default: SCENE-NAME.exr here); a .json sidecar is written beside it",
+        };
 
-        var command = new Command("render", "Path-trace a scene with a chosen generator, randomization and strategy");
+        var command = reference
+            ? new Command("reference", "Render a ground truth with its per-pixel variance of the mean (NAME.variance.exr) for studies")
+            : new Command("render", "Path-trace a scene with a chosen generator, randomization and strategy");
         command.Arguments.Add(scenePath);
         sampling.AddTo(command);
         foreach (Option o in new Option[] { spp, hemisphere, lights, threads, maxDepth, noRoulette, output })
@@ -40,13 +58,24 @@ internal static class RenderCommand
         {
             string path = parse.GetValue(scenePath)!;
             string outPath = parse.GetValue(output) ?? Path.GetFileNameWithoutExtension(path) + ".exr";
-            ImageFile.FormatFromExtension(outPath); // an unknown extension fails before any work
+            ImageFormat format = ImageFile.FormatFromExtension(outPath); // an unknown extension fails before any work
+            if (reference && format != ImageFormat.Exr)
+            {
+                throw new CliUsageException($"--out {outPath}: a reference is written as OpenEXR (FLOAT keeps every value); use a .exr name");
+            }
+
             SceneDescription description = SceneLoader.Load(path);
 
             string sidecar = Path.ChangeExtension(outPath, ".json");
             // Check the outputs can be written before spending the render on them.
             RequireWritable(outPath);
             RequireWritable(sidecar);
+            string variancePath = ReferenceImage.VariancePath(outPath);
+            if (reference)
+            {
+                RequireWritable(variancePath);
+            }
+
             int n = parse.GetValue(spp) ?? description.Render.Spp;
             int depth = parse.GetValue(maxDepth) ?? description.Render.MaxDepth;
             int t = parse.GetValue(threads);
@@ -61,6 +90,11 @@ internal static class RenderCommand
             // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
             PointSampler sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
             bool unbiased = info.IsRandomized(spec.Randomize);
+            if (reference && !unbiased)
+            {
+                throw new CliUsageException($"a reference must be an unbiased estimate: {spec.Generator} with --randomize {spec.RandomizeName} is deterministic; choose a randomization");
+            }
+
             if (!unbiased)
             {
                 io.Error.WriteLine($"pathbench: note: {spec.Generator} with --randomize none is a deterministic quadrature (the same points in every pixel), not an unbiased estimate; add a randomization for that");
@@ -76,7 +110,18 @@ internal static class RenderCommand
 
             RenderResult result = RenderWithProgress(io, new RenderJob(scene, sampler, options, 0, n, t));
             var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
-            ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image));
+            double meanVariance = 0;
+            if (reference)
+            {
+                var truth = ReferenceImage.FromFilm(result.Film, n);
+                meanVariance = truth.MeanVariance;
+                ImageIo.Guard(outPath, () => truth.Write(outPath));
+            }
+            else
+            {
+                ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image));
+            }
+
             ImageIo.Guard(sidecar, () => WriteSidecar(sidecar, w =>
                 {
                     w.WriteStartObject();
@@ -103,6 +148,12 @@ internal static class RenderCommand
                     w.WriteNumber("dimensions_per_path", DimensionLayout.Total(depth));
                     w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
                     w.WriteBoolean("unbiased", unbiased);
+                    if (reference)
+                    {
+                        w.WriteString("variance_file", variancePath);
+                        w.Number("mean_variance", meanVariance);
+                    }
+
                     w.WriteEndObject();
                 }));
 
@@ -113,7 +164,7 @@ internal static class RenderCommand
         return command;
     }
 
-    private static string Version =>
+    internal static string Version =>
         typeof(RenderCommand).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion ?? "unknown";
 
     private static void RequireWritable(string path)

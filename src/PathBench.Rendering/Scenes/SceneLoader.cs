@@ -53,12 +53,23 @@ public static class SceneLoader
     /// <exception cref="SceneException">The file cannot be read or is not a valid scene.</exception>
     public static SceneDescription Load(string path)
     {
+        (string text, byte[] bytes) = ReadTextFile(path, "a scene file");
+        string directory = Path.GetDirectoryName(Path.GetFullPath(path)) ?? ".";
+        return ParseText(text, path, directory, Convert.ToHexStringLower(SHA256.HashData(bytes)));
+    }
+
+    /// <summary>
+    /// Reads a YAML input file of at most <see cref="MaxFileBytes"/> as strict UTF-8 (a leading
+    /// byte-order mark dropped), with one-line <see cref="SceneException"/>s naming the file.
+    /// </summary>
+    internal static (string Text, byte[] Bytes) ReadTextFile(string path, string what)
+    {
         byte[] bytes;
         try
         {
             using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read);
             if (stream.Length > MaxFileBytes)
-                throw new SceneException(FormattableString.Invariant($"{path}: cannot read file: it is {stream.Length} bytes, above the limit of {MaxFileBytes} (64 MiB) for a scene file"));
+                throw new SceneException(FormattableString.Invariant($"{path}: cannot read file: it is {stream.Length} bytes, above the limit of {MaxFileBytes} (64 MiB) for {what}"));
             bytes = new byte[stream.Length];
             stream.ReadExactly(bytes);
         }
@@ -78,8 +89,7 @@ public static class SceneLoader
         }
         if (text.StartsWith('\uFEFF'))
             text = text[1..];
-        string directory = Path.GetDirectoryName(Path.GetFullPath(path)) ?? ".";
-        return ParseText(text, path, directory, Convert.ToHexStringLower(SHA256.HashData(bytes)));
+        return (text, bytes);
     }
 
     /// <summary>Parses scene text; <paramref name="sourcePath"/> names the file in messages, meshes are read relative to <paramref name="baseDirectory"/>.</summary>
@@ -122,7 +132,7 @@ public static class SceneLoader
     /// aliases, collections as keys) and what a scene never uses (tags, several documents); then
     /// into the representation model, whose nodes carry the positions every later message needs.
     /// </summary>
-    private static YamlNode ReadDocument(string text, YamlNodeReader reader)
+    internal static YamlNode ReadDocument(string text, YamlNodeReader reader)
     {
         int documents = 0;
         try

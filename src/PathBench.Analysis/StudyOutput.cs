@@ -1,0 +1,230 @@
+using System.Globalization;
+using System.Text;
+using System.Text.Json;
+
+namespace PathBench.Analysis;
+
+/// <summary>
+/// Writes a study's numbers: <c>results.csv</c> (one row per configuration × spp × replicate) and
+/// <c>summary.json</c>. Field names are stable snake_case; numbers are invariant-culture,
+/// shortest round-trip; a value that does not exist (an interval from one replicate, an
+/// efficiency of a non-positive MSE) is empty in CSV and null in JSON.
+/// </summary>
+public static class StudyOutput
+{
+    /// <summary>The columns of <c>results.csv</c>, in order.</summary>
+    public static readonly IReadOnlyList<string> CsvColumns =
+    [
+        "configuration", "generator", "randomize", "hemisphere", "lights", "spp", "replicate", "seed",
+        "seconds", "rays", "nonfinite_samples", "cached", "mse", "mse_uncorrected", "relmse",
+    ];
+
+    /// <summary>Writes <c>results.csv</c> and <c>summary.json</c> into <paramref name="directory"/>, each through a temporary file and a rename.</summary>
+    public static void Write(string directory, StudySummary summary, string sceneLabel, string? referencePath)
+    {
+        ArgumentNullException.ThrowIfNull(summary);
+        Directory.CreateDirectory(directory);
+        WriteAtomically(Path.Combine(directory, "results.csv"), w => WriteCsv(w, summary.Result));
+        WriteAtomically(Path.Combine(directory, "summary.json"), w => WriteJson(w, summary, sceneLabel, referencePath));
+    }
+
+    /// <summary>One row per replicate render.</summary>
+    public static void WriteCsv(TextWriter writer, StudyResult result)
+    {
+        ArgumentNullException.ThrowIfNull(writer);
+        ArgumentNullException.ThrowIfNull(result);
+        writer.Write(string.Join(',', CsvColumns));
+        writer.Write('\n');
+        var byName = result.Study.Configurations.ToDictionary(c => c.Name, StringComparer.Ordinal);
+        foreach (StudySample s in result.Samples)
+        {
+            StudyConfiguration c = byName[s.Configuration];
+            string[] cells =
+            [
+                c.Name, c.Generator, c.RandomizeName, c.HemisphereName, c.LightsName,
+                Number(s.Spp), Number(s.Replicate), s.Seed.ToString(CultureInfo.InvariantCulture),
+                Number(s.Seconds), s.Rays.ToString(CultureInfo.InvariantCulture),
+                s.NonFiniteSamples.ToString(CultureInfo.InvariantCulture), s.Cached ? "true" : "false",
+                Number(s.Error.Mse), Number(s.Error.MseUncorrected), Number(s.Error.RelMse),
+            ];
+            writer.Write(string.Join(',', cells));
+            writer.Write('\n');
+        }
+    }
+
+    /// <summary>The summary in the shape the issue tracker and the report rely on.</summary>
+    public static void WriteJson(TextWriter writer, StudySummary summary, string sceneLabel, string? referencePath)
+    {
+        ArgumentNullException.ThrowIfNull(writer);
+        ArgumentNullException.ThrowIfNull(summary);
+        using var stream = new MemoryStream();
+        using (var w = new Utf8JsonWriter(stream, new JsonWriterOptions { Indented = true }))
+        {
+            ReferenceImage reference = summary.Result.Reference;
+            w.WriteStartObject();
+            w.WriteString("scene", sceneLabel);
+            w.WriteStartObject("reference");
+            w.WriteString("path", referencePath);
+            Nullable(w, "spp", reference.Spp);
+            Nullable(w, "mean_variance", reference.MeanVariance);
+            w.WriteEndObject();
+            w.WriteNumber("replicates", summary.Result.Study.Replicates);
+            w.WriteNumber("threads", summary.Result.Threads);
+            w.WriteNumber("tile_size", StudySummary.TileSize);
+            Nullable(w, "tile_z_threshold", summary.TileThreshold);
+            w.WriteStartArray("warnings");
+            foreach (string warning in summary.Warnings)
+            {
+                w.WriteStringValue(warning);
+            }
+
+            w.WriteEndArray();
+            EqualTimeComparison et = summary.EqualTime;
+            w.WriteStartObject("equal_time");
+            Nullable(w, "seconds", et.Seconds);
+            w.WriteString("method", "log MSE fitted on log seconds per configuration, read at the shortest of the configurations' times at the largest spp");
+            w.WriteStartArray("ranking");
+            foreach (string name in et.Ranking)
+            {
+                w.WriteStringValue(name);
+            }
+
+            w.WriteEndArray();
+            w.WriteEndObject();
+            WinMap map = summary.WinMap;
+            w.WriteStartObject("win_map");
+            w.WriteNumber("tile_size", WinMap.TileSize);
+            w.WriteNumber("tiles_x", map.TilesX);
+            w.WriteNumber("tiles_y", map.TilesY);
+            w.WriteNumber("false_discovery_rate", WinMap.FalseDiscoveryRate);
+            w.WriteNumber("no_difference_fraction", map.NoDifferenceFraction);
+            w.WriteStartArray("winners");
+            foreach (int winner in map.Winners)
+            {
+                if (winner == WinMap.NoDifference)
+                {
+                    w.WriteNullValue();
+                }
+                else
+                {
+                    w.WriteStringValue(summary.Configurations[winner].Configuration.Name);
+                }
+            }
+
+            w.WriteEndArray();
+            w.WriteEndObject();
+            w.WriteStartArray("configurations");
+            for (int index = 0; index < summary.Configurations.Count; index++)
+            {
+                ConfigurationSummary cs = summary.Configurations[index];
+                StudyConfiguration c = cs.Configuration;
+                w.WriteStartObject();
+                w.WriteString("name", c.Name);
+                w.WriteString("generator", c.Generator);
+                w.WriteString("randomize", c.RandomizeName);
+                w.WriteString("hemisphere", c.HemisphereName);
+                w.WriteString("lights", c.LightsName);
+                w.WriteBoolean("randomized", c.IsRandomized);
+                w.WriteBoolean("progressive", c.IsProgressive);
+                Nullable(w, "slope", cs.Slope?.Slope);
+                if (cs.Slope is { } fit && double.IsFinite(fit.SlopeLow))
+                {
+                    w.WriteStartArray("slope_ci");
+                    w.WriteNumberValue(fit.SlopeLow);
+                    w.WriteNumberValue(fit.SlopeHigh);
+                    w.WriteEndArray();
+                }
+                else
+                {
+                    w.WriteNull("slope_ci");
+                }
+
+                Nullable(w, "structure_score", cs.Structure?.Score);
+                Nullable(w, "structure_p", cs.Structure?.P);
+                w.WriteNumber("win_fraction", map.WinFractions[index]);
+                EqualTimeEntry entry = et.Entries[index];
+                Nullable(w, "mse_at_equal_time", entry.Mse);
+                Nullable(w, "equal_time_rank", entry.Rank);
+                w.WriteBoolean("equal_time_extrapolated", entry.Extrapolated);
+                w.WriteStartObject("theory");
+                Nullable(w, "smooth", cs.Theory.Smooth);
+                Nullable(w, "discontinuous", cs.Theory.Discontinuous);
+                w.WriteString("source", cs.Theory.Source);
+                w.WriteEndObject();
+                w.WriteStartArray("notes");
+                foreach (string note in cs.Notes)
+                {
+                    w.WriteStringValue(note);
+                }
+
+                w.WriteEndArray();
+                w.WriteStartArray("points");
+                foreach (StudyPoint p in cs.Points)
+                {
+                    w.WriteStartObject();
+                    w.WriteNumber("spp", p.Spp);
+                    w.WriteNumber("replicates", p.Replicates);
+                    Nullable(w, "mse", p.Mse);
+                    if (p.MseLow is { } lo && p.MseHigh is { } hi)
+                    {
+                        w.WriteStartArray("mse_ci");
+                        w.WriteNumberValue(lo);
+                        w.WriteNumberValue(hi);
+                        w.WriteEndArray();
+                    }
+                    else
+                    {
+                        w.WriteNull("mse_ci");
+                    }
+
+                    Nullable(w, "mse_uncorrected", p.MseUncorrected);
+                    Nullable(w, "relmse", p.RelMse);
+                    Nullable(w, "estimator_variance", p.EstimatorVariance);
+                    Nullable(w, "bias", p.Bias);
+                    Nullable(w, "bias_z", p.BiasZ);
+                    Nullable(w, "biased_tiles", p.BiasedTiles);
+                    Nullable(w, "seconds", p.Seconds);
+                    Nullable(w, "seconds_min", p.SecondsMin);
+                    Nullable(w, "seconds_max", p.SecondsMax);
+                    Nullable(w, "seconds_per_sample", p.SecondsPerSample);
+                    Nullable(w, "efficiency", p.Efficiency);
+                    w.WriteEndObject();
+                }
+
+                w.WriteEndArray();
+                w.WriteEndObject();
+            }
+
+            w.WriteEndArray();
+            w.WriteEndObject();
+        }
+
+        writer.Write(Encoding.UTF8.GetString(stream.ToArray()));
+        writer.Write('\n');
+    }
+
+    private static void Nullable(Utf8JsonWriter w, string name, double? value)
+    {
+        if (value is { } v && double.IsFinite(v))
+        {
+            w.WriteNumber(name, v);
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+
+    private static string Number(double v) => double.IsFinite(v) ? v.ToString("R", CultureInfo.InvariantCulture) : "";
+
+    private static void WriteAtomically(string path, Action<TextWriter> body)
+    {
+        string temp = path + ".partial";
+        using (var writer = new StreamWriter(temp, append: false, new UTF8Encoding(false)))
+        {
+            body(writer);
+        }
+
+        File.Move(temp, path, overwrite: true);
+    }
+}

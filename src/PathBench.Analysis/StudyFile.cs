@@ -7,7 +7,7 @@ using YamlDotNet.RepresentationModel;
 namespace PathBench.Analysis;
 
 /// <summary>
-/// Reads a study file (YAML, our schema, documented in <c>scenes/README.md</c> under "Study files").
+/// Reads a study file (YAML, our schema, documented in <c>scenes/studies.md</c>).
 /// Every problem is a <see cref="SceneException"/> with one line <c>FILE:LINE:COLUMN: message</c>,
 /// the position of the offending node, as for scene files (the same reader and limits).
 /// </summary>

@@ -46,7 +46,6 @@ public static class StudyPipeline
         ArgumentNullException.ThrowIfNull(options);
         progress?.Phase("loading the scene");
         SceneDescription description = LoadScene(study);
-        Directory.CreateDirectory(options.OutputDirectory);
         int threads = options.Threads ?? study.Threads ?? Environment.ProcessorCount;
         var cache = new StudyCache(Path.Combine(options.OutputDirectory, "cache"));
         Scene scene = Scene.Build(description);
@@ -58,12 +57,15 @@ public static class StudyPipeline
         string referencePath;
         if (study.Reference.Path is { } path)
         {
+            // Read and checked before anything is written.
             progress?.Phase("reading the reference " + path);
             reference = ReadReference(study, description, path);
             referencePath = path;
+            Directory.CreateDirectory(options.OutputDirectory);
         }
         else
         {
+            Directory.CreateDirectory(options.OutputDirectory);
             int spp = study.Reference.Spp!.Value;
             progress?.Phase(string.Create(CultureInfo.InvariantCulture, $"rendering the reference ({spp} spp, {study.Reference.Generator}/{study.Reference.Randomize})"));
             reference = runner.RenderReference(spp, study.Reference.Generator, study.Reference.Randomize, cancel);
@@ -122,22 +124,18 @@ public static class StudyPipeline
             throw new SceneException($"{where}: the reference {path} does not exist; render one with 'pathbench reference' or give 'reference: {{ spp: N }}'");
         }
 
-        int? spp = null;
         string sidecar = Path.ChangeExtension(path, ".json");
-        if (File.Exists(sidecar))
-        {
-            (string? sha, spp) = ReadSidecar(sidecar);
-            if (sha is not null && !string.Equals(sha, scene.Sha256, StringComparison.OrdinalIgnoreCase))
-            {
-                throw new SceneException($"{where}: the reference {path} was rendered from another scene (its sidecar {sidecar} gives scene_sha256 {sha}, {scene.SourcePath} has {scene.Sha256})");
-            }
-        }
-
+        (string? sha, int? spp) = File.Exists(sidecar) ? ReadSidecar(sidecar) : (null, null);
         ReferenceImage reference = ReferenceImage.Read(path, spp);
         if (reference.Width != scene.Camera.Width || reference.Height != scene.Camera.Height)
         {
             throw new SceneException(string.Create(CultureInfo.InvariantCulture,
                 $"{where}: the reference {path} is {reference.Width}x{reference.Height}, the study renders {scene.Camera.Width}x{scene.Camera.Height}"));
+        }
+
+        if (sha is not null && !string.Equals(sha, scene.Sha256, StringComparison.OrdinalIgnoreCase))
+        {
+            throw new SceneException($"{where}: the reference {path} was rendered from another scene (its sidecar {sidecar} gives scene_sha256 {sha}, {scene.SourcePath} has {scene.Sha256})");
         }
 
         return reference;

@@ -109,11 +109,19 @@ public sealed class RenderCommandTests
     }
 
     [Fact]
-    public void Every_demo_scene_loads()
+    public void Every_demo_scene_and_study_loads()
     {
         string scenes = RepositoryPaths.Scenes;
         foreach (string file in Directory.GetFiles(scenes, "*.yaml").Concat(Directory.GetFiles(Path.Combine(scenes, "validation"), "*.yaml")))
         {
+            if (file.EndsWith(".study.yaml", StringComparison.Ordinal))
+            {
+                // A study file names its scene; the scene must load at the study's resolution.
+                PathBench.Analysis.StudyDefinition study = PathBench.Analysis.StudyFile.Load(file);
+                Assert.NotEmpty(PathBench.Analysis.StudyPipeline.LoadScene(study).Shapes);
+                continue;
+            }
+
             PathBench.Rendering.Scenes.SceneDescription d = PathBench.Rendering.Scenes.SceneLoader.Load(file);
             Assert.NotEmpty(d.Shapes);
         }

@@ -20,7 +20,7 @@ internal static class StudyCommand
 
     public static Command CreateStudy(CliIo io)
     {
-        var file = new Argument<string>("study") { Description = "Study file (YAML; see scenes/README.md, 'Study files')" };
+        var file = new Argument<string>("study") { Description = "Study file (YAML; see scenes/studies.md)" };
         var (output, threads, quiet) = CommonOptions("DIR (default: STUDY-NAME next to the study file)");
         var command = new Command("study", "Compare configurations on a scene: replicates, MSE with intervals, slopes, equal time, win map, plots");
         command.Arguments.Add(file);

@@ -99,11 +99,12 @@ public static class StudyPipeline
             description = description with { Camera = description.Camera with { Width = r.Width, Height = r.Height } };
         }
 
-        long bytes = Film.RequiredBytes(description.Camera.Width, description.Camera.Height);
-        if (bytes > Film.MaxBytes)
+        int width = description.Camera.Width, height = description.Camera.Height;
+        long bytes = StudyRunner.EstimateBytes(study, width, height);
+        if (bytes > StudyRunner.MaxStatisticsBytes)
         {
             throw new SceneException(string.Create(CultureInfo.InvariantCulture,
-                $"{study.SourcePath}: a {description.Camera.Width}x{description.Camera.Height} study needs {bytes >> 20} MiB of film per render, above the {Film.MaxBytes >> 30} GiB limit"));
+                $"{study.SourcePath}: a {width}x{height} study of {study.Configurations.Count} configurations, {study.Spp.Count} sample counts and {study.Replicates} replicates needs about {bytes >> 20} MiB, above the {StudyRunner.MaxStatisticsBytes >> 30} GiB limit; set a smaller 'resolution' or fewer of them"));
         }
 
         return description;

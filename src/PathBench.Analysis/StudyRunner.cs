@@ -207,6 +207,22 @@ public sealed class StudyRunner
         return new StudyResult(_study, reference, samples, moments, finals, _env.Threads);
     }
 
+    /// <summary>The most memory a study's statistics may hold (the machines it is written for have 24 GiB).</summary>
+    public const long MaxStatisticsBytes = 8L << 30;
+
+    /// <summary>
+    /// Memory a study holds besides the renders themselves: per configuration and spp the
+    /// per-pixel sums over replicates (two doubles per value), and per configuration each
+    /// replicate's image at the largest spp (one float per value), plus two films in flight.
+    /// </summary>
+    public static long EstimateBytes(StudyDefinition study, int width, int height)
+    {
+        ArgumentNullException.ThrowIfNull(study);
+        long values = 3L * width * height;
+        long configs = study.Configurations.Count;
+        return (values * 16 * configs * study.Spp.Count) + (values * 4 * configs * study.Replicates) + (2 * Film.RequiredBytes(width, height));
+    }
+
     /// <summary>How many replicates a configuration renders: one for a deterministic quadrature, all otherwise.</summary>
     public int Replicates(StudyConfiguration configuration)
     {

@@ -74,12 +74,7 @@ public static class StudyPlots
             }
         }
 
-        LogAxes(plot, x: true, y: true, summary.Result.Study.Spp);
-        plot.Title("MSE against samples per pixel (95 % intervals over replicates, fitted slopes)");
-        plot.XLabel("samples per pixel");
-        plot.YLabel("MSE (corrected for the reference's noise)");
-        plot.ShowLegend(Alignment.UpperRight);
-        return plot;
+        return Finish(plot, summary, "MSE against samples per pixel (95 % intervals over replicates, fitted slopes)", "MSE (corrected for the reference's noise)");
     }
 
     private static Plot EfficiencyPlot(StudySummary summary)
@@ -101,10 +96,16 @@ public static class StudyPlots
             scatter.MarkerSize = 7;
         }
 
+        return Finish(plot, summary, "Efficiency = 1 / (MSE × seconds); higher is better", "efficiency (1 / (MSE·s))");
+    }
+
+    /// <summary>Log-log axes with a tick at each spp of the ladder, titles and the legend.</summary>
+    private static Plot Finish(Plot plot, StudySummary summary, string title, string yLabel)
+    {
         LogAxes(plot, x: true, y: true, summary.Result.Study.Spp);
-        plot.Title("Efficiency = 1 / (MSE × seconds); higher is better");
+        plot.Title(title);
         plot.XLabel("samples per pixel");
-        plot.YLabel("efficiency (1 / (MSE·s))");
+        plot.YLabel(yLabel);
         plot.ShowLegend(Alignment.UpperRight);
         return plot;
     }

@@ -30,10 +30,7 @@ public static class WinMapImage
         ArgumentNullException.ThrowIfNull(map);
         ArgumentNullException.ThrowIfNull(reference);
         ArgumentNullException.ThrowIfNull(names);
-        int mag = Magnification(map.Width);
-        int panelW = map.Width * mag, panelH = map.Height * mag;
-        int canvasW = Math.Max(panelW + (2 * Margin), 360);
-        int canvasH = 24 + panelH + Margin + ((names.Count + 1) * LegendRow) + Margin;
+        (int mag, int panelW, int panelH, int canvasW, int canvasH) = Layout(map, names.Count);
         PngCodec.RequireEncodable(path, canvasW, canvasH);
         using var bitmap = new SKBitmap(new SKImageInfo(canvasW, canvasH, SKColorType.Rgba8888, SKAlphaType.Opaque));
         using var canvas = new SKCanvas(bitmap);
@@ -107,10 +104,7 @@ public static class WinMapImage
     {
         ArgumentNullException.ThrowIfNull(map);
         ArgumentNullException.ThrowIfNull(names);
-        int mag = Magnification(map.Width);
-        int panelW = map.Width * mag, panelH = map.Height * mag;
-        int width = Math.Max(panelW + (2 * Margin), 360);
-        int height = 24 + panelH + Margin + ((names.Count + 1) * LegendRow) + Margin;
+        (int mag, _, int panelH, int width, int height) = Layout(map, names.Count);
         var svg = new StringBuilder();
         svg.Append(CultureInfo.InvariantCulture, $"<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{width}\" height=\"{height}\" font-family=\"sans-serif\" font-size=\"13\">\n");
         svg.Append("<defs><pattern id=\"none\" width=\"6\" height=\"6\" patternUnits=\"userSpaceOnUse\" patternTransform=\"rotate(45)\"><rect width=\"6\" height=\"6\" fill=\"#dcdcdc\"/><line x1=\"0\" y1=\"0\" x2=\"0\" y2=\"6\" stroke=\"#3c3c3c\" stroke-opacity=\"0.45\"/></pattern></defs>\n");
@@ -148,7 +142,13 @@ public static class WinMapImage
         return string.Create(CultureInfo.InvariantCulture, $"{names[i]}: wins {100 * map.WinFractions[i]:F1} %{repeat}");
     }
 
-    private static int Magnification(int width) => Math.Clamp(640 / Math.Max(1, width), 1, 8);
+    /// <summary>Magnification (small images are enlarged up to 8× towards 640 px), panel and canvas sizes: title, panel, legend of one row per configuration and one for "no difference".</summary>
+    private static (int Mag, int PanelW, int PanelH, int CanvasW, int CanvasH) Layout(WinMap map, int configurations)
+    {
+        int mag = Math.Clamp(640 / Math.Max(1, map.Width), 1, 8);
+        int panelW = map.Width * mag, panelH = map.Height * mag;
+        return (mag, panelW, panelH, Math.Max(panelW + (2 * Margin), 360), 24 + panelH + Margin + ((configurations + 1) * LegendRow) + Margin);
+    }
 
     private static SKRect TileRect(WinMap map, int t, int mag, int x0, int y0)
     {

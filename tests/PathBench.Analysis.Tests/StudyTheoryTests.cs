@@ -138,6 +138,39 @@ public sealed class StudyTheoryTests
         }
     }
 
+    [Fact]
+    public void Jittered_sampling_of_the_linear_integrand_has_the_closed_form_error_of_stratification()
+    {
+        // With uniform hemisphere sampling the sample is 2aL·cos θ = 1 − u (cos θ = 1 − u in the
+        // warp), linear in the direction pair's first coordinate. Jittered sampling with N = n²
+        // puts one point uniformly in each cell of an n×n grid: the estimate's variance is
+        // (1/N²)·Σ_cells Var(u within a cell of width 1/n) = (1/N²)·N·(1/(12n²)) = 1/(12N²). So
+        // MSE = 1/(12N²) and the slope is −2, the rate of stratified sampling for smooth integrands
+        // (Pilleboue et al. 2015, ACM TOG 34(4), for 2-D jittered sampling). Tolerance as above.
+        using var temp = new TempFolder();
+        temp.Write("scene.yaml", SceneYaml);
+        WriteConstant(temp.File("exact.pfm"), 64, 64, Exact);
+        temp.Write("study.yaml", """
+            scene: scene.yaml
+            reference: { path: exact.pfm }
+            spp: [4, 16, 64]
+            replicates: 4
+            seed: 5
+            configurations:
+              - { name: jittered, generator: jittered, hemisphere: uniform, lights: bsdf, max_depth: 1, roulette: false }
+            """);
+        ConfigurationSummary jittered = Run(temp).Configurations.Single();
+        Assert.False(jittered.Configuration.IsProgressive);
+        foreach (StudyPoint p in jittered.Points)
+        {
+            double theory = 1.0 / (12.0 * p.Spp * p.Spp);
+            Assert.InRange(p.Mse / theory, 1 - RelativeTolerance, 1 + RelativeTolerance);
+        }
+
+        Assert.InRange(jittered.Slope!.Slope, -2.1, -1.9);
+        Assert.Equal(-2, jittered.Theory.Smooth);
+    }
+
     private static StudySummary Run(TempFolder temp)
     {
         StudyDefinition study = StudyFile.Load(temp.File("study.yaml"));

@@ -117,7 +117,7 @@ internal static class StudyCommand
         int largest = s.Result.Study.Spp[^1];
         var rows = new List<string[]>
         {
-            new[] { "configuration", "slope [95% CI]", $"MSE @{largest}spp", "relMSE", "efficiency", "MSE @equal time", "rank", "wins", "structure" },
+            new[] { "configuration", "slope [95% CI]", "theory", $"MSE @{largest}spp", "relMSE", "efficiency", "MSE @equal time", "rank", "wins", "structure" },
         };
         for (int i = 0; i < s.Configurations.Count; i++)
         {
@@ -128,6 +128,7 @@ internal static class StudyCommand
             [
                 c.Configuration.Name,
                 c.Slope is { } f ? Inv($"{f.Slope:F2} [{f.SlopeLow:F2}, {f.SlopeHigh:F2}]") : "-",
+                Theory(c.Theory),
                 Inv($"{last.Mse:G3}"),
                 Inv($"{last.RelMse:G3}"),
                 last.Efficiency is { } e ? Inv($"{e:G3}") : "-",
@@ -144,7 +145,7 @@ internal static class StudyCommand
             o.WriteLine(string.Join("  ", row.Select((cell, col) => col == 0 ? cell.PadRight(widths[col]) : cell.PadLeft(widths[col]))).TrimEnd());
         }
 
-        o.WriteLine(Inv($"equal time: {s.EqualTime.Seconds:G3} s per image; * = outside the measured times. wins: tiles won at equal time ({100 * s.WinMap.NoDifferenceFraction:F0}% no significant difference). structure: -log10 p of white noise (above 3 is structured)."));
+        o.WriteLine(Inv($"equal time: {s.EqualTime.Seconds:G3} s per image; * = outside the measured times. wins: tiles won at equal time ({100 * s.WinMap.NoDifferenceFraction:F0}% no significant difference). structure: -log10 p of white noise (above 3 is structured). theory: published MSE slopes for smooth / discontinuous integrands (sources in summary.json)."));
         foreach (string warning in s.Warnings)
         {
             o.WriteLine("warning: " + warning);
@@ -153,6 +154,10 @@ internal static class StudyCommand
         string dir = Path.GetDirectoryName(outcome.Files[^1]) ?? ".";
         o.WriteLine(Inv($"{outcome.Files.Count} files in {dir} (summary.json, results.csv, plots, win-map.png); {outcome.CachedRenders} renders from the cache"));
     }
+
+    /// <summary>The published MSE exponents, smooth / with discontinuities, e.g. "-2 / -1.5".</summary>
+    private static string Theory(TheoryRate t) =>
+        t.Smooth is null && t.Discontinuous is null ? "-" : Inv($"{t.Smooth?.ToString("G3", CultureInfo.InvariantCulture) ?? "?"} / {t.Discontinuous?.ToString("G3", CultureInfo.InvariantCulture) ?? "?"}");
 
     private static string Inv(FormattableString s) => s.ToString(CultureInfo.InvariantCulture);
 

@@ -4,6 +4,30 @@ using System.Text.Json;
 
 namespace PathBench.Analysis;
 
+/// <summary>An image a study leaves for viewing, listed in <c>summary.json</c> under <c>images</c>.</summary>
+/// <param name="Kind"><c>reference</c>, <c>reference-variance</c>, <c>render</c> (a configuration's first replicate at one spp) or <c>variance</c> (a configuration's variance across replicates at the largest spp).</param>
+/// <param name="Configuration">The configuration's name; null for the reference.</param>
+/// <param name="Spp">Samples per pixel; null where it does not apply.</param>
+/// <param name="File">Path relative to the study's output folder.</param>
+public sealed record StudyImage(string Kind, string? Configuration, int? Spp, string File);
+
+/// <summary>Where and when a study ran, for its summary and report.</summary>
+/// <param name="StudyFile">The study file as given.</param>
+/// <param name="Version">PathBench version.</param>
+/// <param name="Date">When the study finished (UTC).</param>
+/// <param name="Images">The images left for viewing.</param>
+public sealed record StudyMetadata(string StudyFile, string Version, DateTimeOffset Date, IReadOnlyList<StudyImage> Images)
+{
+    /// <summary>Logical processors of the machine.</summary>
+    public int Cores { get; init; } = Environment.ProcessorCount;
+
+    /// <summary>The operating system's description.</summary>
+    public string OperatingSystem { get; init; } = System.Runtime.InteropServices.RuntimeInformation.OSDescription;
+
+    /// <summary>The .NET runtime's description.</summary>
+    public string Runtime { get; init; } = System.Runtime.InteropServices.RuntimeInformation.FrameworkDescription;
+}
+
 /// <summary>
 /// Writes a study's numbers: <c>results.csv</c> (one row per configuration × spp × replicate) and
 /// <c>summary.json</c>. Field names are stable snake_case; numbers are invariant-culture,
@@ -20,12 +44,12 @@ public static class StudyOutput
     ];
 
     /// <summary>Writes <c>results.csv</c> and <c>summary.json</c> into <paramref name="directory"/>, each through a temporary file and a rename.</summary>
-    public static void Write(string directory, StudySummary summary, string sceneLabel, string? referencePath)
+    public static void Write(string directory, StudySummary summary, string sceneLabel, string? referencePath, StudyMetadata metadata)
     {
         ArgumentNullException.ThrowIfNull(summary);
         Directory.CreateDirectory(directory);
         WriteAtomically(Path.Combine(directory, "results.csv"), w => WriteCsv(w, summary.Result));
-        WriteAtomically(Path.Combine(directory, "summary.json"), w => WriteJson(w, summary, sceneLabel, referencePath));
+        WriteAtomically(Path.Combine(directory, "summary.json"), w => WriteJson(w, summary, sceneLabel, referencePath, metadata));
     }
 
     /// <summary>One row per replicate render.</summary>
@@ -53,10 +77,11 @@ public static class StudyOutput
     }
 
     /// <summary>The summary in the shape the issue tracker and the report rely on.</summary>
-    public static void WriteJson(TextWriter writer, StudySummary summary, string sceneLabel, string? referencePath)
+    public static void WriteJson(TextWriter writer, StudySummary summary, string sceneLabel, string? referencePath, StudyMetadata metadata)
     {
         ArgumentNullException.ThrowIfNull(writer);
         ArgumentNullException.ThrowIfNull(summary);
+        ArgumentNullException.ThrowIfNull(metadata);
         using var stream = new MemoryStream();
         using (var w = new Utf8JsonWriter(stream, new JsonWriterOptions { Indented = true }))
         {
@@ -68,6 +93,23 @@ public static class StudyOutput
             Nullable(w, "spp", reference.Spp);
             Nullable(w, "mean_variance", reference.MeanVariance);
             w.WriteEndObject();
+            w.WriteString("study_file", metadata.StudyFile);
+            w.WriteString("pathbench_version", metadata.Version);
+            w.WriteString("date", metadata.Date.UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", CultureInfo.InvariantCulture));
+            w.WriteStartObject("machine");
+            w.WriteNumber("cores", metadata.Cores);
+            w.WriteString("os", metadata.OperatingSystem);
+            w.WriteString("runtime", metadata.Runtime);
+            w.WriteEndObject();
+            w.WriteNumber("width", reference.Width);
+            w.WriteNumber("height", reference.Height);
+            w.WriteStartArray("spp_ladder");
+            foreach (int n in summary.Result.Study.Spp)
+            {
+                w.WriteNumberValue(n);
+            }
+
+            w.WriteEndArray();
             w.WriteNumber("replicates", summary.Result.Study.Replicates);
             w.WriteNumber("threads", summary.Result.Threads);
             w.WriteNumber("tile_size", StudySummary.TileSize);
@@ -113,6 +155,18 @@ public static class StudyOutput
 
             w.WriteEndArray();
             w.WriteEndObject();
+            w.WriteStartArray("images");
+            foreach (StudyImage image in metadata.Images)
+            {
+                w.WriteStartObject();
+                w.WriteString("kind", image.Kind);
+                w.WriteString("configuration", image.Configuration);
+                Nullable(w, "spp", image.Spp);
+                w.WriteString("file", image.File);
+                w.WriteEndObject();
+            }
+
+            w.WriteEndArray();
             w.WriteStartArray("configurations");
             for (int index = 0; index < summary.Configurations.Count; index++)
             {

@@ -69,10 +69,8 @@ public static class StudyPipeline
             int spp = study.Reference.Spp!.Value;
             progress?.Phase(string.Create(CultureInfo.InvariantCulture, $"rendering the reference ({spp} spp, {study.Reference.Generator}/{study.Reference.Randomize})"));
             reference = runner.RenderReference(spp, study.Reference.Generator, study.Reference.Randomize, cancel);
-            referencePath = Path.Combine(options.OutputDirectory, "reference.exr");
-            reference.Write(referencePath);
-            files.Add(referencePath);
-            files.Add(ReferenceImage.VariancePath(referencePath));
+            // Written with the viewer's images: images/reference.exr and images/reference.variance.exr.
+            referencePath = Path.Combine(options.OutputDirectory, "images", "reference.exr");
         }
 
         progress?.Phase("rendering the replicates");
@@ -81,7 +79,10 @@ public static class StudyPipeline
         StudySummary summary = StudySummary.Of(result);
         progress?.Phase("writing results");
         string label = Path.GetRelativePath(Path.GetDirectoryName(Path.GetFullPath(study.SourcePath)) ?? ".", study.ScenePath);
-        StudyOutput.Write(options.OutputDirectory, summary, label, referencePath);
+        IReadOnlyList<StudyImage> images = WriteViewerImages(options.OutputDirectory, summary);
+        files.AddRange(images.Select(i => Path.Combine(options.OutputDirectory, i.File)));
+        var metadata = new StudyMetadata(study.SourcePath, options.Version, DateTimeOffset.UtcNow, images);
+        StudyOutput.Write(options.OutputDirectory, summary, label, referencePath, metadata);
         files.Add(Path.Combine(options.OutputDirectory, "results.csv"));
         files.Add(Path.Combine(options.OutputDirectory, "summary.json"));
         files.AddRange(StudyPlots.Write(options.OutputDirectory, summary));
@@ -156,6 +157,50 @@ public static class StudyPipeline
         {
             throw new SceneException($"{sidecar}: the reference's sidecar is not valid JSON: {e.Message}", e);
         }
+    }
+
+    /// <summary>
+    /// The float images a viewer needs, as FLOAT OpenEXR in <c>DIR/images</c>: the reference (and
+    /// its variance when known), each configuration's first replicate at every spp, and each
+    /// configuration's variance across replicates at the largest spp.
+    /// </summary>
+    private static List<StudyImage> WriteViewerImages(string directory, StudySummary summary)
+    {
+        StudyResult result = summary.Result;
+        ReferenceImage reference = result.Reference;
+        int width = reference.Width, height = reference.Height;
+        string folder = Path.Combine(directory, "images");
+        Directory.CreateDirectory(folder);
+        var exact = new ExrWriteOptions(ExrCompression.Zip, ExrPixelType.Float);
+        var images = new List<StudyImage>();
+        void Write(StudyImage image, float[] data)
+        {
+            ImageFile.Write(Path.Combine(directory, image.File), new RgbImage(width, height, data), exact);
+            images.Add(image);
+        }
+
+        Write(new StudyImage("reference", null, reference.Spp, "images/reference.exr"), [.. reference.Value.Select(v => (float)v)]);
+        if (reference.HasVariance)
+        {
+            Write(new StudyImage("reference-variance", null, reference.Spp, "images/reference.variance.exr"), [.. reference.VarianceOfMean.Select(v => (float)v)]);
+        }
+
+        int largest = result.Study.Spp[^1];
+        foreach (StudyConfiguration c in result.Study.Configurations)
+        {
+            foreach (int spp in result.Study.Spp)
+            {
+                Write(new StudyImage("render", c.Name, spp, string.Create(CultureInfo.InvariantCulture, $"images/{c.Name}-{spp}spp.exr")), result.FirstReplicate[(c.Name, spp)]);
+            }
+
+            PixelMoments moments = result.Moments[(c.Name, largest)];
+            if (moments.Count >= 2)
+            {
+                Write(new StudyImage("variance", c.Name, largest, string.Create(CultureInfo.InvariantCulture, $"images/{c.Name}-{largest}spp.variance.exr")), moments.Variance());
+            }
+        }
+
+        return images;
     }
 
     /// <summary>The win map and, per configuration, the relative-error heat map of its first replicate at the largest spp.</summary>

@@ -23,6 +23,7 @@ public sealed record StudySample(string Configuration, int Spp, int Replicate, u
 /// <param name="Samples">Every replicate render, in the order they ran.</param>
 /// <param name="Moments">Per (configuration name, spp): the replicates' per-pixel sums.</param>
 /// <param name="FinalImages">Per configuration name: each replicate's image at the largest spp, in replicate order.</param>
+/// <param name="FirstReplicate">Per (configuration name, spp): the first replicate's image, for viewing.</param>
 /// <param name="Threads">Worker threads of every render.</param>
 public sealed record StudyResult(
     StudyDefinition Study,
@@ -30,6 +31,7 @@ public sealed record StudyResult(
     IReadOnlyList<StudySample> Samples,
     IReadOnlyDictionary<(string Configuration, int Spp), PixelMoments> Moments,
     IReadOnlyDictionary<string, List<float[]>> FinalImages,
+    IReadOnlyDictionary<(string Configuration, int Spp), float[]> FirstReplicate,
     int Threads);
 
 /// <summary>Per-pixel, per-channel sums of the replicate images and of their squares.</summary>
@@ -50,6 +52,24 @@ public sealed class PixelMoments
 
     /// <summary>Σ x² per value.</summary>
     public double[] SumSquares { get; }
+
+    /// <summary>Per value, the unbiased variance across the replicates added (0 with fewer than two).</summary>
+    public float[] Variance()
+    {
+        var v = new float[Sum.Length];
+        if (Count < 2)
+        {
+            return v;
+        }
+
+        for (int i = 0; i < v.Length; i++)
+        {
+            double mean = Sum[i] / Count;
+            v[i] = (float)Math.Max(0, (SumSquares[i] - (Sum[i] * mean)) / (Count - 1));
+        }
+
+        return v;
+    }
 
     /// <summary>Adds one replicate image.</summary>
     public void Add(ReadOnlySpan<float> image)
@@ -163,6 +183,7 @@ public sealed class StudyRunner
         var samples = new List<StudySample>();
         var moments = new Dictionary<(string, int), PixelMoments>();
         var finals = new Dictionary<string, List<float[]>>(StringComparer.Ordinal);
+        var first = new Dictionary<(string, int), float[]>();
         foreach (StudyConfiguration c in _study.Configurations)
         {
             finals[c.Name] = [];
@@ -188,6 +209,11 @@ public sealed class StudyRunner
                 {
                     samples.Add(new StudySample(c.Name, spp, k, seed, r.Seconds, r.Rays, r.NonFiniteSamples, cached, ReplicateError.Measure(r.Image, reference)));
                     moments[(c.Name, spp)].Add(r.Image);
+                    if (k == 0)
+                    {
+                        first[(c.Name, spp)] = r.Image;
+                    }
+
                     if (spp == _study.Spp[^1])
                     {
                         finals[c.Name].Add(r.Image);
@@ -204,7 +230,7 @@ public sealed class StudyRunner
             }
         }
 
-        return new StudyResult(_study, reference, samples, moments, finals, _env.Threads);
+        return new StudyResult(_study, reference, samples, moments, finals, first, _env.Threads);
     }
 
     /// <summary>The most memory a study's statistics may hold (the machines it is written for have 24 GiB).</summary>
@@ -212,15 +238,16 @@ public sealed class StudyRunner
 
     /// <summary>
     /// Memory a study holds besides the renders themselves: per configuration and spp the
-    /// per-pixel sums over replicates (two doubles per value), and per configuration each
-    /// replicate's image at the largest spp (one float per value), plus two films in flight.
+    /// per-pixel sums over replicates (two doubles per value) and the first replicate's image (one
+    /// float per value), and per configuration each replicate's image at the largest spp (one
+    /// float per value), plus two films in flight.
     /// </summary>
     public static long EstimateBytes(StudyDefinition study, int width, int height)
     {
         ArgumentNullException.ThrowIfNull(study);
         long values = 3L * width * height;
         long configs = study.Configurations.Count;
-        return (values * 16 * configs * study.Spp.Count) + (values * 4 * configs * study.Replicates) + (2 * Film.RequiredBytes(width, height));
+        return (values * 20 * configs * study.Spp.Count) + (values * 4 * configs * study.Replicates) + (2 * Film.RequiredBytes(width, height));
     }
 
     /// <summary>How many replicates a configuration renders: one for a deterministic quadrature, all otherwise.</summary>

@@ -87,6 +87,7 @@ public static class StudyPipeline
         files.Add(Path.Combine(options.OutputDirectory, "summary.json"));
         files.AddRange(StudyPlots.Write(options.OutputDirectory, summary));
         files.AddRange(WriteImages(options.OutputDirectory, summary));
+        files.Add(Report.StudyReport.Write(options.OutputDirectory));
         return new StudyOutcome(summary, files, cache.Hits, referencePath);
     }
 

@@ -72,6 +72,7 @@ public static class CliApp
         root.Subcommands.Add(RenderCommand.CreateReference(io));
         root.Subcommands.Add(StudyCommand.CreateStudy(io));
         root.Subcommands.Add(StudyCommand.CreateDemo(io));
+        root.Subcommands.Add(StudyCommand.CreateReport(io));
         root.Subcommands.Add(CompareCommand.Create(io));
         root.Subcommands.Add(ConvertCommand.Create(io));
         return root;

@@ -60,6 +60,20 @@ internal static class StudyCommand
         return command;
     }
 
+    public static Command CreateReport(CliIo io)
+    {
+        var dir = new Argument<string>("dir") { Description = "A study's output folder (with summary.json, the plots and images/)" };
+        var command = new Command("report", "Rebuild a study's report.html from its outputs, without rendering");
+        command.Arguments.Add(dir);
+        command.SetAction(parse =>
+        {
+            string path = Analysis.Report.StudyReport.Write(parse.GetValue(dir)!);
+            io.Out.WriteLine(Inv($"{path}: {new FileInfo(path).Length / 1024.0:F0} KiB"));
+            return 0;
+        });
+        return command;
+    }
+
     private static (Option<string?> Output, Option<int?> Threads, Option<bool> Quiet) CommonOptions(string outputDescription) =>
         (new Option<string?>("--out") { Description = "Output folder " + outputDescription + "; renders are cached in DIR/cache so a rerun resumes" },
          new Option<int?>("--threads") { Description = "Worker threads per render (default: the study's 'threads', else every core)" },
@@ -152,7 +166,7 @@ internal static class StudyCommand
         }
 
         string dir = Path.GetDirectoryName(outcome.Files[^1]) ?? ".";
-        o.WriteLine(Inv($"{outcome.Files.Count} files in {dir} (summary.json, results.csv, plots, win-map.png); {outcome.CachedRenders} renders from the cache"));
+        o.WriteLine(Inv($"{outcome.Files.Count} files in {dir}: open {Path.Combine(dir, "report.html")} in a browser; numbers in summary.json and results.csv; {outcome.CachedRenders} renders from the cache"));
     }
 
     /// <summary>The published MSE exponents, smooth / with discontinuities, e.g. "-2 / -1.5".</summary>

@@ -2,7 +2,7 @@ namespace PathBench.Imaging;
 
 /// <summary>
 /// The CRC-32 every PNG chunk ends with (PNG specification, 3rd edition, "CRC algorithm" and its
-/// annex of sample code; the same CRC as ISO 3309 and ITU-T V.42): polynomial 0x04C11DB7 processed
+/// annex of sample code; the same CRC as ISO 3309 and ITU-T V.42, from memory): polynomial 0x04C11DB7 processed
 /// least significant bit first (0xEDB88320 reflected), register preset to all ones, result
 /// complemented, computed over the chunk type and data (not the length).
 /// </summary>

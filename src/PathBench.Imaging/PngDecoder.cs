@@ -832,7 +832,7 @@ internal static class PngFilters
     }
 
     /// <summary>
-    /// The Paeth predictor (Paeth 1991; PNG specification, "Filter type 4: Paeth"): of a (left),
+    /// The Paeth predictor (PNG specification, "Filter type 4: Paeth"): of a (left),
     /// b (above), c (upper left), the one nearest p = a + b − c, ties broken in the order a, b, c.
     /// </summary>
     public static int Paeth(int a, int b, int c)

@@ -62,6 +62,8 @@ internal sealed class PngTransfer
         }
         else
         {
+            // sRGB for untagged images: the PNG 3rd edition's recommended default (from memory; the
+            // wording was not checked against the specification's text).
             winner = "";
             notes.Add("no cICP, iCCP, sRGB or gAMA chunk: sRGB assumed (the PNG specification's recommended default for untagged images), samples decoded through the sRGB curve (IEC 61966-2-1)");
             curve = Srgb.Decode;

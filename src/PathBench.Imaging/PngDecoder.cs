@@ -579,12 +579,14 @@ internal static class PngDecoder
 
             var h = new PngHeader((int)width, (int)height, bitDepth, (PngColourType)colourType, d[12] == 1);
             limits.Check(fileName, width, height, h.Channels);
-            CheckRatio(h, length - start, "");
-            if (h.FilteredBytes > Array.MaxLength || h.RasterBytes > Array.MaxLength)
+            long values = (long)width * height * RgbImage.Channels;
+            if (h.FilteredBytes > Array.MaxLength || h.RasterBytes > Array.MaxLength || values > Array.MaxLength)
             {
-                throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"{h.FilteredBytes} bytes of image data in one array ({width}x{height} {h.Describe()})"));
+                throw new ImageNotSupportedException(fileName, FormattableString.Invariant(
+                    $"a {width}x{height} {h.Describe()} image needs {h.FilteredBytes} bytes of image data and {values} linear values, more than one array holds"));
             }
 
+            CheckRatio(h, length - start, "");
             return h;
         }
 

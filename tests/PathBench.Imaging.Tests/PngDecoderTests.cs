@@ -95,6 +95,17 @@ public sealed class PngDecoderTests
     }
 
     [Fact]
+    public void A_size_beyond_one_array_is_refused_before_allocating_even_with_no_value_limit()
+    {
+        // 2^30 x 1 one-bit grey: 2^27 bytes of data, but 3 * 2^30 linear values, more than a .NET array holds (common practice: Array.MaxLength).
+        byte[] png = PngBytes.Image(1u << 30, 1, 1, 0, [0, 0]);
+        long before = GC.GetAllocatedBytesForCurrentThread();
+        var e = Assert.Throws<ImageNotSupportedException>(() => PngCodec.Read(new MemoryStream(png), "wide.png", new ImageLimits(long.MaxValue)));
+        Assert.True(GC.GetAllocatedBytesForCurrentThread() - before < (1 << 20), "the reader allocated before refusing");
+        Assert.Equal("wide.png: not supported: a 1073741824x1 1-bit grey image needs 134217729 bytes of image data and 3221225472 linear values, more than one array holds", e.Message);
+    }
+
+    [Fact]
     public void Idat_may_be_split_anywhere_and_hold_empty_chunks()
     {
         // PNG specification: the compressed stream is the concatenation of all IDAT data; zero-length IDAT chunks are allowed.

@@ -99,7 +99,7 @@ internal sealed record PngHeader(int Width, int Height, int BitDepth, PngColourT
 }
 
 /// <summary>The colour chunks of a PNG as found (each at most once, all before the image data).</summary>
-internal sealed record PngColourChunks
+internal sealed class PngColourChunks
 {
     /// <summary>cICP: colour primaries, transfer characteristics, matrix coefficients, full-range flag (ITU-T H.273 code points).</summary>
     public byte[]? Cicp { get; set; }
@@ -175,15 +175,41 @@ internal sealed class PngDecoded
 
                 break;
             default:
-                // Sub-byte samples are packed from the most significant bit of each byte (PNG specification, "Scanline").
-                int mask = (1 << depth) - 1;
                 for (int i = 0; i < count; i++)
                 {
-                    int bit = i * depth;
-                    samples[i] = (ushort)((row[bit >> 3] >> (8 - depth - (bit & 7))) & mask);
+                    samples[i] = (ushort)Packed(row, i, depth);
                 }
 
                 break;
+        }
+    }
+
+    /// <summary>Sample <paramref name="index"/> of a row of 1-, 2- or 4-bit samples, packed from the most significant bit of each byte (PNG specification, "Scanline").</summary>
+    internal static int Packed(ReadOnlySpan<byte> row, int index, int depth)
+    {
+        int bit = index * depth;
+        return (row[bit >> 3] >> (8 - depth - (bit & 7))) & ((1 << depth) - 1);
+    }
+
+    /// <summary>Refuses an index with no palette entry, naming the first such pixel.</summary>
+    internal void CheckIndices(string fileName)
+    {
+        int entries = Palette!.Length / 3;
+        if (entries >= 1 << Header.BitDepth)
+        {
+            return; // every index the depth can hold names an entry
+        }
+
+        var row = new ushort[Header.Width];
+        for (int y = 0; y < Header.Height; y++)
+        {
+            Row(y, row);
+            int x = Array.FindIndex(row, i => i >= entries);
+            if (x >= 0)
+            {
+                throw new ImageFileException(
+                    fileName, FormattableString.Invariant($"palette index {row[x]} at pixel ({x},{y}) is out of range: PLTE has {entries} entries"));
+            }
         }
     }
 }
@@ -236,13 +262,13 @@ internal static class PngDecoder
             throw new ImageFileException(fileName, "image data (IDAT): " + e.Message, e);
         }
 
-        byte[] raster = Unfilter(header, filtered, fileName);
+        var decoded = new PngDecoded(header, Unfilter(header, filtered, fileName), walk.Palette, walk.Colour, transfer, walk.Notes);
         if (header.ColourType == PngColourType.Palette)
         {
-            CheckIndices(header, raster, walk.Palette!.Length / 3, fileName);
+            decoded.CheckIndices(fileName);
         }
 
-        return new PngDecoded(header, raster, walk.Palette, walk.Colour, transfer, walk.Notes);
+        return decoded;
     }
 
     /// <summary>Undoes the filters pass by pass; with Adam7, scatters each pass into the full-image layout.</summary>
@@ -304,38 +330,11 @@ internal static class PngDecoder
             return;
         }
 
-        int mask = (1 << bits) - 1;
         for (int i = 0; i < count; i++)
         {
-            int from = i * bits;
-            int value = (row[from >> 3] >> (8 - bits - (from & 7))) & mask;
+            int value = PngDecoded.Packed(row, i, bits);
             int to = (x0 + (i * dx)) * bits;
             target[to >> 3] |= (byte)(value << (8 - bits - (to & 7)));
-        }
-    }
-
-    private static void CheckIndices(PngHeader header, byte[] raster, int entries, string fileName)
-    {
-        if (entries >= 1 << header.BitDepth)
-        {
-            return; // every index the depth can hold names an entry
-        }
-
-        long stride = 1 + header.RowBytes(header.Width);
-        int depth = header.BitDepth;
-        for (int y = 0; y < header.Height; y++)
-        {
-            long row = (y * stride) + 1;
-            for (int x = 0; x < header.Width; x++)
-            {
-                int bit = x * depth;
-                int index = (raster[row + (bit >> 3)] >> (8 - depth - (bit & 7))) & ((1 << depth) - 1);
-                if (index >= entries)
-                {
-                    throw new ImageFileException(
-                        fileName, FormattableString.Invariant($"palette index {index} at pixel ({x},{y}) is out of range: PLTE has {entries} entries"));
-                }
-            }
         }
     }
 

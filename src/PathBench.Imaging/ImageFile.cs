@@ -9,7 +9,7 @@ public enum ImageFormat
     /// <summary>OpenEXR.</summary>
     Exr,
 
-    /// <summary>PNG (8-bit sRGB).</summary>
+    /// <summary>PNG (read at any bit depth and colour type; written as 8-bit sRGB).</summary>
     Png,
 }
 

@@ -1,23 +1,21 @@
-using System.Buffers.Binary;
 using System.Runtime.InteropServices;
 using SkiaSharp;
 
 namespace PathBench.Imaging;
 
 /// <summary>
-/// PNG through SkiaSharp: 8-bit sRGB out (exposure, tone curve, IEC 61966-2-1 encoding), and
-/// 8-bit PNG in, decoded to linear values through the sRGB curve. The IHDR chunk is checked by
-/// hand (PNG specification, ISO/IEC 15948:2004 §11.2.2) before the decoder allocates anything.
+/// PNG out through SkiaSharp: 8-bit sRGB (exposure, tone curve, IEC 61966-2-1 encoding). PNG in
+/// through our own decoder (<see cref="PngDecoder"/>): every colour type and bit depth, 16-bit
+/// samples exact, decoded to linear values by the transfer the file's colour chunks state
+/// (<see cref="PngTransfer"/>); alpha is ignored and grey goes to R, G and B.
 /// </summary>
 public static class PngCodec
 {
-    private static readonly byte[] Signature = [0x89, 0x50, 0x4E, 0x47, 0x0D, 0x0A, 0x1A, 0x0A];
-
-    // Deflate cannot expand data by more than about 1032:1 (a 258-byte match costs at least two
-    // bits; from memory), so a file this much shorter than its declared pixels is lying or cut.
-    private const long MaxDeflateRatio = 1032;
-
-    /// <summary>Reads an 8-bit PNG into linear RGB (alpha ignored, grey copied to R, G and B).</summary>
+    /// <summary>
+    /// Reads any PNG (grey, grey+alpha, RGB, RGBA, palette; 1 to 16 bits; interlaced or not) into
+    /// linear RGB. Alpha and tRNS transparency are ignored; grey is copied to R, G and B; the
+    /// notes say which transfer to linear was assumed and why.
+    /// </summary>
     /// <exception cref="ImageFileException">The file is unreadable, malformed or above the limits.</exception>
     public static ImageReadResult Read(string path, ImageLimits? limits = null)
     {
@@ -30,128 +28,69 @@ public static class PngCodec
     public static ImageReadResult Read(Stream stream, string fileName, ImageLimits? limits = null)
     {
         ArgumentNullException.ThrowIfNull(stream);
-        limits ??= ImageLimits.Default;
-        long length = StreamReading.RequireLength(stream, fileName);
-        long start = stream.Position;
-        if (length - start < 33)
+        PngDecoded png = PngDecoder.Decode(stream, fileName, limits ?? ImageLimits.Default);
+        PngHeader h = png.Header;
+        bool indexed = h.ColourType == PngColourType.Palette;
+
+        // One linear value per possible stored value: palette entries are always 8-bit.
+        int bits = indexed ? 8 : h.BitDepth;
+        double max = (1 << bits) - 1;
+        float[] linear = new float[1 << bits];
+        for (int v = 0; v < linear.Length; v++)
         {
-            throw new ImageFileException(fileName, FormattableString.Invariant($"truncated: {length - start} bytes is too short for a PNG file"));
+            linear[v] = (float)png.Transfer.ToLinear(v / max);
         }
 
-        Span<byte> head = stackalloc byte[33];
-        StreamReading.ReadExactly(stream, head, fileName, "the PNG header");
-        if (!head[..8].SequenceEqual(Signature))
+        var image = new RgbImage(h.Width, h.Height);
+        float[] data = image.Data;
+        int channels = h.Channels;
+        byte[] palette = png.Palette ?? [];
+        ushort[] row = new ushort[h.Width * channels];
+        long o = 0;
+        for (int y = 0; y < h.Height; y++)
         {
-            throw new ImageFileException(fileName, "not a PNG file: wrong signature");
+            png.Row(y, row);
+            for (int x = 0; x < h.Width; x++, o += 3)
+            {
+                int s = x * channels;
+                switch (h.ColourType)
+                {
+                    case PngColourType.Rgb or PngColourType.Rgba:
+                        data[o] = linear[row[s]];
+                        data[o + 1] = linear[row[s + 1]];
+                        data[o + 2] = linear[row[s + 2]];
+                        break;
+                    case PngColourType.Palette:
+                        int e = row[s] * 3;
+                        data[o] = linear[palette[e]];
+                        data[o + 1] = linear[palette[e + 1]];
+                        data[o + 2] = linear[palette[e + 2]];
+                        break;
+                    default:
+                        data[o] = data[o + 1] = data[o + 2] = linear[row[s]];
+                        break;
+                }
+            }
         }
 
-        uint ihdrLength = BinaryPrimitives.ReadUInt32BigEndian(head[8..]);
-        if (ihdrLength != 13 || !head[12..16].SequenceEqual("IHDR"u8))
+        var notes = new List<string>(png.Transfer.Notes)
         {
-            throw new ImageFileException(fileName, "PNG does not start with a 13-byte IHDR chunk");
-        }
-
-        uint width = BinaryPrimitives.ReadUInt32BigEndian(head[16..]);
-        uint height = BinaryPrimitives.ReadUInt32BigEndian(head[20..]);
-        byte bitDepth = head[24];
-        byte colourType = head[25];
-        if (width == 0 || height == 0 || width > int.MaxValue || height > int.MaxValue)
-        {
-            throw new ImageFileException(fileName, FormattableString.Invariant($"PNG size {width}x{height} is out of range (1..2^31-1)"));
-        }
-
-        int samples = colourType switch
-        {
-            0 => 1,
-            2 => 3,
-            3 => 1,
-            4 => 2,
-            6 => 4,
-            _ => throw new ImageFileException(fileName, FormattableString.Invariant($"PNG colour type {colourType} does not exist")),
+            indexed
+                ? "palette entries (8-bit) divided by 255 before the transfer"
+                : FormattableString.Invariant($"{h.BitDepth}-bit samples divided by {(1 << h.BitDepth) - 1} before the transfer"),
         };
-        bool depthValid = colourType switch
-        {
-            0 => bitDepth is 1 or 2 or 4 or 8 or 16,
-            3 => bitDepth is 1 or 2 or 4 or 8,
-            _ => bitDepth is 8 or 16,
-        };
-        if (!depthValid)
-        {
-            throw new ImageFileException(fileName, FormattableString.Invariant($"PNG bit depth {bitDepth} is invalid for colour type {colourType}"));
-        }
-
-        limits.Check(fileName, width, height, Math.Max(samples, 4));
-        long rowBytes = 1 + ((width * samples * bitDepth) + 7) / 8;
-        if (rowBytes * height > (MaxDeflateRatio * (length - start)) + 4096)
-        {
-            throw new ImageFileException(
-                fileName,
-                FormattableString.Invariant($"truncated or lying: {length - start} bytes cannot hold the {width}x{height} pixels the header declares"));
-        }
-
-        var notes = new List<string>();
-        if (bitDepth == 16)
-        {
-            // Skia's decoder reduces 16 to 8 bits by dropping the low byte: values read low by half
-            // an 8-bit code on average. Said plainly, since a bias is what users measure.
-            notes.Add("16-bit PNG reduced to 8 bits per channel by truncation before decoding: values read low by about half an 8-bit code; convert such files to EXR or PFM for exact comparisons");
-        }
-
-        if (colourType is 4 or 6)
+        if (h.ColourType is PngColourType.GreyAlpha or PngColourType.Rgba)
         {
             notes.Add("alpha channel ignored");
         }
 
-        if (colourType is 0 or 4)
+        if (h.ColourType is PngColourType.Grey or PngColourType.GreyAlpha)
         {
             notes.Add("grey PNG: the value is copied to R, G and B");
         }
 
-        notes.Add("8-bit values decoded to linear through the sRGB curve (IEC 61966-2-1)");
-        stream.Position = start;
-        using var codec = SKCodec.Create(stream, out SKCodecResult created);
-        if (codec is null)
-        {
-            throw new ImageFileException(fileName, $"PNG decoder rejected the file ({created})");
-        }
-
-        int w = (int)width;
-        int h = (int)height;
-        if (codec.Info.Width != w || codec.Info.Height != h)
-        {
-            throw new ImageFileException(fileName, "PNG decoder disagrees with the IHDR size");
-        }
-
-        // No colour space on the target: the decoder hands over the stored codes unconverted.
-        var info = new SKImageInfo(w, h, SKColorType.Rgba8888, SKAlphaType.Unpremul);
-        var pixels = new byte[(long)w * h * 4];
-        SKCodecResult result;
-        GCHandle pin = GCHandle.Alloc(pixels, GCHandleType.Pinned);
-        try
-        {
-            result = codec.GetPixels(info, pin.AddrOfPinnedObject());
-        }
-        finally
-        {
-            pin.Free();
-        }
-
-        if (result != SKCodecResult.Success)
-        {
-            string why = result == SKCodecResult.IncompleteInput ? "truncated: PNG image data ends early" : $"PNG image data is corrupt ({result})";
-            throw new ImageFileException(fileName, why);
-        }
-
-        var image = new RgbImage(w, h);
-        float[] data = image.Data;
-        for (long i = 0, n = (long)w * h; i < n; i++)
-        {
-            data[i * 3] = Srgb.DecodeByte(pixels[i * 4]);
-            data[(i * 3) + 1] = Srgb.DecodeByte(pixels[(i * 4) + 1]);
-            data[(i * 3) + 2] = Srgb.DecodeByte(pixels[(i * 4) + 2]);
-        }
-
-        return new ImageReadResult(image, FormattableString.Invariant($"PNG {bitDepth}-bit"), notes);
+        notes.AddRange(png.Notes);
+        return new ImageReadResult(image, "PNG " + h.Describe(), notes);
     }
 
     /// <summary>The largest width or height a PNG may have here: libpng's default limit.</summary>

@@ -17,11 +17,16 @@ internal static class ExternalTool
 
     // Checked once per test run: the modules do not come and go while the tests run.
     private static readonly Lazy<ReferenceTools.Result> ScipyProbe = new(() => Run(Python, "python3", ["-c", "import numpy, skimage, scipy"]));
+    private static readonly Lazy<ReferenceTools.Result> PillowProbe = new(() => Run(Python, "python3-pil", ["-c", "import numpy, PIL.Image, PIL.PngImagePlugin"]));
     private static readonly Lazy<ReferenceTools.Result> OiioProbe = new(() => Run(Python, "python3-openimageio", ["-c", "import numpy, OpenImageIO"]));
 
     /// <summary>Runs a Python script from the tools folder copied beside the tests, checking numpy, scikit-image and scipy first.</summary>
     public static ReferenceTools.Result RunPythonScript(string script, params string[] args) =>
         RunScript(script, args, ScipyProbe.Value, "python3", "numpy/skimage/scipy", "python3-numpy python3-skimage python3-scipy", script);
+
+    /// <summary>Runs a Python script from the tools folder copied beside the tests, checking first that Debian's interpreter has Pillow and numpy.</summary>
+    public static ReferenceTools.Result RunPillowScript(string script, params string[] args) =>
+        RunScript(script, args, PillowProbe.Value, "python3-pil", "PIL/numpy", "python3-pil python3-numpy", script + " " + string.Join(' ', args));
 
     /// <summary>Runs tools/imaging/oiio_exr.py, checking first that Debian's interpreter has OpenImageIO and numpy.</summary>
     public static ReferenceTools.Result RunOiioScript(string[] args) =>

@@ -1,5 +1,4 @@
 using System.Buffers.Binary;
-using System.IO.Compression;
 using System.Text;
 
 namespace PathBench.Imaging.Tests;
@@ -145,16 +144,7 @@ public sealed class MalformedFileTests
 
     private static void WriteInt(byte[] b, int at, int value) => BinaryPrimitives.WriteInt32LittleEndian(b.AsSpan(at), value);
 
-    private static byte[] Zlib(byte[] data)
-    {
-        var s = new MemoryStream();
-        using (var z = new ZLibStream(s, CompressionLevel.Optimal, leaveOpen: true))
-        {
-            z.Write(data);
-        }
-
-        return s.ToArray();
-    }
+    private static byte[] Zlib(byte[] data) => PngBytes.Zlib(data);
 
     /// <summary>Replaces chunk 0's data (and its size field) by <paramref name="payload"/>, keeping chunk 1 reachable.</summary>
     private static byte[] ReplaceChunk0(byte[] exr, byte[] payload)
@@ -169,15 +159,45 @@ public sealed class MalformedFileTests
         return result;
     }
 
-    // ---- PNG helpers: IHDR fields at fixed offsets after the 8-byte signature -----------------
+    // ---- PNG helpers ---------------------------------------------------------------------------
 
-    private static byte[] PngWithIhdr(uint width, uint height, byte depth = 8, byte colourType = 2) => Mutate(ValidPng(), b =>
+    /// <summary>The valid file with its IHDR fields changed and the IHDR CRC recomputed, so the reader meets the field, not a bad CRC.</summary>
+    private static byte[] PngWithIhdr(uint width, uint height, byte depth = 8, byte colourType = 2, byte compression = 0) => Mutate(ValidPng(), b =>
     {
         BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(16), width);
         BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(20), height);
         b[24] = depth;
         b[25] = colourType;
+        b[26] = compression;
+        PngBytes.FixCrc(b, 8);
     });
+
+    /// <summary>The valid file with one chunk's field changed and that chunk's CRC recomputed.</summary>
+    private static byte[] PngWithChunk(string type, Action<byte[], int> change) => Mutate(ValidPng(), b =>
+    {
+        int at = PngBytes.Find(b, type);
+        change(b, at);
+        PngBytes.FixCrc(b, at);
+    });
+
+    /// <summary>A 4x4 8-bit grey image's filtered data: four rows of a filter byte and four samples.</summary>
+    private static byte[] Grey4x4(int filterRow = -1, byte filterType = 0)
+    {
+        var d = new byte[20];
+        if (filterRow >= 0)
+        {
+            d[filterRow * 5] = filterType;
+        }
+
+        return d;
+    }
+
+    private static byte[] GreyPng(byte[] filtered, byte interlace = 0, uint width = 4, uint height = 4, params byte[][] before) =>
+        PngBytes.Image(width, height, 8, 0, filtered, interlace, before);
+
+    private static byte[] Cicp(params byte[] values) => PngBytes.Chunk("cICP", values);
+
+    private static byte[] Text(int bytes) => PngBytes.Chunk("tEXt", [.. "Comment"u8, 0, .. Enumerable.Repeat((byte)'x', bytes)]);
 
     private static Malformed[] BuildCorpus()
     {
@@ -280,26 +300,96 @@ public sealed class MalformedFileTests
             new("exr_zlib_too_little", () => ReplaceChunk0(ValidExr(), Zlib(new byte[RawChunk0 - 100])), "zlib data ends after 7004 of 7104 bytes"),
             new("exr_zlib_bomb", () => ReplaceChunk0(ValidExr(), Zlib(new byte[5_000_000])), "inflates to more than the 7104 bytes"),
 
-            // PNG
+            // PNG: header
             new("png_signature_only", () => ValidPng()[..8], "truncated: 8 bytes is too short for a PNG file"),
             new("png_short_header", () => ValidPng()[..20], "truncated: 20 bytes is too short for a PNG file"),
             new("png_missing_ihdr", () => Mutate(ValidPng(), b => b[12] = (byte)'X'), "does not start with a 13-byte IHDR chunk"),
             new("png_ihdr_wrong_length", () => Mutate(ValidPng(), b => b[11] = 14), "does not start with a 13-byte IHDR chunk"),
+            new("png_bad_crc_ihdr", () => Mutate(ValidPng(), b => b[29] ^= 0x01), "chunk 'IHDR' at byte 8 has a bad CRC"),
             new("png_zero_width", () => PngWithIhdr(0, 4), "PNG size 0x4 is out of range"),
-            new("png_negative_height", () => PngWithIhdr(5, 0x80000000), "is out of range"),
+            new("png_negative_height", () => PngWithIhdr(5, 0x80000000), "PNG size 5x2147483648 is out of range"),
             new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the limit"),
             new("png_lying_dimensions", () => PngWithIhdr(8000, 8000), "cannot hold the 8000x8000 pixels"),
+            new("png_huge_declared_tiny_file", () => PngWithIhdr(9000, 9000, depth: 16, colourType: 0), "cannot hold the 9000x9000 pixels"),
+            new("png_huge_declared_padded_file", () => PngBytes.File(PngBytes.Ihdr(2000, 2000, 16, 2), Text(40_000), PngBytes.Chunk("IDAT", Zlib(new byte[20])), PngBytes.Chunk("IEND")),
+                "bytes of image data (IDAT) cannot hold the 2000x2000 pixels"),
             new("png_bad_bit_depth", () => PngWithIhdr(5, 4, depth: 3), "bit depth 3 is invalid for colour type 2"),
             new("png_bad_colour_type", () => PngWithIhdr(5, 4, colourType: 5), "colour type 5 does not exist"),
-            new("png_truncated_image_data", () => ValidPng()[..50], "PNG"),
-            new("png_corrupt_image_data", () => Mutate(ValidPng(), b =>
+            new("png_bad_colour_type_1", () => PngWithIhdr(5, 4, colourType: 1), "colour type 1 does not exist"),
+            new("png_palette_16_bit", () => PngBytes.Image(4, 4, 16, 3, new byte[4 * 9]), "bit depth 16 is invalid for colour type 3"),
+            new("png_rgb_4_bit", () => PngBytes.Image(4, 4, 4, 2, new byte[4 * 7]), "bit depth 4 is invalid for colour type 2"),
+            new("png_grey_alpha_1_bit", () => PngBytes.Image(4, 4, 1, 4, new byte[4 * 2]), "bit depth 1 is invalid for colour type 4"),
+            new("png_rgba_2_bit", () => PngBytes.Image(4, 4, 2, 6, new byte[4 * 5]), "bit depth 2 is invalid for colour type 6"),
+            new("png_grey_3_bit", () => PngBytes.Image(4, 4, 3, 0, new byte[4 * 3]), "bit depth 3 is invalid for colour type 0"),
+            new("png_compression_method_1", () => PngWithIhdr(5, 4, compression: 1), "compression method 1 is not defined"),
+            new("png_interlace_method_2", () => GreyPng(Grey4x4(), interlace: 2), "interlace method 2 is not defined"),
+
+            // PNG: chunk layout
+            new("png_bad_crc_idat", () => Mutate(ValidPng(), b => b[PngBytes.Find(b, "IDAT") + 10] ^= 0x5A), "has a bad CRC (stored"),
+            new("png_bad_crc_iend", () => Mutate(ValidPng(), b => b[^1] ^= 0x01), "has a bad CRC (stored 0xAE426083, computed 0xAE426082)"),
+            new("png_chunk_length_above_2_31", () => Mutate(ValidPng(), b => BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(PngBytes.Find(b, "IDAT")), 0x80000000)),
+                "declares 2147483648 bytes, above the PNG limit of 2^31-1"),
+            new("png_chunk_longer_than_file", () => Mutate(ValidPng(), b => BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(PngBytes.Find(b, "IDAT")), 100_000)),
+                "declares 100000 bytes but the file ends"),
+            new("png_truncated_idat", () => { byte[] b = ValidPng(); return b[..(PngBytes.Find(b, "IDAT") + 8 + 5)]; }, "truncated: chunk 'IDAT' at byte"),
+            new("png_truncated_image_data", () => ValidPng()[..50], "truncated"),
+            new("png_missing_iend", () => ValidPng()[..^12], "truncated: the file ends before the IEND chunk"),
+            new("png_missing_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), Text(10), PngBytes.Chunk("IEND")), "no IDAT chunk"),
+            new("png_idat_not_contiguous", () =>
             {
-                int idat = ExrTests.IndexOf(b, "IDAT"u8);
-                for (int i = idat + 6; i < Math.Min(idat + 30, b.Length - 16); i++)
+                byte[] z = Zlib(Grey4x4());
+                return PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", z[..4]), Text(3), PngBytes.Chunk("IDAT", z[4..]), PngBytes.Chunk("IEND"));
+            }, "is not contiguous with the earlier IDAT chunks"),
+            new("png_unknown_critical_chunk", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("ABCD", 1, 2, 3)), "not supported: unknown critical chunk 'ABCD'"),
+            new("png_invalid_chunk_type", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("ID@T", 1)), "has an invalid type (bytes 49444054)"),
+            new("png_second_ihdr", () => GreyPng(Grey4x4(), before: PngBytes.Ihdr(4, 4, 8, 0)), "a second 'IHDR' chunk"),
+            new("png_iend_not_empty", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("IEND", 1, 2, 3, 4)),
+                "declares 4 bytes; it must be empty"),
+
+            // PNG: image data
+            new("png_corrupt_zlib_stream", () => PngWithChunk("IDAT", (b, at) =>
+            {
+                for (int i = at + 10; i < at + 30; i++)
                 {
                     b[i] ^= 0x5A;
                 }
-            }), "PNG"),
+            }), "image data (IDAT): "),
+            new("png_zlib_not_zlib", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Enumerable.Repeat((byte)0xFF, 50).ToArray()), PngBytes.Chunk("IEND")),
+                "image data (IDAT): bad zlib stream"),
+            new("png_zero_length_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT"), PngBytes.Chunk("IEND")),
+                "the IDAT chunks hold no data"),
+            new("png_inflates_to_too_much", () => GreyPng(new byte[21]), "image data (IDAT): zlib data inflates to more than the 20 bytes expected"),
+            new("png_inflates_to_too_little", () => GreyPng(new byte[19]), "image data (IDAT): zlib data ends after 19 of 20 bytes"),
+            new("png_zlib_bomb", () => GreyPng(new byte[5_000_000]), "inflates to more than the 20 bytes expected"),
+            new("png_filter_type_5", () => GreyPng(Grey4x4(filterRow: 2, filterType: 5)), "row 2 has filter type 5; only 0-4 exist"),
+
+            // PNG Adam7 on tiny images, where most passes are empty and have no rows, not even a filter byte:
+            // 1x1 has one 2-byte row (pass 1); 2x3 has rows in passes 1, 5, 6 (two) and 7 = 2+2+4+3 = 11 bytes.
+            new("png_adam7_1x1_rows_for_empty_passes", () => GreyPng(new byte[7 * 2], interlace: 1, width: 1, height: 1), "inflates to more than the 2 bytes expected"),
+            new("png_adam7_2x3_given_plain_rows", () => GreyPng(new byte[3 * 3], interlace: 1, width: 2, height: 3), "zlib data ends after 9 of 11 bytes"),
+            new("png_adam7_filter_type_9", () => GreyPng([9, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0], interlace: 1, width: 2, height: 3), "row 0 of Adam7 pass 1 has filter type 9"),
+
+            // PNG: palette and transparency
+            new("png_palette_index_out_of_range", () => PngBytes.Image(4, 2, 8, 3, [0, 0, 1, 0, 1, 0, 0, 1, 5, 0], before: PngBytes.Chunk("PLTE", 10, 20, 30, 40, 50, 60)),
+                "palette index 5 at pixel (2,1) is out of range: PLTE has 2 entries"),
+            new("png_palette_1_bit_index_out_of_range", () => PngBytes.Image(3, 1, 1, 3, [0, 0b0010_0000], before: PngBytes.Chunk("PLTE", 10, 20, 30)),
+                "palette index 1 at pixel (2,0) is out of range: PLTE has 1 entries"),
+            new("png_palette_missing", () => PngBytes.Image(4, 2, 8, 3, new byte[10]), "has no PLTE chunk"),
+            new("png_palette_too_long_for_depth", () => PngBytes.Image(3, 1, 1, 3, [0, 0], before: PngBytes.Chunk("PLTE", new byte[9])), "it must hold 1 to 2 RGB entries"),
+            new("png_palette_in_grey", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("PLTE", 1, 2, 3)), "in a grey image (colour type 0)"),
+            new("png_trns_in_rgba", () => PngBytes.Image(1, 1, 8, 6, new byte[5], before: PngBytes.Chunk("tRNS", 0, 1)), "with an alpha channel (colour type 6)"),
+            new("png_trns_grey_wrong_length", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("tRNS", 0, 1, 2)), "tRNS chunk at byte 33 holds 3 bytes; colour type 0 needs 2 bytes"),
+
+            // PNG: colour chunks
+            new("png_cicp_pq", () => GreyPng(Grey4x4(), before: Cicp(9, 16, 0, 1)), "not supported: cICP transfer characteristics 16 (SMPTE ST 2084, PQ)"),
+            new("png_cicp_hlg", () => GreyPng(Grey4x4(), before: Cicp(9, 18, 0, 1)), "not supported: cICP transfer characteristics 18 (ARIB STD-B67, HLG)"),
+            new("png_cicp_narrow_range", () => GreyPng(Grey4x4(), before: Cicp(1, 13, 0, 0)), "not supported: cICP narrow-range"),
+            new("png_cicp_matrix_not_rgb", () => GreyPng(Grey4x4(), before: Cicp(1, 13, 1, 1)), "cICP matrix coefficients 1"),
+            new("png_cicp_wrong_length", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("cICP", 1, 13, 0)), "cICP chunk at byte 33 holds 3 bytes; it must hold 4"),
+            new("png_gama_zero", () => GreyPng(Grey4x4(), before: PngBytes.Chunk("gAMA", 0, 0, 0, 0)), "holds gamma 0"),
+            new("png_gama_after_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("gAMA", 0, 0, 0xB1, 0x8F), PngBytes.Chunk("IEND")),
+                "comes after the image data; it must precede the first IDAT"),
+            new("png_two_srgb_chunks", () => GreyPng(Grey4x4(), before: [PngBytes.Chunk("sRGB", 0), PngBytes.Chunk("sRGB", 0)]), "a second 'sRGB' chunk"),
         ];
     }
 }

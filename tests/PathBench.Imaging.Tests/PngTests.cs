@@ -3,7 +3,7 @@ using System.Globalization;
 
 namespace PathBench.Imaging.Tests;
 
-/// <summary>PNG output (8-bit sRGB after exposure and tone curve) and input (sRGB decode), through SkiaSharp.</summary>
+/// <summary>PNG output through SkiaSharp (8-bit sRGB after exposure and tone curve), read back by our decoder (sRGB decode of untagged or sRGB-tagged 8-bit files).</summary>
 public sealed class PngTests
 {
     private static byte[] Encode(RgbImage image, DisplayTransform? display = null)

@@ -1,4 +1,3 @@
-using System.IO.Compression;
 using System.Runtime.InteropServices;
 
 namespace PathBench.Imaging;
@@ -70,29 +69,11 @@ internal static class ExrZip
         try
         {
             using var source = new MemoryStream(segment.Array!, segment.Offset, segment.Count, writable: false);
-            using var z = new ZLibStream(source, CompressionMode.Decompress);
-            int total = 0;
-            while (total < target.Length)
-            {
-                int n = z.Read(target[total..]);
-                if (n == 0)
-                {
-                    throw new ExrCodecException(FormattableString.Invariant($"zlib data ends after {total} of {target.Length} bytes"));
-                }
-
-                total += n;
-            }
-
-            // A stream that inflates to more than the chunk holds is as wrong as a short one.
-            Span<byte> extra = stackalloc byte[1];
-            if (z.Read(extra) != 0)
-            {
-                throw new ExrCodecException(FormattableString.Invariant($"zlib data inflates to more than the {target.Length} bytes expected"));
-            }
+            ZlibExact.Inflate(source, target);
         }
-        catch (InvalidDataException e)
+        catch (ZlibDataException e)
         {
-            throw new ExrCodecException($"bad zlib stream: {e.Message}", e);
+            throw new ExrCodecException(e.Message, e);
         }
     }
 }

@@ -9,9 +9,10 @@ cd "$(dirname "$0")/.."
 # What each is for: /usr/bin/python3 with scipy.stats.qmc (Sobol, Halton, L2-star), scikit-image
 # (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding) and OpenImageIO (decodes
 # every OpenEXR pixel through the OpenEXR library); the OpenEXR command-line tools (exrheader and
-# the rewriting tools); and the fonts and fontconfig SkiaSharp's native library needs to draw labels.
+# the rewriting tools); the fonts and fontconfig SkiaSharp's native library needs to draw labels; and
+# chromium, the browser the study report's tests drive headless (Microsoft.Playwright, pointed at it).
 packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
-          openexr fonts-dejavu-core libfontconfig1)
+          openexr fonts-dejavu-core libfontconfig1 chromium)
 
 source tools/require-debian.sh
 require_debian_packages tools/test.sh "${packages[@]}"

@@ -115,6 +115,7 @@ public static class StudyPlots
         var plot = new Plot();
         EqualTimeComparison et = summary.EqualTime;
         var ticks = new List<Tick>();
+        var bars = new List<Bar>();
         for (int i = 0; i < et.Entries.Count; i++)
         {
             EqualTimeEntry e = et.Entries[i];
@@ -124,8 +125,19 @@ public static class StudyPlots
                 continue;
             }
 
-            var bar = plot.Add.Bar(position: i, value: Math.Log10(mse));
-            bar.Color = ColourOf(i);
+            bars.Add(new Bar { Position = i, Value = Math.Log10(mse), FillColor = ColourOf(i) });
+        }
+
+        // Bars grow up from below the smallest value, so their lengths compare on the log axis.
+        if (bars.Count > 0)
+        {
+            double floor = Math.Floor(bars.Min(b => b.Value)) - 0.5;
+            foreach (Bar b in bars)
+            {
+                b.ValueBase = floor;
+            }
+
+            plot.Add.Bars(bars);
         }
 
         plot.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual([.. ticks]);

@@ -146,4 +146,18 @@ public sealed class StudyCommandTests
         Assert.Contains("above the 8 GiB limit", err, StringComparison.Ordinal);
         Assert.False(Directory.Exists(dir.File("out")));
     }
+
+    [Fact]
+    public void Report_of_a_folder_without_a_study_or_with_a_foreign_summary_is_one_line()
+    {
+        using var dir = new TempFolder();
+        (int code, _, string err) = Run("report", dir.Path);
+        Assert.Equal(2, code);
+        Assert.Contains("summary.json: not found", err, StringComparison.Ordinal);
+        dir.Write("summary.json", "{\"scene\": \"x\"}");
+        (code, _, err) = Run("report", dir.Path);
+        Assert.Equal(2, code);
+        Assert.Contains("summary.json: ", err, StringComparison.Ordinal);
+        Assert.False(File.Exists(dir.File("report.html")));
+    }
 }

@@ -38,7 +38,19 @@ public static partial class StudyReport
 
         byte[] summaryBytes = File.ReadAllBytes(summaryPath);
         using JsonDocument summary = ParseSummary(summaryPath, summaryBytes);
-        JsonElement root = summary.RootElement;
+        try
+        {
+            return Write(directory, summary.RootElement, summaryPath);
+        }
+        catch (Exception e) when (e is KeyNotFoundException or InvalidOperationException or FormatException)
+        {
+            // A summary.json of another version or edited by hand: say so rather than fail obscurely.
+            throw new ImageFileException(summaryPath, $"is not a study summary this version can read: {e.Message}");
+        }
+    }
+
+    private static string Write(string directory, JsonElement root, string summaryPath)
+    {
         int width = Int(root, "width", summaryPath);
         int height = Int(root, "height", summaryPath);
         if ((long)width * height > MaxPixels)

@@ -21,6 +21,7 @@ internal static class Template
         dl.facts dt { color: #5a5a58; } dl.facts dd { margin: 0; }
         ul.warnings { background: #fff6e0; border-left: 4px solid #c98a00; padding: 6px 6px 6px 28px; }
         table { border-collapse: collapse; font-variant-numeric: tabular-nums; }
+        div.scroll { overflow-x: auto; } caption { text-align: left; color: #5a5a58; padding-bottom: 4px; }
         th, td { padding: 4px 8px; border-bottom: 1px solid #e2e2de; text-align: right; white-space: nowrap; }
         th:first-child, td:first-child, td.text { text-align: left; }
         th button { font: inherit; font-weight: 600; background: none; border: 0; cursor: pointer; padding: 0; color: inherit; }
@@ -101,7 +102,7 @@ internal static class Template
 
         var cells = configs.Select(c => columns.Select(col => col.Cell(c)).ToArray()).ToArray();
         var sb = new StringBuilder();
-        sb.Append("<section id=\"summary-section\"><h2>Summary</h2>\n<table id=\"summary\">\n<caption>One row per configuration; click a heading to sort; ★ marks the best value of a column. MSE is corrected for the reference's own noise; intervals are 95 % over replicates.</caption>\n<thead><tr>");
+        sb.Append("<section id=\"summary-section\"><h2>Summary</h2>\n<div class=\"scroll\"><table id=\"summary\">\n<caption>One row per configuration; click a heading to sort; ★ marks the best value of a column. MSE is corrected for the reference's own noise; intervals are 95 % over replicates.</caption>\n<thead><tr>");
         foreach (Column col in columns)
         {
             sb.Append("<th scope=\"col\"><button type=\"button\">").Append(StudyReport.Html(col.Title)).Append("</button></th>");
@@ -130,7 +131,7 @@ internal static class Template
             sb.Append("</tr>\n");
         }
 
-        sb.Append("</tbody></table></section>\n");
+        sb.Append("</tbody></table></div></section>\n");
         return sb.ToString();
     }
 

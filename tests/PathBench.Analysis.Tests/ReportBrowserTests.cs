@@ -84,6 +84,13 @@ public sealed class ReportBrowserTests
             Assert.Equal(configs[r].GetProperty("points")[1].GetProperty("mse").GetDouble(), shown);
         }
 
+        // Sorting: a click on the MSE heading orders the rows by it, a second click reverses them.
+        await page.Locator("#summary thead th").Nth(mseColumn).Locator("button").ClickAsync();
+        double[] ascending = [.. (await rows.EvaluateAllAsync<string[]>($"rs => rs.map(r => r.cells[{mseColumn}].dataset.value)")).Select(v => double.Parse(v, CultureInfo.InvariantCulture))];
+        Assert.Equal(ascending.Order(), ascending);
+        await page.Locator("#summary thead th").Nth(mseColumn).Locator("button").ClickAsync();
+        Assert.Equal("descending", await page.Locator("#summary thead th").Nth(mseColumn).GetAttributeAsync("aria-sort"));
+
         // Two images, split layout, the split moved by dragging its line.
         await page.SelectOptionAsync("#pick-a", new SelectOptionValue { Label = "sobol-owen-mis @ 16 spp" });
         await page.SelectOptionAsync("#pick-b", new SelectOptionValue { Label = "reference (128 spp)" });

@@ -225,7 +225,7 @@ public sealed class MalformedFileTests
             new("exr_channel_duplicate", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 1)] = (byte)'B'), "channel 'B' appears twice"),
             new("exr_no_rgb_or_y", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 2)] = (byte)'Q'), "no R,G,B or Y channels; layers: (none) (B,G,Q)"),
             new("exr_chlist_unterminated", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 3)] = (byte)'Z'), "channel list"),
-            new("exr_compression_dwaa", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 8), "not supported: DWAA compression"),
+            new("exr_compression_htj2k", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 10), "not supported: HTJ2K compression"),
             new("exr_compression_unknown", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 42), "not supported: code 42 compression"),
             new("exr_data_window_inverted", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, -10)), "data window (0,0)-(-10,20) is empty"),
             new("exr_data_window_huge", () => Mutate(ValidExr(), b =>

@@ -1,0 +1,114 @@
+using System.Buffers.Binary;
+using System.Globalization;
+using System.Text;
+
+namespace PathBench.Imaging.Tests.OpenExr;
+
+/// <summary>
+/// What DWAA/DWAB decoding needs beyond the layouts of <see cref="ExrLayoutTests"/>: the to-linear
+/// table, and channels flagged perceptually linear (pLinear), which the library codes without it.
+/// </summary>
+public sealed class ExrDwaTests
+{
+    [Fact]
+    public void To_linear_table_is_the_one_the_installed_library_uses_in_all_65536_entries()
+    {
+        // Source: the table compiled into Debian's libOpenEXR (the library under OpenImageIO), read out
+        // again now by the script that generated our data file; its exit status is not trusted alone.
+        using var dir = new TempFolder();
+        string output = dir.File("dwa_to_linear.txt");
+        string script = Path.Combine(AppContext.BaseDirectory, "tools", "extract_dwa_to_linear.py");
+        ReferenceTools.Result r = ExternalTool.Run(ExternalTool.Python, "libopenexr-3-1-30 python3-numpy", [script, output]);
+        Assert.True(r.ExitCode == 0 && File.Exists(output), $"extract_dwa_to_linear.py failed (exit {r.ExitCode}): {r.Stderr}");
+        ushort[] library =
+        [
+            .. File.ReadLines(output).Where(l => !l.StartsWith('#'))
+                .SelectMany(l => l.Split(' ', StringSplitOptions.RemoveEmptyEntries))
+                .Select(v => ushort.Parse(v, NumberStyles.AllowHexSpecifier, CultureInfo.InvariantCulture)),
+        ];
+        Assert.Equal(65536, library.Length);
+        ReadOnlySpan<ushort> ours = ExrDwaToLinear.Table;
+        for (int i = 0; i < library.Length; i++)
+        {
+            Assert.True(ours[i] == library[i], FormattableString.Invariant($"entry 0x{i:x4}: ours 0x{ours[i]:x4}, the library's 0x{library[i]:x4}"));
+        }
+    }
+
+    [Fact]
+    public void To_linear_table_follows_the_formula_it_was_generated_from()
+    {
+        // Source: the generator in OpenEXR's dwaLookups.cpp: sign·|h|^2.2 for |h| ≤ 1, sign·(e^2.2)^(|h| − 1)
+        // above (with e as 2.7182818), 0 for infinities and NaNs. The shipped entries come from single-
+        // precision pow, so each is allowed one HALF step from the double-precision value (common practice).
+        ReadOnlySpan<ushort> table = ExrDwaToLinear.Table;
+        double logBase = Math.Pow(2.7182818, 2.2);
+        for (int i = 0; i < 65536; i++)
+        {
+            float h = (float)BitConverter.UInt16BitsToHalf((ushort)i);
+            if (!float.IsFinite(h))
+            {
+                Assert.True(table[i] == 0, FormattableString.Invariant($"entry 0x{i:x4} (not finite) is 0x{table[i]:x4}, not 0"));
+                continue;
+            }
+
+            double magnitude = Math.Abs(h);
+            double linear = Math.Sign(h) * (magnitude <= 1 ? Math.Pow(magnitude, 2.2) : Math.Pow(logBase, magnitude - 1));
+            int expected = OrderedHalf(BitConverter.HalfToUInt16Bits((Half)linear));
+            int actual = OrderedHalf(table[i]);
+            Assert.True(Math.Abs(expected - actual) <= 1, FormattableString.Invariant($"entry 0x{i:x4} ({h:R}) is 0x{table[i]:x4}; the formula gives {linear:R}"));
+        }
+    }
+
+    /// <summary>
+    /// A lossy channel alone, flagged pLinear, is coded without the to-linear table (and its −0 results,
+    /// which the table would turn into +0, reach the output), while R, G, B coded together as Y'CbCr use
+    /// the table whatever their flags. The files are OpenImageIO's with the flags set afterwards, so the
+    /// chunks are unchanged and both decoders read them under the new flags.
+    /// </summary>
+    [Theory]
+    [InlineData("dwab_y_plinear", "dwab:5000", "Y,A", "0.01")]
+    [InlineData("dwaa_rgby_plinear", "dwaa:300", "R,G,B,Y,A", "0.05")]
+    public void Channels_flagged_perceptually_linear_read_as_OpenImageIO_decodes_them(string name, string compression, string channels, string noise)
+    {
+        // Source: OpenImageIO's decode (through the OpenEXR library) of the same file.
+        using var dir = new TempFolder();
+        string path = dir.File(name + ".exr");
+        OiioReference.Write(path, 64, 48, compression, "half", channels, "--noise", noise);
+        byte[] bytes = File.ReadAllBytes(path);
+        foreach (string channel in channels.Split(','))
+        {
+            bytes[ChannelEntry(bytes, channel) + channel.Length + 1 + 4] = 1;
+        }
+
+        File.WriteAllBytes(path, bytes);
+        OiioReference.Decoded reference = OiioReference.Decode(path);
+        foreach (string channel in channels.Split(','))
+        {
+            OiioReference.AssertSame(reference, ExrCodec.Read(path, options: new ExrReadOptions(Channels: [channel])), $"{name} channel {channel}", [channel]);
+        }
+    }
+
+    /// <summary>Where channel <paramref name="name"/>'s entry starts in the file's chlist (name, zero byte, type, pLinear, …).</summary>
+    private static int ChannelEntry(byte[] exr, string name)
+    {
+        int value = ExrTests.IndexOf(exr, "channels\0chlist\0"u8) + "channels\0chlist\0".Length;
+        int size = BinaryPrimitives.ReadInt32LittleEndian(exr.AsSpan(value));
+        int p = value + 4;
+        byte[] wanted = Encoding.UTF8.GetBytes(name);
+        while (p < value + 4 + size && exr[p] != 0)
+        {
+            int end = Array.IndexOf(exr, (byte)0, p);
+            if (exr.AsSpan(p, end - p).SequenceEqual(wanted))
+            {
+                return p;
+            }
+
+            p = end + 1 + 16;
+        }
+
+        throw new InvalidOperationException($"no channel '{name}' in the file's chlist");
+    }
+
+    /// <summary>HALF bits as an integer that grows with the value (−0 and +0 adjacent), so neighbours differ by 1.</summary>
+    private static int OrderedHalf(ushort bits) => (bits & 0x8000) != 0 ? -(bits & 0x7fff) - 1 : bits;
+}

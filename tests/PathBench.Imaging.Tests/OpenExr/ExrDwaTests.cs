@@ -1,5 +1,7 @@
 using System.Buffers.Binary;
 using System.Globalization;
+using System.IO.Compression;
+using System.Runtime.InteropServices;
 using System.Text;
 
 namespace PathBench.Imaging.Tests.OpenExr;
@@ -86,6 +88,126 @@ public sealed class ExrDwaTests
         {
             OiioReference.AssertSame(reference, ExrCodec.Read(path, options: new ExrReadOptions(Channels: [channel])), $"{name} channel {channel}", [channel]);
         }
+    }
+
+    /// <summary>
+    /// Hand-made blocks whose coefficients are signed zeros (the library's encoder writes a quantized
+    /// −0 as a literal, not as part of a zero run), with the last coefficient placed so that each
+    /// inverse-DCT variant runs. A variant that added the zero rows' terms instead of leaving them out
+    /// would turn some −0 results into +0 (found by comparing the variants on such blocks); in a pLinear
+    /// channel they reach the output. Then blocks of small values with zero runs, and a DC-only block.
+    /// Source: OpenImageIO's decode (OpenEXR library) of the same chunk, put into a file it wrote.
+    /// </summary>
+    [Fact]
+    public void Hand_made_blocks_of_signed_zeros_decode_as_the_library_decodes_them()
+    {
+        const ushort N = 0x8000, Z = 0; // −0 and +0 as HALF bits
+        ushort[][] designed =
+        [
+            [N, N, N, Z, Z, N, N, N, Z, Z],
+            [N, N, Z, Z, Z, N, Z, N, Z],
+            [N, N, N, N, N, N, Z, Z, Z],
+            [N, Z, Z, Z, Z, N, N, N, N, N],
+            [N, Z, N, Z, Z, Z, N, Z, N, N, N, N, Z, N, N, Z, N, N, Z, Z],
+            [N, N, N, Z, N, Z, Z, Z, Z, Z, Z, N, N, N, N, Z, N, N, N, N],
+            [N, N],
+            [N, N, N],
+        ];
+        var random = new Random(3);
+        ushort[] values = [Z, N, 0x3c00, 0xbc00, 0x3800, 0xc000, 0x3400, 0x2e66];
+        int[] lasts = [0, 1, 2, 8, 9, 19, 20, 34, 35, 63]; // one zig-zag index per variant boundary
+        var blocks = new List<(ushort Dc, List<ushort> Ac)>();
+        foreach (ushort[] zig in designed)
+        {
+            blocks.Add((zig[0], [.. zig.Skip(1), .. zig.Length < 64 ? new ushort[] { 0xff00 } : []]));
+        }
+
+        while (blocks.Count < 16)
+        {
+            int last = lasts[blocks.Count % lasts.Length];
+            var ac = new List<ushort>();
+            for (int k = 1; k <= last; k++)
+            {
+                // Now and then a run of +0 coefficients (0xffnn) where the next ones are +0 anyway.
+                if (k + 2 < last && random.Next(5) == 0)
+                {
+                    ac.Add(0xff02);
+                    k += 1;
+                    continue;
+                }
+
+                ac.Add(values[random.Next(values.Length)]);
+            }
+
+            if (last < 63)
+            {
+                ac.Add(0xff00);
+            }
+
+            blocks.Add((values[random.Next(2, values.Length)], ac));
+        }
+
+        using var dir = new TempFolder();
+        string path = dir.File("signed_zeros.exr");
+        OiioReference.Write(path, 32, 32, "dwaa", "half", "Y,A", "--steps");
+        byte[] file = File.ReadAllBytes(path);
+        file[ChannelEntry(file, "Y") + 2 + 4] = 1; // Y is pLinear: no to-linear table hides the zeros' signs
+        File.WriteAllBytes(path, ReplaceOnlyChunk(file, blocks));
+
+        OiioReference.Decoded reference = OiioReference.Decode(path);
+        foreach (string channel in new[] { "Y", "A" })
+        {
+            OiioReference.AssertSame(reference, ExrCodec.Read(path, options: new ExrReadOptions(Channels: [channel])), $"hand-made chunk channel {channel}", [channel]);
+        }
+    }
+
+    /// <summary>
+    /// The file's one DWAA chunk (Y lossy, A in the RLE section) with the lossy blocks replaced by
+    /// <paramref name="blocks"/> (DC, then the AC values with their run codes), the RLE section kept.
+    /// </summary>
+    private static byte[] ReplaceOnlyChunk(byte[] file, List<(ushort Dc, List<ushort> Ac)> blocks)
+    {
+        var stream = new MemoryStream(file);
+        new ExrHeaderReader(stream, "signed_zeros.exr", file.Length).ReadHeaders();
+        int c = (int)BinaryPrimitives.ReadUInt64LittleEndian(file.AsSpan((int)stream.Position));
+        int d = c + 8;
+        var h = new ulong[11];
+        for (int i = 0; i < 11; i++)
+        {
+            h[i] = BinaryPrimitives.ReadUInt64LittleEndian(file.AsSpan(d + (8 * i)));
+        }
+
+        int rules = BinaryPrimitives.ReadUInt16LittleEndian(file.AsSpan(d + 88));
+        int data = d + 88 + rules;
+        Assert.True(h[1] == 0 && h[9] == (ulong)blocks.Count, "the file OpenImageIO wrote is not laid out as this test expects");
+        byte[] rle = file[(data + (int)(h[3] + h[4]))..(data + (int)(h[3] + h[4] + h[5]))];
+
+        ushort[] ac = [.. blocks.SelectMany(b => b.Ac)];
+        byte[] acSection = ExrHuffman.Encode(ac);
+        byte[] dcRaw = MemoryMarshal.AsBytes(blocks.Select(b => b.Dc).ToArray().AsSpan()).ToArray();
+        var coded = new byte[dcRaw.Length];
+        ExrZip.Encode(dcRaw, coded);
+        var zlib = new MemoryStream();
+        using (var z = new ZLibStream(zlib, CompressionLevel.Optimal, leaveOpen: true))
+        {
+            z.Write(coded);
+        }
+
+        byte[] dcSection = zlib.ToArray();
+        h[3] = (ulong)acSection.Length;
+        h[4] = (ulong)dcSection.Length;
+        h[8] = (ulong)ac.Length;
+        h[10] = 0;
+        var header = new byte[88];
+        for (int i = 0; i < 11; i++)
+        {
+            BinaryPrimitives.WriteUInt64LittleEndian(header.AsSpan(8 * i), h[i]);
+        }
+
+        byte[] payload = [.. header, .. file[(d + 88)..data], .. acSection, .. dcSection, .. rle];
+        byte[] result = [.. file[..(c + 4)], .. new byte[4], .. payload];
+        BinaryPrimitives.WriteInt32LittleEndian(result.AsSpan(c + 4), payload.Length);
+        return result;
     }
 
     /// <summary>Where channel <paramref name="name"/>'s entry starts in the file's chlist (name, zero byte, type, pLinear, …).</summary>

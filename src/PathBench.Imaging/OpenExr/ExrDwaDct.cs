@@ -170,7 +170,7 @@ internal static class ExrDwaDct
     /// every column-pass term of those rows (not merely adding zeros, which can turn −0 into +0), so
     /// each count is its own variant; with 7 the column pass is a plain multiplication by a.
     /// </summary>
-    internal static void InverseDct(Span<float> block, int zeroedRows)
+    private static void InverseDct(Span<float> block, int zeroedRows)
     {
         if (zeroedRows == 7)
         {
@@ -364,7 +364,7 @@ internal static class ExrDwaDct
     /// rounding control 0); a NaN keeps its sign and top ten significand bits and becomes quiet, as
     /// F16C makes it.
     /// </summary>
-    internal static ushort FloatToHalf(float value)
+    private static ushort FloatToHalf(float value)
     {
         if (float.IsNaN(value))
         {

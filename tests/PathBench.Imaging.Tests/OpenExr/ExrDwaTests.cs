@@ -165,49 +165,116 @@ public sealed class ExrDwaTests
     /// The file's one DWAA chunk (Y lossy, A in the RLE section) with the lossy blocks replaced by
     /// <paramref name="blocks"/> (DC, then the AC values with their run codes), the RLE section kept.
     /// </summary>
-    private static byte[] ReplaceOnlyChunk(byte[] file, List<(ushort Dc, List<ushort> Ac)> blocks)
+    private static byte[] ReplaceOnlyChunk(byte[] file, List<(ushort Dc, List<ushort> Ac)> blocks) => RewriteOnlyChunk(file, chunk =>
+    {
+        Assert.True(chunk.Header[1] == 0 && chunk.Header[9] == (ulong)blocks.Count, "the file OpenImageIO wrote is not laid out as this test expects");
+        ushort[] ac = [.. blocks.SelectMany(b => b.Ac)];
+        chunk.Sections[1] = ExrHuffman.Encode(ac);
+        byte[] dcRaw = MemoryMarshal.AsBytes(blocks.Select(b => b.Dc).ToArray().AsSpan()).ToArray();
+        var coded = new byte[dcRaw.Length];
+        ExrZip.Encode(dcRaw, coded);
+        chunk.Sections[2] = Zlib(coded);
+        chunk.Header[8] = (ulong)ac.Length;
+        chunk.Header[10] = 0;
+    });
+
+    /// <summary>A DWA chunk taken apart: the eleven header values, the rule table (with its length), the four sections.</summary>
+    private sealed record DwaChunk(ulong[] Header, byte[] Rules, byte[][] Sections)
+    {
+        public byte[] Rules { get; set; } = Rules;
+    }
+
+    /// <summary>
+    /// Takes the one (scanline) chunk of <paramref name="file"/> apart, lets <paramref name="change"/>
+    /// change it, and puts it back with its section sizes and the chunk's size updated.
+    /// </summary>
+    private static byte[] RewriteOnlyChunk(byte[] file, Action<DwaChunk> change)
     {
         var stream = new MemoryStream(file);
-        new ExrHeaderReader(stream, "signed_zeros.exr", file.Length).ReadHeaders();
+        new ExrHeaderReader(stream, "rewritten.exr", file.Length).ReadHeaders();
         int c = (int)BinaryPrimitives.ReadUInt64LittleEndian(file.AsSpan((int)stream.Position));
         int d = c + 8;
+        Assert.Equal(file.Length, d + BinaryPrimitives.ReadInt32LittleEndian(file.AsSpan(c + 4)));
         var h = new ulong[11];
         for (int i = 0; i < 11; i++)
         {
             h[i] = BinaryPrimitives.ReadUInt64LittleEndian(file.AsSpan(d + (8 * i)));
         }
 
-        int rules = BinaryPrimitives.ReadUInt16LittleEndian(file.AsSpan(d + 88));
-        int data = d + 88 + rules;
-        Assert.True(h[1] == 0 && h[9] == (ulong)blocks.Count, "the file OpenImageIO wrote is not laid out as this test expects");
-        byte[] rle = file[(data + (int)(h[3] + h[4]))..(data + (int)(h[3] + h[4] + h[5]))];
-
-        ushort[] ac = [.. blocks.SelectMany(b => b.Ac)];
-        byte[] acSection = ExrHuffman.Encode(ac);
-        byte[] dcRaw = MemoryMarshal.AsBytes(blocks.Select(b => b.Dc).ToArray().AsSpan()).ToArray();
-        var coded = new byte[dcRaw.Length];
-        ExrZip.Encode(dcRaw, coded);
-        var zlib = new MemoryStream();
-        using (var z = new ZLibStream(zlib, CompressionLevel.Optimal, leaveOpen: true))
+        int data = d + 88 + BinaryPrimitives.ReadUInt16LittleEndian(file.AsSpan(d + 88));
+        var sections = new byte[4][];
+        for (int s = 0, p = data; s < 4; s++)
         {
-            z.Write(coded);
+            int size = (int)h[s == 0 ? 2 : 2 + s];
+            sections[s] = file[p..(p + size)];
+            p += size;
         }
 
-        byte[] dcSection = zlib.ToArray();
-        h[3] = (ulong)acSection.Length;
-        h[4] = (ulong)dcSection.Length;
-        h[8] = (ulong)ac.Length;
-        h[10] = 0;
+        var chunk = new DwaChunk(h, file[(d + 88)..data], sections);
+        change(chunk);
+        for (int s = 0; s < 4; s++)
+        {
+            h[s == 0 ? 2 : 2 + s] = (ulong)chunk.Sections[s].Length;
+        }
+
         var header = new byte[88];
         for (int i = 0; i < 11; i++)
         {
             BinaryPrimitives.WriteUInt64LittleEndian(header.AsSpan(8 * i), h[i]);
         }
 
-        byte[] payload = [.. header, .. file[(d + 88)..data], .. acSection, .. dcSection, .. rle];
+        byte[] payload = [.. header, .. chunk.Rules, .. chunk.Sections.SelectMany(x => x)];
         byte[] result = [.. file[..(c + 4)], .. new byte[4], .. payload];
         BinaryPrimitives.WriteInt32LittleEndian(result.AsSpan(c + 4), payload.Length);
         return result;
+    }
+
+    /// <summary>
+    /// Two chunk forms the library reads but its writer (3.1.5) never produces, made from one it wrote:
+    /// version 1, which stores no rule table and is read with the library's legacy rules (which sort
+    /// R, G, B, A as the stored rules do), and AC values stored with zlib instead of Huffman.
+    /// Source: OpenImageIO's decode (OpenEXR library) of the rewritten file.
+    /// </summary>
+    [Theory]
+    [InlineData("legacy_version_1")]
+    [InlineData("ac_zlib")]
+    [InlineData("legacy_version_1_ac_zlib")]
+    public void Chunk_forms_the_library_reads_but_does_not_write_read_as_OpenImageIO_decodes_them(string form)
+    {
+        using var dir = new TempFolder();
+        string path = dir.File(form + ".exr");
+        OiioReference.Write(path, 37, 21, "dwaa", "half", "R,G,B,A", "--noise", "0.02");
+        byte[] file = RewriteOnlyChunk(File.ReadAllBytes(path), chunk =>
+        {
+            if (form.StartsWith("legacy", StringComparison.Ordinal))
+            {
+                chunk.Header[0] = 1;
+                chunk.Rules = [];
+            }
+
+            if (form.EndsWith("ac_zlib", StringComparison.Ordinal))
+            {
+                var ac = new ushort[chunk.Header[8]];
+                ExrHuffman.Decode(chunk.Sections[1], ac);
+                chunk.Sections[1] = Zlib(MemoryMarshal.AsBytes(ac.AsSpan()).ToArray());
+                chunk.Header[10] = 1;
+            }
+        });
+        File.WriteAllBytes(path, file);
+        OiioReference.Decoded reference = OiioReference.Decode(path);
+        OiioReference.AssertSame(reference, ExrCodec.Read(path), form, ["R", "G", "B"]);
+        OiioReference.AssertSame(reference, ExrCodec.Read(path, options: new ExrReadOptions(Channels: ["A"])), form + " channel A", ["A"]);
+    }
+
+    private static byte[] Zlib(byte[] data)
+    {
+        var s = new MemoryStream();
+        using (var z = new ZLibStream(s, CompressionLevel.Optimal, leaveOpen: true))
+        {
+            z.Write(data);
+        }
+
+        return s.ToArray();
     }
 
     /// <summary>Where channel <paramref name="name"/>'s entry starts in the file's chlist (name, zero byte, type, pLinear, …).</summary>

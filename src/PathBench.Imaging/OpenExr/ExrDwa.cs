@@ -33,7 +33,7 @@ internal static class ExrDwa
     /// <summary>
     /// Raw bytes per stored byte at most. The densest data are a lossy block (up to 64 FLOAT samples,
     /// 256 bytes) that stores one DC and one AC value (an end-of-block code), each two bytes that zlib
-    /// shrinks at best 1032:1 (Huffman does worse: a run of up to 256 values costs at least 10 bits),
+    /// shrinks at best 1032:1 (from memory, as for ZIP in <see cref="ExrChunkCodecs.MaxExpansion"/>) (Huffman does worse: a run of up to 256 values costs at least 10 bits),
     /// and an RLE run of 128 equal bytes (2 bytes) through zlib: both 256 × 1032 / 4 = 66048. UNKNOWN
     /// data are plain zlib (1032).
     /// </summary>

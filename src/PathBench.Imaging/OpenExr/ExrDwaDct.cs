@@ -27,7 +27,7 @@ internal static class ExrDwaDct
     private const float F = 1.913422e-01f;
     private const float G = 9.754573e-02f;
 
-    /// <summary>Row-major position i of an 8×8 block holds zig-zag coefficient ZigZag[i] (JPEG's zig-zag order, ITU-T T.81 figure 5).</summary>
+    /// <summary>Row-major position i of an 8×8 block holds zig-zag coefficient ZigZag[i] (JPEG's zig-zag order, ITU-T T.81; the library's table lists the same order).</summary>
     private static ReadOnlySpan<byte> ZigZag =>
     [
         0, 1, 5, 6, 14, 15, 27, 28,
@@ -341,8 +341,8 @@ internal static class ExrDwaDct
     }
 
     /// <summary>
-    /// Y'CbCr → R'G'B' with the library's BT.709 coefficients (ITU-R BT.709 luma weights, Cb and Cr
-    /// unscaled and centred on 0): R' = Y' + 1.5747 Cr, G' = (Y' − 0.1873 Cb) − 0.4682 Cr,
+    /// Y'CbCr → R'G'B' with the library's constants (derived from the ITU-R BT.709 luma weights, Cb and
+    /// Cr unscaled and centred on 0): R' = Y' + 1.5747 Cr, G' = (Y' − 0.1873 Cb) − 0.4682 Cr,
     /// B' = Y' + 1.8556 Cb, on the three 64-value blocks of <paramref name="data"/>.
     /// </summary>
     private static void InverseCsc709(Span<float> data)

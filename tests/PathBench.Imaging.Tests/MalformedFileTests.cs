@@ -159,6 +159,43 @@ public sealed class MalformedFileTests
         return result;
     }
 
+    // ---- DWA helpers: the chunk header is eleven uint64 (version, UNKNOWN raw and stored sizes, AC, DC, RLE
+    // stored sizes, RLE run-coded and raw sizes, AC and DC counts, AC compression), then the rule table.
+
+    /// <summary>Where chunk 0's DWA data start in a fixture (after y and size, or after the four tile ints and size).</summary>
+    private static int DwaData(byte[] b, int table, string fixture) => FixtureChunk(b, table, 0) + (fixture.StartsWith("tiled", StringComparison.Ordinal) ? 20 : 8);
+
+    private static byte[] MutateDwaHeader(string fixture, int field, ulong value) =>
+        MutateFixture(fixture, (b, t) => BinaryPrimitives.WriteUInt64LittleEndian(b.AsSpan(DwaData(b, t, fixture) + (8 * field)), value));
+
+    /// <summary>Changes one byte of a section of chunk 0 of scanline_dwaa_half (sections: 0 UNKNOWN, 1 AC, 2 DC, 3 RLE).</summary>
+    private static byte[] MutateDwaSection(string fixture, int section, int at, byte value) => MutateFixture(fixture, (b, t) =>
+    {
+        int d = DwaData(b, t, fixture);
+        int p = d + 88 + BinaryPrimitives.ReadUInt16LittleEndian(b.AsSpan(d + 88));
+        for (int s = 0; s < section; s++)
+        {
+            p += (int)BinaryPrimitives.ReadUInt64LittleEndian(b.AsSpan(d + (8 * (2 + s))));
+        }
+
+        b[p + at] = value;
+    });
+
+    /// <summary>scanline_dwaa_half with its one chunk's AC section cut to its first <paramref name="keep"/> bytes (sizes kept consistent).</summary>
+    private static byte[] DwaWithAcSectionCut(int keep)
+    {
+        (byte[] b, int t) = Fixture("scanline_dwaa_half");
+        int c = FixtureChunk(b, t, 0);
+        int d = c + 8;
+        int data = d + 88 + BinaryPrimitives.ReadUInt16LittleEndian(b.AsSpan(d + 88));
+        int ac = (int)BinaryPrimitives.ReadUInt64LittleEndian(b.AsSpan(d + 24));
+        byte[] payload = [.. b[d..data], .. b[data..(data + keep)], .. b[(data + ac)..]];
+        BinaryPrimitives.WriteUInt64LittleEndian(payload.AsSpan(24), (ulong)keep);
+        byte[] result = [.. b[..(c + 4)], .. new byte[4], .. payload];
+        WriteInt(result, c + 4, payload.Length);
+        return result;
+    }
+
     // ---- PNG helpers ---------------------------------------------------------------------------
 
     /// <summary>The valid file with its IHDR fields changed and the IHDR CRC recomputed, so the reader meets the field, not a bad CRC.</summary>
@@ -245,7 +282,7 @@ public sealed class MalformedFileTests
             new("exr_channel_duplicate", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 1)] = (byte)'B'), "channel 'B' appears twice"),
             new("exr_no_rgb_or_y", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 2)] = (byte)'Q'), "no R,G,B or Y channels; layers: (none) (B,G,Q)"),
             new("exr_chlist_unterminated", () => Mutate(ValidExr(), b => b[ChannelEntry(b, 3)] = (byte)'Z'), "channel list"),
-            new("exr_compression_dwaa", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 8), "not supported: DWAA compression"),
+            new("exr_compression_htj2k", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 10), "not supported: HTJ2K compression"),
             new("exr_compression_unknown", () => Mutate(ValidExr(), b => b[AttributeValue(b, "compression", "compression")] = 42), "not supported: code 42 compression"),
             new("exr_data_window_inverted", () => Mutate(ValidExr(), b => WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, -10)), "data window (0,0)-(-10,20) is empty"),
             new("exr_data_window_huge", () => Mutate(ValidExr(), b =>
@@ -286,6 +323,23 @@ public sealed class MalformedFileTests
             new("exr_b44_bytes_left_over", () => MutateFixture("tiled_b44a_half_8x8", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 16, 383)), "chunk 0 (tile at x=0, y=0): B44 chunk has"),
             new("exr_piz_bitmap_range_lie", () => MutateFixture("scanline_piz_half", (b, t) => b[FixtureChunk(b, t, 0) + 9] = 0x30), "chunk 0 (y=0): PIZ bitmap range"),
             new("exr_piz_huffman_cut", () => MutateFixture("scanline_piz_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 40)), "chunk 0 (y=0): "),
+            new("exr_dwa_chunk_shorter_than_header", () => MutateFixture("scanline_dwaa_half", (b, t) => WriteInt(b, FixtureChunk(b, t, 0) + 4, 40)), "chunk 0 (y=0): DWA chunk of 40 bytes is shorter than its 88-byte header"),
+            new("exr_dwa_version_unknown", () => MutateDwaHeader("scanline_dwaa_half", 0, 3), "chunk 0 (y=0): DWA chunk version 3 is unknown (0, 1 and 2 are defined)"),
+            new("exr_dwa_ac_section_larger_than_chunk", () => MutateDwaHeader("scanline_dwaa_half", 3, 1UL << 40), "chunk 0 (y=0): DWA sections declare 1099511627776 bytes, more than the 5278 bytes after the chunk's header"),
+            new("exr_dwa_dc_section_size_lie", () => MutateDwaHeader("scanline_dwaa_half", 4, 105), "chunk 0 (y=0): DWA sections declare 5285 bytes, but 5278 bytes follow the chunk's header"),
+            new("exr_dwa_ac_count_huge", () => MutateDwaHeader("scanline_dwaa_half", 8, 1UL << 40), "chunk 0 (y=0): DWA AC section declares 1099511627776 values in 3999 bytes; 45 blocks hold 0..2835"),
+            new("exr_dwa_dc_count_huge", () => MutateDwaHeader("scanline_dwaa_half", 9, 1UL << 62), "chunk 0 (y=0): DWA DC section declares 4611686018427387904 values in 98 bytes; the lossy channels have 45 blocks"),
+            new("exr_dwa_rle_raw_size_huge", () => MutateDwaHeader("scanline_dwaa_half", 7, 1UL << 50), "chunk 0 (y=0): DWA RLE section declares 1125899906842624 raw bytes in 1181; its channels hold 1554"),
+            new("exr_dwa_rle_coded_size_huge", () => MutateDwaHeader("scanline_dwaa_half", 6, 1UL << 33), "chunk 0 (y=0): DWA RLE section declares 8589934592 run-coded bytes for 1554 raw bytes"),
+            new("exr_dwa_unknown_size_huge", () => MutateDwaHeader("tiled_dwab_float_16x16", 1, ulong.MaxValue), "chunk 0 (tile at x=0, y=0): DWA UNKNOWN section declares 18446744073709551615 raw bytes in 797; its channels hold 1024"),
+            new("exr_dwa_ac_compression_unknown", () => MutateDwaHeader("scanline_dwaa_half", 10, 2), "chunk 0 (y=0): DWA AC compression 2 is unknown"),
+            new("exr_dwa_rule_table_too_long", () => MutateFixture("scanline_dwaa_half", (b, t) => BinaryPrimitives.WriteUInt16LittleEndian(b.AsSpan(DwaData(b, t, "scanline_dwaa_half") + 88), 60000)), "chunk 0 (y=0): DWA rule table declares 60000 bytes"),
+            new("exr_dwa_rule_corrupt", () => MutateFixture("scanline_dwaa_half", (b, t) => b[DwaData(b, t, "scanline_dwaa_half") + 88 + 2 + 2] = 0x0c), "chunk 0 (y=0): DWA rule 0 is corrupt"),
+            new("exr_dwa_huffman_table_truncated", () => DwaWithAcSectionCut(30), "chunk 0 (y=0): DWA AC section: Huffman code table ends at symbol"),
+            new("exr_dwa_ac_values_run_out", () => MutateDwaHeader("scanline_dwaa_half", 8, 2000), "chunk 0 (y=0): DWA AC section: Huffman data decode to more than the 2000 values expected"),
+            new("exr_dwa_dc_zlib_corrupt", () => MutateDwaSection("scanline_dwaa_half", 2, 0, 0), "chunk 0 (y=0): DWA DC section: bad zlib stream"),
+            new("exr_dwa_rle_zlib_corrupt", () => MutateDwaSection("scanline_dwaa_half", 3, 0, 0), "chunk 0 (y=0): DWA RLE section: bad zlib stream"),
+            new("exr_dwa_unknown_zlib_corrupt", () => MutateDwaSection("tiled_dwab_float_16x16", 0, 1, 0xff), "chunk 0 (tile at x=0, y=0): DWA UNKNOWN section: bad zlib stream"),
             new("exr_none_chunk_short", () => Mutate(ValidExr(ExrCompression.None), b => WriteInt(b, Chunk(b, 0) + 4, 10)), "uncompressed it needs 444"),
             new("exr_bad_zlib_stream", () => Mutate(ValidExr(), b =>
             {

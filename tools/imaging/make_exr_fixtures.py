@@ -34,6 +34,12 @@ FIXTURES = [
     ("scanline_piz_half", "piz", "half", "R,G,B", ["--steps", "--size", "64", "40"]),
     ("tiled_piz_float_32x16", "piz", "float", "R,G,B", ["--tile", "32", "16", "--steps", "--size", "70", "40"]),
     ("window_zip_float", "zip", "float", "R,G,B", ["--origin", "3", "2", "--display", "0", "0", "27", "16"]),
+    # DWA: mild noise, so that the lossy chunks are coded (noisier ones are stored raw). R,G,B lossy as
+    # Y'CbCr, A in the RLE section, Z in the zlib (UNKNOWN) section; "dwab:5000" quantizes coarsely, so
+    # that blocks with few coefficients reach the library's shorter inverse-DCT variants.
+    ("scanline_dwaa_half", "dwaa", "half", "R,G,B,A", ["--noise", "0.02", "--size", "37", "21"]),
+    ("tiled_dwab_float_16x16", "dwab", "float", "R,G,B,Z", ["--tile", "16", "16", "--noise", "0.02", "--size", "35", "20"]),
+    ("scanline_dwab_coarse_half", "dwab:5000", "half", "R,G,B", ["--noise", "0.01", "--size", "48", "40"]),
 ]
 
 

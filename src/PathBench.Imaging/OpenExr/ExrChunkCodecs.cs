@@ -10,7 +10,7 @@ internal static class ExrChunkCodecs
     /// <summary>The compressions the reader decodes.</summary>
     public static bool CanDecode(ExrCompression c) =>
         c is ExrCompression.None or ExrCompression.Rle or ExrCompression.Zips or ExrCompression.Zip or ExrCompression.Pxr24
-        or ExrCompression.B44 or ExrCompression.B44A or ExrCompression.Piz;
+        or ExrCompression.B44 or ExrCompression.B44A or ExrCompression.Piz or ExrCompression.Dwaa or ExrCompression.Dwab;
 
     /// <summary>Scanlines per chunk of a scanline part (OpenEXR file layout specification, "Compression").</summary>
     public static int LinesPerChunk(ExrCompression c) => c switch
@@ -26,8 +26,8 @@ internal static class ExrChunkCodecs
     /// An upper bound on raw bytes per stored byte. zlib cannot expand data by more than about 1032:1
     /// (deflate's longest match, 258 bytes, costs at least two bits; from memory); RLE turns two bytes
     /// into at most 128; a flat B44A block codes 32 bytes in 3; PIZ's Huffman runs bound it near 453
-    /// (see <see cref="ExrPiz.MaxExpansion"/>). DWA's run-length-coded AC data go through zlib as well, so it has no useful
-    /// bound and only the image size limit applies.
+    /// (see <see cref="ExrPiz.MaxExpansion"/>); DWA's densest data, a lossy block's DC and end-of-block values or an RLE
+    /// run through zlib, reach 66048 (see <see cref="ExrDwa.MaxExpansion"/>).
     /// </summary>
     public static long MaxExpansion(ExrCompression c) => c switch
     {
@@ -37,6 +37,7 @@ internal static class ExrChunkCodecs
         ExrCompression.Pxr24 => 1032 * 4 / 3 + 1, // FLOAT samples lose a byte before zlib
         ExrCompression.B44 or ExrCompression.B44A => 11, // a flat B44A block: 3 bytes for 32
         ExrCompression.Piz => ExrPiz.MaxExpansion,
+        ExrCompression.Dwaa or ExrCompression.Dwab => ExrDwa.MaxExpansion,
         _ => long.MaxValue,
     };
 
@@ -71,6 +72,10 @@ internal static class ExrChunkCodecs
                 break;
             case ExrCompression.Piz:
                 ExrPiz.Decompress(packed.Span, raw, block, scratch);
+                break;
+            case ExrCompression.Dwaa:
+            case ExrCompression.Dwab:
+                ExrDwa.Decompress(packed, raw, block);
                 break;
             default:
                 throw new ArgumentOutOfRangeException(nameof(compression), compression, "no decoder for this compression");

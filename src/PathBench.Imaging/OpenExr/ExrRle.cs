@@ -12,6 +12,14 @@ internal static class ExrRle
     public static void Decompress(ReadOnlySpan<byte> packed, Span<byte> raw, Span<byte> scratch)
     {
         Span<byte> coded = scratch[..raw.Length];
+        DecodeRuns(packed, coded);
+        ExrZip.Decode(coded, raw);
+    }
+
+    /// <summary>Decodes the runs of <paramref name="packed"/> into exactly <paramref name="coded"/>.Length bytes (no predictor; DWA's RLE section uses the runs alone).</summary>
+    /// <exception cref="ExrCodecException">The runs do not fill exactly <c>coded.Length</c> bytes.</exception>
+    public static void DecodeRuns(ReadOnlySpan<byte> packed, Span<byte> coded)
+    {
         int o = 0;
         int i = 0;
         while (i < packed.Length)
@@ -56,7 +64,5 @@ internal static class ExrRle
         {
             throw new ExrCodecException(FormattableString.Invariant($"RLE data end after {o} of {coded.Length} bytes"));
         }
-
-        ExrZip.Decode(coded, raw);
     }
 }

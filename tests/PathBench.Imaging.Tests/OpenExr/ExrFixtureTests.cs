@@ -22,7 +22,7 @@ public sealed class ExrFixtureTests
         [
             "layers_zip_half", "scanline_b44_half", "scanline_none_half", "scanline_piz_half", "tiled_b44a_half_8x8", "tiled_piz_float_32x16", "scanline_pxr24_float", "scanline_pxr24_half", "scanline_rle_half",
             "scanline_zip_half", "scanline_zips_float", "tiled_rle_float_8x4", "tiled_zip_half_8x8", "two_parts_zip_half",
-            "uint_zip", "window_zip_float",
+            "uint_zip", "window_zip_float", "scanline_dwaa_half", "tiled_dwab_float_16x16", "scanline_dwab_coarse_half",
         ];
         Assert.Subset(Files.ToHashSet(), expected.ToHashSet());
     }

@@ -87,11 +87,7 @@ public sealed record TheoryRate(double? Smooth, double? Discontinuous, string So
 /// slope's 95 % interval (<see cref="LineFit"/>).
 /// </para>
 /// <para>
-/// Bias: per pixel p, b_p = (mean over replicates − reference), averaged over the three channels.
-/// Pixels are independent estimates (each pixel's points are randomized with its own seed), so
-/// Var(Σ b_p) = Σ (s_p²/K + Var(R_p)), with s_p² the replicate variance of the channel average and
-/// Var(R_p) the reference's mean channel variance (an upper bound for the channel average's).
-/// z = Σ b_p / √(that). Per 16×16 tile the same z is computed; a tile is reported biased when
+/// Bias: z over the image and per 16×16 tile as <see cref="BiasTest"/> computes it; a tile is reported biased when
 /// |z| exceeds the Šidák-corrected two-sided threshold for a family-wise false-alarm rate of
 /// 0.001 over all tiles: z* = the (1 − α'/2) quantile of Student's t with K − 1 degrees of freedom,
 /// α' = 1 − (1 − 0.001)^(1/T) (Šidák 1967, JASA 62). Student's t rather than the normal because
@@ -146,8 +142,7 @@ public sealed class StudySummary
         int tilesX = (reference.Width + TileSize - 1) / TileSize;
         int tilesY = (reference.Height + TileSize - 1) / TileSize;
         int tiles = tilesX * tilesY;
-        double alphaTile = 1 - Math.Pow(1 - TileAlpha, 1.0 / tiles);
-        double threshold = TileQuantile(alphaTile, result.Study.Replicates);
+        double threshold = BiasTest.Threshold(TileAlpha, tiles, result.Study.Replicates);
 
         var warnings = new List<string>();
         if (!reference.HasVariance)
@@ -172,7 +167,7 @@ public sealed class StudySummary
             foreach (int spp in result.Study.Spp)
             {
                 StudySample[] runs = [.. result.Samples.Where(s => s.Configuration == c.Name && s.Spp == spp)];
-                StudyPoint point = Point(spp, runs, result.Moments[(c.Name, spp)], reference, tilesX, tilesY, TileQuantile(alphaTile, runs.Length));
+                StudyPoint point = Point(spp, runs, result.Moments[(c.Name, spp)], reference, BiasTest.Threshold(TileAlpha, tiles, runs.Length));
                 points.Add(point);
                 if (reference.MeanVariance > ReferenceNoiseWarning * point.MseUncorrected)
                 {
@@ -211,11 +206,7 @@ public sealed class StudySummary
         return new StudySummary(result, list, threshold, warnings, equalTime, winMap);
     }
 
-    /// <summary>The two-sided per-tile threshold for K replicates (infinite with one: no test).</summary>
-    private static double TileQuantile(double alphaTile, int replicates) =>
-        replicates >= 2 ? StudentT.InvCDF(0, 1, replicates - 1, 1 - (alphaTile / 2)) : double.PositiveInfinity;
-
-    private static StudyPoint Point(int spp, StudySample[] runs, PixelMoments moments, ReferenceImage reference, int tilesX, int tilesY, double threshold)
+    private static StudyPoint Point(int spp, StudySample[] runs, PixelMoments moments, ReferenceImage reference, double threshold)
     {
         int k = runs.Length;
         double[] mse = [.. runs.Select(r => r.Error.Mse)];
@@ -232,69 +223,15 @@ public sealed class StudySummary
         double[] seconds = [.. runs.Select(r => r.Seconds).Order()];
         double median = seconds.Length % 2 == 1 ? seconds[seconds.Length / 2] : (seconds[(seconds.Length / 2) - 1] + seconds[seconds.Length / 2]) / 2;
 
-        int width = reference.Width, height = reference.Height;
-        double biasSum = 0, estimatorVariance = 0;
-        var tileBias = new double[tilesX * tilesY];
-        var tileVariance = new double[tilesX * tilesY];
-        double totalVariance = 0;
-        for (int y = 0; y < height; y++)
-        {
-            for (int x = 0; x < width; x++)
-            {
-                int i = 3 * ((y * width) + x);
-                double b = 0, replicateVariance = 0, varR = 0;
-                for (int c = 0; c < 3; c++)
-                {
-                    double m = moments.Sum[i + c] / k;
-                    b += (m - reference.Value[i + c]) / 3;
-                    varR += reference.VarianceOfMean[i + c] / 3;
-                    if (k >= 2)
-                    {
-                        double s2 = Math.Max(0, (moments.SumSquares[i + c] - (moments.Sum[i + c] * m)) / (k - 1));
-                        estimatorVariance += s2;
-
-                        // The channel average's replicate variance needs the cross terms, which the moments
-                        // do not keep; Var(average) ≤ mean channel variance (Cauchy–Schwarz) is used instead.
-                        replicateVariance += s2 / 3;
-                    }
-                }
-
-                double v = (replicateVariance / k) + varR;
-                biasSum += b;
-                totalVariance += v;
-                int t = ((y / TileSize) * tilesX) + (x / TileSize);
-                tileBias[t] += b;
-                tileVariance[t] += v;
-            }
-        }
-
-        int pixels = width * height;
-        double? z = null;
-        int? biasedTiles = null;
-        if (k >= 2)
-        {
-            z = totalVariance > 0 ? biasSum / Math.Sqrt(totalVariance) : (biasSum == 0 ? 0 : double.PositiveInfinity * Math.Sign(biasSum));
-            int count = 0;
-            for (int t = 0; t < tileBias.Length; t++)
-            {
-                double tz = tileVariance[t] > 0 ? tileBias[t] / Math.Sqrt(tileVariance[t]) : (tileBias[t] == 0 ? 0 : double.PositiveInfinity);
-                if (Math.Abs(tz) > threshold)
-                {
-                    count++;
-                }
-            }
-
-            biasedTiles = count;
-        }
-
+        BiasTest bias = BiasTest.Of(moments, reference, TileSize);
         return new StudyPoint(
             spp, k, mean, low, high,
             runs.Average(r => r.Error.MseUncorrected),
             runs.Average(r => r.Error.RelMse),
-            k >= 2 ? estimatorVariance / (3.0 * pixels) : null,
-            biasSum / pixels,
-            z,
-            biasedTiles,
+            bias.EstimatorVariance,
+            bias.MeanBias,
+            bias.ImageZ,
+            k >= 2 ? bias.TilesAbove(threshold) : null,
             median,
             seconds[0],
             seconds[^1]);

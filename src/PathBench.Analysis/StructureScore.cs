@@ -81,27 +81,29 @@ public sealed record StructureScore(double Score, double P, double PeakP, double
             luminance[r] = y;
         }
 
-        // Standardise per pixel across replicates.
+        // Standardise per pixel across replicates, on differences from the first replicate: a pixel
+        // whose replicates are all equal (a constant sky) then has a spread of exactly 0, where the
+        // rounding of a plain mean would leave a spread of 1e-17 and a large, identical z everywhere.
         var mean = new double[n];
         var scale = new double[n];
         for (int p = 0; p < n; p++)
         {
-            double m = 0;
+            double first = luminance[0][p], m = 0;
             for (int r = 0; r < k; r++)
             {
-                m += luminance[r][p];
+                m += luminance[r][p] - first;
             }
 
             m /= k;
             double ss = 0;
             for (int r = 0; r < k; r++)
             {
-                double d = luminance[r][p] - m;
+                double d = luminance[r][p] - first - m;
                 ss += d * d;
             }
 
             double sd = Math.Sqrt(ss / (k - 1));
-            mean[p] = m;
+            mean[p] = first + m;
             scale[p] = sd > 0 && double.IsFinite(sd) ? 1 / sd : 0;
         }
 

@@ -26,6 +26,12 @@ public sealed record StudyDefinition(
 
     /// <summary>Worker threads per render; null for every core.</summary>
     public int? Threads { get; init; }
+
+    /// <summary>The seed of each replicate; null for <see cref="Seed"/> + 1 … <see cref="Seed"/> + K.</summary>
+    public IReadOnlyList<ulong>? Seeds { get; init; }
+
+    /// <summary>The seed of replicate <paramref name="k"/> (0-based).</summary>
+    public ulong SeedOf(int k) => Seeds is { } list ? list[k] : unchecked(Seed + 1 + (ulong)k);
 }
 
 /// <summary>Where a study's ground truth comes from: rendered with <paramref name="Spp"/> samples, or read from <paramref name="Path"/>.</summary>

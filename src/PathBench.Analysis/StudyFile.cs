@@ -49,23 +49,7 @@ public static class StudyFile
         string scene = Path.GetFullPath(Path.Combine(baseDirectory, reader.Name(top.Required("scene"), top.Of("scene"))));
         ReferenceSource reference = ReadReference(reader, top.Required("reference"), baseDirectory);
 
-        YamlNode sppNode = top.Required("spp");
-        if (sppNode is not YamlSequenceNode ladder || ladder.Children.Count == 0 || ladder.Children.Count > MaxLadder)
-        {
-            throw reader.Error(sppNode, FormattableString.Invariant($"{top.Of("spp")} must be a list of 1 to {MaxLadder} sample counts, got {YamlNodeReader.Describe(sppNode)}"));
-        }
-
-        var spp = new List<int>();
-        foreach (YamlNode item in ladder.Children)
-        {
-            int n = reader.Integer(item, "a sample count in 'spp'", 1, SceneLoader.MaxSpp);
-            if (spp.Count > 0 && n <= spp[^1])
-            {
-                throw reader.Error(item, FormattableString.Invariant($"the sample counts in 'spp' must increase, got {n} after {spp[^1]}"));
-            }
-
-            spp.Add(n);
-        }
+        List<int> spp = ReadLadder(reader, top.Required("spp"), top.Of("spp"));
 
         (int Width, int Height)? resolution = null;
         if (top.TryGet("resolution", out YamlNode resNode))
@@ -109,7 +93,35 @@ public static class StudyFile
         return new StudyDefinition(sourcePath, scene, reference, spp, replicates, seed, list) { Resolution = resolution, Threads = threads };
     }
 
-    private static ReferenceSource ReadReference(YamlNodeReader reader, YamlNode node, string baseDirectory)
+    /// <summary>A sample count or a list of 1 to <see cref="MaxLadder"/> increasing ones.</summary>
+    internal static List<int> ReadLadder(YamlNodeReader reader, YamlNode node, string what)
+    {
+        if (node is YamlScalarNode)
+        {
+            return [reader.Integer(node, what, 1, SceneLoader.MaxSpp)];
+        }
+
+        if (node is not YamlSequenceNode ladder || ladder.Children.Count == 0 || ladder.Children.Count > MaxLadder)
+        {
+            throw reader.Error(node, FormattableString.Invariant($"{what} must be a sample count or a list of 1 to {MaxLadder} of them, got {YamlNodeReader.Describe(node)}"));
+        }
+
+        var spp = new List<int>();
+        foreach (YamlNode item in ladder.Children)
+        {
+            int n = reader.Integer(item, "a sample count in " + what, 1, SceneLoader.MaxSpp);
+            if (spp.Count > 0 && n <= spp[^1])
+            {
+                throw reader.Error(item, FormattableString.Invariant($"the sample counts in {what} must increase, got {n} after {spp[^1]}"));
+            }
+
+            spp.Add(n);
+        }
+
+        return spp;
+    }
+
+    internal static ReferenceSource ReadReference(YamlNodeReader reader, YamlNode node, string baseDirectory)
     {
         MappingView r = reader.Mapping(node, "reference", "'reference'").CheckKeys(Reference);
         bool hasSpp = r.TryGet("spp", out YamlNode sppNode);
@@ -143,7 +155,7 @@ public static class StudyFile
         return new ReferenceSource(spp, null, generator, new SamplerSpec(generator, kind, anti, 1, 0).RandomizeName);
     }
 
-    private static StudyConfiguration ReadConfiguration(YamlNodeReader reader, MappingView c, string name)
+    internal static StudyConfiguration ReadConfiguration(YamlNodeReader reader, MappingView c, string name)
     {
         YamlNode generatorNode = c.Required("generator");
         string generator = reader.Name(generatorNode, c.Of("generator"));
@@ -208,9 +220,9 @@ public static class StudyFile
         }
     }
 
-    private static bool IsFileSafe(string name) =>
+    internal static bool IsFileSafe(string name) =>
         name.Length <= 64 && name.All(ch => char.IsAsciiLetterOrDigit(ch) || ch is '-' or '_' or '.') && name[0] != '.';
 
-    private static KeyTable Table(string name, params string[] keys) =>
+    internal static KeyTable Table(string name, params string[] keys) =>
         new(name, [.. keys.Select(k => k.TrimEnd('!'))], [.. keys.Where(k => k.EndsWith('!')).Select(k => k.TrimEnd('!'))]);
 }

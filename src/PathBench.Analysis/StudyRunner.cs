@@ -204,7 +204,7 @@ public sealed class StudyRunner
                     continue;
                 }
 
-                ulong seed = unchecked(_study.Seed + 1 + (ulong)k);
+                ulong seed = _study.SeedOf(k);
                 foreach ((int spp, CachedRender r, bool cached) in Render(c, seed, cancel))
                 {
                     samples.Add(new StudySample(c.Name, spp, k, seed, r.Seconds, r.Rays, r.NonFiniteSamples, cached, ReplicateError.Measure(r.Image, reference)));

@@ -100,6 +100,29 @@ public sealed class ConstructedInputTests
     }
 
     [Fact]
+    public void A_constant_region_is_not_mistaken_for_structure()
+    {
+        // Half the image a constant sky (0.5, 0.6, 0.7) in every replicate, half white noise. The
+        // mean of six equal luminances need not round back to the value (common practice: floating
+        // point), which once gave the sky a spread of 1e-17 and one large, identical z: a
+        // "structure" of score 300 in noise that is white. Seeded; must stay below 3.
+        const int width = 48, height = 32, k = 6;
+        var random = new Random(5);
+        List<float[]> images = [.. Enumerable.Range(0, k).Select(_ => Noise(random, width, height, _ => 0.1))];
+        foreach (float[] image in images)
+        {
+            for (int p = 0; p < width * height / 2; p++)
+            {
+                image[3 * p] = 0.5f;
+                image[(3 * p) + 1] = 0.6f;
+                image[(3 * p) + 2] = 0.7f;
+            }
+        }
+
+        Assert.InRange(StructureScore.Measure(images, width, height)!.Score, 0, 3);
+    }
+
+    [Fact]
     public void Structure_score_needs_two_replicates()
     {
         Assert.Null(StructureScore.Measure([new float[3 * 16 * 16]], 16, 16));

@@ -113,7 +113,7 @@ public static class StudyOutput
             w.WriteNumber("replicates", summary.Result.Study.Replicates);
             w.WriteNumber("threads", summary.Result.Threads);
             w.WriteNumber("tile_size", StudySummary.TileSize);
-            Nullable(w, "tile_z_threshold", summary.TileThreshold);
+            w.WriteNumber("tile_bias_alpha", StudySummary.TileAlpha);
             w.WriteStartArray("warnings");
             foreach (string warning in summary.Warnings)
             {

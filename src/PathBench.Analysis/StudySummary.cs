@@ -14,7 +14,7 @@ namespace PathBench.Analysis;
 /// <param name="EstimatorVariance">Mean over pixels and channels of the variance across replicates; null with one replicate.</param>
 /// <param name="Bias">Mean over pixels and channels of (mean over replicates − reference).</param>
 /// <param name="BiasZ">Bias over its standard error (see <see cref="StudySummary"/>); null with one replicate.</param>
-/// <param name="BiasedTiles">16×16 tiles whose bias z exceeds <see cref="StudySummary.TileThreshold"/>; null with one replicate.</param>
+/// <param name="BiasedTiles">16×16 tiles whose bias is significant at family-wise <see cref="StudySummary.TileAlpha"/> (Šidák); null with one replicate.</param>
 /// <param name="Seconds">Median wall time over replicates of a render of this many samples.</param>
 /// <param name="SecondsMin">Fastest replicate.</param>
 /// <param name="SecondsMax">Slowest replicate.</param>
@@ -88,11 +88,9 @@ public sealed record TheoryRate(double? Smooth, double? Discontinuous, string So
 /// </para>
 /// <para>
 /// Bias: z over the image and per 16×16 tile as <see cref="BiasTest"/> computes it; a tile is reported biased when
-/// |z| exceeds the Šidák-corrected two-sided threshold for a family-wise false-alarm rate of
-/// 0.001 over all tiles: z* = the (1 − α'/2) quantile of Student's t with K − 1 degrees of freedom,
-/// α' = 1 − (1 − 0.001)^(1/T) (Šidák 1967, JASA 62). Student's t rather than the normal because
-/// the spread comes from K replicates; with heavy-tailed pixels (a small bright light found by
-/// chance) and few replicates even that is optimistic, so the tile count is a screen, not a verdict.
+/// its two-sided p-value is below the Šidák level for a family-wise false-alarm rate of 0.001 over
+/// all tiles, α' = 1 − (1 − 0.001)^(1/T) (Šidák 1967, JASA 62). With heavy-tailed pixels and few
+/// replicates the normal approximation behind z is rough, so the tile count is a screen, not a verdict.
 /// </para>
 /// </summary>
 public sealed class StudySummary
@@ -106,11 +104,10 @@ public sealed class StudySummary
     /// <summary>The share of the measured MSE above which the reference's own noise draws a warning.</summary>
     public const double ReferenceNoiseWarning = 0.10;
 
-    private StudySummary(StudyResult result, IReadOnlyList<ConfigurationSummary> configurations, double tileThreshold, IReadOnlyList<string> warnings, EqualTimeComparison equalTime, WinMap winMap)
+    private StudySummary(StudyResult result, IReadOnlyList<ConfigurationSummary> configurations, IReadOnlyList<string> warnings, EqualTimeComparison equalTime, WinMap winMap)
     {
         Result = result;
         Configurations = configurations;
-        TileThreshold = tileThreshold;
         Warnings = warnings;
         EqualTime = equalTime;
         WinMap = winMap;
@@ -128,9 +125,6 @@ public sealed class StudySummary
     /// <summary>One summary per configuration, in the study's order.</summary>
     public IReadOnlyList<ConfigurationSummary> Configurations { get; }
 
-    /// <summary>The per-tile |z| above which a tile counts as biased.</summary>
-    public double TileThreshold { get; }
-
     /// <summary>Warnings about the study as a whole (a noisy reference, …).</summary>
     public IReadOnlyList<string> Warnings { get; }
 
@@ -142,7 +136,6 @@ public sealed class StudySummary
         int tilesX = (reference.Width + TileSize - 1) / TileSize;
         int tilesY = (reference.Height + TileSize - 1) / TileSize;
         int tiles = tilesX * tilesY;
-        double threshold = BiasTest.Threshold(TileAlpha, tiles, result.Study.Replicates);
 
         var warnings = new List<string>();
         if (!reference.HasVariance)
@@ -167,7 +160,7 @@ public sealed class StudySummary
             foreach (int spp in result.Study.Spp)
             {
                 StudySample[] runs = [.. result.Samples.Where(s => s.Configuration == c.Name && s.Spp == spp)];
-                StudyPoint point = Point(spp, runs, result.Moments[(c.Name, spp)], reference, BiasTest.Threshold(TileAlpha, tiles, runs.Length));
+                StudyPoint point = Point(spp, runs, result.Moments[(c.Name, spp)], reference);
                 points.Add(point);
                 if (reference.MeanVariance > ReferenceNoiseWarning * point.MseUncorrected)
                 {
@@ -203,10 +196,10 @@ public sealed class StudySummary
         EqualTimeComparison equalTime = EqualTimeComparison.Of(list);
         double[] scales = [.. list.Select((c, i) => EqualTimeComparison.Scale(c.Points[^1].Seconds, equalTime.Seconds, equalTime.Entries[i].TimeSlope))];
         WinMap winMap = WinMap.Build(reference, [.. list.Select(c => (IReadOnlyList<float[]>)result.FinalImages[c.Configuration.Name])], scales);
-        return new StudySummary(result, list, threshold, warnings, equalTime, winMap);
+        return new StudySummary(result, list, warnings, equalTime, winMap);
     }
 
-    private static StudyPoint Point(int spp, StudySample[] runs, PixelMoments moments, ReferenceImage reference, double threshold)
+    private static StudyPoint Point(int spp, StudySample[] runs, PixelMoments moments, ReferenceImage reference)
     {
         int k = runs.Length;
         double[] mse = [.. runs.Select(r => r.Error.Mse)];
@@ -231,7 +224,7 @@ public sealed class StudySummary
             bias.EstimatorVariance,
             bias.MeanBias,
             bias.ImageZ,
-            k >= 2 ? bias.TilesAbove(threshold) : null,
+            k >= 2 ? bias.TilesBelow(TileAlpha) : null,
             median,
             seconds[0],
             seconds[^1]);

@@ -75,6 +75,7 @@ public static class CliApp
         root.Subcommands.Add(StudyCommand.CreateReport(io));
         root.Subcommands.Add(CheckCommand.CreateCheck(io));
         root.Subcommands.Add(CheckCommand.CreateBaseline(io));
+        root.Subcommands.Add(SelfTestCommand.Create(io));
         root.Subcommands.Add(CompareCommand.Create(io));
         root.Subcommands.Add(ConvertCommand.Create(io));
         return root;

@@ -159,6 +159,38 @@ public sealed class CheckCommandTests
     }
 
     [Theory]
+    [InlineData("random", "none")]
+    [InlineData("sobol", "owen")]
+    [InlineData("jittered", "none")]
+    public void Selftest_of_a_correct_generator_passes_every_published_property(string generator, string randomize)
+    {
+        // Each group of tests has family-wise α = 0.001; the seed is fixed.
+        (int code, string output, string err) = Run("selftest", "--generator", generator, "--randomize", randomize, "--count", "256", "--json");
+        Assert.True(code == 0, err + output);
+        using JsonDocument doc = JsonDocument.Parse(output);
+        Assert.True(doc.RootElement.GetProperty("passed").GetBoolean());
+        string[] tests = [.. doc.RootElement.GetProperty("tests").EnumerateArray().Select(t => t.GetProperty("test").GetString()!)];
+        foreach (string expected in new[] { "determinism", "uniformity of dimensions 0,1", "unbiased on 'disk'", "convergence on 'gaussian'", "independence between neighbouring pixels", "independence between replicates (seeds)" })
+        {
+            Assert.Contains(expected, tests);
+        }
+
+        if (generator == "sobol")
+        {
+            JsonElement net = doc.RootElement.GetProperty("tests").EnumerateArray().Single(t => t.GetProperty("test").GetString()!.StartsWith("(0,m,2)-net", StringComparison.Ordinal));
+            Assert.StartsWith("t = 0", net.GetProperty("statistic").GetString(), StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
+    public void Selftest_refuses_a_count_that_is_not_a_power_of_two()
+    {
+        (int code, _, string err) = Run("selftest", "--generator", "random", "--count", "100");
+        Assert.Equal(2, code);
+        Assert.Contains("power of two", err, StringComparison.Ordinal);
+    }
+
+    [Theory]
     [InlineData("cases: []\n", "suite.yaml:1:8:", "1 to 256 cases")]
     [InlineData("reference: { path: ref.exr }\ncolour: 1\ncases: []\n", "suite.yaml:2:1:", "unknown key 'colour'")]
     [InlineData("cases:\n  - { name: a, spp: 4, assert: { unbiased: {} } }\n", "suite.yaml:2:5:", "exactly one of 'render', 'images' or 'command', got none")]

@@ -101,6 +101,8 @@ public sealed class SamplingCommandTests
         { ["points", "--generator", "sobol", "--dims", "30000"], "at most 21201 dimensions" },
         { ["points", "--generator", "halton", "--dims", "2000"], "at most 1024 dimensions" },
         { ["points", "--generator", "random", "--randomize", "owen"], "meaningless for 'random'" },
+        { ["points", "--generator", "pmj02", "--count", "20000"], "'pmj02' defines at most 16384 points per pixel" },
+        { ["points", "--generator", "pmj02", "--randomize", "cranley-patterson"], "meaningless for 'pmj02'" },
         { ["points", "--generator", "sobol", "--randomize", "shuffle"], "unknown randomization 'shuffle'" },
         { ["points", "--generator", "sobol", "--pixel", "3"], "--pixel expects X,Y" },
         { ["points", "--generator", "sobol", "--format", "xml"], "xml" },

@@ -32,6 +32,9 @@ public sealed class RandomizationTests
         { "sobol", Randomization.Owen },
         { "sobol", Randomization.DigitalShift },
         { "halton", Randomization.DigitPermutation },
+        { "pmj02", Randomization.Owen },
+        { "pmj02", Randomization.DigitalShift },
+        { "pj", Randomization.DigitalShift },
     };
 
     [Theory]
@@ -97,6 +100,8 @@ public sealed class RandomizationTests
         { "halton", "owen" },
         { "hammersley", "digit-permutation" },
         { "sobol", "digit-permutation" },
+        { "pmj02", "cranley-patterson" },
+        { "pmj", "digit-permutation" },
     };
 
     [Theory]

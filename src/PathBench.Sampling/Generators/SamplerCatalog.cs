@@ -74,6 +74,13 @@ public static class SamplerCatalog
         Pmj("pmj02", "progressive multi-jittered (0,2): every power-of-2 prefix a (0,m,2)-net in base 2", Sequences.PmjVariant.ProgressiveMultiJittered02),
         Pmj("pmj", "progressive multi-jittered: stratified in 2-D squares and both 1-D projections", Sequences.PmjVariant.ProgressiveMultiJittered),
         Pmj("pj", "progressive jittered: stratified in 2-D squares", Sequences.PmjVariant.ProgressiveJittered),
+        new("lattice", "rank-1 lattice rule: the Fibonacci lattice (1, F(m-1)) when n = F(m), otherwise a component-by-component vector " +
+            "(Sloan & Reztsov 2002, Math. Comp. 71; weighted P2 criterion of Nuyens & Cools 2006, Math. Comp. 75)",
+            true, LatticeSampler.Dimensions, [Randomization.None, Randomization.CranleyPatterson], Randomization.CranleyPatterson,
+            "a lattice is a group under addition mod 1, not a digital net: only a toroidal shift maps it onto a copy of itself", s => new LatticeSampler(s))
+        {
+            MaxPoints = LatticeSampler.MaxPoints,
+        },
     ];
 
     // Owen by default: a digital shift moves one fixed table rigidly, so replicates see the same

@@ -35,6 +35,7 @@ public sealed class RandomizationTests
         { "pmj02", Randomization.Owen },
         { "pmj02", Randomization.DigitalShift },
         { "pj", Randomization.DigitalShift },
+        { "lattice", Randomization.CranleyPatterson },
     };
 
     [Theory]
@@ -102,6 +103,8 @@ public sealed class RandomizationTests
         { "sobol", "digit-permutation" },
         { "pmj02", "cranley-patterson" },
         { "pmj", "digit-permutation" },
+        { "lattice", "owen" },
+        { "lattice", "digital-shift" },
     };
 
     [Theory]

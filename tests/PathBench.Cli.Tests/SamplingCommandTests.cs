@@ -23,6 +23,11 @@ public sealed class SamplingCommandTests
         {
             Assert.Contains("  " + name + " ", output, StringComparison.Ordinal);
         }
+
+        // Stratified hemisphere sampling is named as the combination that gives it.
+        Assert.Contains("stratified hemisphere sampling:", output, StringComparison.Ordinal);
+        Assert.Contains("--generator jittered (or multi-jittered) and --hemisphere uniform|cosine", output, StringComparison.Ordinal);
+        Assert.Contains("sequence, any dims, <= 16384 points", output, StringComparison.Ordinal); // pmj02
     }
 
     [Fact]

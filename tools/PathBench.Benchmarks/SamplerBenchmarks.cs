@@ -60,6 +60,10 @@ public class SamplerBenchmarks
 /// Building one progressive multi-jittered sequence of 2^k points from scratch (what the pmj
 /// family pays once per table and process): the construction of Christensen, Kensler &amp;
 /// Kilpatrick (2018) with its exhaustive stratum search, <see cref="ProgressiveMultiJittered"/>.
+/// The paper's own generation times are not quoted here (not at hand to check). For scale only, as
+/// another algorithm and variant: Pharr (2019), "Efficient Generation of Points that Satisfy
+/// Two-Dimensional Elementary Intervals", JCGT 8(1), Fig. 1, reports 4,096 pmj02bn points in 5.19 ms
+/// on one core of a 4 GHz CPU.
 /// </summary>
 public class PmjConstructionBenchmarks
 {

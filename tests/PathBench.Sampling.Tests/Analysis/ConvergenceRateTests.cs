@@ -65,6 +65,18 @@ public sealed class ConvergenceRateTests
     }
 
     [Fact]
+    public void Progressive_jittered_converges_as_jittered()
+    {
+        // Christensen, Kensler & Kilpatrick 2018: pj is "nearly identical" to jittered sampling, so it
+        // takes jittered's rates (Pilleboue et al. 2015, as above): N^-0.75 with edges, N^-1 when smooth.
+        // The smooth slopes scatter more here (standard error about 0.03, not 0.02), hence ±0.15.
+        var study = Study("pj", Randomization.Owen, 16, 16384, 256);
+        Assert.InRange(Slope(study, "disk"), -0.85, -0.65);
+        Assert.InRange(Slope(study, "gaussian"), -1.15, -0.85);
+        Assert.InRange(Slope(study, "bilinear"), -1.15, -0.85);
+    }
+
+    [Fact]
     public void Randomly_shifted_lattice_converges_at_minus_one_on_smooth_integrands()
     {
         // Sloan, Kuo & Joe 2002 ("Constructing randomly shifted lattice rules in weighted Sobolev

@@ -37,9 +37,10 @@ public enum PmjVariant
 /// <para>
 /// The candidate search is exhaustive within the sub-square (x strata from a random start, then
 /// every y stratum), so it either places the point or proves that the earlier random choices left
-/// no room; the paper notes such dead ends for the (0,2) family. Then the other free sub-square is
-/// tried for point 2N+i, and failing that the whole octave is drawn again from the next random
-/// stream. Random values are hashes of (seed, octave, attempt, counter): the result is a pure
+/// no room. Such a dead end is possible in principle for the (0,2) family; then the other free
+/// sub-square is tried for point 2N+i, and failing that the whole octave is drawn again from the next
+/// random stream (none was needed for the sequences PathBench uses: the tests check
+/// <see cref="OctaveRetries"/>). Random values are hashes of (seed, octave, attempt, counter): the result is a pure
 /// function of the seed.
 /// </para>
 /// <para>Coordinates are 32-bit binary fractions: the top m bits pick the stratum, the rest are uniform jitter.</para>

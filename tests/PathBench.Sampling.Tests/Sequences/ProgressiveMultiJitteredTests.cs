@@ -27,12 +27,16 @@ public sealed class ProgressiveMultiJitteredTests
         return points;
     }
 
+    private static ProgressiveMultiJittered ProgressiveMultiJittered02(int table) =>
+        ProgressiveMultiJitteredSampler.Sequence(PmjVariant.ProgressiveMultiJittered02, table);
+
     [Fact]
     public void Every_power_of_two_prefix_of_every_pmj02_sequence_is_a_zero_m_two_net()
     {
         for (int table = 0; table < ProgressiveMultiJitteredSampler.TableCount; table++)
         {
-            ProgressiveMultiJittered s = ProgressiveMultiJitteredSampler.Sequence(PmjVariant.ProgressiveMultiJittered02, table);
+            ProgressiveMultiJittered s = ProgressiveMultiJittered02(table);
+            Assert.Equal(0, s.OctaveRetries); // as the construction's remarks state
             for (int m = 0; m <= Largest; m++)
             {
                 Assert.True(NetQuality.TValue(Prefix(s, 1 << m), 2, 0, 1) == 0, $"sequence {table}, prefix 2^{m}");

@@ -99,10 +99,10 @@ public static class SamplerSelfTest
 
     private static SelfTestResult NetProperty(string generator, Randomization randomize, bool antithetic, PointSampler sampler, int count)
     {
-        bool claims = generator == "sobol" && !antithetic && randomize is Randomization.None or Randomization.Owen or Randomization.DigitalShift && (count & (count - 1)) == 0;
+        bool claims = generator is "sobol" or "pmj02" && !antithetic && randomize is Randomization.None or Randomization.Owen or Randomization.DigitalShift && (count & (count - 1)) == 0;
         if (!claims)
         {
-            return new SelfTestResult("(0,m,2)-net in base 2, dimensions 0,1", "n/a", "-", "claimed only by Sobol's first two dimensions (Sobol 1967) with net-preserving randomizations (Owen 1995; digital shifts) at counts 2^m", true);
+            return new SelfTestResult("(0,m,2)-net in base 2, dimensions 0,1", "n/a", "-", "claimed by Sobol's first two dimensions (Sobol 1967) and pmj02 (Christensen, Kensler & Kilpatrick 2018) with net-preserving randomizations (Owen 1995; digital shifts) at counts 2^m", true);
         }
 
         var points = new double[2 * count];
@@ -113,7 +113,7 @@ public static class SamplerSelfTest
         }
 
         int t = NetQuality.TValue(points, 2, 0, 1);
-        return new SelfTestResult("(0,m,2)-net in base 2, dimensions 0,1", Inv($"t = {t} (every elementary interval of volume 1/{count} checked)"), "t = 0", "Sobol 1967; Owen 1995 (scrambling keeps the net property)", t == 0);
+        return new SelfTestResult("(0,m,2)-net in base 2, dimensions 0,1", Inv($"t = {t} (every elementary interval of volume 1/{count} checked)"), "t = 0", "Sobol 1967; Christensen, Kensler & Kilpatrick 2018; Owen 1995 (scrambling keeps the net property)", t == 0);
     }
 
     private static IEnumerable<SelfTestResult> Integrands(string generator, Randomization randomize, bool antithetic, int count, ulong seed, int threads, bool randomized, TheoryRate theory)

@@ -87,7 +87,7 @@ public static class StudyFile
             }
 
             names[name] = nameNode;
-            list.Add(ReadConfiguration(reader, c, name));
+            list.Add(ReadConfiguration(reader, c, name, spp[^1]));
         }
 
         return new StudyDefinition(sourcePath, scene, reference, spp, replicates, seed, list) { Resolution = resolution, Threads = threads };
@@ -147,6 +147,7 @@ public static class StudyFile
         string generator = generatorNode is null ? "sobol" : reader.Name(generatorNode, r.Of("generator"));
         YamlNode? randomizeNode = r.TryGet("randomize", out YamlNode rn) ? rn : null;
         (Randomization kind, bool anti) = ReadSampler(reader, generatorNode ?? node, generator, randomizeNode);
+        CheckPoints(reader, generatorNode ?? node, generator, spp);
         if (!SamplerCatalog.Find(generator).IsRandomized(kind))
         {
             throw reader.Error(randomizeNode ?? node, $"the reference must be an unbiased estimate: {generator} needs a randomization");
@@ -155,11 +156,12 @@ public static class StudyFile
         return new ReferenceSource(spp, null, generator, new SamplerSpec(generator, kind, anti, 1, 0).RandomizeName);
     }
 
-    internal static StudyConfiguration ReadConfiguration(YamlNodeReader reader, MappingView c, string name)
+    internal static StudyConfiguration ReadConfiguration(YamlNodeReader reader, MappingView c, string name, int maxSpp)
     {
         YamlNode generatorNode = c.Required("generator");
         string generator = reader.Name(generatorNode, c.Of("generator"));
         (Randomization kind, bool anti) = ReadSampler(reader, generatorNode, generator, c.TryGet("randomize", out YamlNode rn) ? rn : null);
+        CheckPoints(reader, generatorNode, generator, maxSpp);
 
         HemisphereStrategy hemisphere = HemisphereStrategy.Cosine;
         if (c.TryGet("hemisphere", out YamlNode h))
@@ -187,6 +189,16 @@ public static class StudyFile
         int? depth = c.TryGet("max_depth", out YamlNode d) ? reader.Integer(d, c.Of("max_depth"), 1, SceneLoader.MaxDepth) : null;
         bool roulette = !c.TryGet("roulette", out YamlNode ro) || reader.Boolean(ro, c.Of("roulette"));
         return new StudyConfiguration(name, generator, kind, anti, hemisphere, lights, depth, roulette);
+    }
+
+    /// <summary>A generator kept in finite tables (pmj02 and its family) cannot reach every spp.</summary>
+    private static void CheckPoints(YamlNodeReader reader, YamlNode generatorNode, string generator, int spp)
+    {
+        int max = SamplerCatalog.Find(generator).MaxPoints;
+        if (spp > max)
+        {
+            throw reader.Error(generatorNode, FormattableString.Invariant($"'{generator}' defines at most {max} points per pixel, the study asks for {spp} spp"));
+        }
     }
 
     /// <summary>The generator and randomization, checked by the catalog (its message, at the node it concerns).</summary>

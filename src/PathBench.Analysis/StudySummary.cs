@@ -71,7 +71,8 @@ public sealed record TheoryRate(double? Smooth, double? Discontinuous, string So
         return c.Generator switch
         {
             "random" => new TheoryRate(-1, -1, "independent Monte Carlo: variance σ²/N for any square-integrable integrand"),
-            "jittered" or "multi-jittered" => new TheoryRate(-2, -1.5, "stratified sampling in 2-D: Pilleboue et al. 2015, ACM TOG 34(4)"),
+            "jittered" or "multi-jittered" or "pj" => new TheoryRate(-2, -1.5, "stratified sampling in 2-D: Pilleboue et al. 2015, ACM TOG 34(4)"),
+            "pmj02" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled (0,m,2)-nets: Owen 1997, Ann. Statist. 25(4); progressive construction: Christensen, Kensler & Kilpatrick 2018"),
             "latin-hypercube" => new TheoryRate(-1, -1, "Latin hypercube: variance o(1/N), no better rate for non-additive integrands; McKay, Beckman & Conover 1979; Stein 1987"),
             "sobol" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled nets: Owen 1997, Ann. Statist. 25(4) (smooth, up to log factors); discontinuous rate from memory"),
             _ => new TheoryRate(null, null, "no rate published for this generator and randomization that we rely on"),

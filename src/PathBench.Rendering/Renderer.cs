@@ -32,10 +32,17 @@ public static class Renderer
             throw new ArgumentOutOfRangeException(nameof(job), $"sample range [{job.FirstSample}, {job.EndSample}) is empty or negative");
         }
 
-        if (SamplerCatalog.Find(job.Sampler.Spec.Generator).NeedsCount && job.EndSample > job.Sampler.Count)
+        GeneratorInfo generator = SamplerCatalog.Find(job.Sampler.Spec.Generator);
+        if (generator.NeedsCount && job.EndSample > job.Sampler.Count)
         {
             // A set is defined for its planned count only: indices past it repeat cells or leave [0, 1).
             throw new ArgumentOutOfRangeException(nameof(job), $"'{job.Sampler.Spec.Generator}' was planned for {job.Sampler.Count} points; samples up to {job.EndSample} were asked for");
+        }
+
+        if (job.EndSample > generator.MaxPoints)
+        {
+            // A progressive sequence kept in tables ends with them.
+            throw new ArgumentOutOfRangeException(nameof(job), $"'{generator.Name}' defines at most {generator.MaxPoints} points per pixel; samples up to {job.EndSample} were asked for");
         }
 
         var film = new Film(camera.Width, camera.Height);

@@ -23,6 +23,11 @@ public sealed class SamplingCommandTests
         {
             Assert.Contains("  " + name + " ", output, StringComparison.Ordinal);
         }
+
+        // Stratified hemisphere sampling is named as the combination that gives it.
+        Assert.Contains("stratified hemisphere sampling:", output, StringComparison.Ordinal);
+        Assert.Contains("--generator jittered (or multi-jittered) and --hemisphere uniform|cosine", output, StringComparison.Ordinal);
+        Assert.Contains("sequence, any dims, <= 16384 points", output, StringComparison.Ordinal); // pmj02
     }
 
     [Fact]
@@ -101,6 +106,11 @@ public sealed class SamplingCommandTests
         { ["points", "--generator", "sobol", "--dims", "30000"], "at most 21201 dimensions" },
         { ["points", "--generator", "halton", "--dims", "2000"], "at most 1024 dimensions" },
         { ["points", "--generator", "random", "--randomize", "owen"], "meaningless for 'random'" },
+        { ["points", "--generator", "pmj02", "--count", "20000"], "'pmj02' defines at most 16384 points per pixel" },
+        { ["points", "--generator", "pmj02", "--randomize", "cranley-patterson"], "meaningless for 'pmj02'" },
+        { ["points", "--generator", "lattice", "--count", "20000"], "'lattice' defines at most 16384 points per pixel" },
+        { ["points", "--generator", "lattice", "--randomize", "owen"], "meaningless for 'lattice'" },
+        { ["points", "--generator", "lattice", "--dims", "13"], "at most 12 dimensions" },
         { ["points", "--generator", "sobol", "--randomize", "shuffle"], "unknown randomization 'shuffle'" },
         { ["points", "--generator", "sobol", "--pixel", "3"], "--pixel expects X,Y" },
         { ["points", "--generator", "sobol", "--format", "xml"], "xml" },

@@ -110,6 +110,8 @@ public sealed class StudyCommandTests
     [InlineData("scene: s.yaml\nreference: { spp: 4 }\nspp: [2]\nreplicates: 2\nconfigurations:\n  - { name: a, generator: random, randomize: owen }\n", "study.yaml:6:46:", "owen")]
     [InlineData("scene: s.yaml\nreference: { spp: 4, path: r.exr }\nspp: [2]\nreplicates: 2\nconfigurations:\n  - { name: a, generator: random }\n", "study.yaml:2:12:", "exactly one of")]
     [InlineData("scene: s.yaml\nreference: { spp: 4 }\nspp: [2]\nreplicates: 2\nconfigurations:\n  - { name: a, generator: random, lights: sun }\n", "study.yaml:6:43:", "bsdf, nee or mis")]
+    [InlineData("scene: s.yaml\nreference: { spp: 4 }\nspp: [2, 32768]\nreplicates: 2\nconfigurations:\n  - { name: a, generator: pmj02 }\n", "study.yaml:6:27:", "'pmj02' defines at most 16384 points per pixel, the study asks for 32768 spp")]
+    [InlineData("scene: s.yaml\nreference: { spp: 20000, generator: lattice }\nspp: [2]\nreplicates: 2\nconfigurations:\n  - { name: a, generator: random }\n", "study.yaml:2:37:", "'lattice' defines at most 16384 points")]
     public void Bad_study_files_name_file_line_and_column(string text, string position, string what)
     {
         using var dir = new TempFolder();

@@ -156,7 +156,7 @@ public static class CheckSuiteFile
                     resolution = (reader.Integer(pair.Children[0], "the width in 'resolution'", 1, StudyFile.MaxEdge), reader.Integer(pair.Children[1], "the height in 'resolution'", 1, StudyFile.MaxEdge));
                 }
 
-                source = new RenderSource(scene, StudyFile.ReadConfiguration(reader, render, name), resolution);
+                source = new RenderSource(scene, StudyFile.ReadConfiguration(reader, render, name, spp[^1]), resolution);
                 replicates = ReadReplicates(reader, c);
                 break;
             case "images":

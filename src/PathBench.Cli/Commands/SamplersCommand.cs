@@ -16,7 +16,8 @@ internal static class SamplersCommand
             {
                 string dims = g.MaxDimensions == int.MaxValue ? "any dims" : $"<= {g.MaxDimensions} dims";
                 string randomizations = string.Join("|", g.Randomizations.Select(RandomizationNames.NameOf));
-                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}, randomize {randomizations} (default {RandomizationNames.NameOf(g.DefaultRandomization)})");
+                string points = g.MaxPoints == int.MaxValue ? "" : $", <= {g.MaxPoints} points";
+                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}{points}, randomize {randomizations} (default {RandomizationNames.NameOf(g.DefaultRandomization)})");
             }
 
             io.Out.WriteLine("randomizations:");
@@ -26,6 +27,10 @@ internal static class SamplersCommand
             }
 
             io.Out.WriteLine($"  {RandomizationNames.Antithetic,-18} antithetic variates: point 2k+1 mirrors point 2k (1 - x); combine as R+antithetic");
+            io.Out.WriteLine("stratified hemisphere sampling:");
+            io.Out.WriteLine("  render with --generator jittered (or multi-jittered) and --hemisphere uniform|cosine: each 2-D pair, the directions' included,");
+            io.Out.WriteLine("  is jittered, and both warps map the strata of the square onto regions of equal measure, one sample in each");
+            io.Out.WriteLine("  (cosine: the concentric map, Shirley & Chiu 1997, J. Graphics Tools 2(3); uniform: z = 1 - u, equal areas by Archimedes)");
             return 0;
         });
         return command;

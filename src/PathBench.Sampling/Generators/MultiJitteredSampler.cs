@@ -10,7 +10,7 @@ namespace PathBench.Sampling.Generators;
 /// the estimator unbiased for any n. Padded per 2-D pair like <see cref="JitteredSampler"/>:
 /// each pair draws its own pattern and point order.
 /// </summary>
-public sealed class MultiJitteredSampler : PointSampler
+public sealed class MultiJitteredSampler : PairedPointSampler
 {
     private readonly StratumGrid _grid;
 
@@ -21,23 +21,10 @@ public sealed class MultiJitteredSampler : PointSampler
     public override int MaxDimensions => int.MaxValue;
 
     /// <inheritdoc/>
-    public override double Sample(ulong pixel, uint index, int dimension)
+    protected override (double X, double Y) SamplePair(ulong pixel, uint index, int pair)
     {
-        (double x, double y) = Sample2D(pixel, index, dimension & ~1);
-        return (dimension & 1) == 0 ? x : y;
-    }
-
-    /// <inheritdoc/>
-    public override (double X, double Y) Sample2D(ulong pixel, uint index, int dimension)
-    {
-        if ((dimension & 1) != 0)
-        {
-            return (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
-        }
-
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
-        int pair = dimension >> 1;
         uint p = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);
         uint s = KenslerPermutation.Permute(index, (uint)Count, p * 0x51633e2du);
         uint column = s % m;

@@ -81,6 +81,30 @@ public abstract class PointSampler
     }
 }
 
+/// <summary>
+/// A generator defined per 2-D pair of dimensions (2k, 2k+1): the pair's two coordinates come
+/// from one point of a 2-D pattern, so both are made together; an odd first dimension straddles
+/// two pairs.
+/// </summary>
+public abstract class PairedPointSampler(SamplerSpec spec) : PointSampler(spec)
+{
+    /// <inheritdoc/>
+    public sealed override double Sample(ulong pixel, uint index, int dimension)
+    {
+        (double x, double y) = SamplePair(pixel, index, dimension >> 1);
+        return (dimension & 1) == 0 ? x : y;
+    }
+
+    /// <inheritdoc/>
+    public sealed override (double X, double Y) Sample2D(ulong pixel, uint index, int dimension) =>
+        (dimension & 1) == 0
+            ? SamplePair(pixel, index, dimension >> 1)
+            : (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
+
+    /// <summary>Dimensions 2·<paramref name="pair"/> and 2·<paramref name="pair"/>+1 of point <paramref name="index"/>.</summary>
+    protected abstract (double X, double Y) SamplePair(ulong pixel, uint index, int pair);
+}
+
 /// <summary>What a sampler is built from: generator name, randomization, antithetic pairing, planned count and global seed.</summary>
 public sealed record SamplerSpec(string Generator, Randomization Randomize, bool Antithetic, int Count, ulong Seed)
 {

@@ -14,4 +14,5 @@ internal static class Salts
     public const ulong OwenDimension = 0x4F57454E44000005UL;
     public const ulong DigitPermutation = 0x5045524D55000007UL;
     public const ulong Independent = 0x52414E444F000008UL;
+    public const ulong PmjPair = 0x504D4A5041000009UL;
 }

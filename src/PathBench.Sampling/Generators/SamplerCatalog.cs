@@ -15,6 +15,12 @@ public sealed record GeneratorInfo(
     string WhyOthersRefused,
     Func<SamplerSpec, PointSampler> Create)
 {
+    /// <summary>
+    /// The most points per pixel the generator defines, whatever the planned count: a progressive
+    /// sequence built into finite tables stops at their length. <c>int.MaxValue</c> when unlimited.
+    /// </summary>
+    public int MaxPoints { get; init; } = int.MaxValue;
+
     /// <summary>True for generators whose points are random with no randomization on top (random, jittered, Latin hypercube, multi-jittered).</summary>
     public bool RandomByConstruction => Randomizations.Count == 1 && Randomizations[0] == Randomization.None;
 
@@ -65,7 +71,29 @@ public static class SamplerCatalog
         new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
             false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
             "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
+        Pmj("pmj02", "progressive multi-jittered (0,2): every power-of-2 prefix a (0,m,2)-net in base 2", Sequences.PmjVariant.ProgressiveMultiJittered02),
+        Pmj("pmj", "progressive multi-jittered: stratified in 2-D squares and both 1-D projections", Sequences.PmjVariant.ProgressiveMultiJittered),
+        Pmj("pj", "progressive jittered: stratified in 2-D squares", Sequences.PmjVariant.ProgressiveJittered),
+        new("lattice", "rank-1 lattice rule: the Fibonacci lattice (1, F(m-1)) when n = F(m), otherwise a component-by-component vector " +
+            "(Sloan & Reztsov 2002, Math. Comp. 71; weighted P2 criterion of Nuyens & Cools 2006, Math. Comp. 75)",
+            true, LatticeSampler.Dimensions, [Randomization.None, Randomization.CranleyPatterson], Randomization.CranleyPatterson,
+            "a lattice is a group under addition mod 1, not a digital net: only a toroidal shift maps it onto a copy of itself", s => new LatticeSampler(s))
+        {
+            MaxPoints = LatticeSampler.MaxPoints,
+        },
     ];
+
+    // Owen by default: a digital shift moves one fixed table rigidly, so replicates see the same
+    // geometry and smooth integrands converge at the QMC rate only; the nested scramble
+    // re-randomizes every level, which is what Owen (1997) needs for N^-3/2.
+    private static GeneratorInfo Pmj(string name, string what, Sequences.PmjVariant variant) =>
+        new(name, what + "; Christensen, Kensler & Kilpatrick 2018, Comput. Graph. Forum 37(4) (EGSR)",
+            false, int.MaxValue, [Randomization.None, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
+            "a Cranley-Patterson shift moves points across dyadic cell edges and loses the stratification; digit permutations in base 2 are the digital shift",
+            s => new ProgressiveMultiJitteredSampler(s, variant))
+        {
+            MaxPoints = ProgressiveMultiJitteredSampler.MaxPoints,
+        };
 
     /// <summary>Every generator, in the order <c>pathbench samplers</c> lists them.</summary>
     public static IReadOnlyList<GeneratorInfo> Generators => Table;
@@ -147,6 +175,11 @@ public static class SamplerCatalog
         if (spec.Count < 1)
         {
             throw new SamplerSpecException($"count must be at least 1, got {spec.Count}");
+        }
+
+        if (spec.Count > g.MaxPoints)
+        {
+            throw new SamplerSpecException($"'{g.Name}' defines at most {g.MaxPoints} points per pixel, asked for {spec.Count}");
         }
 
         if (dims < 1)

@@ -35,11 +35,12 @@ public sealed class AnalyticValidationTests
     [Theory]
     [InlineData("halton", "digit-permutation")]
     [InlineData("hammersley", "cranley-patterson")]
+    [InlineData("lattice", "cranley-patterson")]
     public void Paths_longer_than_a_generators_dimensions_stay_unbiased(string generator, string randomize)
     {
         // The white furnace (common practice, as above) with albedo 0.99, no roulette and 150
-        // bounces: a path uses 4 + 8·151 = 1212 dimensions, past Halton's 1024 and Hammersley's
-        // 1025, so its later vertices draw from the padding. (Inside a sphere this estimator is
+        // bounces: a path uses 4 + 8·151 = 1212 dimensions, past Halton's 1024, Hammersley's
+        // 1025 and the lattice's 12, so its later vertices draw from the padding. (Inside a sphere this estimator is
         // nearly deterministic, so this checks long padded paths run and sum right; the padding's
         // uniformity is checked in SampleStreamTests.)
         const double a = 0.99;

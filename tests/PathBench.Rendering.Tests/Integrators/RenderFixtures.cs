@@ -11,7 +11,9 @@ internal static class RenderFixtures
     public static Film Render(Scene scene, string generator, string randomize, int spp, ulong seed, PathTracerOptions options, int threads = 2)
     {
         (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
-        PointSampler sampler = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, spp, seed), Math.Min(64, DimensionLayout.Total(options.MaxDepth)));
+        // Generators with a dimension limit serve what they can and the path pads the rest, as the render command does.
+        int dims = Math.Min(Math.Min(64, SamplerCatalog.Find(generator).MaxDimensions), DimensionLayout.Total(options.MaxDepth));
+        PointSampler sampler = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, spp, seed), dims);
         return Renderer.Render(new RenderJob(scene, sampler, options, 0, spp, threads)).Film;
     }
 

@@ -9,6 +9,8 @@ public sealed class DeterminismTests
     {
         { "random", "none" }, { "jittered", "none" }, { "latin-hypercube", "none" }, { "multi-jittered", "none" },
         { "halton", "digit-permutation" }, { "hammersley", "cranley-patterson" }, { "sobol", "owen" }, { "sobol", "owen+antithetic" },
+        { "pmj02", "owen" }, { "pmj02", "digital-shift" }, { "pmj02", "none" }, { "pmj", "owen" }, { "pj", "digital-shift" },
+        { "lattice", "cranley-patterson" }, { "lattice", "none" },
     };
 
     [Theory]

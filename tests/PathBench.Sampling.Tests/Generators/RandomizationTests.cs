@@ -32,6 +32,10 @@ public sealed class RandomizationTests
         { "sobol", Randomization.Owen },
         { "sobol", Randomization.DigitalShift },
         { "halton", Randomization.DigitPermutation },
+        { "pmj02", Randomization.Owen },
+        { "pmj02", Randomization.DigitalShift },
+        { "pj", Randomization.DigitalShift },
+        { "lattice", Randomization.CranleyPatterson },
     };
 
     [Theory]
@@ -97,6 +101,10 @@ public sealed class RandomizationTests
         { "halton", "owen" },
         { "hammersley", "digit-permutation" },
         { "sobol", "digit-permutation" },
+        { "pmj02", "cranley-patterson" },
+        { "pmj", "digit-permutation" },
+        { "lattice", "owen" },
+        { "lattice", "digital-shift" },
     };
 
     [Theory]

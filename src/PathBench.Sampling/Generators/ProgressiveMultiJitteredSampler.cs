@@ -1,0 +1,112 @@
+using PathBench.Sampling.Hashing;
+using PathBench.Sampling.Sequences;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// Progressive (multi-)jittered sequences (Christensen, Kensler &amp; Kilpatrick 2018): a progressive
+/// 2-D sequence, so usable at any count up to <see cref="MaxPoints"/> and independent of the planned count.
+/// </summary>
+/// <remarks>
+/// <para>
+/// <see cref="TableCount"/> sequences of each family are built once per process from fixed seeds
+/// (<see cref="ProgressiveMultiJittered"/>), each on first use. Dimension pair (2k, 2k+1) of a pixel
+/// reads sequence (k + h) mod <see cref="TableCount"/>, h a hash of the pixel: the pairs of one pixel
+/// use different sequences (padding, as for the other 2-D generators), and which pair gets which
+/// varies from pixel to pixel.
+/// </para>
+/// <para>
+/// Randomizations, both per pixel and pair, both keeping every property of the sequence:
+/// a random digital shift XORs each coordinate's binary digits with a random word. XOR with a fixed
+/// word maps the dyadic intervals [a·2^-p, (a+1)·2^-p) of each length onto themselves one to one
+/// (a ↦ a XOR the top p bits of the word), so it permutes the elementary intervals of every shape
+/// 2^-p × 2^-q among themselves and the count in each is unchanged: (0,m,2)-nets stay nets, 1-D strata
+/// stay strata, squares stay squares. Owen's nested scrambling (hash-based, <see cref="OwenScrambler"/>)
+/// also maps each dyadic interval onto one of the same length (the flip of digit j depends on the
+/// digits before it only), so the same argument holds. Either makes every point uniform
+/// on the 2^-32 grid, hence the estimator unbiased. A Cranley–Patterson shift does not map dyadic
+/// intervals onto dyadic intervals, so it is refused.
+/// </para>
+/// <para>Coordinates are placed at the centre of their 2^-32 cell, as <see cref="SobolSampler"/> does.</para>
+/// </remarks>
+public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
+{
+    /// <summary>Base-2 logarithm of <see cref="MaxPoints"/>.</summary>
+    public const int Log2MaxPoints = 14;
+
+    /// <summary>
+    /// The most points per pixel: building 2^14 pmj02 points takes about 0.06 s per sequence on one
+    /// core (the exhaustive stratum search of <see cref="ProgressiveMultiJittered"/>; measured by
+    /// PmjConstructionBenchmarks), 2^16 about 0.9 s, too long to pay at first use for every sequence.
+    /// </summary>
+    public const int MaxPoints = 1 << Log2MaxPoints;
+
+    /// <summary>Independent sequences per family (pairs of a pixel use different ones).</summary>
+    public const int TableCount = 8;
+
+    private const double Scale = 1.0 / 4294967296.0;
+
+    // Fixed construction seeds: changing one changes every image made with the family.
+    private const ulong ConstructionSeed = 0x504D4A3032000001UL;
+
+    private static readonly Lazy<ProgressiveMultiJittered>[][] Tables =
+        [.. Enum.GetValues<PmjVariant>().Select(v => Enumerable.Range(0, TableCount)
+            .Select(t => new Lazy<ProgressiveMultiJittered>(() => ProgressiveMultiJittered.Generate(v, Log2MaxPoints, ConstructionSeed + (ulong)v * 0x100 + (ulong)t), LazyThreadSafetyMode.ExecutionAndPublication))
+            .ToArray())];
+
+    private readonly Lazy<ProgressiveMultiJittered>[] _tables;
+
+    /// <summary>Creates the sampler for one family.</summary>
+    public ProgressiveMultiJitteredSampler(SamplerSpec spec, PmjVariant variant) : base(spec)
+    {
+        Variant = variant;
+        _tables = Tables[(int)variant];
+    }
+
+    /// <summary>The family.</summary>
+    public PmjVariant Variant { get; }
+
+    /// <inheritdoc/>
+    public override int MaxDimensions => int.MaxValue;
+
+    /// <summary>Sequence <paramref name="table"/> of a family, as built (for tests and tools).</summary>
+    public static ProgressiveMultiJittered Sequence(PmjVariant variant, int table) => Tables[(int)variant][table].Value;
+
+    /// <inheritdoc/>
+    protected override (double X, double Y) SamplePair(ulong pixel, uint index, int pair)
+    {
+        if (index >= MaxPoints)
+        {
+            ThrowPastEnd(index);
+        }
+
+        if (Spec.Randomize == Randomization.None)
+        {
+            // The bare sequences, the same in every pixel: a fixed quadrature rule.
+            ProgressiveMultiJittered plain = _tables[pair % TableCount].Value;
+            return (plain.X[(int)index] * Scale, plain.Y[(int)index] * Scale);
+        }
+
+        ulong seeds = SampleHash.Combine(pixel ^ Salts.PmjPair, (ulong)pair);
+        uint rotation = (uint)(pixel >> 40) % TableCount;
+        ProgressiveMultiJittered s = _tables[(int)((uint)(pair + rotation) % TableCount)].Value;
+        uint x = s.X[(int)index], y = s.Y[(int)index];
+        uint seedX = (uint)seeds, seedY = (uint)(seeds >> 32);
+        if (Spec.Randomize == Randomization.Owen)
+        {
+            x = OwenScrambler.Scramble(x, seedX);
+            y = OwenScrambler.Scramble(y, seedY);
+        }
+        else
+        {
+            x ^= seedX;
+            y ^= seedY;
+        }
+
+        return ((x + 0.5) * Scale, (y + 0.5) * Scale);
+    }
+
+    [System.Runtime.CompilerServices.MethodImpl(InliningOptions.ColdPath)]
+    private static void ThrowPastEnd(uint index) =>
+        throw new ArgumentOutOfRangeException(nameof(index), index, $"progressive multi-jittered sequences hold {MaxPoints} points");
+}

@@ -29,7 +29,11 @@ internal static class FilmOutput
     }
 
     /// <summary>Writes the sidecar: the identity, the ranges, then <paramref name="more"/> fields.</summary>
-    public static void WriteSidecar(string path, RenderIdentity identity, string? scenePath, string outPath, IReadOnlyList<SampleRange> ranges, Film film, Action<Utf8JsonWriter> more)
+    /// <remarks>
+    /// <c>scene_sha256</c> is the scene file's own hash (what studies check a reference against), written when
+    /// <paramref name="scene"/> is known; <c>scene_digest</c> also covers its meshes, as the accumulation file does.
+    /// </remarks>
+    public static void WriteSidecar(string path, RenderIdentity identity, Rendering.Scenes.SceneDescription? scene, string outPath, IReadOnlyList<SampleRange> ranges, Film film, Action<Utf8JsonWriter> more)
     {
         ImageIo.Guard(path, () =>
         {
@@ -38,12 +42,13 @@ internal static class FilmOutput
             {
                 w.WriteStartObject();
                 w.WriteString("version", identity.Version);
-                if (scenePath is not null)
+                if (scene is not null)
                 {
-                    w.WriteString("scene", scenePath);
+                    w.WriteString("scene", scene.SourcePath);
+                    w.WriteString("scene_sha256", scene.Sha256);
                 }
 
-                w.WriteString("scene_sha256", identity.SceneSha256);
+                w.WriteString("scene_digest", identity.SceneSha256);
                 w.WriteString("output", outPath);
                 foreach ((string name, string value) in identity.Configuration)
                 {

@@ -148,7 +148,7 @@ internal static class RenderCommand
             SampleRange[] ranges = result.Done.Count > 0 ? [result.Done] : [];
             double meanVariance = FilmOutput.WriteImage(outPath, result.Film, result.Done.Count, reference);
             string stoppedBy = result.Interrupted ? "signal" : result.Done.End < target.End ? "time_budget" : "complete";
-            FilmOutput.WriteSidecar(sidecar, identity, description.SourcePath, outPath, ranges, result.Film, w =>
+            FilmOutput.WriteSidecar(sidecar, identity, description, outPath, ranges, result.Film, w =>
             {
                 w.WriteNumber("threads", t);
                 w.Number("wall_seconds", result.WallSeconds);

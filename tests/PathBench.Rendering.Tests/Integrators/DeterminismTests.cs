@@ -7,7 +7,7 @@ namespace PathBench.Rendering.Tests.Integrators;
 
 public sealed class DeterminismTests
 {
-    private static Scene Box()
+    internal static Scene Box()
     {
         Material[] m = [Material.Diffuse("white", Rgb.Grey(0.7)), Material.Diffuse("lamp", Rgb.Black, Rgb.Grey(8)), Material.Conductor("metal", 0.3, new Rgb(0.9, 0.6, 0.3))];
         Primitive[] p =
@@ -21,7 +21,7 @@ public sealed class DeterminismTests
         return Scene.Build(p, m, [], new Camera(new(0, 1, 3), new(0, 1, 0), new(0, 1, 0), 45, 24, 20), Rgb.Grey(0.1));
     }
 
-    private static readonly PathTracerOptions Options = new(HemisphereStrategy.Cosine, LightStrategy.Mis, 6, true);
+    internal static readonly PathTracerOptions Options = new(HemisphereStrategy.Cosine, LightStrategy.Mis, 6, true);
 
     [Fact]
     public void Thread_count_does_not_change_a_single_bit()

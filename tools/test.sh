@@ -11,8 +11,9 @@ cd "$(dirname "$0")/.."
 # every OpenEXR pixel through the OpenEXR library); the OpenEXR command-line tools (exrheader and
 # the rewriting tools); the fonts and fontconfig SkiaSharp's native library needs to draw labels; and
 # chromium, the browser the study report's tests drive headless (Microsoft.Playwright, pointed at it).
+# slurm-wlm and munge: the one-node Slurm that tools/slurm/local-cluster-test.sh runs the shard array on.
 packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
-          openexr fonts-dejavu-core libfontconfig1 chromium)
+          openexr fonts-dejavu-core libfontconfig1 chromium slurm-wlm munge)
 
 source tools/require-debian.sh
 require_debian_packages tools/test.sh "${packages[@]}"
@@ -39,5 +40,17 @@ failed=$(grep -oE 'Failed: +[0-9]+' "$log" | awk '{ s += $2 } END { print s + 0 
 if [ "$status" -ne 0 ] && [ "$failed" -eq 0 ]; then
   failed=1 # a build error or crashed test host: no summary to count, but not a pass
 fi
+
+# The shard array on a real Slurm: one more test, judged by its PASS line, not its status alone.
+slurm_log=$(mktemp)
+tools/slurm/local-cluster-test.sh 2>&1 | tee "$slurm_log"
+slurm_status=${PIPESTATUS[0]}
+if [ "$slurm_status" -eq 0 ] && grep -qx 'slurm array: PASS' "$slurm_log"; then
+  passed=$((passed + 1))
+else
+  failed=$((failed + 1))
+  [ "$status" -eq 0 ] && status=1
+fi
+rm -f "$slurm_log"
 echo "$passed passed, $failed failed"
 exit "$status"

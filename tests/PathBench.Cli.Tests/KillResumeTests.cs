@@ -108,6 +108,44 @@ public sealed class KillResumeTests(ITestOutputHelper output)
         Assert.Equal(File.ReadAllBytes(dir.File("whole.exr")), File.ReadAllBytes(dir.File("resumed.exr")));
     }
 
+    [Fact]
+    public void A_second_sigint_ends_the_process_at_once_and_the_last_checkpoint_stays_good()
+    {
+        using var dir = new TempFolder();
+        string scene = dir.Write("s.yaml", ShardMergeTests.Scene);
+        string checkpoint = dir.File("c.accum");
+        string[] args = ["render", scene, "--spp", Spp.ToString(CultureInfo.InvariantCulture), "--checkpoint", checkpoint, "--checkpoint-every", "0s", "--quiet", "--out", dir.File("x.exr")];
+        using Process child = Start(args, stallMs: 2000);
+        // The second checkpoint write: the first is complete on disk; both signals land inside a 2 s stall.
+        Assert.True(WaitForLine(child, RenderSession.StallMarker), "no checkpoint write seen");
+        Assert.True(WaitForLine(child, RenderSession.StallMarker), "no second checkpoint write seen");
+        Signal(child, "INT");
+        Signal(child, "INT");
+        child.WaitForExit();
+        // Killed by SIGINT itself: the runtime reports 128 + 2, as a shell does.
+        Assert.Equal(130, child.ExitCode);
+        Assert.False(File.Exists(dir.File("x.exr")), "the image is written only after the final checkpoint, which the second signal cut short");
+        Assert.Equal(1, AccumulationFile.Read(checkpoint).Ranges[0].End);
+    }
+
+    [Fact]
+    public void A_time_budget_stops_after_whole_passes_and_says_so()
+    {
+        using var dir = new TempFolder();
+        string scene = dir.Write("s.yaml", ShardMergeTests.Scene);
+        // A sequence with no --spp: up to 2^24 spp, far more than half a second renders.
+        var r = Run("render", scene, "--time-budget", "0.5s", "--checkpoint", dir.File("c.accum"), "--out", dir.File("b.exr"));
+        Assert.True(r.Code == 0, r.Err);
+        using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("b.json")));
+        JsonElement j = doc.RootElement;
+        Assert.Equal("time_budget", j.GetProperty("stopped_by").GetString());
+        int spp = j.GetProperty("spp").GetInt32();
+        Assert.InRange(spp, 1, (1 << 24) - 1);
+        Assert.Equal(1 << 24, j.GetProperty("planned_spp").GetInt32());
+        Assert.Equal(spp, AccumulationFile.Read(dir.File("c.accum")).Ranges[0].End);
+        Assert.Contains("stopped by time budget", r.Out, StringComparison.Ordinal);
+    }
+
     private static Process Start(string[] args, int? stallMs)
     {
         var info = new ProcessStartInfo(Executable) { RedirectStandardError = true, RedirectStandardOutput = true, UseShellExecute = false };

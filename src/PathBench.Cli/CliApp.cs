@@ -72,6 +72,7 @@ public static class CliApp
         root.Subcommands.Add(RenderCommand.Create(io));
         root.Subcommands.Add(RenderCommand.CreateReference(io));
         root.Subcommands.Add(MergeCommand.Create(io));
+        root.Subcommands.Add(BatchCommand.Create(io));
         root.Subcommands.Add(StudyCommand.CreateStudy(io));
         root.Subcommands.Add(StudyCommand.CreateDemo(io));
         root.Subcommands.Add(StudyCommand.CreateReport(io));

@@ -58,7 +58,7 @@ internal static class RenderSession
         int pass = 1;
         double sppPerSecond = 0;
         int startedAt = done;
-        bool consoleProgress = !plan.Quiet && ReferenceEquals(io.Error, Console.Error);
+        bool consoleProgress = !plan.Quiet && (ReferenceEquals(io.Error, Console.Error) || (io.Error is BatchCommand.TeeWriter tee && ReferenceEquals(tee.First, Console.Error)));
         Action? stall = StallHook(io);
 
         void Checkpoint()

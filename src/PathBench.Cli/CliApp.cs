@@ -1,6 +1,7 @@
 using System.CommandLine;
 using PathBench.Cli.Commands;
 using PathBench.Imaging;
+using PathBench.Rendering.Accumulation;
 using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
 
@@ -43,7 +44,7 @@ public static class CliApp
             stderr.WriteLine($"pathbench: error: {e.Message}");
             return UsageExitCode;
         }
-        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException)
+        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException or AccumulationFileException)
         {
             // The libraries' bad-input exceptions already carry the one line to print
             // (file, position, what was wrong); mapped to exit 2 here, once, for every command.
@@ -70,6 +71,8 @@ public static class CliApp
         root.Subcommands.Add(IntegrandsCommand.Create(io));
         root.Subcommands.Add(RenderCommand.Create(io));
         root.Subcommands.Add(RenderCommand.CreateReference(io));
+        root.Subcommands.Add(MergeCommand.Create(io));
+        root.Subcommands.Add(BatchCommand.Create(io));
         root.Subcommands.Add(StudyCommand.CreateStudy(io));
         root.Subcommands.Add(StudyCommand.CreateDemo(io));
         root.Subcommands.Add(StudyCommand.CreateReport(io));

@@ -1,5 +1,6 @@
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Scenes;
+using PathBench.Sampling;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering;
@@ -19,7 +20,7 @@ public sealed class Camera
         _forward = (lookAt - position).Normalized();
         _right = Vec3d.Cross(_forward, up).Normalized();
         _up = Vec3d.Cross(_right, _forward);
-        _tanHalf = Math.Tan(fovDegrees * Math.PI / 360);
+        _tanHalf = PortableMath.Tan(fovDegrees * Math.PI / 360);
         _aspect = (double)width / height;
         _aperture = apertureRadius;
         _focus = focusDistance;

@@ -166,6 +166,31 @@ public sealed class Film
         AddDropped(other.NonFiniteSamples, other.OutOfRangeSamples);
     }
 
+    /// <summary>Whether both films hold the same size, counts, sums and dropped-sample counts, bit for bit.</summary>
+    public bool SameSums(Film other)
+    {
+        ArgumentNullException.ThrowIfNull(other);
+        return other.Width == Width && other.Height == Height
+            && other.NonFiniteSamples == NonFiniteSamples && other.OutOfRangeSamples == OutOfRangeSamples
+            && _count.AsSpan().SequenceEqual(other._count) && _sum.AsSpan().SequenceEqual(other._sum)
+            && _sumSquaresLow.AsSpan().SequenceEqual(other._sumSquaresLow) && _sumSquaresHigh.AsSpan().SequenceEqual(other._sumSquaresHigh);
+    }
+
+    // The accumulation file (Accumulation/AccumulationFile.cs) reads and writes these planes as they lie in memory.
+    internal long[] CountPlane => _count;
+
+    internal Int128[] SumPlane => _sum;
+
+    internal UInt128[] SquaresLowPlane => _sumSquaresLow;
+
+    internal uint[] SquaresHighPlane => _sumSquaresHigh;
+
+    internal void SetDropped(long nonFinite, long outOfRange)
+    {
+        NonFiniteSamples = nonFinite;
+        OutOfRangeSamples = outOfRange;
+    }
+
     /// <summary>The image of pixel means as float RGB, row 0 at the top, channels interleaved.</summary>
     public float[] ToRgb()
     {

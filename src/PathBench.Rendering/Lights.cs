@@ -1,5 +1,6 @@
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Materials;
+using PathBench.Sampling;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering;
@@ -126,7 +127,7 @@ public sealed class LightSet
                 double cosT = 1 - u1 * oneMinusCos;
                 double sinT2 = Math.Max(0, 1 - cosT * cosT);
                 var frame = new ShadingFrame(toCenter / d);
-                (double s, double c) = Math.SinCos(2 * Math.PI * u2);
+                (double s, double c) = PortableMath.SinCos(2 * Math.PI * u2);
                 double sinT = Math.Sqrt(sinT2);
                 Vec3d w = frame.ToWorld(new Vec3d(sinT * c, sinT * s, cosT));
                 // Distance to the near side of the sphere along w.

@@ -26,6 +26,18 @@ public static class Renderer
     public static RenderResult Render(RenderJob job, Action<int, int>? progress = null, CancellationToken cancel = default)
     {
         ArgumentNullException.ThrowIfNull(job);
+        return RenderInto(job, new Film(job.Scene.Camera.Width, job.Scene.Camera.Height), progress, cancel);
+    }
+
+    /// <summary>
+    /// Renders the job and adds its samples to <paramref name="film"/> (exact, so a film built
+    /// pass by pass equals one rendered at once). A cancelled render leaves the film with part of
+    /// the range: callers that need whole ranges render into a scratch film.
+    /// </summary>
+    public static RenderResult RenderInto(RenderJob job, Film film, Action<int, int>? progress = null, CancellationToken cancel = default)
+    {
+        ArgumentNullException.ThrowIfNull(job);
+        ArgumentNullException.ThrowIfNull(film);
         Camera camera = job.Scene.Camera;
         if (job.FirstSample < 0 || job.EndSample < job.FirstSample)
         {
@@ -45,7 +57,11 @@ public static class Renderer
             throw new ArgumentOutOfRangeException(nameof(job), $"'{generator.Name}' defines at most {generator.MaxPoints} points per pixel; samples up to {job.EndSample} were asked for");
         }
 
-        var film = new Film(camera.Width, camera.Height);
+        if (film.Width != camera.Width || film.Height != camera.Height)
+        {
+            throw new ArgumentException($"a {film.Width}×{film.Height} film cannot take a {camera.Width}×{camera.Height} render", nameof(film));
+        }
+
         int tilesX = (camera.Width + TileSize - 1) / TileSize;
         int tilesY = (camera.Height + TileSize - 1) / TileSize;
         int tiles = tilesX * tilesY;

@@ -122,6 +122,17 @@ public sealed class RenderCommandTests
                 continue;
             }
 
+            if (file.EndsWith(".batch.yaml", StringComparison.Ordinal))
+            {
+                // A batch file names its scenes; each must load.
+                foreach (Commands.BatchJob job in Commands.BatchCommand.Read(file))
+                {
+                    Assert.NotEmpty(PathBench.Rendering.Scenes.SceneLoader.Load(job.Scene).Shapes);
+                }
+
+                continue;
+            }
+
             PathBench.Rendering.Scenes.SceneDescription d = PathBench.Rendering.Scenes.SceneLoader.Load(file);
             Assert.NotEmpty(d.Shapes);
         }

@@ -5,10 +5,10 @@ using PathBench.Analysis;
 using PathBench.Imaging;
 using PathBench.Rendering;
 using PathBench.Rendering.Integrators;
+using PathBench.Rendering.Accumulation;
 using PathBench.Rendering.Materials;
 using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
-using Spectre.Console;
 
 namespace PathBench.Cli.Commands;
 
@@ -43,13 +43,19 @@ internal static class RenderCommand
                 ? "Output image, .exr (default: SCENE-NAME.exr here); NAME.variance.exr and a .json sidecar are written beside it"
                 : "Output image: .exr, .pfm or .png (default: SCENE-NAME.exr here); a .json sidecar is written beside it",
         };
+        var shard = new Option<string?>("--shard") { Description = "Render the I-th of N disjoint sample ranges (0 ≤ I < N) and write its accumulation file (--checkpoint FILE, or IMAGE.accum) for 'pathbench merge'" };
+        var checkpoint = new Option<string?>("--checkpoint") { Description = "Accumulation file written atomically every --checkpoint-every and at the end; --resume continues from it" };
+        var checkpointEvery = new Option<string>("--checkpoint-every") { Description = "Wall time between checkpoints, e.g. 10m, 90s, 1h30m", DefaultValueFactory = _ => "10m" };
+        var resume = new Option<bool>("--resume") { Description = "Continue from the --checkpoint file (refused if it is of another scene, configuration or PathBench version)" };
+        var budget = new Option<string?>("--time-budget") { Description = "Render whole passes until this wall time is spent (8h, 45m, 90s); with --spp, whichever comes first" };
+        var quiet = new Option<bool>("--quiet") { Description = "No progress lines on stderr" };
 
         var command = reference
             ? new Command("reference", "Render a ground truth with its per-pixel variance of the mean (NAME.variance.exr) for studies")
             : new Command("render", "Path-trace a scene with a chosen generator, randomization and strategy");
         command.Arguments.Add(scenePath);
         sampling.AddTo(command);
-        foreach (Option o in new Option[] { spp, hemisphere, lights, threads, maxDepth, noRoulette, output })
+        foreach (Option o in new Option[] { spp, hemisphere, lights, threads, maxDepth, noRoulette, output, shard, checkpoint, checkpointEvery, resume, budget, quiet })
         {
             command.Options.Add(o);
         }
@@ -64,6 +70,16 @@ internal static class RenderCommand
                 throw new CliUsageException($"--out {outPath}: a reference is written as OpenEXR (FLOAT keeps every value); use a .exr name");
             }
 
+            TimeSpan? timeBudget = parse.GetValue(budget) is { } b ? Durations.Parse("--time-budget", b) : null;
+            TimeSpan every = Durations.Parse("--checkpoint-every", parse.GetValue(checkpointEvery)!);
+            (int Index, int Count)? shardSpec = parse.GetValue(shard) is { } sh ? ParseShard(sh) : null;
+            string? accumulationPath = parse.GetValue(checkpoint) ?? (shardSpec is null ? null : Path.ChangeExtension(outPath, ".accum"));
+            bool resuming = parse.GetValue(resume);
+            if (resuming && accumulationPath is null)
+            {
+                throw new CliUsageException("--resume needs --checkpoint FILE (or --shard, whose file is IMAGE.accum)");
+            }
+
             SceneDescription description = SceneLoader.Load(path);
 
             string sidecar = Path.ChangeExtension(outPath, ".json");
@@ -76,17 +92,33 @@ internal static class RenderCommand
                 RequireWritable(variancePath);
             }
 
-            int n = parse.GetValue(spp) ?? description.Render.Spp;
+            if (accumulationPath is not null)
+            {
+                RequireWritable(accumulationPath);
+            }
+
+            int? sppGiven = parse.GetValue(spp);
             int depth = parse.GetValue(maxDepth) ?? description.Render.MaxDepth;
             int t = parse.GetValue(threads);
-            SamplerOptions.RequireAtLeast("--spp", n, 1);
-            SamplerOptions.RequireAtMost("--spp", n, SceneLoader.MaxSpp, "samples per pixel");
             SamplerOptions.RequireAtLeast("--max-depth", depth, 1);
             SamplerOptions.RequireAtMost("--max-depth", depth, SceneLoader.MaxDepth, "bounces");
             SamplerOptions.RequireAtLeast("--threads", t, 1);
+            GeneratorInfo info = SamplerCatalog.Find(parse.GetValue(sampling.Generator)!);
+            if (timeBudget is not null && sppGiven is null && info.NeedsCount)
+            {
+                throw new CliUsageException($"--time-budget without --spp: '{info.Name}' is a point set planned for its count; give --spp too (the render stops at whichever comes first)");
+            }
+
+            // A budget alone renders a sequence until the time is spent, up to the largest spp.
+            int n = sppGiven ?? (timeBudget is null ? description.Render.Spp : SceneLoader.MaxSpp);
+            SamplerOptions.RequireAtLeast("--spp", n, 1);
+            SamplerOptions.RequireAtMost("--spp", n, SceneLoader.MaxSpp, "samples per pixel");
+            if (shardSpec is { } s && s.Count > n)
+            {
+                throw new CliUsageException($"--shard {s.Index}/{s.Count}: more shards than the {n} samples per pixel to share");
+            }
 
             SamplerSpec spec = sampling.Spec(parse, n);
-            GeneratorInfo info = SamplerCatalog.Find(spec.Generator);
             // Generators with a dimension limit serve what they can; the path pads the rest (DimensionLayout).
             PointSampler sampler = SamplerCatalog.Create(spec, Math.Min(info.MaxDimensions, DimensionLayout.Total(depth)));
             bool unbiased = info.IsRandomized(spec.Randomize);
@@ -106,62 +138,104 @@ internal static class RenderCommand
                 depth,
                 !parse.GetValue(noRoulette));
 
+            var identity = new RenderIdentity(Version, SceneDigest.Compute(description), Configuration(spec, options, parse.GetValue(lights)!), description.Camera.Width, description.Camera.Height);
+            SampleRange target = shardSpec is { } sp ? SampleRange.Shard(sp.Index, sp.Count, n) : new SampleRange(0, n);
+            Accumulation? resumed = resuming ? LoadCheckpoint(accumulationPath!, identity, target) : null;
+
             Scene scene = Scene.Build(description);
-
-            RenderResult result = RenderWithProgress(io, new RenderJob(scene, sampler, options, 0, n, t));
-            var image = new RgbImage(result.Film.Width, result.Film.Height, result.Film.ToRgb());
-            double meanVariance = 0;
-            if (reference)
+            var plan = new SessionPlan(target, timeBudget, accumulationPath, every, parse.GetValue(quiet));
+            SessionOutcome result = RenderSession.Run(io, new RenderJob(scene, sampler, options, target.First, target.End, t), identity, plan, resumed);
+            SampleRange[] ranges = result.Done.Count > 0 ? [result.Done] : [];
+            double meanVariance = FilmOutput.WriteImage(outPath, result.Film, result.Done.Count, reference);
+            string stoppedBy = result.Interrupted ? "signal" : result.Done.End < target.End ? "time_budget" : "complete";
+            FilmOutput.WriteSidecar(sidecar, identity, description, outPath, ranges, result.Film, w =>
             {
-                var truth = ReferenceImage.FromFilm(result.Film, n);
-                meanVariance = truth.MeanVariance;
-                ImageIo.Guard(outPath, () => truth.Write(outPath));
-            }
-            else
-            {
-                ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image));
-            }
-
-            ImageIo.Guard(sidecar, () => WriteSidecar(sidecar, w =>
+                w.WriteNumber("threads", t);
+                w.Number("wall_seconds", result.WallSeconds);
+                w.WriteNumber("rays", result.Rays);
+                w.Number("mrays_per_second", result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9));
+                w.WriteNumber("dimensions_per_path", DimensionLayout.Total(depth));
+                w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
+                w.WriteBoolean("unbiased", unbiased);
+                w.WriteString("stopped_by", stoppedBy);
+                if (shardSpec is { } sd)
                 {
-                    w.WriteStartObject();
-                    w.WriteString("version", Version);
-                    w.WriteString("scene", description.SourcePath);
-                    w.WriteString("scene_sha256", description.Sha256);
-                    w.WriteString("output", outPath);
-                    w.WriteString("generator", spec.Generator);
-                    w.WriteString("randomize", spec.RandomizeName);
-                    w.WriteString("hemisphere", options.Hemisphere == HemisphereStrategy.Uniform ? "uniform" : "cosine");
-                    w.WriteString("lights", parse.GetValue(lights));
-                    w.WriteNumber("seed", spec.Seed);
-                    w.WriteNumber("spp", n);
-                    w.WriteNumber("max_depth", depth);
-                    w.WriteBoolean("russian_roulette", options.RussianRoulette);
-                    w.WriteNumber("width", result.Film.Width);
-                    w.WriteNumber("height", result.Film.Height);
-                    w.WriteNumber("threads", t);
-                    w.Number("wall_seconds", result.WallSeconds);
-                    w.WriteNumber("rays", result.Rays);
-                    w.Number("mrays_per_second", result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9));
-                    w.WriteNumber("nonfinite_samples", result.Film.NonFiniteSamples);
-                    w.WriteNumber("out_of_range_samples", result.Film.OutOfRangeSamples);
-                    w.WriteNumber("dimensions_per_path", DimensionLayout.Total(depth));
-                    w.WriteNumber("generator_dimensions", Math.Min(sampler.MaxDimensions, DimensionLayout.Total(depth)));
-                    w.WriteBoolean("unbiased", unbiased);
-                    if (reference)
-                    {
-                        w.WriteString("variance_file", variancePath);
-                        w.Number("mean_variance", meanVariance);
-                    }
+                    w.WriteNumber("shard_index", sd.Index);
+                    w.WriteNumber("shard_count", sd.Count);
+                }
 
-                    w.WriteEndObject();
-                }));
+                if (accumulationPath is not null)
+                {
+                    w.WriteString("accumulation_file", accumulationPath);
+                    w.WriteNumber("checkpoints_written", result.Checkpoints);
+                    w.Number("checkpoint_seconds", result.CheckpointSeconds);
+                }
+
+                if (resumed is not null)
+                {
+                    w.WriteNumber("resumed_from_spp", resumed.SamplesPerPixel);
+                }
+
+                if (reference)
+                {
+                    w.WriteString("variance_file", variancePath);
+                    w.Number("mean_variance", meanVariance);
+                }
+            });
 
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"{outPath}: {result.Film.Width}x{result.Film.Height}, {n} spp, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples"));
-            return 0;
+                $"{outPath}: {result.Film.Width}x{result.Film.Height}, {result.Done.Count} spp {result.Done}, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples{(stoppedBy == "complete" ? "" : ", stopped by " + stoppedBy.Replace('_', ' '))}"));
+            return result.Interrupted ? RenderSession.InterruptedExitCode : 0;
         });
         return command;
+    }
+
+    /// <summary>Every setting the samples depend on, in the order the accumulation file and the sidecar record them.</summary>
+    internal static List<KeyValuePair<string, string>> Configuration(SamplerSpec spec, PathTracerOptions options, string lights) =>
+    [
+        new("generator", spec.Generator),
+        new("randomize", spec.RandomizeName),
+        new("seed", spec.Seed.ToString(CultureInfo.InvariantCulture)),
+        new("planned_spp", spec.Count.ToString(CultureInfo.InvariantCulture)),
+        new("hemisphere", options.Hemisphere == HemisphereStrategy.Uniform ? "uniform" : "cosine"),
+        new("lights", lights),
+        new("max_depth", options.MaxDepth.ToString(CultureInfo.InvariantCulture)),
+        new("russian_roulette", options.RussianRoulette ? "true" : "false"),
+    ];
+
+    private static (int Index, int Count) ParseShard(string text)
+    {
+        string[] parts = text.Split('/');
+        if (parts.Length == 2
+            && int.TryParse(parts[0], NumberStyles.None, CultureInfo.InvariantCulture, out int i)
+            && int.TryParse(parts[1], NumberStyles.None, CultureInfo.InvariantCulture, out int n)
+            && n >= 1 && i < n)
+        {
+            return (i, n);
+        }
+
+        throw new CliUsageException($"--shard expects I/N with 0 ≤ I < N, got '{text}'");
+    }
+
+    private static Accumulation LoadCheckpoint(string path, RenderIdentity identity, SampleRange target)
+    {
+        if (!File.Exists(path))
+        {
+            throw new CliUsageException($"{path}: cannot resume: no such checkpoint");
+        }
+
+        Accumulation a = AccumulationFile.Read(path);
+        if (identity.FirstDifference(a.Identity) is { } difference)
+        {
+            throw new CliUsageException($"{path}: cannot resume: the checkpoint is of another render ({difference.Replace(" vs ", " here, ")} in the checkpoint)");
+        }
+
+        if (a.Ranges.Count != 1 || a.Ranges[0].First != target.First || a.Ranges[0].End > target.End)
+        {
+            throw new CliUsageException($"{path}: cannot resume: it holds {string.Join(" ", a.Ranges)}, not a start of this render's range {target}");
+        }
+
+        return a;
     }
 
     internal static string Version =>
@@ -198,43 +272,5 @@ internal static class RenderCommand
         {
             throw new CliUsageException($"{path}: cannot write: {e.Message}", e);
         }
-    }
-
-    private static void WriteSidecar(string path, Action<System.Text.Json.Utf8JsonWriter> body)
-    {
-        using var writer = new StreamWriter(path);
-        JsonOutput.Write(writer, body);
-    }
-
-    /// <summary>
-    /// Renders with a Spectre.Console progress bar on stderr when stderr is the process's own
-    /// terminal; silently when it is redirected (logs, CI) or when a test supplies its own writers.
-    /// </summary>
-    private static RenderResult RenderWithProgress(CliIo io, RenderJob job)
-    {
-        if (Console.IsErrorRedirected || !ReferenceEquals(io.Error, Console.Error))
-        {
-            return Renderer.Render(job);
-        }
-
-        IAnsiConsole console = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) });
-        RenderResult? result = null;
-        console.Progress()
-            .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
-            .Start(ctx =>
-            {
-                ProgressTask task = ctx.AddTask("rendering", maxValue: 1);
-                object gate = new();
-                // The display is not thread-safe: tiles finish on several threads, so updates take a lock.
-                result = Renderer.Render(job, (done, total) =>
-                {
-                    lock (gate)
-                    {
-                        task.MaxValue = total;
-                        task.Value = Math.Max(task.Value, done);
-                    }
-                });
-            });
-        return result!;
     }
 }

@@ -1,3 +1,4 @@
+using PathBench.Sampling;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering.Materials;
@@ -193,7 +194,8 @@ public static class Ggx
         Vec3d t2 = Vec3d.Cross(vh, t1);
         double r = Math.Sqrt(u1);
         double phi = 2 * Math.PI * u2;
-        double p1 = r * Math.Cos(phi), p2 = r * Math.Sin(phi);
+        (double sinPhi, double cosPhi) = PortableMath.SinCos(phi);
+        double p1 = r * cosPhi, p2 = r * sinPhi;
         double s = 0.5 * (1 + vh.Z);
         p2 = (1 - s) * Math.Sqrt(Math.Max(0, 1 - p1 * p1)) + s * p2;
         Vec3d nh = t1 * p1 + t2 * p2 + vh * Math.Sqrt(Math.Max(0, 1 - p1 * p1 - p2 * p2));

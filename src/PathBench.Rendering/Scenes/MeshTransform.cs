@@ -1,3 +1,4 @@
+using PathBench.Sampling;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering.Scenes;
@@ -95,7 +96,7 @@ internal readonly struct MeshTransform
             90 => (1, 0),
             180 => (0, -1),
             270 => (-1, 0),
-            _ => Math.SinCos(turn * (Math.PI / 180)),
+            _ => PortableMath.SinCos(turn * (Math.PI / 180)),
         };
     }
 }

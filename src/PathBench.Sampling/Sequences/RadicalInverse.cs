@@ -141,12 +141,12 @@ public static class RadicalInverse
 
             int digits = DigitsFor(b);
             tail = new double[digits + 1];
-            double deepest = Math.Pow(b, -digits);
+            double deepest = PortableMath.InversePower(b, digits);
             double acc = Shared(key) * deepest;
             tail[digits] = acc;
             for (int k = digits - 1; k >= 0; k--)
             {
-                acc += KenslerPermutation.Permute(0, (uint)b, (uint)SampleHash.Combine(key, (ulong)k)) * Math.Pow(b, -(k + 1));
+                acc += KenslerPermutation.Permute(0, (uint)b, (uint)SampleHash.Combine(key, (ulong)k)) * PortableMath.InversePower(b, k + 1);
                 tail[k] = acc;
             }
 

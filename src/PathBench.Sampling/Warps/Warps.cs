@@ -21,7 +21,7 @@ public static class Warp
     {
         double z = 1.0 - u;
         double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
-        (double s, double c) = Math.SinCos(2 * Math.PI * v);
+        (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }
 
@@ -44,7 +44,7 @@ public static class Warp
     {
         double z = 1.0 - 2.0 * u;
         double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
-        (double s, double c) = Math.SinCos(2 * Math.PI * v);
+        (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }
 
@@ -78,7 +78,7 @@ public static class Warp
             phi = Math.PI / 2 - Math.PI / 4 * (a / b);
         }
 
-        (double s, double c) = Math.SinCos(phi);
+        (double s, double c) = PortableMath.SinCos(phi);
         return (r * c, r * s);
     }
 
@@ -104,7 +104,7 @@ public static class Warp
     {
         double z = 1.0 - u * (1.0 - cosThetaMax);
         double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
-        (double s, double c) = Math.SinCos(2 * Math.PI * v);
+        (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }
 

@@ -1,0 +1,90 @@
+using System.Text.Json;
+using PathBench.Analysis;
+using PathBench.Imaging;
+using PathBench.Rendering;
+using PathBench.Rendering.Accumulation;
+
+namespace PathBench.Cli.Commands;
+
+/// <summary>
+/// Writes a film as <c>render</c>, <c>reference</c> and <c>merge</c> all do, so a merged film's
+/// image is the same bytes as one render's: the image by extension (a reference: FLOAT EXR and
+/// <c>NAME.variance.exr</c>) and the JSON sidecar's shared fields.
+/// </summary>
+internal static class FilmOutput
+{
+    /// <summary>Writes the image (and for a reference the variance image); returns the mean variance (0 for a plain image).</summary>
+    public static double WriteImage(string outPath, Film film, int spp, bool reference)
+    {
+        if (reference)
+        {
+            var truth = ReferenceImage.FromFilm(film, spp);
+            ImageIo.Guard(outPath, () => truth.Write(outPath));
+            return truth.MeanVariance;
+        }
+
+        var image = new RgbImage(film.Width, film.Height, film.ToRgb());
+        ImageIo.Guard(outPath, () => ImageFile.Write(outPath, image));
+        return 0;
+    }
+
+    /// <summary>Writes the sidecar: the identity, the ranges, then <paramref name="more"/> fields.</summary>
+    /// <remarks>
+    /// <c>scene_sha256</c> is the scene file's own hash (what studies check a reference against), written when
+    /// <paramref name="scene"/> is known; <c>scene_digest</c> also covers its meshes, as the accumulation file does.
+    /// </remarks>
+    public static void WriteSidecar(string path, RenderIdentity identity, Rendering.Scenes.SceneDescription? scene, string outPath, IReadOnlyList<SampleRange> ranges, Film film, Action<Utf8JsonWriter> more)
+    {
+        ImageIo.Guard(path, () =>
+        {
+            using var writer = new StreamWriter(path);
+            JsonOutput.Write(writer, w =>
+            {
+                w.WriteStartObject();
+                w.WriteString("version", identity.Version);
+                if (scene is not null)
+                {
+                    w.WriteString("scene", scene.SourcePath);
+                    w.WriteString("scene_sha256", scene.Sha256);
+                }
+
+                w.WriteString("scene_digest", identity.SceneSha256);
+                w.WriteString("output", outPath);
+                foreach ((string name, string value) in identity.Configuration)
+                {
+                    if (ulong.TryParse(value, System.Globalization.NumberStyles.None, System.Globalization.CultureInfo.InvariantCulture, out ulong number))
+                    {
+                        w.WriteNumber(name, number);
+                    }
+                    else if (value is "true" or "false")
+                    {
+                        w.WriteBoolean(name, value == "true");
+                    }
+                    else
+                    {
+                        w.WriteString(name, value);
+                    }
+                }
+
+                w.WriteNumber("spp", ranges.Sum(r => r.Count));
+                w.WriteStartArray("sample_ranges");
+                foreach (SampleRange r in ranges)
+                {
+                    w.WriteStartObject();
+                    w.WriteNumber("first", r.First);
+                    w.WriteNumber("end", r.End);
+                    w.WriteNumber("spp", r.Count);
+                    w.WriteEndObject();
+                }
+
+                w.WriteEndArray();
+                w.WriteNumber("width", film.Width);
+                w.WriteNumber("height", film.Height);
+                w.WriteNumber("nonfinite_samples", film.NonFiniteSamples);
+                w.WriteNumber("out_of_range_samples", film.OutOfRangeSamples);
+                more(w);
+                w.WriteEndObject();
+            });
+        });
+    }
+}

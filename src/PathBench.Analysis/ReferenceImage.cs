@@ -136,6 +136,9 @@ public sealed class ReferenceImage
         return new ReferenceImage(image.Width, image.Height, value, variance, spp);
     }
 
+    /// <summary>The reference values as a float image (the values the files hold, see <see cref="FromFilm"/>).</summary>
+    public RgbImage ToValueImage() => ToImage(Value);
+
     private RgbImage ToImage(double[] data)
     {
         var f = new float[data.Length];

@@ -180,7 +180,7 @@ public static class StudyPipeline
             images.Add(image);
         }
 
-        Write(new StudyImage("reference", null, reference.Spp, "images/reference.exr"), [.. reference.Value.Select(v => (float)v)]);
+        Write(new StudyImage("reference", null, reference.Spp, "images/reference.exr"), reference.ToValueImage().Data);
         if (reference.HasVariance)
         {
             Write(new StudyImage("reference-variance", null, reference.Spp, "images/reference.variance.exr"), [.. reference.VarianceOfMean.Select(v => (float)v)]);
@@ -217,7 +217,7 @@ public static class StudyPipeline
         yield return png;
         yield return svg;
 
-        var referenceImage = new RgbImage(reference.Width, reference.Height, [.. reference.Value.Select(v => (float)v)]);
+        RgbImage referenceImage = reference.ToValueImage();
         var region = new PixelRect(0, 0, reference.Width, reference.Height);
         int largest = summary.Result.Study.Spp[^1];
         var maps = summary.Configurations

@@ -121,7 +121,7 @@ public static class Verdicts
 
             case "ssim_at_least":
             {
-                var reference = new RgbImage(m.Reference.Width, m.Reference.Height, [.. m.Reference.Value.Select(v => (float)v)]);
+                RgbImage reference = m.Reference.ToValueImage();
                 var region = new PixelRect(0, 0, reference.Width, reference.Height);
                 double?[] values = [.. m.Final.Select(img => Ssim.MeanOnLuminance(reference, new RgbImage(reference.Width, reference.Height, img), region, 1.0))];
                 double ssim = values.All(v => v is not null) ? values.Average(v => v!.Value) : double.NaN;

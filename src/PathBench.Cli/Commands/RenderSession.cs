@@ -42,6 +42,13 @@ internal static class RenderSession
     /// <summary>Printed on stderr when a stalled checkpoint write is halfway through its temp file.</summary>
     public const string StallMarker = "pathbench: test: checkpoint write stalled";
 
+    /// <summary>
+    /// Printed on stderr (only when <see cref="StallVariable"/> is set) as the stop handler takes
+    /// the first SIGINT or SIGTERM, so a test can wait for the signal to have landed instead of
+    /// for a length of time.
+    /// </summary>
+    public const string SignalMarker = "pathbench: test: stop signal taken";
+
     private static readonly TimeSpan PassTarget = TimeSpan.FromSeconds(1);
     private static readonly TimeSpan RedirectedProgressEvery = TimeSpan.FromSeconds(10);
 
@@ -49,7 +56,8 @@ internal static class RenderSession
     {
         Film film = resumed?.Film ?? new Film(identity.Width, identity.Height);
         int done = resumed is null ? plan.Target.First : resumed.Ranges[0].End;
-        using var signals = new StopSignals();
+        Action? stall = StallHook(io);
+        using var signals = new StopSignals(stall is null ? null : () => TestLine(io, SignalMarker));
         var clock = Stopwatch.StartNew();
         TimeSpan lastCheckpoint = TimeSpan.Zero, lastLine = TimeSpan.Zero;
         long rays = 0;
@@ -59,7 +67,6 @@ internal static class RenderSession
         double sppPerSecond = 0;
         int startedAt = done;
         bool consoleProgress = !plan.Quiet && (ReferenceEquals(io.Error, Console.Error) || (io.Error is BatchCommand.TeeWriter tee && ReferenceEquals(tee.First, Console.Error)));
-        Action? stall = StallHook(io);
 
         void Checkpoint()
         {
@@ -147,10 +154,19 @@ internal static class RenderSession
 
         return () =>
         {
-            io.Error.WriteLine(StallMarker);
-            io.Error.Flush();
+            TestLine(io, StallMarker);
             Thread.Sleep(ms);
         };
+    }
+
+    /// <summary>One whole line on stderr; the signal handler's thread and the render's thread both write these.</summary>
+    private static void TestLine(CliIo io, string line)
+    {
+        lock (io.Error)
+        {
+            io.Error.WriteLine(line);
+            io.Error.Flush();
+        }
     }
 
     /// <summary>
@@ -162,10 +178,12 @@ internal static class RenderSession
     {
         private readonly PosixSignalRegistration _interrupt;
         private readonly PosixSignalRegistration _terminate;
+        private readonly Action? _taken;
         private int _requests;
 
-        public StopSignals()
+        public StopSignals(Action? taken)
         {
+            _taken = taken;
             _interrupt = PosixSignalRegistration.Create(PosixSignal.SIGINT, Handle);
             _terminate = PosixSignalRegistration.Create(PosixSignal.SIGTERM, Handle);
         }
@@ -180,9 +198,15 @@ internal static class RenderSession
 
         private void Handle(PosixSignalContext context)
         {
-            if (Interlocked.Increment(ref _requests) == 1 || context.Signal == PosixSignal.SIGTERM)
+            int n = Interlocked.Increment(ref _requests);
+            if (n == 1 || context.Signal == PosixSignal.SIGTERM)
             {
                 context.Cancel = true;
+            }
+
+            if (n == 1)
+            {
+                _taken?.Invoke();
             }
         }
     }

@@ -4,8 +4,11 @@
 # and logs in a temp folder; nothing under /etc is changed), builds PathBench, submits
 # tools/slurm/submit.sh for a small scene as a 4-task array and its merge job, waits for the merge,
 # renders the same samples in one process, compares the two images byte for byte, and stops the
-# daemons it started (by their process ids). Prints "slurm array: PASS" and exits 0 on success;
-# prints the reason and the daemons' log tails and exits 1 otherwise; 2 when not root.
+# daemons it started (by their process ids). Prints "slurm array: PASS" and exits 0 on success.
+# Exits 3 ("slurm array: CANNOT RUN: reason") when this machine cannot host the cluster: the
+# packages do not install, or the daemons do not bring the node up. Exits 1 ("slurm array: FAIL")
+# on everything after the node is up (a job that fails, a missing or different merged image),
+# with the daemons' log tails; 2 when not root.
 #   tools/slurm/local-cluster-test.sh [SHARDS] [SPP]
 set -uo pipefail
 cd "$(dirname "$0")/../.."
@@ -19,16 +22,25 @@ if [ "$(id -u)" != 0 ]; then
   exit 2
 fi
 source tools/require-debian.sh
-require_debian_packages "$0" slurm-wlm munge || exit 1
+require_debian_packages "$0" slurm-wlm munge || { echo "slurm array: CANNOT RUN: slurm-wlm and munge did not install"; exit 3; }
 
 work=$(mktemp -d /tmp/pathbench-slurm.XXXXXX)
 pids=()
-fail() {
-  echo "slurm array: FAIL: $*"
+logs() {
   for log in "$work"/munged.log "$work"/slurmctld.log "$work"/slurmd.log "$work"/out/*.log; do
     [ -f "$log" ] && { echo "--- $log"; tail -n 15 "$log"; }
   done
+}
+fail() {
+  echo "slurm array: FAIL: $*"
+  logs
   exit 1
+}
+# The machine cannot host a one-node cluster (as opposed to a wrong result once it runs).
+cannot() {
+  echo "slurm array: CANNOT RUN: $*"
+  logs
+  exit 3
 }
 stop() {
   local p
@@ -48,12 +60,12 @@ export PATHBENCH="$repo/src/PathBench.Cli/bin/Debug/net10.0/pathbench"
 [ -x "$PATHBENCH" ] || fail "no executable at $PATHBENCH"
 
 # munge with its own key and socket.
-mungekey --create --keyfile="$work/munge.key" >/dev/null 2>&1 || fail "mungekey failed"
+mungekey --create --keyfile="$work/munge.key" >/dev/null 2>&1 || cannot "mungekey failed"
 munged --force --foreground --key-file="$work/munge.key" --socket="$work/munge.socket" \
   --pid-file="$work/munged.pid" --log-file="$work/munged.log" --seed-file="$work/munged.seed" >>"$work/munged.log" 2>&1 &
 pids+=($!)
 for _ in $(seq 50); do [ -S "$work/munge.socket" ] && break; sleep 0.1; done
-[ -S "$work/munge.socket" ] || fail "munged did not open its socket"
+[ -S "$work/munge.socket" ] || cannot "munged did not open its socket"
 
 host=$(hostname -s)
 mkdir -p "$work/state" "$work/spool" "$work/out"
@@ -99,7 +111,7 @@ for _ in $(seq 100); do
   [ "$state" = idle ] && break
   sleep 0.2
 done
-[ "$state" = idle ] || fail "the node did not become idle (state '$state')"
+[ "$state" = idle ] || cannot "the node did not become idle within 20 s (state '$state')"
 
 start=$(date +%s%N)
 MERGE_WAIT=1 tools/slurm/submit.sh "$shards" "$scene" "$work/out" --spp "$spp" --seed 3 >"$work/submit.log" 2>&1 \

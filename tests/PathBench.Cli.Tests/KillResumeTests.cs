@@ -153,6 +153,21 @@ public sealed class KillResumeTests(ITestOutputHelper output)
         Assert.Contains("stopped by time budget", r.Out, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void A_time_budget_alone_plans_a_finite_sequence_for_its_own_length()
+    {
+        // pmj02 holds 2^14 points per pixel (its tables); a budget with no --spp plans that many
+        // instead of refusing the 2^24 a sequence without an end would get.
+        using var dir = new TempFolder();
+        string scene = dir.Write("s.yaml", ShardMergeTests.Scene);
+        var r = Run("render", scene, "--generator", "pmj02", "--time-budget", "0.5s", "--out", dir.File("p.exr"));
+        Assert.True(r.Code == 0, r.Err);
+        using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("p.json")));
+        JsonElement j = doc.RootElement;
+        Assert.Equal(1 << 14, j.GetProperty("planned_spp").GetInt32());
+        Assert.InRange(j.GetProperty("spp").GetInt32(), 1, 1 << 14);
+    }
+
     private static Process Start(string[] args, int? stallMs)
     {
         var info = new ProcessStartInfo(Executable) { RedirectStandardError = true, RedirectStandardOutput = true, UseShellExecute = false };

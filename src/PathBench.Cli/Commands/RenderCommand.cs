@@ -109,8 +109,9 @@ internal static class RenderCommand
                 throw new CliUsageException($"--time-budget without --spp: '{info.Name}' is a point set planned for its count; give --spp too (the render stops at whichever comes first)");
             }
 
-            // A budget alone renders a sequence until the time is spent, up to the largest spp.
-            int n = sppGiven ?? (timeBudget is null ? description.Render.Spp : SceneLoader.MaxSpp);
+            // A budget alone renders a sequence until the time is spent, up to the largest spp or
+            // the sequence's own length (pmj02's tables, a lattice), whichever is smaller.
+            int n = sppGiven ?? (timeBudget is null ? description.Render.Spp : Math.Min(SceneLoader.MaxSpp, info.MaxPoints));
             SamplerOptions.RequireAtLeast("--spp", n, 1);
             SamplerOptions.RequireAtMost("--spp", n, SceneLoader.MaxSpp, "samples per pixel");
             if (shardSpec is { } s && s.Count > n)

@@ -7,14 +7,15 @@ set -uo pipefail
 cd "$(dirname "$0")/.."
 
 # What each is for: /usr/bin/python3 with scipy.stats.qmc (Sobol, Halton, L2-star), scikit-image
-# (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding) and OpenImageIO (decodes
+# (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding), lxml (libxml2's XML Schema
+# validator, for the JUnit report) and OpenImageIO (decodes
 # every OpenEXR pixel through the OpenEXR library); the OpenEXR command-line tools (exrheader and
 # the rewriting tools); the fonts and fontconfig SkiaSharp's native library needs to draw labels; and
 # chromium, the browser the study report's tests drive headless (Microsoft.Playwright, pointed at it).
 # The one-node Slurm test (tools/slurm/local-cluster-test.sh, which installs slurm-wlm and munge
 # itself) is run by hand for now: it passed six times on a development machine, but has not yet run
 # on the CI machine, and one unexplained failure there would block every landing.
-packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
+packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio python3-lxml
           openexr fonts-dejavu-core libfontconfig1 chromium)
 
 source tools/require-debian.sh

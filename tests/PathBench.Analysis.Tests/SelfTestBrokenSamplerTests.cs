@@ -13,7 +13,7 @@ namespace PathBench.Analysis.Tests;
 public sealed class SelfTestBrokenSamplerTests
 {
     private const int Count = 1024;
-    private const int Seeds = 20;
+    private const int Seeds = 10;
 
     private static readonly SelfTestSubject Jittered = SelfTestSubject.FromCatalog("jittered", Randomization.None, false);
 
@@ -21,8 +21,8 @@ public sealed class SelfTestBrokenSamplerTests
     public void A_sampler_that_reuses_one_seed_in_every_pixel_fails_the_independence_of_neighbouring_pixels()
     {
         // The test: Pearson r of 256 pairs of neighbouring pixels' estimates, z = r·√255, two-sided at
-        // α = 0.001 (Fisher 1915). False failure for a correct sampler: 0.001 per run, so with 20 seeds
-        // at most one failure is allowed (P(X ≥ 2 | n = 20, p = 0.001) ≈ 1.9e-4). Power, computed: every
+        // α = 0.001 (Fisher 1915). False failure for a correct sampler: 0.001 per run, so with 10 seeds
+        // at most one failure is allowed (P(X ≥ 2 | n = 10, p = 0.001) ≈ 4.5e-5). Power, computed: every
         // pixel holds the same points, so neighbouring estimates are equal, r = 1, z = √255 ≈ 16,
         // p ≈ 1e-57: caught at every seed.
         var broken = Jittered with { Name = "jittered, one seed for every pixel", Create = (n, s) => new BrokenSamplers.SameSeedInEveryPixel(Jittered.Create(n, s)) };
@@ -64,7 +64,7 @@ public sealed class SelfTestBrokenSamplerTests
         // Every coordinate moved from x to x − 0.02·x(1 − x): a mean shift of 0.02/6 ≈ 0.0033. The test:
         // |mean − exact| over 32 replicates against their RMSE/√32, Student's t with 31 dof, Šidák over
         // 35 (5 integrands × 7 counts) at family-wise α = 0.001: a correct sampler fails with probability at
-        // most 0.001 per run (at most one failure in 20 seeds allowed, P ≈ 1.9e-4). Power: on 'bilinear'
+        // most 0.001 per run (at most one failure in 10 seeds allowed, P ≈ 4.5e-5). Power: on 'bilinear'
         // the bias is ≈ −0.0033 against jittered's RMSE ≈ 2.4e-4 at 1024 points, so t ≈ √32·b/√(b² + σ²)
         // ≈ 5.6 at p ≈ 4e-6, below the Šidák level 2.9e-5: caught at every seed (measured). The uniformity
         // χ² does not see so small a push (it is not the test for it).

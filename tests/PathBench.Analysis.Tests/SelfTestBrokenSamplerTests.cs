@@ -90,6 +90,24 @@ public sealed class SelfTestBrokenSamplerTests
             Assert.StartsWith("0 empty strata", strata.Statistic, StringComparison.Ordinal);
             Assert.All(results, r => Assert.True(r.Passed, $"{g}: {r.Test}: {r.Statistic}; {r.Criterion}"));
         }
+
+        // Owen-scrambled nets: MSE ∝ N^-3·log N in 2-D (Owen 1997), so over 16 … 1024 points the fitted RMSE
+        // slope sits near −1.5 + 0.11, not −1.5. Without the log factor the default run of
+        // `pathbench selftest --generator sobol` failed on 'bilinear' at −1.34 against −1.5 + 0.15.
+        foreach (string g in new[] { "sobol", "pmj02" })
+        {
+            IReadOnlyList<SelfTestResult> results = SamplerSelfTest.Run(g, Randomization.Owen, false, Count, 1, 2);
+            Assert.Contains("log factor 0.11", results.Single(r => r.Test == "convergence on 'bilinear'").Criterion, StringComparison.Ordinal);
+            Assert.All(results, r => Assert.True(r.Passed, $"{g}: {r.Test}: {r.Statistic}; {r.Criterion}"));
+        }
+
+        // Antithetic pairs (x, 1 − x) integrate the triangle y < x exactly: zero error is not a slow slope.
+        // And 16 … 64 points are too few counts to judge a slope (it read −0.78 ± 1.3 for jittered).
+        IReadOnlyList<SelfTestResult> antithetic = SamplerSelfTest.Run("multi-jittered", Randomization.None, true, Count, 1, 2);
+        Assert.Equal("n/a: exact", antithetic.Single(r => r.Test == "convergence on 'triangle'").Criterion);
+        Assert.All(antithetic, r => Assert.True(r.Passed, $"antithetic: {r.Test}: {r.Statistic}; {r.Criterion}"));
+        IReadOnlyList<SelfTestResult> few = SamplerSelfTest.Run("jittered", Randomization.None, false, 64, 1, 2);
+        Assert.StartsWith("n/a: fewer than 5 counts", few.Single(r => r.Test == "convergence on 'gaussian'").Criterion, StringComparison.Ordinal);
     }
 
     /// <summary>How many of the <see cref="Seeds"/> runs fail a matching test: the correct jittered sampler's, then the broken one's.</summary>

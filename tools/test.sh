@@ -7,7 +7,8 @@ set -uo pipefail
 cd "$(dirname "$0")/.."
 
 # What each is for: /usr/bin/python3 with scipy.stats.qmc (Sobol, Halton, L2-star), scikit-image
-# (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding) and OpenImageIO (decodes
+# (SSIM, PSNR), numpy, matplotlib (the viridis table), PIL (PNG decoding), lxml (libxml2's XML Schema
+# validator, for the JUnit report) and OpenImageIO (decodes
 # every OpenEXR pixel through the OpenEXR library); the OpenEXR command-line tools (exrheader and
 # the rewriting tools); the fonts and fontconfig SkiaSharp's native library needs to draw labels; and
 # chromium, the browser the study report's tests drive headless (Microsoft.Playwright, pointed at it).
@@ -15,7 +16,7 @@ cd "$(dirname "$0")/.."
 # slurm-wlm and munge itself) counts as one more test: passed, or failed when the array's merged
 # image is wrong or a job fails. A machine that cannot host the daemons (not root, packages that do
 # not install, a node that never comes up) is reported with the reason and counted in neither.
-packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio
+packages=(python3 python3-numpy python3-scipy python3-skimage python3-matplotlib python3-pil python3-openimageio python3-lxml
           openexr fonts-dejavu-core libfontconfig1 chromium)
 
 source tools/require-debian.sh

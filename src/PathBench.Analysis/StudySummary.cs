@@ -59,6 +59,9 @@ public sealed record ConfigurationSummary(StudyConfiguration Configuration, IRea
 /// <param name="Source">Where the rates are stated.</param>
 public sealed record TheoryRate(double? Smooth, double? Discontinuous, string Source)
 {
+    /// <summary>The power L of a log factor in the smooth rate, MSE ∝ N^Smooth·(log N)^L: 1 for Owen-scrambled nets in 2-D (Owen 1997, (log N)^(s−1)); 0 when none.</summary>
+    public double SmoothLogPower { get; init; }
+
     /// <summary>The rates for a generator and randomization (2-D pixel integrands; path dimensions beyond add no better rate).</summary>
     public static TheoryRate For(StudyConfiguration c)
     {
@@ -71,10 +74,14 @@ public sealed record TheoryRate(double? Smooth, double? Discontinuous, string So
         return c.Generator switch
         {
             "random" => new TheoryRate(-1, -1, "independent Monte Carlo: variance σ²/N for any square-integrable integrand"),
-            "jittered" or "multi-jittered" or "pj" => new TheoryRate(-2, -1.5, "stratified sampling in 2-D: Pilleboue et al. 2015, ACM TOG 34(4)"),
-            "pmj02" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled (0,m,2)-nets: Owen 1997, Ann. Statist. 25(4); progressive construction: Christensen, Kensler & Kilpatrick 2018"),
+            "jittered" or "pj" => new TheoryRate(-2, -1.5, "stratified sampling in 2-D: Pilleboue et al. 2015, ACM TOG 34(4)"),
+            // One shuffle shared by all columns and one by all rows (Kensler 2013) make each row's x-offsets
+            // equal: for smooth integrands the error is a sum over a random permutation pairing (variance by
+            // Hoeffding 1951), N²·MSE ∝ √N; derived and checked in MultiJitteredRateTests.
+            "multi-jittered" => new TheoryRate(-1.5, -1.5, "correlated multi-jittered (Kensler 2013): the shared shuffles give MSE ∝ N^-3/2 on smooth integrands (Hoeffding 1951 for the permutation sum); with edges as jittered, Pilleboue et al. 2015"),
+            "pmj02" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled (0,m,2)-nets: Owen 1997, Ann. Statist. 25(4); progressive construction: Christensen, Kensler & Kilpatrick 2018") { SmoothLogPower = 1 },
             "latin-hypercube" => new TheoryRate(-1, -1, "Latin hypercube: variance o(1/N), no better rate for non-additive integrands; McKay, Beckman & Conover 1979; Stein 1987"),
-            "sobol" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled nets: Owen 1997, Ann. Statist. 25(4) (smooth, up to log factors); discontinuous rate from memory"),
+            "sobol" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled nets: Owen 1997, Ann. Statist. 25(4) (smooth, up to log factors); discontinuous rate from memory") { SmoothLogPower = 1 },
             _ => new TheoryRate(null, null, "no rate published for this generator and randomization that we rely on"),
         };
     }

@@ -23,7 +23,8 @@ namespace PathBench.Analysis.Tests;
 /// </summary>
 public sealed class StudyTheoryTests
 {
-    private const string SceneYaml = """
+    /// <summary>The plane under a uniform environment, 64×64 (also rendered by <see cref="CheckBrokenSamplerTests"/>).</summary>
+    internal const string SceneYaml = """
         camera: { position: [0, 1, 1], look_at: [0, 0, 0], fov: 30, resolution: [64, 64] }
         render: { spp: 16, max_depth: 1 }
         environment: { radiance: [1, 1, 1] }

@@ -12,6 +12,9 @@ namespace PathBench.Analysis.Checks;
 /// <param name="Seconds">Per case, the wall time it took.</param>
 public sealed record CheckResult(CheckSuite Suite, IReadOnlyList<Verdict> Verdicts, IReadOnlyDictionary<string, CaseFigures> Figures, IReadOnlyDictionary<string, double> Seconds)
 {
+    /// <summary>When the run started, in UTC (the JUnit report's timestamp).</summary>
+    public DateTime Started { get; init; } = DateTime.UtcNow;
+
     /// <summary>Whether every assertion holds.</summary>
     public bool Passed => Verdicts.All(v => v.Passed);
 }
@@ -31,6 +34,7 @@ public static class CheckRun
             throw new InvalidOperationException($"case '{name}' asserts mse_at_most against a baseline: pass --baseline FILE (made by 'pathbench baseline')");
         }
 
+        DateTime started = DateTime.UtcNow;
         var verdicts = new List<Verdict>();
         var figures = new Dictionary<string, CaseFigures>(StringComparer.Ordinal);
         var seconds = new Dictionary<string, double>(StringComparer.Ordinal);
@@ -52,7 +56,7 @@ public static class CheckRun
             seconds[c.Name] = clock.Elapsed.TotalSeconds;
         }
 
-        return new CheckResult(suite, verdicts, figures, seconds);
+        return new CheckResult(suite, verdicts, figures, seconds) { Started = started };
     }
 
     /// <summary>The terminal table: case × assertion × measured × bound × verdict.</summary>
@@ -81,10 +85,15 @@ public static class CheckRun
     }
 
     /// <summary>
-    /// JUnit XML as CI servers read it (the Ant JUnit report layout: testsuites, testsuite with
-    /// tests/failures/errors/time, testcase with classname/name/time, failure with message and
-    /// type): one testcase per assertion, classname the case, the measured value, the bound and
-    /// the p-value in the message; a case that could not run has its assertions as errors.
+    /// JUnit XML as CI servers read it, valid against the Apache Ant JUnit report schema as Windy Road
+    /// publishes it (github.com/windyroad/JUnit-Schema, JUnit.xsd, Apache License 2.0; the tests validate
+    /// against it): <c>testsuites</c> / one <c>testsuite</c> (name, timestamp without zone, hostname,
+    /// tests, failures, errors, skipped, time, package, id) holding <c>properties</c>, one
+    /// <c>testcase</c> per assertion (classname the case, name the assertion, time), then
+    /// <c>system-out</c> and <c>system-err</c>. A failed assertion has a <c>failure</c> whose message holds
+    /// the measured value, the bound and the p-value and whose text is the verdict's detail; a case that
+    /// could not run has its assertions as <c>error</c>s. The schema allows nothing inside a passing
+    /// testcase, so every assertion's line (passed ones included) is in the suite's system-out.
     /// </summary>
     public static void WriteJUnit(Stream stream, CheckResult result)
     {
@@ -97,17 +106,26 @@ public static class CheckRun
         int errors = result.Verdicts.Count(v => !v.Passed && double.IsNaN(v.Measured));
         w.WriteStartElement("testsuite");
         w.WriteAttributeString("name", suiteName);
+        w.WriteAttributeString("timestamp", result.Started.ToUniversalTime().ToString("yyyy-MM-dd'T'HH:mm:ss", CultureInfo.InvariantCulture));
+        w.WriteAttributeString("hostname", Environment.MachineName is { Length: > 0 } host && !host.Any(char.IsWhiteSpace) ? host : "localhost");
         w.WriteAttributeString("tests", result.Verdicts.Count.ToString(CultureInfo.InvariantCulture));
         w.WriteAttributeString("failures", failures.ToString(CultureInfo.InvariantCulture));
         w.WriteAttributeString("errors", errors.ToString(CultureInfo.InvariantCulture));
         w.WriteAttributeString("skipped", "0");
         w.WriteAttributeString("time", result.Seconds.Values.Sum().ToString("F3", CultureInfo.InvariantCulture));
+        w.WriteAttributeString("package", "pathbench.check");
+        w.WriteAttributeString("id", "0");
+        w.WriteStartElement("properties");
+        WriteProperty(w, "suite", result.Suite.SourcePath);
+        WriteProperty(w, "cases", result.Suite.Cases.Count.ToString(CultureInfo.InvariantCulture));
+        w.WriteEndElement();
+        var lines = new StringBuilder();
         foreach (Verdict v in result.Verdicts)
         {
             int perCase = result.Verdicts.Count(o => o.Case == v.Case);
             w.WriteStartElement("testcase");
-            w.WriteAttributeString("classname", v.Case);
             w.WriteAttributeString("name", v.Assertion.Kind);
+            w.WriteAttributeString("classname", v.Case);
             w.WriteAttributeString("time", (result.Seconds.GetValueOrDefault(v.Case) / perCase).ToString("F3", CultureInfo.InvariantCulture));
             string message = FormattableString.Invariant($"measured {Number(v.Measured)}, bound {Number(v.Bound)}, p {(v.P is { } p ? p.ToString("G3", CultureInfo.InvariantCulture) : "n/a")}");
             if (!v.Passed)
@@ -119,17 +137,24 @@ public static class CheckRun
                 w.WriteString(v.Detail);
                 w.WriteEndElement();
             }
-            else
-            {
-                w.WriteElementString("system-out", message + "; " + v.Detail);
-            }
 
             w.WriteEndElement();
+            lines.Append(v.Passed ? "pass " : "FAIL ").Append(v.Case).Append(' ').Append(v.Assertion.Kind).Append(": ").Append(message).Append("; ").Append(v.Detail).Append('\n');
         }
 
+        w.WriteElementString("system-out", lines.ToString());
+        w.WriteElementString("system-err", "");
         w.WriteEndElement();
         w.WriteEndElement();
         w.WriteEndDocument();
+    }
+
+    private static void WriteProperty(XmlWriter w, string name, string value)
+    {
+        w.WriteStartElement("property");
+        w.WriteAttributeString("name", name);
+        w.WriteAttributeString("value", value);
+        w.WriteEndElement();
     }
 
     /// <summary>The verdicts as JSON (stable snake_case fields).</summary>

@@ -18,6 +18,20 @@ public static class ConvergenceStudy
         string generator, Randomization randomize, bool antithetic, int minCount, int maxCount, int replicates, ulong seed, int threads,
         IReadOnlyList<TestIntegrand>? integrands = null)
     {
+        // Validate once, before any work, so a bad combination fails fast.
+        SamplerCatalog.Create(new SamplerSpec(generator, randomize, antithetic, Math.Max(1, minCount), seed), 2);
+        return Run((n, s) => SamplerCatalog.Create(new SamplerSpec(generator, randomize, antithetic, n, s), 2), minCount, maxCount, replicates, seed, threads, integrands);
+    }
+
+    /// <summary>
+    /// Runs the study on samplers built by <paramref name="create"/> (planned count, global seed; at
+    /// least two dimensions): the seam for a sampler that is not in the catalog.
+    /// </summary>
+    public static IReadOnlyList<IntegrandConvergence> Run(
+        Func<int, ulong, PointSampler> create, int minCount, int maxCount, int replicates, ulong seed, int threads,
+        IReadOnlyList<TestIntegrand>? integrands = null)
+    {
+        ArgumentNullException.ThrowIfNull(create);
         integrands ??= TestIntegrands.All;
         if (minCount < 1 || maxCount < minCount)
         {
@@ -35,9 +49,6 @@ public static class ConvergenceStudy
             counts.Add((int)n);
         }
 
-        // Validate once, before any work, so a bad combination fails fast.
-        SamplerCatalog.Create(new SamplerSpec(generator, randomize, antithetic, counts[0], seed), 2);
-
         // estimates[c][r][f]
         var estimates = new double[counts.Count, replicates, integrands.Count];
         var options = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, threads) };
@@ -45,7 +56,7 @@ public static class ConvergenceStudy
         {
             int c = job / replicates, r = job % replicates;
             int n = counts[c];
-            PointSampler sampler = SamplerCatalog.Create(new SamplerSpec(generator, randomize, antithetic, n, seed + (ulong)r), 2);
+            PointSampler sampler = create(n, seed + (ulong)r);
             ulong pixel = sampler.PixelKey(0, 0);
             Span<double> sums = stackalloc double[integrands.Count];
             for (int i = 0; i < n; i++)

@@ -215,6 +215,23 @@ public sealed class PointFileTests
         Assert.True(allocated < 1 << 20, $"{allocated} bytes allocated");
     }
 
+    /// <summary>The file's SHA-256 is part of the render's configuration: a checkpoint made from other points is refused.</summary>
+    [Fact]
+    public void Resume_refuses_a_checkpoint_made_from_other_points()
+    {
+        using var dir = new TempFolder();
+        dir.Write("s.yaml", TestScenes.LampAndBall);
+        string file = dir.Write("h.csv", Csv(Hammersley(Count, 4)));
+        string[] args = ["render", dir.File("s.yaml"), "--generator", "file:" + file, "--spp", "16", "--checkpoint", dir.File("c.accum"), "--out", dir.File("r.pfm")];
+        (int code, _, string err) = Run([.. args, "--shard", "0/2"]);
+        Assert.True(code == 0, err);
+        File.WriteAllText(file, Csv(Hammersley(Count, 5)));
+        (code, _, err) = Run([.. args, "--resume"]);
+        Assert.Equal(2, code);
+        Assert.Contains("cannot resume", err, StringComparison.Ordinal);
+        Assert.Contains("generator_provenance: sha256:", err, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void A_missing_point_file_is_named()
     {

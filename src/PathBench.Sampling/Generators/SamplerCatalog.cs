@@ -208,7 +208,7 @@ public static class SamplerCatalog
                 : PointFile.Generator(name);
         }
 
-        throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Generators.Select(t => t.Name))}, or {FilePrefix}POINTS.csv for a point file");
+        throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Generators.Select(t => t.Name))}, or {FilePrefix}POINTS.csv for a point file (a plug-in's generators need --plugin PATH.dll on the command line)");
     }
 
     private sealed class CatalogScope(CatalogScope? outer) : IDisposable

@@ -16,6 +16,11 @@ public static class GeneratorPlugins
         ArgumentNullException.ThrowIfNull(path);
         string full = Path.GetFullPath(path);
         string origin = "plug-in " + full;
+        if (Directory.Exists(full))
+        {
+            throw new SamplerSpecException($"--plugin {path}: is a folder; name the plug-in's .dll");
+        }
+
         if (!File.Exists(full))
         {
             throw new SamplerSpecException($"--plugin {path}: no such file");

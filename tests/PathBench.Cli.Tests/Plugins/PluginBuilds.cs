@@ -29,7 +29,16 @@ public sealed class PluginBuilds : IDisposable
         string built = Path.Combine(Build(_dir.File("misbehaving/Misbehaving.csproj"), "misbehaving-out"), "Misbehaving.dll");
         Throwing = CopyWithMode(built, "throw");
         Clashing = CopyWithMode(built, "clash");
+
+        _dir.Write("dependency/Invented.Constants.csproj", DependencyProject);
+        _dir.Write("dependency/Constants.cs", DependencySource);
+        _dir.Write("with-dependency/WithDependency.csproj", WithDependencyProject);
+        _dir.Write("with-dependency/QuarterPlugin.cs", WithDependencySource);
+        WithDependency = Path.Combine(Build(_dir.File("with-dependency/WithDependency.csproj"), "with-dependency-out"), "WithDependency.dll");
     }
+
+    /// <summary>A plug-in whose generator calls into an assembly shipped beside it (not in PathBench).</summary>
+    public string WithDependency { get; }
 
     /// <summary>The example plug-in's assembly.</summary>
     public string Example { get; }
@@ -103,6 +112,59 @@ public sealed class PluginBuilds : IDisposable
             <Reference Include="PathBench.Sampling" HintPath="$(PathBenchSamplingDll)" Private="false" />
           </ItemGroup>
         </Project>
+        """;
+
+    private const string DependencyProject = """
+        <Project Sdk="Microsoft.NET.Sdk">
+          <PropertyGroup>
+            <TargetFramework>net10.0</TargetFramework>
+          </PropertyGroup>
+        </Project>
+        """;
+
+    // A method, not a const: a const would be copied into the plug-in at compile time.
+    private const string DependencySource = """
+        namespace Invented.Constants;
+
+        public static class Constants
+        {
+            public static double Quarter() => 0.25;
+        }
+        """;
+
+    private const string WithDependencyProject = """
+        <Project Sdk="Microsoft.NET.Sdk">
+          <PropertyGroup>
+            <TargetFramework>net10.0</TargetFramework>
+            <Nullable>enable</Nullable>
+            <ImplicitUsings>enable</ImplicitUsings>
+          </PropertyGroup>
+          <ItemGroup>
+            <Reference Include="PathBench.Sampling" HintPath="$(PathBenchSamplingDll)" Private="false" />
+            <ProjectReference Include="../dependency/Invented.Constants.csproj" />
+          </ItemGroup>
+        </Project>
+        """;
+
+    private const string WithDependencySource = """
+        using PathBench.Sampling.Generators;
+
+        namespace WithDependency;
+
+        public sealed class QuarterPlugin : IGeneratorPlugin
+        {
+            public IEnumerable<GeneratorInfo> Generators =>
+            [
+                new GeneratorInfo("quarter", "test only", false, 2, [Randomization.None], Randomization.None, "test only", s => new Quarter(s)),
+            ];
+        }
+
+        public sealed class Quarter(SamplerSpec spec) : PointSampler(spec)
+        {
+            public override int MaxDimensions => 2;
+
+            public override double Sample(ulong pixel, uint index, int dimension) => Invented.Constants.Constants.Quarter();
+        }
         """;
 
     // Test only: what it does is read from mode.txt beside the assembly, so one build serves every case.

@@ -148,9 +148,21 @@ public sealed class PluginTests(PluginBuilds builds) : IClassFixture<PluginBuild
         Assert.Equal("file:" + dir.File("points/four.csv"), generators[1]);
     }
 
+    /// <summary>A plug-in's own dependencies are found beside it, in its load context; PathBench does not ship them.</summary>
+    [Fact]
+    public void A_plugins_dependency_is_loaded_from_beside_it()
+    {
+        Assert.False(File.Exists(Path.Combine(AppContext.BaseDirectory, "Invented.Constants.dll")));
+        Assert.True(File.Exists(Path.Combine(Path.GetDirectoryName(builds.WithDependency)!, "Invented.Constants.dll")));
+        (int code, string output, string err) = Run("--plugin", builds.WithDependency, "points", "--generator", "quarter", "--count", "2");
+        Assert.True(code == 0, err);
+        Assert.Equal("0.25,0.25\n0.25,0.25\n", output.ReplaceLineEndings("\n"));
+    }
+
     public static TheoryData<string, string> BadPlugins => new()
     {
         { "missing", "no such file" },
+        { "folder", "is a folder; name the plug-in's .dll" },
         { "text", "not a .NET assembly" },
         { "no-implementation", "no public class implementing PathBench.Sampling.Generators.IGeneratorPlugin" },
         { "clash", "generator name 'sobol' clashes with the built-in generator" },
@@ -165,6 +177,7 @@ public sealed class PluginTests(PluginBuilds builds) : IClassFixture<PluginBuild
         string path = which switch
         {
             "missing" => dir.File("none.dll"),
+            "folder" => dir.Path,
             "text" => dir.Write("notes.dll", "not an assembly, just text\n"),
             "no-implementation" => Path.Combine(AppContext.BaseDirectory, "PathBench.Imaging.dll"),
             "clash" => builds.Clashing,

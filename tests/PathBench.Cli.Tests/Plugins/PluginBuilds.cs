@@ -24,7 +24,7 @@ public sealed class PluginBuilds : IDisposable
 
         Example = Path.Combine(Build(Path.Combine(exampleCopy, "PathBench.PluginExample.csproj"), "example-out"), "PathBench.PluginExample.dll");
 
-        _dir.Write("misbehaving/Misbehaving.csproj", MisbehavingProject);
+        _dir.Write("misbehaving/Misbehaving.csproj", PluginProject());
         _dir.Write("misbehaving/MisbehavingPlugin.cs", MisbehavingSource);
         string built = Path.Combine(Build(_dir.File("misbehaving/Misbehaving.csproj"), "misbehaving-out"), "Misbehaving.dll");
         Throwing = CopyWithMode(built, "throw");
@@ -32,7 +32,7 @@ public sealed class PluginBuilds : IDisposable
 
         _dir.Write("dependency/Invented.Constants.csproj", DependencyProject);
         _dir.Write("dependency/Constants.cs", DependencySource);
-        _dir.Write("with-dependency/WithDependency.csproj", WithDependencyProject);
+        _dir.Write("with-dependency/WithDependency.csproj", PluginProject("""<ProjectReference Include="../dependency/Invented.Constants.csproj" />"""));
         _dir.Write("with-dependency/QuarterPlugin.cs", WithDependencySource);
         WithDependency = Path.Combine(Build(_dir.File("with-dependency/WithDependency.csproj"), "with-dependency-out"), "WithDependency.dll");
     }
@@ -101,7 +101,9 @@ public sealed class PluginBuilds : IDisposable
         return outDir;
     }
 
-    private const string MisbehavingProject = """
+    // A plug-in project outside the repository: PathBench.Sampling referenced from the test's own
+    // binaries and not copied (the host's copy is the one used), plus any further items.
+    private static string PluginProject(string items = "") => $"""
         <Project Sdk="Microsoft.NET.Sdk">
           <PropertyGroup>
             <TargetFramework>net10.0</TargetFramework>
@@ -110,6 +112,7 @@ public sealed class PluginBuilds : IDisposable
           </PropertyGroup>
           <ItemGroup>
             <Reference Include="PathBench.Sampling" HintPath="$(PathBenchSamplingDll)" Private="false" />
+            {items}
           </ItemGroup>
         </Project>
         """;
@@ -130,20 +133,6 @@ public sealed class PluginBuilds : IDisposable
         {
             public static double Quarter() => 0.25;
         }
-        """;
-
-    private const string WithDependencyProject = """
-        <Project Sdk="Microsoft.NET.Sdk">
-          <PropertyGroup>
-            <TargetFramework>net10.0</TargetFramework>
-            <Nullable>enable</Nullable>
-            <ImplicitUsings>enable</ImplicitUsings>
-          </PropertyGroup>
-          <ItemGroup>
-            <Reference Include="PathBench.Sampling" HintPath="$(PathBenchSamplingDll)" Private="false" />
-            <ProjectReference Include="../dependency/Invented.Constants.csproj" />
-          </ItemGroup>
-        </Project>
         """;
 
     private const string WithDependencySource = """

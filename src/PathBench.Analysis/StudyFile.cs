@@ -144,7 +144,7 @@ public static class StudyFile
 
         int spp = reader.Integer(sppNode, r.Of("spp"), 1, SceneLoader.MaxSpp);
         YamlNode? generatorNode = r.TryGet("generator", out YamlNode g) ? g : null;
-        string generator = generatorNode is null ? "sobol" : reader.Name(generatorNode, r.Of("generator"));
+        string generator = generatorNode is null ? "sobol" : ResolvePointFile(reader, reader.Name(generatorNode, r.Of("generator")));
         YamlNode? randomizeNode = r.TryGet("randomize", out YamlNode rn) ? rn : null;
         (Randomization kind, bool anti) = ReadSampler(reader, generatorNode ?? node, generator, randomizeNode);
         CheckPoints(reader, generatorNode ?? node, generator, spp);
@@ -159,7 +159,7 @@ public static class StudyFile
     internal static StudyConfiguration ReadConfiguration(YamlNodeReader reader, MappingView c, string name, int maxSpp)
     {
         YamlNode generatorNode = c.Required("generator");
-        string generator = reader.Name(generatorNode, c.Of("generator"));
+        string generator = ResolvePointFile(reader, reader.Name(generatorNode, c.Of("generator")));
         (Randomization kind, bool anti) = ReadSampler(reader, generatorNode, generator, c.TryGet("randomize", out YamlNode rn) ? rn : null);
         CheckPoints(reader, generatorNode, generator, maxSpp);
 
@@ -189,6 +189,19 @@ public static class StudyFile
         int? depth = c.TryGet("max_depth", out YamlNode d) ? reader.Integer(d, c.Of("max_depth"), 1, SceneLoader.MaxDepth) : null;
         bool roulette = !c.TryGet("roulette", out YamlNode ro) || reader.Boolean(ro, c.Of("roulette"));
         return new StudyConfiguration(name, generator, kind, anti, hemisphere, lights, depth, roulette);
+    }
+
+    /// <summary><c>file:PATH</c> with a relative path is relative to the study or suite file, as every path in it.</summary>
+    private static string ResolvePointFile(YamlNodeReader reader, string generator)
+    {
+        if (!generator.StartsWith(SamplerCatalog.FilePrefix, StringComparison.Ordinal))
+        {
+            return generator;
+        }
+
+        string path = generator[SamplerCatalog.FilePrefix.Length..];
+        string folder = Path.GetDirectoryName(Path.GetFullPath(reader.SourcePath)) ?? ".";
+        return path.Length == 0 || Path.IsPathRooted(path) ? generator : SamplerCatalog.FilePrefix + Path.GetFullPath(Path.Combine(folder, path));
     }
 
     /// <summary>A generator kept in finite tables (pmj02 and its family) cannot reach every spp.</summary>

@@ -17,6 +17,9 @@ public static class CliApp
     /// <summary>Exit code for bad arguments or unreadable input.</summary>
     public const int UsageExitCode = 2;
 
+    /// <summary>The global option that loads a generator plug-in.</summary>
+    public const string PluginOptionName = "--plugin";
+
     /// <summary>Exit code for an unexpected internal error.</summary>
     public const int InternalErrorExitCode = 1;
 
@@ -26,6 +29,7 @@ public static class CliApp
         ArgumentNullException.ThrowIfNull(args);
         var io = new CliIo(stdout, stderr);
         RootCommand root = BuildRoot(io);
+        Option<string[]> plugins = root.Options.OfType<Option<string[]>>().Single(o => o.Name == PluginOptionName);
         ParseResult parse = root.Parse(args);
         if (parse.Errors.Count > 0)
         {
@@ -37,6 +41,14 @@ public static class CliApp
 
         try
         {
+            // Plug-ins are seen by this invocation only (the catalog's scope ends with it), and only
+            // when named: nothing is loaded from a folder or a setting behind the user's back.
+            using IDisposable scope = SamplerCatalog.OpenScope();
+            foreach (string plugin in (parse.GetValue(plugins) ?? []).DistinctBy(Path.GetFullPath))
+            {
+                GeneratorPlugins.Load(plugin);
+            }
+
             return parse.Invoke(new InvocationConfiguration { Output = stdout, Error = stderr, EnableDefaultExceptionHandler = false });
         }
         catch (CliUsageException e)
@@ -65,6 +77,12 @@ public static class CliApp
     {
         var root = new RootCommand(
             "PathBench: sample generators, randomizations and measurements for the sampling code of physically based renderers.");
+        root.Options.Add(new Option<string[]>(PluginOptionName)
+        {
+            Description = "Load sample generators from a .NET assembly implementing PathBench.Sampling.Generators.IGeneratorPlugin (repeatable; see README, 'Bring your own sampler')",
+            Recursive = true,
+            Arity = ArgumentArity.OneOrMore,
+        });
         root.Subcommands.Add(SamplersCommand.Create(io));
         root.Subcommands.Add(PointsCommand.Create(io));
         root.Subcommands.Add(PointStatsCommand.Create(io));

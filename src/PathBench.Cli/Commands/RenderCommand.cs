@@ -202,6 +202,8 @@ internal static class RenderCommand
         new("lights", lights),
         new("max_depth", options.MaxDepth.ToString(CultureInfo.InvariantCulture)),
         new("russian_roulette", options.RussianRoulette ? "true" : "false"),
+        // A plug-in's or a point file's points can change under the same name: their identity goes in too.
+        .. SamplerCatalog.Find(spec.Generator).Provenance is { } provenance ? [new KeyValuePair<string, string>("generator_provenance", provenance)] : Array.Empty<KeyValuePair<string, string>>(),
     ];
 
     private static (int Index, int Count) ParseShard(string text)

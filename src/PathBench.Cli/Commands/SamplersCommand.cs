@@ -17,8 +17,11 @@ internal static class SamplersCommand
                 string dims = g.MaxDimensions == int.MaxValue ? "any dims" : $"<= {g.MaxDimensions} dims";
                 string randomizations = string.Join("|", g.Randomizations.Select(RandomizationNames.NameOf));
                 string points = g.MaxPoints == int.MaxValue ? "" : $", <= {g.MaxPoints} points";
-                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}{points}, randomize {randomizations} (default {RandomizationNames.NameOf(g.DefaultRandomization)})");
+                string origin = g.Origin is null ? "" : $" [{g.Origin}]";
+                io.Out.WriteLine($"  {g.Name,-16} {g.Source}; {(g.NeedsCount ? "needs --count" : "sequence")}, {dims}{points}, randomize {randomizations} (default {RandomizationNames.NameOf(g.DefaultRandomization)}){origin}");
             }
+
+            io.Out.WriteLine($"  {SamplerCatalog.FilePrefix + "PATH",-16} precomputed points, one per line (CSV) or binary; the same set in every pixel, randomize none|cranley-patterson|digital-shift (default cranley-patterson); see tools/point-files.md");
 
             io.Out.WriteLine("randomizations:");
             foreach ((Randomization _, string name, string source) in RandomizationNames.All)

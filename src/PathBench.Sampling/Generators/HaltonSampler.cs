@@ -49,9 +49,5 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
 /// <summary>The Cranley–Patterson (1976) rotation: a random toroidal shift, one offset per pixel and dimension.</summary>
 internal static class Rotation
 {
-    public static double Apply(double x, ulong pixel, int dimension)
-    {
-        double s = x + SampleHash.Uniform(pixel ^ Salts.Rotation, 0, dimension);
-        return s >= 1.0 ? s - 1.0 : s;
-    }
+    public static double Apply(double x, ulong pixel, int dimension) => PointRandomizations.CranleyPatterson(x, pixel, dimension);
 }

@@ -21,6 +21,20 @@ public sealed record GeneratorInfo(
     /// </summary>
     public int MaxPoints { get; init; } = int.MaxValue;
 
+    /// <summary>
+    /// Where a generator that is not built in comes from, as <c>pathbench samplers</c> shows it
+    /// (<c>plug-in PATH</c>, <c>point file PATH</c>); null for the built-ins. Set by PathBench, not by a plug-in.
+    /// </summary>
+    public string? Origin { get; init; }
+
+    /// <summary>
+    /// What identifies the points of a generator that is not built in beyond its name (a point file's
+    /// SHA-256, a plug-in assembly's name and module version id), recorded with renders so resume, merge
+    /// and the study cache refuse points that changed; null for the built-ins, whose points the PathBench
+    /// version fixes. Set by PathBench, not by a plug-in.
+    /// </summary>
+    public string? Provenance { get; init; }
+
     /// <summary>True for generators whose points are random with no randomization on top (random, jittered, Latin hypercube, multi-jittered).</summary>
     public bool RandomByConstruction => Randomizations.Count == 1 && Randomizations[0] == Randomization.None;
 
@@ -46,8 +60,19 @@ public sealed class SamplerSpecException : Exception
 }
 
 /// <summary>The registry of generators, and the one place that validates a <see cref="SamplerSpec"/>.</summary>
+/// <remarks>
+/// The built-ins are fixed. Plug-in generators and point files are seen only inside a scope
+/// (<see cref="OpenScope"/>): the command line opens one per invocation and adds what <c>--plugin</c>
+/// names, so two invocations in one process (the tests) never see each other's plug-ins. The scope
+/// flows with the execution context into tasks and threads started inside it.
+/// </remarks>
 public static class SamplerCatalog
 {
+    /// <summary>The prefix of a point-file generator name, <c>file:POINTS.csv</c>.</summary>
+    public const string FilePrefix = "file:";
+
+    private static readonly AsyncLocal<CatalogScope?> Ambient = new();
+
     private const string RandomByConstruction =
         "it is random by construction (its seed drives its jitter and shuffles); a further shift or scramble adds nothing";
 
@@ -95,13 +120,80 @@ public static class SamplerCatalog
             MaxPoints = ProgressiveMultiJitteredSampler.MaxPoints,
         };
 
-    /// <summary>Every generator, in the order <c>pathbench samplers</c> lists them.</summary>
-    public static IReadOnlyList<GeneratorInfo> Generators => Table;
+    /// <summary>The built-in generators, in the order <c>pathbench samplers</c> lists them.</summary>
+    public static IReadOnlyList<GeneratorInfo> BuiltIn => Table;
 
-    /// <summary>The generator of that name, or an error listing the known names.</summary>
+    /// <summary>Every generator: the built-ins, then the plug-ins added to the current scope.</summary>
+    public static IReadOnlyList<GeneratorInfo> Generators =>
+        Ambient.Value is { } scope && scope.Plugins.Count > 0 ? [.. Table, .. scope.Plugins] : Table;
+
+    /// <summary>
+    /// Opens a scope in which <see cref="Add"/> registers generators and point files are read once;
+    /// disposing it restores the scope that was current before.
+    /// </summary>
+    public static IDisposable OpenScope()
+    {
+        var scope = new CatalogScope(Ambient.Value);
+        Ambient.Value = scope;
+        return scope;
+    }
+
+    /// <summary>
+    /// Adds generators to the current scope (<see cref="OpenScope"/>), each marked with
+    /// <paramref name="origin"/>; a name that clashes with a built-in, an added generator or the
+    /// <c>file:</c> prefix is refused, naming the origin.
+    /// </summary>
+    public static void Add(string origin, string provenance, IEnumerable<GeneratorInfo> generators)
+    {
+        ArgumentNullException.ThrowIfNull(generators);
+        CatalogScope scope = Ambient.Value ?? throw new InvalidOperationException("generators are added inside a catalog scope; open one first");
+        var added = new List<GeneratorInfo>();
+        foreach (GeneratorInfo g in generators)
+        {
+            if (g is null || g.Create is null || string.IsNullOrWhiteSpace(g.Name))
+            {
+                throw new SamplerSpecException($"{origin}: a generator has no name or no factory");
+            }
+
+            if (g.Name.StartsWith(FilePrefix, StringComparison.Ordinal) || g.Name.Any(ch => char.IsWhiteSpace(ch) || char.IsControl(ch)))
+            {
+                throw new SamplerSpecException($"{origin}: generator name '{g.Name}' is not allowed (no spaces, and '{FilePrefix}' names point files)");
+            }
+
+            if (Table.Any(t => t.Name == g.Name))
+            {
+                throw new SamplerSpecException($"{origin}: generator name '{g.Name}' clashes with the built-in generator of that name; rename it in the plug-in");
+            }
+
+            if (scope.Plugins.Concat(added).FirstOrDefault(t => t.Name == g.Name) is { } other)
+            {
+                throw new SamplerSpecException($"{origin}: generator name '{g.Name}' clashes with the one from {other.Origin}");
+            }
+
+            if (g.Randomizations is null || g.Randomizations.Count == 0 || !g.Randomizations.Contains(g.DefaultRandomization) || g.MaxDimensions < 1 || g.MaxPoints < 1)
+            {
+                throw new SamplerSpecException($"{origin}: generator '{g.Name}' must list its randomizations, including its default, and allow at least one dimension and one point");
+            }
+
+            added.Add(g with { Origin = origin, Provenance = provenance });
+        }
+
+        if (added.Count == 0)
+        {
+            throw new SamplerSpecException($"{origin}: the plug-in lists no generators");
+        }
+
+        scope.Plugins.AddRange(added);
+    }
+
+    /// <summary>
+    /// The generator of that name: a built-in, a plug-in of the current scope, or <c>file:PATH</c> (a
+    /// point file, read once per scope); otherwise an error listing the known names.
+    /// </summary>
     public static GeneratorInfo Find(string name)
     {
-        foreach (GeneratorInfo g in Table)
+        ArgumentNullException.ThrowIfNull(name);
+        foreach (GeneratorInfo g in Generators)
         {
             if (string.Equals(g.Name, name, StringComparison.Ordinal))
             {
@@ -109,7 +201,37 @@ public static class SamplerCatalog
             }
         }
 
-        throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Table.Select(t => t.Name))}");
+        if (name.StartsWith(FilePrefix, StringComparison.Ordinal))
+        {
+            return Ambient.Value is { } scope
+                ? scope.PointFile(name)
+                : PointFile.Generator(name);
+        }
+
+        throw new SamplerSpecException($"unknown generator '{name}'; known: {string.Join(", ", Generators.Select(t => t.Name))}, or {FilePrefix}POINTS.csv for a point file (a plug-in's generators need --plugin PATH.dll on the command line)");
+    }
+
+    private sealed class CatalogScope(CatalogScope? outer) : IDisposable
+    {
+        private readonly Dictionary<string, GeneratorInfo> _files = new(StringComparer.Ordinal);
+
+        public List<GeneratorInfo> Plugins { get; } = [.. outer?.Plugins ?? []];
+
+        public GeneratorInfo PointFile(string name)
+        {
+            lock (_files)
+            {
+                if (!_files.TryGetValue(name, out GeneratorInfo? g))
+                {
+                    g = global::PathBench.Sampling.Generators.PointFile.Generator(name);
+                    _files.Add(name, g);
+                }
+
+                return g;
+            }
+        }
+
+        public void Dispose() => Ambient.Value = outer;
     }
 
     /// <summary>
@@ -119,7 +241,7 @@ public static class SamplerCatalog
     /// </summary>
     public static IEnumerable<(string Generator, string Randomize)> RandomizedCombinations(bool withAntithetic)
     {
-        foreach (GeneratorInfo g in Table)
+        foreach (GeneratorInfo g in Generators)
         {
             foreach (Randomization r in g.Randomizations.Where(g.IsRandomized))
             {
@@ -194,10 +316,28 @@ public static class SamplerCatalog
 
         if (!spec.Antithetic)
         {
+            return Build(g, spec);
+        }
+
+        PointSampler inner = Build(g, spec with { Antithetic = false, Count = (spec.Count + 1) / 2 });
+        return new AntitheticSampler(spec, inner);
+    }
+
+    // A plug-in's factory is code PathBench does not know: its failure is the plug-in's, reported as such.
+    private static PointSampler Build(GeneratorInfo g, SamplerSpec spec)
+    {
+        if (g.Origin is null)
+        {
             return g.Create(spec);
         }
 
-        PointSampler inner = g.Create(spec with { Antithetic = false, Count = (spec.Count + 1) / 2 });
-        return new AntitheticSampler(spec, inner);
+        try
+        {
+            return g.Create(spec) ?? throw new SamplerSpecException($"{g.Origin}: generator '{g.Name}' built no sampler (null)");
+        }
+        catch (Exception e) when (e is not SamplerSpecException and not OutOfMemoryException)
+        {
+            throw new SamplerSpecException($"{g.Origin}: generator '{g.Name}' failed to build its sampler: {e.GetType().Name}: {e.Message.ReplaceLineEndings(" ")}", e);
+        }
     }
 }

@@ -15,4 +15,6 @@ internal static class Salts
     public const ulong DigitPermutation = 0x5045524D55000007UL;
     public const ulong Independent = 0x52414E444F000008UL;
     public const ulong PmjPair = 0x504D4A5041000009UL;
+    public const ulong BlueNoiseCommon = 0x424E434F4D00000AUL;
+    public const ulong BlueNoisePadding = 0x424E50414400000BUL;
 }

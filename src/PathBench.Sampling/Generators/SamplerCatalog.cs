@@ -71,6 +71,15 @@ public static class SamplerCatalog
         new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
             false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
             "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
+        new("bluenoise", "Owen-scrambled Sobol whose per-pixel seeds come from a 64x64 tile arranged so that errors form a blue noise in " +
+            "screen space; Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019, 'A low-discrepancy sampler that distributes Monte Carlo " +
+            "errors as a blue noise in screen space' (SIGGRAPH Talks), seeds placed by swapping as in Heitz & Belcour 2019, Comput. Graph. " +
+            "Forum 38(4) (EGSR); tile made by tools/PathBench.BlueNoise",
+            false, 21201, [Randomization.None, Randomization.Owen], Randomization.Owen,
+            "the tile is optimised for errors seen through an Owen scramble common to all pixels: a Cranley-Patterson shift moves points " +
+            "across the dyadic cells that relation lives in, and a digital shift alone moves each pixel's one fixed scramble rigidly, " +
+            "so smooth integrands lose Owen's rate; digit permutations in base 2 are the digital shift",
+            s => new BlueNoiseSobolSampler(s)),
         Pmj("pmj02", "progressive multi-jittered (0,2): every power-of-2 prefix a (0,m,2)-net in base 2", Sequences.PmjVariant.ProgressiveMultiJittered02),
         Pmj("pmj", "progressive multi-jittered: stratified in 2-D squares and both 1-D projections", Sequences.PmjVariant.ProgressiveMultiJittered),
         Pmj("pj", "progressive jittered: stratified in 2-D squares", Sequences.PmjVariant.ProgressiveJittered),

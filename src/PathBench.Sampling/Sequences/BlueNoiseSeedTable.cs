@@ -27,7 +27,7 @@ public sealed class BlueNoiseSeedTable
     public const int Tile = 64;
 
     /// <summary>How many leading dimension pairs (0–1, 2–3, …) have optimised seeds.</summary>
-    public const int Pairs = 4;
+    public const int Pairs = 6;
 
     /// <summary>The first line of a table file.</summary>
     public const string Magic = "pathbench blue-noise owen-sobol seeds v1";

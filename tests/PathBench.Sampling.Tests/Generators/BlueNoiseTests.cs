@@ -46,15 +46,15 @@ public sealed class BlueNoiseTests(ITestOutputHelper output)
     [Fact]
     public void Pixel_key_carries_the_tile_position_and_the_antithetic_wrapper_keeps_it()
     {
-        PointSampler s = SamplerCatalog.Create(new SamplerSpec("bluenoise", Randomization.Owen, false, 4, 5), 8);
-        PointSampler a = SamplerCatalog.Create(new SamplerSpec("bluenoise", Randomization.Owen, true, 8, 5), 8);
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec("bluenoise", Randomization.Owen, false, 4, 5), 14);
+        PointSampler a = SamplerCatalog.Create(new SamplerSpec("bluenoise", Randomization.Owen, true, 8, 5), 14);
         Assert.Equal((ulong)((7 * Size) + 3), s.PixelKey(3, 7) & 0xFFF);
         Assert.Equal((ulong)((7 * Size) + 3), s.PixelKey(3 + Size, 7 - Size) & 0xFFF);
         Assert.NotEqual(s.PixelKey(3, 7), s.PixelKey(3 + Size, 7));
         Assert.Equal(s.PixelKey(3, 7), a.PixelKey(3, 7));
         // The tabled dimensions repeat with the tile's period; the padded ones do not.
         Assert.Equal(s.Sample(s.PixelKey(3, 7), 2, 5), s.Sample(s.PixelKey(3 + Size, 7), 2, 5));
-        Assert.NotEqual(s.Sample(s.PixelKey(3, 7), 2, 9), s.Sample(s.PixelKey(3 + Size, 7), 2, 9));
+        Assert.NotEqual(s.Sample(s.PixelKey(3, 7), 2, 13), s.Sample(s.PixelKey(3 + Size, 7), 2, 13));
     }
 
     [Fact]

@@ -45,7 +45,9 @@ public static class SamplerSelfTest
         results.Add(NetProperty(generator, randomize, antithetic, Make(seed), count));
         var configuration = new StudyConfiguration(generator, generator, randomize, antithetic, HemisphereStrategy.Cosine, LightStrategy.Mis, null, true);
         results.AddRange(Integrands(generator, randomize, antithetic, count, seed, threads, randomized, TheoryRate.For(configuration)));
-        results.Add(Independence("between neighbouring pixels", randomized, Make(seed), Make(seed), count, neighbours: true));
+        results.Add(SamplerCatalog.Find(generator).PixelsCorrelatedBecause is { } why
+            ? new SelfTestResult("independence between neighbouring pixels", "n/a: " + why, "-", "Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019", true)
+            : Independence("between neighbouring pixels", randomized, Make(seed), Make(seed), count, neighbours: true));
         results.Add(Independence("between replicates (seeds)", randomized, Make(seed), Make(seed + 1), count, neighbours: false));
         results.AddRange(Warps(seed));
         return results;

@@ -162,6 +162,7 @@ public sealed class CheckCommandTests
     [InlineData("random", "none")]
     [InlineData("sobol", "owen")]
     [InlineData("jittered", "none")]
+    [InlineData("bluenoise", "owen")]
     public void Selftest_of_a_correct_generator_passes_every_published_property(string generator, string randomize)
     {
         // Each group of tests has family-wise α = 0.001; the seed is fixed.

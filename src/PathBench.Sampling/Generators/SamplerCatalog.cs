@@ -21,6 +21,12 @@ public sealed record GeneratorInfo(
     /// </summary>
     public int MaxPoints { get; init; } = int.MaxValue;
 
+    /// <summary>
+    /// Why neighbouring pixels' points are not independent by design (the blue-noise sampler chooses
+    /// them together, from a tile that repeats); null for generators whose pixels are decorrelated.
+    /// </summary>
+    public string? PixelsCorrelatedBecause { get; init; }
+
     /// <summary>True for generators whose points are random with no randomization on top (random, jittered, Latin hypercube, multi-jittered).</summary>
     public bool RandomByConstruction => Randomizations.Count == 1 && Randomizations[0] == Randomization.None;
 
@@ -79,7 +85,10 @@ public static class SamplerCatalog
             "the tile is optimised for errors seen through an Owen scramble common to all pixels: a Cranley-Patterson shift moves points " +
             "across the dyadic cells that relation lives in, and a digital shift alone moves each pixel's one fixed scramble rigidly, " +
             "so smooth integrands lose Owen's rate; digit permutations in base 2 are the digital shift",
-            s => new BlueNoiseSobolSampler(s)),
+            s => new BlueNoiseSobolSampler(s))
+        {
+            PixelsCorrelatedBecause = "neighbouring pixels' seeds are chosen together so that their errors cancel (Heitz et al. 2019), from a tile that repeats every 64 pixels",
+        },
         Pmj("pmj02", "progressive multi-jittered (0,2): every power-of-2 prefix a (0,m,2)-net in base 2", Sequences.PmjVariant.ProgressiveMultiJittered02),
         Pmj("pmj", "progressive multi-jittered: stratified in 2-D squares and both 1-D projections", Sequences.PmjVariant.ProgressiveMultiJittered),
         Pmj("pj", "progressive jittered: stratified in 2-D squares", Sequences.PmjVariant.ProgressiveJittered),

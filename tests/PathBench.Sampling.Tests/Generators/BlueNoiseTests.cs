@@ -67,19 +67,29 @@ public sealed class BlueNoiseTests(ITestOutputHelper output)
             Assert.Equal(a.Sample(a.PixelKey(9, 4), 3, d), b.Sample(b.PixelKey(9, 4), 3, d));
         }
     }
+    // Measured (shares of the white expectation, 0.0469): 1 spp dims 0-1 0.34, 1 spp dims 4-5 0.35,
+    // 4 spp dims 6-7 0.61; Owen-Sobol 0.99-1.02. False-failure rate: each share sums about 190 low
+    // frequencies over 32 error images; white periodogram ordinates are independent exponentials
+    // (Brockwell & Davis §10.3), so a share has a relative standard deviation of 1/√(190·32) ≈ 1.3 %,
+    // taken as 3 % because the 16 integrands of one render share their points. The bounds are then
+    // at least 7 of those from the measured values (white: 1 ± 0.2; blue: 0.5 at 1 spp, 0.75 at
+    // 4 spp), so a correct tile fails with probability far below 1e-6 over seeds; the seeds are fixed.
     [Theory]
-    [InlineData(1, 0)]
-    [InlineData(1, 4)]
-    [InlineData(4, 6)]
-    public void Low_frequencies_hold_less_error_energy_than_white_noise_at_equal_mse(int spp, int dimension)
+    [InlineData(1, 0, 0.5)]
+    [InlineData(1, 4, 0.5)]
+    [InlineData(4, 6, 0.75)]
+    public void Low_frequencies_hold_less_error_energy_than_white_noise_at_equal_mse(int spp, int dimension, double bound)
     {
         Spectrum white = Measure("sobol", spp, dimension, 20261203);
         Spectrum blue = Measure("bluenoise", spp, dimension, 20261203);
         double expected = WhiteLowShare();
         output.WriteLine($"white share {white.LowShare:F4} mse {white.Mse:E3}; blue share {blue.LowShare:F4} mse {blue.Mse:E3}; expected white {expected:F4}");
+
+        // Equal MSE: swapping seeds between pixels moves error around, it does not remove it, and each
+        // pixel is an Owen-scrambled net either way (measured ratios 1.00, 0.99, 1.05).
         Assert.InRange(blue.Mse / white.Mse, 0.8, 1.25);
         Assert.InRange(white.LowShare / expected, 0.8, 1.25);
-        Assert.InRange(blue.LowShare / expected, 0, 0.65);
+        Assert.InRange(blue.LowShare / expected, 0, bound);
     }
 
     private sealed record Spectrum(double LowShare, double Mse);

@@ -178,8 +178,11 @@ public static class SamplerSelfTest
         var y = new double[Pixels];
         for (int p = 0; p < Pixels; p++)
         {
-            x[p] = Estimate(a, 2 * p, 0, f, count);
-            y[p] = neighbours ? Estimate(a, (2 * p) + 1, 0, f, count) : Estimate(b, 2 * p, 0, f, count);
+            // Pairs of pixels in rows 64 wide: a generator whose per-pixel seeds come from a tile
+            // (bluenoise's repeats every 64 pixels) then gives 256 distinct pixels, not 32 repeated.
+            int px = (2 * p) % 64, py = (2 * p) / 64;
+            x[p] = Estimate(a, px, py, f, count);
+            y[p] = neighbours ? Estimate(a, px + 1, py, f, count) : Estimate(b, px, py, f, count);
         }
 
         double mx = x.Average(), my = y.Average(), sxy = 0, sxx = 0, syy = 0;

@@ -34,6 +34,16 @@ public sealed class BlueNoiseStructureTests(Xunit.Abstractions.ITestOutputHelper
         Assert.True(blue.Score > 10, $"score {blue.Score:F1}");
     }
 
+    [Fact]
+    public void The_blue_noise_study_file_loads_and_is_what_this_test_renders()
+    {
+        StudyDefinition study = StudyFile.Load(Path.Combine(RepositoryPaths.Root, "scenes", "fence-yard-blue-noise.study.yaml"));
+        Assert.Equal([1], study.Spp);
+        Assert.Equal(16, study.Replicates);
+        Assert.Equal((128, 80), (study.Resolution!.Value.Width, study.Resolution.Value.Height));
+        Assert.Equal(["sobol", "bluenoise"], study.Configurations.Select(c => c.Generator));
+    }
+
     private static StructureScore Score(string generator)
     {
         const int Width = 128, Height = 80, Replicates = 16;

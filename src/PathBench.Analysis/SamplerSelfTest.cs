@@ -47,6 +47,9 @@ public enum StratificationClaim
 /// <param name="Theory">Its published convergence rates.</param>
 public sealed record SelfTestSubject(string Name, Func<int, ulong, PointSampler> Create, int Dimensions, bool Randomized, StratificationClaim Stratification, TheoryRate Theory)
 {
+    /// <summary>Why neighbouring pixels' points are dependent by design (<see cref="GeneratorInfo.PixelsCorrelatedBecause"/>); null when they should be independent.</summary>
+    public string? PixelsCorrelatedBecause { get; init; }
+
     /// <summary>A generator of the catalog with its randomization, and the claims its published construction makes.</summary>
     /// <exception cref="SamplerSpecException">The generator or randomization is unknown or meaningless together.</exception>
     public static SelfTestSubject FromCatalog(string generator, Randomization randomize, bool antithetic)
@@ -61,7 +64,7 @@ public sealed record SelfTestSubject(string Name, Func<int, ulong, PointSampler>
                 "jittered" => StratificationClaim.Jittered,
                 "multi-jittered" => StratificationClaim.MultiJittered,
                 "latin-hypercube" => StratificationClaim.Latin,
-                "sobol" or "pmj02" when randomize is Randomization.None or Randomization.Owen or Randomization.DigitalShift => StratificationClaim.Net02,
+                "sobol" or "pmj02" or "bluenoise" when randomize is Randomization.None or Randomization.Owen or Randomization.DigitalShift => StratificationClaim.Net02,
                 _ => StratificationClaim.None,
             };
         var configuration = new StudyConfiguration(generator, generator, randomize, antithetic, HemisphereStrategy.Cosine, LightStrategy.Mis, null, true);
@@ -71,7 +74,10 @@ public sealed record SelfTestSubject(string Name, Func<int, ulong, PointSampler>
             dims,
             info.IsRandomized(randomize),
             claim,
-            TheoryRate.For(configuration));
+            TheoryRate.For(configuration))
+        {
+            PixelsCorrelatedBecause = info.PixelsCorrelatedBecause,
+        };
     }
 }
 
@@ -117,7 +123,9 @@ public static class SamplerSelfTest
         results.AddRange(Uniformity(Make(seed), count, subject.Dimensions));
         results.Add(Stratification(subject.Stratification, Make(seed), count, subject.Dimensions));
         results.AddRange(Integrands(subject, count, seed, threads));
-        results.Add(Independence("between neighbouring pixels", subject.Randomized, Make(seed), Make(seed), count, neighbours: true));
+        results.Add(subject.PixelsCorrelatedBecause is { } why
+            ? new SelfTestResult("independence between neighbouring pixels", "n/a: " + why, "-", "Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019", true)
+            : Independence("between neighbouring pixels", subject.Randomized, Make(seed), Make(seed), count, neighbours: true));
         results.Add(Independence("between replicates (seeds)", subject.Randomized, Make(seed), Make(seed + 1), count, neighbours: false));
         results.AddRange(Warps(seed));
         return results;
@@ -344,8 +352,11 @@ public static class SamplerSelfTest
         var y = new double[Pixels];
         for (int p = 0; p < Pixels; p++)
         {
-            x[p] = Estimate(a, 2 * p, 0, f, count);
-            y[p] = neighbours ? Estimate(a, (2 * p) + 1, 0, f, count) : Estimate(b, 2 * p, 0, f, count);
+            // Pairs of pixels in rows 64 wide: a generator whose per-pixel seeds come from a tile
+            // (bluenoise's repeats every 64 pixels) then gives 256 distinct pixels, not 32 repeated.
+            int px = (2 * p) % 64, py = (2 * p) / 64;
+            x[p] = Estimate(a, px, py, f, count);
+            y[p] = neighbours ? Estimate(a, px + 1, py, f, count) : Estimate(b, px, py, f, count);
         }
 
         double mx = x.Average(), my = y.Average(), sxy = 0, sxx = 0, syy = 0;

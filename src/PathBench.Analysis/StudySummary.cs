@@ -82,6 +82,7 @@ public sealed record TheoryRate(double? Smooth, double? Discontinuous, string So
             "pmj02" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled (0,m,2)-nets: Owen 1997, Ann. Statist. 25(4); progressive construction: Christensen, Kensler & Kilpatrick 2018") { SmoothLogPower = 1 },
             "latin-hypercube" => new TheoryRate(-1, -1, "Latin hypercube: variance o(1/N), no better rate for non-additive integrands; McKay, Beckman & Conover 1979; Stein 1987"),
             "sobol" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "Owen-scrambled nets: Owen 1997, Ann. Statist. 25(4) (smooth, up to log factors); discontinuous rate from memory") { SmoothLogPower = 1 },
+            "bluenoise" when c.Randomization == Sampling.Generators.Randomization.Owen => new TheoryRate(-3, -1.5, "each pixel an Owen-scrambled Sobol net: Owen 1997, Ann. Statist. 25(4) (smooth, up to log factors); the blue-noise seeds (Heitz et al. 2019) move error between pixels, not its rate; discontinuous rate from memory") { SmoothLogPower = 1 },
             _ => new TheoryRate(null, null, "no rate published for this generator and randomization that we rely on"),
         };
     }

@@ -158,6 +158,20 @@ public sealed class CheckCommandTests
         Assert.Contains("not a PathBench baseline", err, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void Selftest_does_not_demand_independent_neighbours_of_the_blue_noise_sampler()
+    {
+        // Its neighbouring pixels are correlated on purpose (Heitz, Belcour, Ostromoukhov, Coeurjolly
+        // & Iehl 2019): the check reports n/a with the reason instead of failing it.
+        (_, string output, _) = Run("selftest", "--generator", "bluenoise", "--count", "64", "--json");
+        using JsonDocument doc = JsonDocument.Parse(output);
+        JsonElement check = doc.RootElement.GetProperty("tests").EnumerateArray().Single(t => t.GetProperty("test").GetString() == "independence between neighbouring pixels");
+        Assert.StartsWith("n/a: neighbouring pixels' seeds are chosen together", check.GetProperty("statistic").GetString(), StringComparison.Ordinal);
+        Assert.True(check.GetProperty("passed").GetBoolean());
+        JsonElement seeds = doc.RootElement.GetProperty("tests").EnumerateArray().Single(t => t.GetProperty("test").GetString() == "independence between replicates (seeds)");
+        Assert.True(seeds.GetProperty("passed").GetBoolean());
+    }
+
     [Theory]
     [InlineData("random", "none")]
     [InlineData("sobol", "owen")]

@@ -21,7 +21,8 @@ public class SamplerBenchmarks
         "random/none", "jittered/none", "latin-hypercube/none", "multi-jittered/none",
         "halton/none", "halton/cranley-patterson", "halton/digit-permutation",
         "hammersley/none", "sobol/none", "sobol/cranley-patterson", "sobol/digital-shift", "sobol/owen", "sobol/owen+antithetic",
-        "pmj02/none", "pmj02/digital-shift", "pmj02/owen", "pmj/owen", "pj/owen", "lattice/none", "lattice/cranley-patterson")]
+        "pmj02/none", "pmj02/digital-shift", "pmj02/owen", "pmj/owen", "pj/owen", "lattice/none", "lattice/cranley-patterson",
+        "bluenoise/none", "bluenoise/owen")]
     public string Case { get; set; } = "sobol/owen";
 
     [GlobalSetup]

@@ -31,7 +31,12 @@ public abstract class PointSampler
     public abstract int MaxDimensions { get; }
 
     /// <summary>The key of pixel (x, y) under this sampler's global seed.</summary>
-    public ulong PixelKey(int x, int y) => SampleHash.PixelKey(x, y, Spec.Seed);
+    /// <remarks>
+    /// Every caller gets a pixel's key here and passes it to <see cref="Sample"/>. A generator that
+    /// needs the screen position itself (the blue-noise sampler reads its seed tile at (x, y)) overrides
+    /// this and folds the position into the key; the key must stay a pure function of (x, y) and the spec.
+    /// </remarks>
+    public virtual ulong PixelKey(int x, int y) => SampleHash.PixelKey(x, y, Spec.Seed);
 
     /// <summary>Coordinate <paramref name="dimension"/> of point <paramref name="index"/> for the pixel with key <paramref name="pixel"/>.</summary>
     public abstract double Sample(ulong pixel, uint index, int dimension);

@@ -35,4 +35,10 @@ public static class Salts
 
     /// <summary>The pmj family's pair selection.</summary>
     public const ulong PmjPair = 0x504D4A5041000009UL;
+
+    /// <summary>The blue-noise sampler's Owen scramble shared by the whole image (set by the seed).</summary>
+    public const ulong BlueNoiseCommon = 0x424E434F4D00000AUL;
+
+    /// <summary>The blue-noise sampler's per-pixel seeds for the dimensions its tile does not cover.</summary>
+    public const ulong BlueNoisePadding = 0x424E50414400000BUL;
 }

@@ -35,6 +35,12 @@ public sealed record GeneratorInfo(
     /// </summary>
     public string? Provenance { get; init; }
 
+    /// <summary>
+    /// Why neighbouring pixels' points are not independent by design (the blue-noise sampler chooses
+    /// them together, from a tile that repeats); null for generators whose pixels are decorrelated.
+    /// </summary>
+    public string? PixelsCorrelatedBecause { get; init; }
+
     /// <summary>True for generators whose points are random with no randomization on top (random, jittered, Latin hypercube, multi-jittered).</summary>
     public bool RandomByConstruction => Randomizations.Count == 1 && Randomizations[0] == Randomization.None;
 
@@ -96,6 +102,18 @@ public static class SamplerCatalog
         new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
             false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
             "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
+        new("bluenoise", "Owen-scrambled Sobol whose per-pixel seeds come from a 64x64 tile arranged so that errors form a blue noise in " +
+            "screen space; Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019, 'A low-discrepancy sampler that distributes Monte Carlo " +
+            "errors as a blue noise in screen space' (SIGGRAPH Talks), seeds placed by swapping as in Heitz & Belcour 2019, Comput. Graph. " +
+            "Forum 38(4) (EGSR); tile made by tools/PathBench.BlueNoise",
+            false, 21201, [Randomization.None, Randomization.Owen], Randomization.Owen,
+            "the tile is optimised for errors seen through an Owen scramble common to all pixels: a Cranley-Patterson shift moves points " +
+            "across the dyadic cells that relation lives in, and a digital shift alone moves each pixel's one fixed scramble rigidly, " +
+            "so smooth integrands lose Owen's rate; digit permutations in base 2 are the digital shift",
+            s => new BlueNoiseSobolSampler(s))
+        {
+            PixelsCorrelatedBecause = "neighbouring pixels' seeds are chosen together so that their errors cancel (Heitz et al. 2019), from a tile that repeats every 64 pixels",
+        },
         Pmj("pmj02", "progressive multi-jittered (0,2): every power-of-2 prefix a (0,m,2)-net in base 2", Sequences.PmjVariant.ProgressiveMultiJittered02),
         Pmj("pmj", "progressive multi-jittered: stratified in 2-D squares and both 1-D projections", Sequences.PmjVariant.ProgressiveMultiJittered),
         Pmj("pj", "progressive jittered: stratified in 2-D squares", Sequences.PmjVariant.ProgressiveJittered),

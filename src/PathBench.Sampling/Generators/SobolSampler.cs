@@ -122,6 +122,10 @@ public sealed class AntitheticSampler(SamplerSpec spec, PointSampler inner) : Po
     public PointSampler Inner => inner;
 
     /// <inheritdoc/>
+    /// <remarks>The inner sampler's key (the same hash for every generator that does not override it).</remarks>
+    public override ulong PixelKey(int x, int y) => inner.PixelKey(x, y);
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         double x = inner.Sample(pixel, index >> 1, dimension);

@@ -53,6 +53,17 @@ public sealed class ConvergenceRateTests
     }
 
     [Fact]
+    public void Blue_noise_sobol_converges_at_minus_three_halves_when_smooth()
+    {
+        // Each pixel's points are an Owen-scrambled Sobol net (a fixed scramble from the tile, then a
+        // random common one), so Owen 1997 applies as for plain Owen-scrambled Sobol above, with the same
+        // window. The study's points come from pixel (0, 0), dimensions 0 and 1: a tabled pair.
+        var study = Study("bluenoise", Randomization.Owen, 64, 65536, 64);
+        Assert.InRange(Slope(study, "gaussian"), -1.6, -1.36);
+        Assert.InRange(Slope(study, "bilinear"), -1.6, -1.36);
+    }
+
+    [Fact]
     public void Owen_scrambled_pmj02_converges_at_minus_three_halves_when_smooth_and_minus_three_quarters_with_edges()
     {
         // Christensen, Kensler & Kilpatrick 2018 (their error plots): pmj02 matches Owen-scrambled

@@ -7,7 +7,7 @@ namespace PathBench.Sampling.Tests.Analysis;
 /// Every randomized generator must be unbiased: the mean of K independent replicate
 /// estimates lies within z·s/√K of the exact integral (central limit theorem, with s the
 /// replicate standard deviation). z = 4.0 gives a two-sided false-failure probability of
-/// 6.3e-5 per check; over the 340 checks below (34 combinations × 5 integrands × 2 counts) the family-wise rate stays under 2.2 %.
+/// 6.3e-5 per check; over the 360 checks below (36 combinations × 5 integrands × 2 counts) the family-wise rate stays under 2.3 %.
 /// </summary>
 public sealed class UnbiasednessTests
 {

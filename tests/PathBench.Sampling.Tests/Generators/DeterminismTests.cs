@@ -10,7 +10,7 @@ public sealed class DeterminismTests
         { "random", "none" }, { "jittered", "none" }, { "latin-hypercube", "none" }, { "multi-jittered", "none" },
         { "halton", "digit-permutation" }, { "hammersley", "cranley-patterson" }, { "sobol", "owen" }, { "sobol", "owen+antithetic" },
         { "pmj02", "owen" }, { "pmj02", "digital-shift" }, { "pmj02", "none" }, { "pmj", "owen" }, { "pj", "digital-shift" },
-        { "lattice", "cranley-patterson" }, { "lattice", "none" },
+        { "lattice", "cranley-patterson" }, { "lattice", "none" }, { "bluenoise", "owen" }, { "bluenoise", "none" }, { "bluenoise", "owen+antithetic" },
     };
 
     [Theory]

@@ -105,6 +105,8 @@ public sealed class RandomizationTests
         { "pmj", "digit-permutation" },
         { "lattice", "owen" },
         { "lattice", "digital-shift" },
+        { "bluenoise", "cranley-patterson" },
+        { "bluenoise", "digital-shift" },
     };
 
     [Theory]

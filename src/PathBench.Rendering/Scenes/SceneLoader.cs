@@ -1,5 +1,6 @@
 using System.Security.Cryptography;
 using System.Text;
+using PathBench.Rendering.Geometry;
 using PathBench.Sampling.Warps;
 using YamlDotNet.Core;
 using YamlDotNet.Core.Events;
@@ -330,7 +331,7 @@ public static class SceneLoader
                 : reader.Error(upNode, $"{cam.Of("up")} is parallel to the view direction (look_at - position)");
         }
 
-        double focus = view.Length; // focusing on the look_at point is what a user who set no distance expects
+        double focus = ScaledVector.Length(view); // focusing on the look_at point is what a user who set no distance expects
         if (cam.TryGet("focus_distance", out YamlNode focusNode))
         {
             focus = reader.Number(focusNode, cam.Of("focus_distance"));

@@ -48,6 +48,9 @@ public sealed class Film
     // The sums of the values too bright for the planes, by pixel index; locked because tiles store concurrently.
     private readonly SortedDictionary<int, WideSums> _wide = [];
 
+    // _wide.Count, readable without the lock so pixels of a film with no wide sums (nearly all) cost one read.
+    private int _widePixels;
+
     /// <summary>Allocates a film, after checking its size.</summary>
     public Film(int width, int height)
     {
@@ -76,16 +79,7 @@ public sealed class Film
     public long NonFiniteSamples { get; private set; }
 
     /// <summary>Pixels holding at least one channel value of magnitude ≥ <see cref="MaxValue"/>, kept in the wide sums.</summary>
-    public int WidePixels
-    {
-        get
-        {
-            lock (_wide)
-            {
-                return _wide.Count;
-            }
-        }
-    }
+    public int WidePixels => Volatile.Read(ref _widePixels);
 
     /// <summary>The accumulator bytes a film of this size needs; throws for non-positive sizes.</summary>
     public static long RequiredBytes(int width, int height)
@@ -173,9 +167,14 @@ public sealed class Film
 
     private WideSums? Wide(int i)
     {
+        if (Volatile.Read(ref _widePixels) == 0)
+        {
+            return null;
+        }
+
         lock (_wide)
         {
-            return _wide.Count == 0 ? null : _wide.GetValueOrDefault(i);
+            return _wide.GetValueOrDefault(i);
         }
     }
 
@@ -186,6 +185,7 @@ public sealed class Film
             if (!_wide.TryGetValue(i, out WideSums? mine))
             {
                 _wide.Add(i, mine = new WideSums());
+                Volatile.Write(ref _widePixels, _wide.Count);
             }
 
             mine.Add(sums);
@@ -266,6 +266,7 @@ public sealed class Film
         lock (_wide)
         {
             _wide.Add(i, sums);
+            Volatile.Write(ref _widePixels, _wide.Count);
         }
     }
 

@@ -17,8 +17,9 @@ public sealed class Camera
         Width = width;
         Height = height;
         _position = position;
-        _forward = (lookAt - position).Normalized();
-        _right = Vec3d.Cross(_forward, up).Normalized();
+        // Scaled first: a view direction or an 'up' of length 1e-200 is valid input, and its plain square underflows.
+        _forward = ScaledVector.Unit(lookAt - position);
+        _right = ScaledVector.Unit(Vec3d.Cross(_forward, ScaledVector.Tame(up)));
         _up = Vec3d.Cross(_right, _forward);
         _tanHalf = PortableMath.Tan(fovDegrees * Math.PI / 360);
         _aspect = (double)width / height;

@@ -66,7 +66,7 @@ public static class Renderer
         int tilesY = (camera.Height + TileSize - 1) / TileSize;
         int tiles = tilesX * tilesY;
         var tracer = new PathTracer(job.Scene, job.Options);
-        long rays = 0, nonFinite = 0, outOfRange = 0;
+        long rays = 0, nonFinite = 0;
         int done = 0;
         var clock = Stopwatch.StartNew();
         var parallel = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, job.Threads), CancellationToken = cancel };
@@ -74,7 +74,7 @@ public static class Renderer
         {
             int x0 = tile % tilesX * TileSize, y0 = tile / tilesX * TileSize;
             int x1 = Math.Min(x0 + TileSize, camera.Width), y1 = Math.Min(y0 + TileSize, camera.Height);
-            long tileRays = 0, tileNonFinite = 0, tileOutOfRange = 0;
+            long tileRays = 0, tileNonFinite = 0;
             for (int y = y0; y < y1; y++)
             {
                 for (int x = x0; x < x1; x++)
@@ -93,17 +93,15 @@ public static class Renderer
                     // Each pixel belongs to one tile and so to one thread: no locking.
                     film.Store(x, y, acc);
                     tileNonFinite += acc.NonFinite;
-                    tileOutOfRange += acc.OutOfRange;
                 }
             }
 
             Interlocked.Add(ref rays, tileRays);
             Interlocked.Add(ref nonFinite, tileNonFinite);
-            Interlocked.Add(ref outOfRange, tileOutOfRange);
             progress?.Invoke(Interlocked.Increment(ref done), tiles);
         });
 
-        film.AddDropped(nonFinite, outOfRange);
+        film.AddDropped(nonFinite);
         return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
     }
 }

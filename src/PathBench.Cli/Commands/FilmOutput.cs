@@ -28,6 +28,19 @@ internal static class FilmOutput
         return 0;
     }
 
+    /// <summary>
+    /// Prints a warning on <paramref name="output"/> when samples were dropped (NaN or infinite
+    /// values: counted, never averaged in), so a partly empty image is never reported as clean.
+    /// </summary>
+    public static void WarnDropped(TextWriter output, string outPath, Film film)
+    {
+        if (film.NonFiniteSamples > 0)
+        {
+            output.WriteLine(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"pathbench: warning: {outPath}: {film.NonFiniteSamples} non-finite samples (NaN or infinite) were dropped; their pixels average the remaining samples"));
+        }
+    }
+
     /// <summary>Writes the sidecar: the identity, the ranges, then <paramref name="more"/> fields.</summary>
     /// <remarks>
     /// <c>scene_sha256</c> is the scene file's own hash (what studies check a reference against), written when
@@ -81,7 +94,7 @@ internal static class FilmOutput
                 w.WriteNumber("width", film.Width);
                 w.WriteNumber("height", film.Height);
                 w.WriteNumber("nonfinite_samples", film.NonFiniteSamples);
-                w.WriteNumber("out_of_range_samples", film.OutOfRangeSamples);
+                w.WriteNumber("wide_pixels", film.WidePixels);
                 more(w);
                 w.WriteEndObject();
             });

@@ -104,6 +104,7 @@ internal static class MergeCommand
             });
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {files.Length} parts, {identity.Width}x{identity.Height}, {spp} spp, {seconds:F2} s{(gaps.Count > 0 ? ", missing " + string.Join(" ", gaps) : "")}"));
+            FilmOutput.WarnDropped(io.Out, outPath, merged!);
             return 0;
         });
         return command;

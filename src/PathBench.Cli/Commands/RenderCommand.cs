@@ -186,6 +186,7 @@ internal static class RenderCommand
 
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {result.Done.Count} spp {result.Done}, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples{(stoppedBy == "complete" ? "" : ", stopped by " + stoppedBy.Replace('_', ' '))}"));
+            FilmOutput.WarnDropped(io.Out, outPath, result.Film);
             return result.Interrupted ? RenderSession.InterruptedExitCode : 0;
         });
         return command;

@@ -86,8 +86,7 @@ public sealed record RenderIdentity(string Version, string SceneSha256, IReadOnl
 /// <param name="Identity">What the sums depend on.</param>
 /// <param name="Ranges">The sample ranges held, sorted and disjoint.</param>
 /// <param name="NonFiniteSamples">Samples dropped as NaN or infinite.</param>
-/// <param name="OutOfRangeSamples">Samples dropped as too large for the fixed point.</param>
-public sealed record AccumulationHeader(RenderIdentity Identity, IReadOnlyList<SampleRange> Ranges, long NonFiniteSamples, long OutOfRangeSamples);
+public sealed record AccumulationHeader(RenderIdentity Identity, IReadOnlyList<SampleRange> Ranges, long NonFiniteSamples);
 
 /// <summary>A film's exact sums over <paramref name="Ranges"/> with what they depend on.</summary>
 /// <param name="Identity">What the sums depend on.</param>

@@ -1,6 +1,7 @@
 using System.Buffers.Binary;
 using System.Globalization;
 using System.IO.Compression;
+using System.Numerics;
 using System.Runtime.InteropServices;
 using System.Security.Cryptography;
 using System.Text;
@@ -20,7 +21,14 @@ public static class AccumulationFile
     public static ReadOnlySpan<byte> Magic => "PBACCUM\n"u8;
 
     /// <summary>The format version this code writes and reads.</summary>
-    public const uint FormatVersion = 1;
+    public const uint FormatVersion = 2;
+
+    /// <summary>
+    /// Longest wide sum in bytes: a channel value v below 2^1024 gives |q| = |v| · 2^32 &lt; 2^1056,
+    /// so a sum over fewer than 2^31 samples is below 2^1087 (137 bytes with the sign) and a sum
+    /// of squares below 2^2143 (269 bytes).
+    /// </summary>
+    public const int MaxWideBytes = 272;
 
     /// <summary>Longest string field in bytes (version, configuration names and values).</summary>
     public const int MaxStringBytes = 1024;
@@ -62,6 +70,7 @@ public static class AccumulationFile
                     midWrite?.Invoke();
                     WritePlane<UInt128>(zlib, film.SquaresLowPlane);
                     WritePlane<uint>(zlib, film.SquaresHighPlane);
+                    WriteWide(zlib, film.WideEntries());
                 }
 
                 Span<byte> length = stackalloc byte[8];
@@ -142,7 +151,7 @@ public static class AccumulationFile
 
             // Every field is checked and the content is what was written: only now allocate.
             var film = new Film(header.Identity.Width, header.Identity.Height);
-            film.SetDropped(header.NonFiniteSamples, header.OutOfRangeSamples);
+            film.SetDropped(header.NonFiniteSamples);
             file.Position = payloadStart;
             using (var zlib = new ZLibStream(new BoundedStream(file, payloadLength), CompressionMode.Decompress))
             {
@@ -152,6 +161,7 @@ public static class AccumulationFile
                     ReadPlane<Int128>(zlib, film.SumPlane, path);
                     ReadPlane<UInt128>(zlib, film.SquaresLowPlane, path);
                     ReadPlane<uint>(zlib, film.SquaresHighPlane, path);
+                    ReadWide(zlib, film, path);
                     if (zlib.ReadByte() != -1)
                     {
                         throw new AccumulationFileException(path, "the sums hold more bytes than a film of this size");
@@ -173,7 +183,7 @@ public static class AccumulationFile
         // Every sample of every range either landed in its pixel or was counted as dropped.
         long samples = header.Ranges.Sum(r => (long)r.End - r.First);
         long expected = checked(samples * header.Identity.Width * header.Identity.Height);
-        long counted = header.NonFiniteSamples + header.OutOfRangeSamples;
+        long counted = header.NonFiniteSamples;
         foreach (long c in film.CountPlane)
         {
             if (c < 0 || c > samples)
@@ -214,7 +224,89 @@ public static class AccumulationFile
         }
 
         w.Write(a.Film.NonFiniteSamples);
-        w.Write(a.Film.OutOfRangeSamples);
+    }
+
+    private static void WriteWide(Stream s, IReadOnlyList<KeyValuePair<int, WideSums>> entries)
+    {
+        using var w = new BinaryWriter(s, Encoding.UTF8, leaveOpen: true);
+        w.Write(entries.Count);
+        foreach ((int pixel, WideSums sums) in entries)
+        {
+            w.Write(pixel);
+            for (int c = 0; c < 3; c++)
+            {
+                WriteInteger(w, sums.Sum[c]);
+                WriteInteger(w, sums.Squares[c]);
+            }
+        }
+    }
+
+    private static void WriteInteger(BinaryWriter w, BigInteger value)
+    {
+        byte[] bytes = value.ToByteArray(isUnsigned: false, isBigEndian: false);
+        w.Write((ushort)bytes.Length);
+        w.Write(bytes);
+    }
+
+    private static void ReadWide(Stream s, Film film, string path)
+    {
+        Span<byte> word = stackalloc byte[4];
+        ReadExact(s, word, path);
+        int count = BinaryPrimitives.ReadInt32LittleEndian(word);
+        long pixels = (long)film.Width * film.Height;
+        if (count < 0 || count > pixels)
+        {
+            throw new AccumulationFileException(path, $"wide pixel count {count} is outside [0, {pixels}]");
+        }
+
+        byte[] buffer = new byte[MaxWideBytes];
+        int previous = -1;
+        for (int k = 0; k < count; k++)
+        {
+            ReadExact(s, word, path);
+            int pixel = BinaryPrimitives.ReadInt32LittleEndian(word);
+            if (pixel <= previous || pixel >= pixels || film.CountPlane[pixel] == 0)
+            {
+                throw new AccumulationFileException(path, $"wide pixel {k} has index {pixel}: not after {previous}, outside the film, or a pixel with no samples");
+            }
+
+            var sums = new WideSums();
+            for (int c = 0; c < 3; c++)
+            {
+                sums.Sum[c] = ReadInteger(s, buffer, path);
+                sums.Squares[c] = ReadInteger(s, buffer, path);
+                if (sums.Squares[c].Sign < 0)
+                {
+                    throw new AccumulationFileException(path, $"wide pixel {pixel} has a negative sum of squares");
+                }
+            }
+
+            film.SetWide(pixel, sums);
+            previous = pixel;
+        }
+    }
+
+    private static BigInteger ReadInteger(Stream s, byte[] buffer, string path)
+    {
+        Span<byte> length = buffer.AsSpan(0, 2);
+        ReadExact(s, length, path);
+        int n = BinaryPrimitives.ReadUInt16LittleEndian(length);
+        if (n == 0 || n > MaxWideBytes)
+        {
+            throw new AccumulationFileException(path, $"a wide sum of {n} bytes is outside [1, {MaxWideBytes}]");
+        }
+
+        Span<byte> bytes = buffer.AsSpan(0, n);
+        ReadExact(s, bytes, path);
+        return new BigInteger(bytes, isUnsigned: false, isBigEndian: false);
+    }
+
+    private static void ReadExact(Stream s, Span<byte> bytes, string path)
+    {
+        if (s.ReadAtLeast(bytes, bytes.Length, throwOnEndOfStream: false) < bytes.Length)
+        {
+            throw new AccumulationFileException(path, "the sums end before the film's last pixel");
+        }
     }
 
     private static void WriteString(BinaryWriter w, string text)
@@ -244,11 +336,7 @@ public static class AccumulationFile
         for (int i = 0; i < plane.Length; i += SliceElements)
         {
             Span<byte> bytes = MemoryMarshal.AsBytes(plane.AsSpan(i, Math.Min(SliceElements, plane.Length - i)));
-            int got = s.ReadAtLeast(bytes, bytes.Length, throwOnEndOfStream: false);
-            if (got < bytes.Length)
-            {
-                throw new AccumulationFileException(path, "the sums end before the film's last pixel");
-            }
+            ReadExact(s, bytes, path);
         }
     }
 
@@ -295,6 +383,12 @@ public static class AccumulationFile
             }
 
             uint format = UInt32("format version");
+            if (format == 1)
+            {
+                // Version 1 dropped sample values of 2^32 or more (counting them) and had no wide sums: its image cannot be completed exactly.
+                throw new AccumulationFileException(path, $"format version 1 (written by a PathBench that dropped sample values of 2^32 or more); this PathBench reads version {FormatVersion}: render it again");
+            }
+
             if (format != FormatVersion)
             {
                 throw new AccumulationFileException(path, $"format version {format}; this PathBench reads version {FormatVersion}");
@@ -340,13 +434,13 @@ public static class AccumulationFile
                 ranges.Add(new SampleRange(first, end));
             }
 
-            long nonFinite = Int64("non-finite count"), outOfRange = Int64("out-of-range count");
-            if (nonFinite < 0 || outOfRange < 0)
+            long nonFinite = Int64("non-finite count");
+            if (nonFinite < 0)
             {
-                throw Bad($"negative dropped-sample count ({nonFinite}, {outOfRange})");
+                throw Bad($"negative non-finite sample count {nonFinite}");
             }
 
-            return new AccumulationHeader(new RenderIdentity(version, sha, configuration, width, height), ranges, nonFinite, outOfRange);
+            return new AccumulationHeader(new RenderIdentity(version, sha, configuration, width, height), ranges, nonFinite);
         }
 
         public long Int64(string field) => BinaryPrimitives.ReadInt64LittleEndian(Bytes(8, field));

@@ -112,19 +112,31 @@ public struct Primitive
 
     private readonly double IntersectSphere(in Ray ray, double tMax)
     {
-        // Half-b form with the discriminant computed from the distance to the closest
-        // approach, which loses less precision for small spheres far away (common practice).
+        // Haines, Günther & Akenine-Möller (2019), "Precision Improvements for Ray/Sphere
+        // Intersection", Ray Tracing Gems ch. 7: the discriminant from the distance to the closest
+        // approach, r² − |f − (f·d)d|², and the stable roots q = −b − sign(b)·√Δ, t0 = c/q, t1 = q
+        // (d is unit). Beyond that chapter, c = |f|² − r² is taken exactly when it cancels: for a
+        // ray starting near a huge sphere (a ground of radius 1e20 seen from 1 above it) |f|² and r²
+        // agree in every bit a double holds, and a plain c is pure rounding noise.
         Vec3d oc = ray.Origin - A;
         double b = Vec3d.Dot(oc, ray.Direction);
         Vec3d perp = oc - ray.Direction * b;
-        double disc = Radius * Radius - perp.LengthSquared;
+        double r2 = Radius * Radius;
+        double disc = r2 - perp.LengthSquared;
         if (disc < 0)
         {
             return double.PositiveInfinity;
         }
 
         double s = Math.Sqrt(disc);
-        double c = oc.LengthSquared - Radius * Radius;
+        double f2 = oc.LengthSquared;
+        double c = f2 - r2;
+        if (Math.Abs(c) < CancellationBound * (f2 + r2))
+        {
+            // Plain c is off by up to about 2^-52 (|f|² + r²): more than 2^-42 of c here.
+            c = OffsetSquaredLessRadiusSquared(ray.Origin, A, Radius);
+        }
+
         // Stable roots: q = −b − sign(b)·s, t0 = c/q, t1 = q (direction is unit).
         double q = b > 0 ? -b - s : -b + s;
         double t0 = q, t1 = q != 0 ? c / q : 0;
@@ -139,6 +151,87 @@ public struct Primitive
         }
 
         return t1 > 0 && t1 < tMax ? t1 : double.PositiveInfinity;
+    }
+
+    // 2^-10: where |c| is below this fraction of |f|² + r², the plain difference has lost ten or more bits.
+    private const double CancellationBound = 1.0 / 1024;
+
+    /// <summary>
+    /// |o − a|² − r², correctly rounded but for the last bit or so, for the rays that start on or
+    /// near a sphere. Each difference o − a is split into its rounded value and exact error (TwoSum,
+    /// Knuth 1969), each square and product into its rounded value and exact error (TwoProduct by
+    /// fused multiply-add, Dekker 1971, "A floating-point technique for extending the available
+    /// precision", Numer. Math. 18), and the up to 20 exact terms are added without error into a
+    /// nonoverlapping expansion (Shewchuk 1997, "Adaptive precision floating-point arithmetic and
+    /// fast robust geometric predicates", Discrete Comput. Geom. 18, Grow-Expansion). Every step is
+    /// an IEEE 754 basic operation (fma included), so the bits are the same on every machine.
+    /// </summary>
+    private static double OffsetSquaredLessRadiusSquared(Vec3d o, Vec3d a, double r)
+    {
+        Span<double> expansion = stackalloc double[24];
+        int n = 0;
+        AddSquaredDifference(expansion, ref n, o.X, a.X);
+        AddSquaredDifference(expansion, ref n, o.Y, a.Y);
+        AddSquaredDifference(expansion, ref n, o.Z, a.Z);
+        double r2 = r * r;
+        Grow(expansion, ref n, -r2);
+        Grow(expansion, ref n, -Math.FusedMultiplyAdd(r, r, -r2));
+        double sum = 0;
+        for (int i = 0; i < n; i++)
+        {
+            sum += expansion[i]; // ascending, nonoverlapping: the rounding happens in the last additions only
+        }
+
+        return sum;
+    }
+
+    // (x − y)² exactly: x − y = hi + lo exactly, and (hi + lo)² = hi² + 2·hi·lo + lo², each product an exact pair.
+    private static void AddSquaredDifference(Span<double> expansion, ref int n, double x, double y)
+    {
+        double hi = x - y;
+        double lo = TwoSumError(x, -y, hi);
+        AddProduct(expansion, ref n, hi, hi);
+        AddProduct(expansion, ref n, 2 * hi, lo);
+        AddProduct(expansion, ref n, lo, lo);
+    }
+
+    private static void AddProduct(Span<double> expansion, ref int n, double x, double y)
+    {
+        double p = x * y;
+        Grow(expansion, ref n, p);
+        Grow(expansion, ref n, Math.FusedMultiplyAdd(x, y, -p));
+    }
+
+    // Shewchuk's Grow-Expansion with zero elimination: adds b to the expansion without error.
+    private static void Grow(Span<double> expansion, ref int n, double b)
+    {
+        if (b == 0)
+        {
+            return;
+        }
+
+        double q = b;
+        int m = 0;
+        for (int i = 0; i < n; i++)
+        {
+            double sum = q + expansion[i];
+            double error = TwoSumError(q, expansion[i], sum);
+            q = sum;
+            if (error != 0)
+            {
+                expansion[m++] = error;
+            }
+        }
+
+        expansion[m++] = q;
+        n = m;
+    }
+
+    // Knuth's TwoSum: the exact rounding error of sum = fl(x + y), for any magnitudes.
+    private static double TwoSumError(double x, double y, double sum)
+    {
+        double yVirtual = sum - x;
+        return (x - (sum - yVirtual)) + (y - yVirtual);
     }
 
     private readonly double IntersectPlanar(in Ray ray, double tMax)

@@ -1,5 +1,6 @@
 using System.Security.Cryptography;
 using System.Text;
+using PathBench.Rendering.Geometry;
 using PathBench.Sampling.Warps;
 using YamlDotNet.Core;
 using YamlDotNet.Core.Events;
@@ -30,6 +31,16 @@ public static class SceneLoader
 
     /// <summary>Largest scene file <see cref="Load"/> reads, 64 MiB; scenes are hand-written or small script output, meshes live in OBJ files.</summary>
     public const long MaxFileBytes = 64L << 20;
+
+    /// <summary>Most shapes in 'shapes', 2^16: a scene is hand-written or small script output; many triangles belong in a mesh file.</summary>
+    public const int MaxShapes = 1 << 16;
+
+    /// <summary>
+    /// Most nodes all aliases together may stand for, 100 000 (each alias counts the nodes of what it
+    /// repeats): enough to share materials and a few shapes, far below what would make loading or
+    /// rendering blow up (the "billion laughs" shape of input, CWE-776).
+    /// </summary>
+    public const long MaxAliasNodes = 100_000;
 
     /// <summary>Deepest nesting of YAML collections, 32; a valid scene needs 6. Deeper input would overflow the stack of the YAML library.</summary>
     public const int MaxNesting = 32;
@@ -129,8 +140,10 @@ public static class SceneLoader
     /// <summary>
     /// Parses the YAML twice: first as an event stream, to reject what the representation model
     /// cannot take safely (nesting deep enough to overflow its recursion, recursive or undefined
-    /// aliases, collections as keys) and what a scene never uses (tags, several documents); then
-    /// into the representation model, whose nodes carry the positions every later message needs.
+    /// aliases, aliases that expand to more than <see cref="MaxAliasNodes"/> nodes, more than
+    /// <see cref="MaxShapes"/> shapes, collections as keys) and what a scene never uses (tags,
+    /// several documents); then into the representation model, whose nodes carry the positions
+    /// every later message needs. Nothing is built before the first pass has accepted the text.
     /// </summary>
     internal static YamlNode ReadDocument(string text, YamlNodeReader reader)
     {
@@ -138,9 +151,11 @@ public static class SceneLoader
         try
         {
             var parser = new Parser(new StringReader(text));
-            // One frame per open collection: its anchor (or null) and, for a mapping, whether the next node is a key.
-            var open = new Stack<(bool IsMapping, bool ExpectKey, string? Anchor)>();
-            var complete = new HashSet<string>(StringComparer.Ordinal);
+            var open = new Stack<Frame>();
+            // The size, in nodes, of every anchored node once complete (its aliases stand for that many).
+            var complete = new Dictionary<string, long>(StringComparer.Ordinal);
+            string? topKey = null;
+            long aliasNodes = 0;
             while (parser.MoveNext())
             {
                 ParsingEvent e = parser.Current!;
@@ -154,34 +169,44 @@ public static class SceneLoader
                         string name = alias.Value.Value;
                         if (open.Any(f => f.Anchor == name))
                             throw reader.Error(e.Start, $"alias '*{YamlNodeReader.Shown(name)}' refers to a collection that contains it");
-                        if (!complete.Contains(name))
+                        if (!complete.TryGetValue(name, out long size))
                             throw reader.Error(e.Start, $"alias '*{YamlNodeReader.Shown(name)}' refers to no anchor defined before it");
                         if (IsKey(open))
                             throw reader.Error(e.Start, "keys must be written out, not aliases");
-                        NodeDone(open);
+                        aliasNodes += size;
+                        if (aliasNodes > MaxAliasNodes)
+                        {
+                            throw reader.Error(e.Start, FormattableString.Invariant(
+                                $"aliases expand to more than {MaxAliasNodes} nodes (this one, '*{YamlNodeReader.Shown(name)}', to {size}); write repeated shapes out or put repeated geometry in a mesh"));
+                        }
+
+                        NodeDone(open, size, reader, e.Start);
                         break;
                     case NodeEvent node:
                         if (!node.Tag.IsEmpty)
                             throw reader.Error(e.Start, $"YAML tags are not used in scene files, got '{YamlNodeReader.Shown(node.Tag.Value)}'");
                         string? anchor = node.Anchor.IsEmpty ? null : node.Anchor.Value;
-                        if (node is Scalar)
+                        if (node is Scalar scalar)
                         {
+                            if (open.Count == 1 && IsKey(open))
+                                topKey = scalar.Value;
                             if (anchor is not null)
-                                complete.Add(anchor);
-                            NodeDone(open);
+                                complete[anchor] = 1;
+                            NodeDone(open, 1, reader, e.Start);
                             break;
                         }
                         if (IsKey(open))
                             throw reader.Error(e.Start, $"keys must be names, got a {(node is MappingStart ? "mapping" : "sequence")}");
                         if (open.Count >= MaxNesting)
                             throw reader.Error(e.Start, FormattableString.Invariant($"collections nest deeper than {MaxNesting} levels"));
-                        open.Push((node is MappingStart, true, anchor));
+                        bool isShapes = node is SequenceStart && open.Count == 1 && topKey == "shapes";
+                        open.Push(new Frame(node is MappingStart, anchor, isShapes, e.Start));
                         break;
                     case SequenceEnd or MappingEnd:
-                        (_, _, string? closed) = open.Pop();
-                        if (closed is not null)
-                            complete.Add(closed);
-                        NodeDone(open);
+                        Frame closed = open.Pop();
+                        if (closed.Anchor is not null)
+                            complete[closed.Anchor] = closed.Size;
+                        NodeDone(open, closed.Size, reader, closed.Start);
                         break;
                 }
             }
@@ -266,16 +291,46 @@ public static class SceneLoader
         return new Mark(0, l, col);
     }
 
-    private static bool IsKey(Stack<(bool IsMapping, bool ExpectKey, string? Anchor)> open) =>
-        open.Count > 0 && open.Peek() is { IsMapping: true, ExpectKey: true };
+    private static bool IsKey(Stack<Frame> open) => open.Count > 0 && open.Peek() is { IsMapping: true, ExpectKey: true };
 
-    private static void NodeDone(Stack<(bool IsMapping, bool ExpectKey, string? Anchor)> open)
+    /// <summary>Counts a finished node of <paramref name="size"/> nodes into the collection it belongs to.</summary>
+    private static void NodeDone(Stack<Frame> open, long size, YamlNodeReader reader, Mark start)
     {
-        if (open.Count > 0 && open.Peek().IsMapping)
+        if (open.Count == 0)
+            return;
+        Frame parent = open.Peek();
+        parent.Size += size;
+        if (parent.IsMapping)
         {
-            (bool m, bool k, string? a) = open.Pop();
-            open.Push((m, !k, a));
+            parent.ExpectKey = !parent.ExpectKey;
         }
+        else if (parent.IsShapes && ++parent.Items > MaxShapes)
+        {
+            throw reader.Error(start, FormattableString.Invariant(
+                $"'shapes' holds more than {MaxShapes} shapes (2^16); put large numbers of triangles in a mesh file"));
+        }
+    }
+
+    /// <summary>One open collection of the first pass.</summary>
+    private sealed class Frame(bool isMapping, string? anchor, bool isShapes, Mark start)
+    {
+        /// <summary>Where the collection starts, for messages about it as an item.</summary>
+        public Mark Start { get; } = start;
+
+        public bool IsMapping { get; } = isMapping;
+
+        public string? Anchor { get; } = anchor;
+
+        /// <summary>Whether this is the top-level 'shapes' sequence, whose items are counted.</summary>
+        public bool IsShapes { get; } = isShapes;
+
+        /// <summary>For a mapping, whether the next node is a key.</summary>
+        public bool ExpectKey { get; set; } = true;
+
+        /// <summary>Nodes so far, this collection included, with aliases counted at their anchor's size.</summary>
+        public long Size { get; set; } = 1;
+
+        public int Items { get; set; }
     }
 
     private static CameraDescription ReadCamera(YamlNodeReader reader, YamlNode node)
@@ -330,7 +385,7 @@ public static class SceneLoader
                 : reader.Error(upNode, $"{cam.Of("up")} is parallel to the view direction (look_at - position)");
         }
 
-        double focus = view.Length; // focusing on the look_at point is what a user who set no distance expects
+        double focus = ScaledVector.Length(view); // focusing on the look_at point is what a user who set no distance expects
         if (cam.TryGet("focus_distance", out YamlNode focusNode))
         {
             focus = reader.Number(focusNode, cam.Of("focus_distance"));

@@ -101,7 +101,8 @@ public sealed class AccumulationFileTests
     {
         { "empty", _ => [], "truncated: the file ends at byte 0, inside the magic" },
         { "foreign (a PNG signature)", b => [0x89, (byte)'P', (byte)'N', (byte)'G', 13, 10, 26, 10, .. b[8..]], "not a PathBench accumulation file" },
-        { "future format version", b => Patch32(b, 8, 2), "format version 2; this PathBench reads version 1" },
+        { "future format version", b => Patch32(b, 8, 3), "format version 3; this PathBench reads version 2" },
+        { "version 1, which dropped bright samples", b => Patch32(b, 8, 1), "format version 1 (written by a PathBench that dropped sample values of 2^32 or more); this PathBench reads version 2: render it again" },
         { "truncated in the header", b => b[..70], "truncated: the file ends at byte 70, inside the configuration field name" },
         { "truncated in the sums", b => b[..(b.Length - 100)], "truncated or padded" },
         { "one sum byte flipped", b => Flip(b, b.Length - 60), "checksum mismatch" },

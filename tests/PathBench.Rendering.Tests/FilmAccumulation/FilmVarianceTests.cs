@@ -21,6 +21,14 @@ public sealed class FilmVarianceTests
         // Near the top of the range: squares near 2^62 ·2^64, so the 128-bit low words carry.
         { "large_2^31", Math.ScaleB(1, 31), Math.ScaleB(1, 31) - 1, 8 },
         { "signed_-5_and_3", -5, 3, 4 },
+        // Straddling 2^32: a goes to the fixed-point planes, b to the wide sums; both hold q = v · 2^32 exactly.
+        { "straddling_2^32", Math.ScaleB(1, 32) - 1024, Math.ScaleB(1, 32) + 4096, 6 },
+        // Far above the planes, bright and quiet: 2^80 apart at 10^30 (ulp 2^47), a variance 2^-39 of the squared mean.
+        { "bright_1e30", 1e30, 1e30 + Math.ScaleB(1, 80), 16 },
+        // Near the top of float: the sums reach 2^159 · n, the squares 2^318 · n.
+        { "sky_1e38_and_3e38", 1e38, 3e38, 4 },
+        // Beyond float, within double: means and variances that double still holds.
+        { "beyond_float_1e150", -1e150, 2e150, 8 },
     };
 
     [Theory]
@@ -36,7 +44,8 @@ public sealed class FilmVarianceTests
 
         film.Store(1, 0, acc);
         double expected = (b - a) * (b - a) / 4 * n / (n - 1);
-        Assert.Equal((a + b) / 2, film.Mean(1, 0, 0), 1e-15 * Math.Max(1, Math.Abs(a)));
+        Assert.Equal((a + b) / 2, film.Mean(1, 0, 0), 1e-15 * Math.Max(1, Math.Max(Math.Abs(a), Math.Abs(b))));
+        Assert.Equal(a, film.Mean(1, 0, 1), 1e-15 * Math.Max(1, Math.Abs(a)));
         double relative = Math.Abs(film.Variance(1, 0, 0) - expected) / expected;
         Assert.True(relative < 1e-14, FormattableString.Invariant($"{name}: variance {film.Variance(1, 0, 0):R}, closed form {expected:R}"));
         Assert.Equal(expected / n, film.VarianceOfMean(1, 0, 0), expected / n * 1e-14);

@@ -62,6 +62,10 @@ public sealed class MalformedSceneTests(CorpusMeshes meshes) : IClassFixture<Cor
         // YAML 1.2.2 allows cycles; a scene refuses them (common practice)
         ["recursive_alias"] = new(Scene(extra: "render: &r { spp: *r }\n"),
             "alias '*r' refers to a collection that contains it", 4, 19),
+        // A 1000-node anchor repeated by 101 aliases: 101 000 nodes, over the 100 000 aliases may stand for (our limit, scenes/README.md).
+        // "big: &b [" is 9 characters, then 999 "0, " and a "0]"; the 101st "*b" of "more: [*b, *b, ..." starts at column 8 + 100 · 4.
+        ["aliases_expand_too_far"] = new(Scene(extra: "big: &b [" + string.Concat(Enumerable.Repeat("0, ", 998)) + "0]\nmore: [" + string.Join(", ", Enumerable.Repeat("*b", 101)) + "]\n"),
+            "aliases expand to more than 100000 nodes (this one, '*b', to 1000); write repeated shapes out or put repeated geometry in a mesh", 5, 408),
         ["nesting_too_deep"] = new(Scene(extra: "deep: [[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]]\n"),
             "collections nest deeper than 32 levels", 4, 38),
         // YAML 1.2.2 '? ' complex key (from memory); scene keys are names

@@ -95,15 +95,53 @@ public sealed class SceneLimitTests
     }
 
     [Fact]
-    public void An_alias_bomb_is_refused_quickly()
+    public void An_alias_bomb_is_refused_while_parsing()
     {
-        // Nine levels of ten aliases each would be 10^9 nodes if expanded. YamlDotNet shares aliased nodes, and the
-        // loader only descends into a value after checking its kind and size, so nothing here is walked.
+        // Nine levels of ten aliases each would be 10^9 nodes if expanded. The first pass counts what each alias stands
+        // for: l1 … l3 stand for 110 + 1110 + 11 110 nodes, each *l3 for 11 111 more, so the 8th on line 8 crosses 100 000.
         var text = new StringBuilder(Head).Append("shapes: [ { type: sphere, center: [0, 0, 0], radius: 1, material: wall } ]\n");
         text.Append("l0: &l0 [1, 1, 1, 1, 1, 1, 1, 1, 1, 1]\n");
         for (int i = 1; i <= 9; i++)
             text.Append($"l{i}: &l{i} [").AppendJoin(", ", Enumerable.Repeat($"*l{i - 1}", 10)).Append("]\n");
         SceneException e = Assert.Throws<SceneException>(() => SceneLoader.Parse(text.ToString(), "room.yaml", "."));
-        Assert.Equal("room.yaml:4:1: unknown key 'l0' in the scene; expected one of: camera, render, environment, materials, shapes", e.Message);
+        // "l4: &l4 [" is 9 characters; the 8th "*l3" starts at column 10 + 7 · 5.
+        Assert.Equal("room.yaml:8:45: aliases expand to more than 100000 nodes (this one, '*l3', to 11111); write repeated shapes out or put repeated geometry in a mesh", e.Message);
+    }
+
+    [Fact]
+    public void A_hundred_thousand_aliased_shapes_are_refused_before_any_is_built()
+    {
+        // The reported case: one anchored sphere and 100 000 "- *s0" lines (1.3 MB), which loaded as 100 000 coincident
+        // spheres and rendered for minutes. The sphere is 12 nodes (mapping, 4 keys, 4 values, 3 centre items), so the
+        // 8334th alias crosses 100 000; the anchor is on line 4 and alias k on line 4 + k, its '*' in column 5.
+        var text = new StringBuilder(Head).Append("shapes:\n  - &s0 { type: sphere, center: [0, 0, 0], radius: 1, material: wall }\n");
+        for (int i = 0; i < 100_000; i++)
+            text.Append("  - *s0\n");
+        SceneException e = Assert.Throws<SceneException>(() => SceneLoader.Parse(text.ToString(), "many.yaml", "."));
+        Assert.Equal("many.yaml:8338:5: aliases expand to more than 100000 nodes (this one, '*s0', to 12); write repeated shapes out or put repeated geometry in a mesh", e.Message);
+    }
+
+    [Fact]
+    public void Aliases_within_the_limit_load()
+    {
+        // 8333 aliases of the 12-node sphere stand for 99 996 nodes: accepted, one shape each.
+        var text = new StringBuilder(Head).Append("shapes:\n  - &s0 { type: sphere, center: [0, 0, 0], radius: 1, material: wall }\n");
+        for (int i = 0; i < 8333; i++)
+            text.Append("  - *s0\n");
+        Assert.Equal(8334, SceneLoader.Parse(text.ToString(), "many.yaml", ".").Shapes.Count);
+    }
+
+    [Fact]
+    public void More_than_two_to_the_16_shapes_are_refused_while_parsing()
+    {
+        // Written out (no aliases): 65 536 shapes are the limit, the 65 537th (line 3 + 65 537) is refused at its '{'.
+        const string shape = "  - { type: sphere, center: [0, 0, 0], radius: 1, material: wall }\n";
+        var text = new StringBuilder(Head).Append("shapes:\n");
+        for (int i = 0; i < SceneLoader.MaxShapes; i++)
+            text.Append(shape);
+        Assert.Equal(SceneLoader.MaxShapes, SceneLoader.Parse(text.ToString(), "crowd.yaml", ".").Shapes.Count);
+        text.Append(shape);
+        SceneException e = Assert.Throws<SceneException>(() => SceneLoader.Parse(text.ToString(), "crowd.yaml", "."));
+        Assert.Equal("crowd.yaml:65540:5: 'shapes' holds more than 65536 shapes (2^16); put large numbers of triangles in a mesh file", e.Message);
     }
 }

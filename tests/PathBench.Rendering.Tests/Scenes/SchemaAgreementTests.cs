@@ -79,6 +79,7 @@ public sealed class SchemaAgreementTests
     [Fact]
     public void Bounds_in_the_schema_are_the_loaders()
     {
+        Assert.Equal(SceneLoader.MaxShapes, Schema().GetProperty("properties").GetProperty("shapes").GetProperty("maxItems").GetInt32());
         JsonElement defs = Schema().GetProperty("$defs");
         JsonElement render = defs.GetProperty("render").GetProperty("properties");
         Assert.Equal(SceneLoader.MaxSpp, render.GetProperty("spp").GetProperty("maximum").GetInt32());

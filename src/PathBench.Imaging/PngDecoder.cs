@@ -577,7 +577,8 @@ internal static class PngDecoder
             }
 
             var h = new PngHeader((int)width, (int)height, bitDepth, (PngColourType)colourType, d[12] == 1);
-            limits.Check(fileName, width, height, h.Channels);
+            // The inflated data, the de-interlaced copy (Adam7 only) and the image.
+            limits.Check(fileName, width, height, (Int128)h.FilteredBytes + (h.Interlaced ? h.RasterBytes : 0));
             long values = (long)width * height * RgbImage.Channels;
             if (h.FilteredBytes > Array.MaxLength || h.RasterBytes > Array.MaxLength || values > Array.MaxLength)
             {

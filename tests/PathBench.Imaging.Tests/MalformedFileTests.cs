@@ -248,7 +248,7 @@ public sealed class MalformedFileTests
             new("pfm_magic_with_extra_letter", () => Ascii("PFF\n4 3\n-1\n", 48), "unknown image format"),
             new("pfm_negative_width", () => Ascii("PF\n-4 3\n-1.0\n", 144), "width -4 is out of range"),
             new("pfm_zero_height", () => Ascii("PF\n4 0\n-1.0\n", 144), "height 0 is out of range"),
-            new("pfm_huge_size", () => Ascii("PF\n100000 100000\n-1.0\n", 64), "above the limit"),
+            new("pfm_huge_size", () => Ascii("PF\n100000 100000\n-1.0\n", 64), "above the memory budget of 2 GiB; raise the budget with the global option --max-memory"),
             new("pfm_width_overflows_long", () => Ascii("PF\n99999999999999999999 1\n-1.0\n", 12), "is not an integer"),
             new("pfm_width_not_a_number", () => Ascii("PF\nfour 3\n-1.0\n", 144), "'four' is not an integer"),
             new("pfm_scale_zero", () => Ascii("PF\n4 3\n0\n", 144), "scale '0' is not a non-zero number"),
@@ -289,7 +289,7 @@ public sealed class MalformedFileTests
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 1 << 30);
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 12, 1 << 30);
-            }), "above the limit"),
+            }), "the offset table of 67108865 chunks does not fit in the file"),
             new("exr_data_window_full_int_range", () => Mutate(ValidExr(), b =>
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i"), int.MinValue);
@@ -362,7 +362,7 @@ public sealed class MalformedFileTests
             new("png_bad_crc_ihdr", () => Mutate(ValidPng(), b => b[29] ^= 0x01), "chunk 'IHDR' at byte 8 has a bad CRC"),
             new("png_zero_width", () => PngWithIhdr(0, 4), "PNG size 0x4 is out of range"),
             new("png_negative_height", () => PngWithIhdr(5, 0x80000000), "PNG size 5x2147483648 is out of range"),
-            new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the limit"),
+            new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the memory budget"),
             new("png_lying_dimensions", () => PngWithIhdr(8000, 8000), "cannot hold the 8000x8000 pixels"),
             new("png_huge_declared_tiny_file", () => PngWithIhdr(9000, 9000, depth: 16, colourType: 0), "cannot hold the 9000x9000 pixels"),
             new("png_huge_declared_padded_file", () => PngBytes.File(PngBytes.Ihdr(2000, 2000, 16, 2), Text(40_000), PngBytes.Chunk("IDAT", Zlib(new byte[20])), PngBytes.Chunk("IEND")),

@@ -1,6 +1,7 @@
 using System.Text.Json;
 using PathBench.Analysis;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Accumulation;
 
@@ -13,6 +14,19 @@ namespace PathBench.Cli.Commands;
 /// </summary>
 internal static class FilmOutput
 {
+    /// <summary>
+    /// Refuses, before any film is allocated, a render or merge whose films and output images need
+    /// more than the memory budget: <paramref name="films"/> films of <see cref="Film.BytesPerPixel"/>
+    /// bytes a pixel, then the image written from them: for a plain image the float RGB image and
+    /// the PNG encoder's RGBA array and bitmap (12 + 8 bytes a pixel), for a reference its value and
+    /// variance in double and the float image of each as it is written (48 + 24).
+    /// </summary>
+    public static void RequireMemory(int width, int height, int films, bool reference, string what)
+    {
+        long perPixel = ((long)films * Film.BytesPerPixel) + (reference ? 72 : 20);
+        MemoryBudget.Current.Require((Int128)width * height * perPixel, FormattableString.Invariant($"{what} of {width}x{height} pixels ({perPixel} bytes a pixel)"));
+    }
+
     /// <summary>Writes the image (and for a reference the variance image); returns the mean variance (0 for a plain image).</summary>
     public static double WriteImage(string outPath, Film film, int spp, bool reference)
     {
@@ -37,8 +51,7 @@ internal static class FilmOutput
     {
         ImageIo.Guard(path, () =>
         {
-            using var writer = new StreamWriter(path);
-            JsonOutput.Write(writer, w =>
+            AtomicFile.WriteText(path, writer => JsonOutput.Write(writer, w =>
             {
                 w.WriteStartObject();
                 w.WriteString("version", identity.Version);
@@ -84,7 +97,7 @@ internal static class FilmOutput
                 w.WriteNumber("out_of_range_samples", film.OutOfRangeSamples);
                 more(w);
                 w.WriteEndObject();
-            });
+            }));
         });
     }
 }

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Reflection;
 using PathBench.Analysis;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Accumulation;
@@ -81,12 +82,19 @@ internal static class RenderCommand
             }
 
             SceneDescription description = SceneLoader.Load(path);
+            FilmOutput.RequireMemory(description.Camera.Width, description.Camera.Height, 1, reference, reference ? "a reference render" : "a render");
 
             string sidecar = Path.ChangeExtension(outPath, ".json");
+            string variancePath = ReferenceImage.VariancePath(outPath);
+            // The checkpoint being resumed is read, then rewritten: it is the one output that may be an input.
+            new OutputPaths().Input(path)
+                .Output(outPath, "the image")
+                .Output(sidecar, "the sidecar (JSON)", ".json")
+                .Output(reference ? variancePath : null, "the variance image", ".exr")
+                .Output(accumulationPath, "the accumulation file");
             // Check the outputs can be written before spending the render on them.
             RequireWritable(outPath);
             RequireWritable(sidecar);
-            string variancePath = ReferenceImage.VariancePath(outPath);
             if (reference)
             {
                 RequireWritable(variancePath);
@@ -244,9 +252,11 @@ internal static class RenderCommand
     private static void RequireWritable(string path)
     {
         string full = Path.GetFullPath(path);
-        if (Directory.Exists(full))
+        FileKind kind = FileStatus.Of(full).Kind;
+        if (kind is not (FileKind.Regular or FileKind.Missing))
         {
-            throw new CliUsageException($"{path}: is a folder, not a file to write");
+            // Opening a FIFO to test it would wait for a reader; a folder or device cannot be replaced by a file.
+            throw new CliUsageException($"{path}: is {FileStatus.Describe(kind)}, not a file to write");
         }
 
         string? folder = Path.GetDirectoryName(full);

@@ -46,8 +46,6 @@ internal static class ExrReader
             throw new ImageFileException(fileName, FormattableString.Invariant($"display window {display} is empty or too large"));
         }
 
-        limits.Check(fileName, data.Width, data.Height, part.Channels.Length);
-
         // B44 codes perceptually linear HALF channels through an exp/log table this reader does not have.
         if (part.Compression is ExrCompression.B44 or ExrCompression.B44A
             && part.Channels.FirstOrDefault(c => c.PerceptuallyLinear && c.Type == ExrPixelType.Half) is { Name: { } linear })
@@ -55,7 +53,6 @@ internal static class ExrReader
             throw new ImageNotSupportedException(fileName, $"B44 with the perceptually linear channel '{linear}'");
         }
 
-        limits.Check(fileName, display.Width, display.Height, RgbImage.Channels);
         Selection selection = SelectChannels(part.Channels, options, fileName, notes);
 
         // Where this part's offset table starts: after the tables of the parts before it.
@@ -92,6 +89,10 @@ internal static class ExrReader
         {
             throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
         }
+
+        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
+        // batch of compressed and decompressed chunks (each at most the raw size).
+        limits.Check(fileName, display.Width, display.Height, (Int128)ChunkBatch * maxChunkRaw * 2);
 
         // The chunks must be able to hold the pixels the header declares before anything that size is
         // allocated: uncompressed they need every byte, compressed at least a codec's bound of them.

@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Text;
+using PathBench.Io;
 using PathBench.Sampling.Warps;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
@@ -141,25 +142,8 @@ internal sealed class YamlNodeReader(string sourcePath)
     public static bool IsNull(YamlScalarNode s) =>
         s.Style is ScalarStyle.Plain && s.Value is "" or "~" or "null" or "Null" or "NULL" or null;
 
-    /// <summary>Quotes user text on one line: control characters escaped, long text cut.</summary>
-    public static string Shown(string text)
-    {
-        const int MaxShown = 60;
-        var sb = new StringBuilder(Math.Min(text.Length, MaxShown + 8));
-        foreach (char ch in text)
-        {
-            if (sb.Length >= MaxShown)
-            {
-                sb.Append('…');
-                break;
-            }
-            if (char.IsControl(ch))
-                sb.Append(ch switch { '\n' => "\\n", '\r' => "\\r", '\t' => "\\t", _ => FormattableString.Invariant($"\\u{(int)ch:x4}") });
-            else
-                sb.Append(ch);
-        }
-        return sb.ToString();
-    }
+    /// <summary>Quotes user text on one line as <see cref="TextExcerpt"/> allows: printable ASCII, at most 32 characters, nothing of binary content.</summary>
+    public static string Shown(string text) => TextExcerpt.Of(text);
 
     private string PlainScalar(YamlNode node, string what, string expected)
     {

@@ -63,6 +63,17 @@ internal static class ExrReader
         }
 
         ChunkGrid grid = ChunkGrid.Of(part, fileName);
+        long bytesPerPixel = part.Channels.Sum(c => (long)c.Size);
+        long maxChunkRaw = bytesPerPixel * grid.MaxBlockWidth * grid.MaxBlockHeight;
+        if (maxChunkRaw > Array.MaxLength)
+        {
+            throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
+        }
+
+        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
+        // batch of compressed and decompressed chunks (each at most the raw size). Checked from
+        // the header alone, before the file's length is.
+        limits.Check(fileName, display.Width, display.Height, (Int128)ChunkBatch * maxChunkRaw * 2);
         long tableEntries = part.ChunkCount ?? grid.TableEntries;
         if (tableEntries < grid.Count)
         {
@@ -83,16 +94,6 @@ internal static class ExrReader
             firstChunk += 8L * p.ChunkCount!.Value;
         }
 
-        long bytesPerPixel = part.Channels.Sum(c => (long)c.Size);
-        long maxChunkRaw = bytesPerPixel * grid.MaxBlockWidth * grid.MaxBlockHeight;
-        if (maxChunkRaw > Array.MaxLength)
-        {
-            throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
-        }
-
-        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
-        // batch of compressed and decompressed chunks (each at most the raw size).
-        limits.Check(fileName, display.Width, display.Height, (Int128)ChunkBatch * maxChunkRaw * 2);
 
         // The chunks must be able to hold the pixels the header declares before anything that size is
         // allocated: uncompressed they need every byte, compressed at least a codec's bound of them.

@@ -195,7 +195,12 @@ internal sealed class MappingView
                 continue;
             string? near = NameSuggestion.Closest(key, table.Keys);
             string hint = near is null ? $"; expected one of: {string.Join(", ", table.Keys)}" : $"; did you mean '{near}'?";
-            throw _reader.Error(keyNode, $"unknown key '{YamlNodeReader.Shown(key)}' in {What}{hint}");
+            // Only a name-like key is quoted: a file that is not YAML of ours at all (a password
+            // file given by mistake) parses as one odd key, which must not be printed.
+            bool nameLike = key.Length <= 40 && key.All(c => char.IsAsciiLetterOrDigit(c) || c is '_' or '-' or '.');
+            throw _reader.Error(keyNode, nameLike
+                ? $"unknown key '{key}' in {What}{hint}"
+                : $"unknown key in {What} (not shown: not a key name; is this the right file?){hint}");
         }
         foreach (string key in table.Required)
         {

@@ -191,6 +191,11 @@ internal static class RenderCommand
                 }
             });
 
+            if (result.Interrupted)
+            {
+                io.Error.WriteLine(InterruptedLine(result, target, outPath, sidecar, reference ? variancePath : null, accumulationPath));
+            }
+
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {result.Done.Count} spp {result.Done}, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples{(stoppedBy == "complete" ? "" : ", stopped by " + stoppedBy.Replace('_', ' '))}"));
             return result.Interrupted ? RenderSession.InterruptedExitCode : 0;
@@ -210,6 +215,17 @@ internal static class RenderCommand
         new("max_depth", options.MaxDepth.ToString(CultureInfo.InvariantCulture)),
         new("russian_roulette", options.RussianRoulette ? "true" : "false"),
     ];
+
+    /// <summary>The one line after SIGINT or SIGTERM: what the stopped render wrote, and what it did not.</summary>
+    internal static string InterruptedLine(SessionOutcome result, SampleRange target, string outPath, string sidecar, string? variancePath, string? accumulationPath)
+    {
+        string wrote = string.Join(", ", new[] { outPath, variancePath, sidecar }.OfType<string>());
+        string kept = accumulationPath is null
+            ? "no checkpoint was written, so they cannot be resumed (render with --checkpoint FILE for that)"
+            : $"the checkpoint {accumulationPath} holds the {result.Done.Count} done; --resume continues from it";
+        return string.Create(CultureInfo.InvariantCulture,
+            $"pathbench: stopped by {result.Signal ?? "a signal"} after {result.Done.Count} of {target.Count} spp: wrote {wrote} with the {result.Done.Count} spp done; the other {target.Count - result.Done.Count} spp were not rendered and {kept}");
+    }
 
     private static (int Index, int Count) ParseShard(string text)
     {

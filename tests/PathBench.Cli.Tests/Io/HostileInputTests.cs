@@ -29,15 +29,7 @@ public sealed class HostileInputTests(ITestOutputHelper output)
 
     private static string Executable => Path.Combine(AppContext.BaseDirectory, "pathbench");
 
-    private const string Scene = """
-        camera: { position: [0, 1, 3], look_at: [0, 0.5, 0], fov: 40, resolution: [8, 6] }
-        render: { spp: 2, max_depth: 2 }
-        environment: { radiance: [0.5, 0.6, 0.7] }
-        materials:
-          ground: { type: diffuse, albedo: [0.5, 0.5, 0.5] }
-        shapes:
-          - { type: quad, corner: [-5, 0, 5], edge_u: [10, 0, 0], edge_v: [0, 0, -10], material: ground }
-        """;
+    private const string Scene = TestScenes.LampAndBall;
 
     private const string Secret = "root:$6$saltsaltsalt$0123456789abcdefSECRETHASH:19000:0:99999:7:::";
 
@@ -72,7 +64,7 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         Directory.CreateDirectory(dir.File("fifo-report"));
         MakeFifo(dir.File("fifo-report/summary.json"));
         dir.Write("s.yaml", Scene);
-        dir.Write("mesh-scene.yaml", Scene + "\n  - { type: mesh, file: pipe, material: ground }\n");
+        dir.Write("mesh-scene.yaml", Scene + "\n  - { type: mesh, file: pipe, material: white }\n");
         WritePfm(dir.File("a.pfm"), 4, 4);
 
         string[] args = template.Select(a => a.Replace("{fifo}", fifo, StringComparison.Ordinal).Replace("{dir}", dir.Path, StringComparison.Ordinal)).ToArray();
@@ -300,7 +292,7 @@ public sealed class HostileInputTests(ITestOutputHelper output)
     {
         using var dir = new TempFolder();
         dir.Write("shadow", Secret + "\n");
-        string scene = dir.Write("s.yaml", Scene + "\n  - { type: mesh, file: shadow, material: ground }\n");
+        string scene = dir.Write("s.yaml", Scene + "\n  - { type: mesh, file: shadow, material: white }\n");
         var r = Run("render", scene, "--out", dir.File("o.exr"));
         Assert.Equal(2, r.Code);
         Assert.Contains("is this an OBJ file?", r.Err, StringComparison.Ordinal);
@@ -319,7 +311,7 @@ public sealed class HostileInputTests(ITestOutputHelper output)
     {
         using var dir = new TempFolder();
         File.WriteAllBytes(dir.File("bin.obj"), [(byte)'v', (byte)' ', 0xC3, 0x28, 0xFF, 0xFE, (byte)'S', (byte)'E', (byte)'C', (byte)'\n']);
-        string scene = dir.Write("s.yaml", Scene + "\n  - { type: mesh, file: bin.obj, material: ground }\n");
+        string scene = dir.Write("s.yaml", Scene + "\n  - { type: mesh, file: bin.obj, material: white }\n");
         var r = Run("render", scene, "--out", dir.File("o.exr"));
         Assert.Equal(2, r.Code);
         Assert.Contains("not UTF-8 text", r.Err, StringComparison.Ordinal);
@@ -333,6 +325,51 @@ public sealed class HostileInputTests(ITestOutputHelper output)
     [InlineData("\u0001\u0002\u0003x", TextExcerpt.NotShown)]
     public void Excerpts_are_short_printable_ascii(string text, string shown) => Assert.Equal(shown, TextExcerpt.Of(text));
 
+    /// <summary>
+    /// A plain render (no checkpoint) signalled while it certainly runs (it waits for the signal after
+    /// its first pass, <see cref="Commands.RenderSession.SignalWaitVariable"/>) says in one line what
+    /// it wrote and what it did not, and what it wrote is whole.
+    /// </summary>
+    [Theory]
+    [InlineData("INT", "SIGINT")]
+    [InlineData("TERM", "SIGTERM")]
+    public async Task A_signalled_plain_render_says_what_was_and_was_not_written(string signal, string name)
+    {
+        using var dir = new TempFolder();
+        string scene = dir.Write("s.yaml", Scene);
+        var info = new ProcessStartInfo(Executable) { RedirectStandardError = true, RedirectStandardOutput = true, UseShellExecute = false };
+        foreach (string a in new[] { "render", scene, "--spp", "64", "--threads", "1", "--quiet", "--out", dir.File("o.exr") })
+        {
+            info.ArgumentList.Add(a);
+        }
+
+        info.Environment[Commands.RenderSession.SignalWaitVariable] = "1";
+        using Process child = Process.Start(info)!;
+        Task<string> stdout = child.StandardOutput.ReadToEndAsync();
+        string? line;
+        while ((line = child.StandardError.ReadLine()) is not null && line != Commands.RenderSession.SignalWaitMarker)
+        {
+        }
+
+        Assert.Equal(Commands.RenderSession.SignalWaitMarker, line);
+        using (Process kill = Process.Start(new ProcessStartInfo("kill", ["-" + signal, child.Id.ToString(CultureInfo.InvariantCulture)]))!)
+        {
+            kill.WaitForExit();
+            Assert.Equal(0, kill.ExitCode);
+        }
+
+        string rest = await child.StandardError.ReadToEndAsync();
+        Assert.True(child.WaitForExit(HangBound), "the render did not end after the signal");
+        Assert.Equal(Commands.RenderSession.InterruptedExitCode, child.ExitCode);
+        string[] lines = rest.TrimEnd('\n').Split('\n');
+        string said = Assert.Single(lines);
+        output.WriteLine(said);
+        Assert.StartsWith($"pathbench: stopped by {name} after 1 of 64 spp: wrote {dir.File("o.exr")}, {dir.File("o.json")} with the 1 spp done; the other 63 spp were not rendered and no checkpoint was written", said, StringComparison.Ordinal);
+        Assert.Contains("stopped by signal", await stdout, StringComparison.Ordinal);
+        Assert.Equal(24, ImageFile.Read(dir.File("o.exr")).Image.Width);
+        Assert.DoesNotContain(Directory.GetFiles(dir.Path), f => AtomicFile.IsTempName(Path.GetFileName(f)));
+    }
+
     // ---- helpers ----------------------------------------------------------------------------------
 
     /// <summary>The issue's inputs: small files declaring 9459² pixels (PFM, PNG, EXR), an 8192² scene, a wide PFM for the strip.</summary>
@@ -343,7 +380,7 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         WritePfm(dir.File("a.pfm"), 64, 64);
         File.WriteAllBytes(dir.File("big.png"), PngDeclaring(9459, 9459));
         File.WriteAllBytes(dir.File("big.exr"), ExrDeclaring(dir.File("small.exr"), 9459, 9459));
-        dir.Write("big.yaml", Scene.Replace("resolution: [8, 6]", "resolution: [8192, 8192]", StringComparison.Ordinal));
+        dir.Write("big.yaml", Scene.Replace("resolution: [24, 16]", "resolution: [8192, 8192]", StringComparison.Ordinal));
     }
 
     /// <summary>A valid 4x4 grey PNG whose IHDR then claims another size (its CRC recomputed: PNG specification, "CRC algorithm").</summary>

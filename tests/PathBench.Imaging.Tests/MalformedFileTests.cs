@@ -289,7 +289,7 @@ public sealed class MalformedFileTests
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 1 << 30);
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 12, 1 << 30);
-            }), "the offset table of 67108865 chunks does not fit in the file"),
+            }), "above the memory budget of 2 GiB"),
             new("exr_data_window_full_int_range", () => Mutate(ValidExr(), b =>
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i"), int.MinValue);
@@ -444,6 +444,17 @@ public sealed class MalformedFileTests
             new("png_gama_after_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("gAMA", 0, 0, 0xB1, 0x8F), PngBytes.Chunk("IEND")),
                 "comes after the image data; it must precede the first IDAT"),
             new("png_two_srgb_chunks", () => GreyPng(Grey4x4(), before: [PngBytes.Chunk("sRGB", 0), PngBytes.Chunk("sRGB", 0)]), "a second 'sRGB' chunk"),
+            // Issue 14: the IDAT data must inflate to exactly the size IHDR implies (PNG specification, "IDAT" and "Filtering").
+            new("png_ihdr_48x32_over_96x64_data", () => PngBytes.Image(48, 32, 8, 2, new byte[64 * (1 + (96 * 3))]), "inflates to more than the 4640 bytes expected"),
+            new("png_ihdr_96x64_over_48x32_data", () => PngBytes.Image(96, 64, 8, 2, new byte[32 * (1 + (48 * 3))]), "zlib data ends after 4640 of 18496 bytes"),
+            // Chunk ordering (PNG specification, Third Edition, "Chunk ordering").
+            new("png_gama_after_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("PLTE", 1, 2, 3), PngBytes.Chunk("gAMA", 0, 0, 0xB1, 0x8F)]), "chunk 'gAMA' at byte 48 comes after PLTE; it must precede the palette"),
+            new("png_srgb_after_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("PLTE", 1, 2, 3), PngBytes.Chunk("sRGB", 0)]), "chunk 'sRGB' at byte 48 comes after PLTE"),
+            new("png_hist_before_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("hIST", 0, 1), PngBytes.Chunk("PLTE", 1, 2, 3)]), "chunk 'hIST' at byte 33 comes before PLTE"),
+            new("png_phys_after_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("pHYs", new byte[9]), PngBytes.Chunk("IEND")),
+                "chunk 'pHYs' at byte"),
+            new("png_iend_absurd_length", () => Mutate(ValidPng(), b => BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(b.Length - 12), 0x7FFFFFF0)),
+                "truncated: chunk 'IEND' at byte"),
         ];
     }
 }

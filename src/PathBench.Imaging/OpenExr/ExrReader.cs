@@ -65,15 +65,14 @@ internal static class ExrReader
         ChunkGrid grid = ChunkGrid.Of(part, fileName);
         long bytesPerPixel = part.Channels.Sum(c => (long)c.Size);
         long maxChunkRaw = bytesPerPixel * grid.MaxBlockWidth * grid.MaxBlockHeight;
+        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
+        // batch of compressed chunks and a decompressed one per worker (each at most the raw size,
+        // within the codecs' bounds). Checked from the header alone, before the file's length is.
+        limits.Check(fileName, display.Width, display.Height, (Int128)(ChunkBatch + Environment.ProcessorCount) * maxChunkRaw);
         if (maxChunkRaw > Array.MaxLength)
         {
             throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
         }
-
-        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
-        // batch of compressed and decompressed chunks (each at most the raw size). Checked from
-        // the header alone, before the file's length is.
-        limits.Check(fileName, display.Width, display.Height, (Int128)ChunkBatch * maxChunkRaw * 2);
         long tableEntries = part.ChunkCount ?? grid.TableEntries;
         if (tableEntries < grid.Count)
         {

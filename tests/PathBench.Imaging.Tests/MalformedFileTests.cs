@@ -1,5 +1,8 @@
 using System.Buffers.Binary;
+using System.Diagnostics;
+using System.Globalization;
 using System.Text;
+using Xunit.Abstractions;
 
 namespace PathBench.Imaging.Tests;
 
@@ -9,7 +12,7 @@ namespace PathBench.Imaging.Tests;
 /// line starting with the file name — no other exception, no hang, and no managed allocation
 /// beyond a small bound however large the header's claims.
 /// </summary>
-public sealed class MalformedFileTests
+public sealed class MalformedFileTests(ITestOutputHelper output)
 {
     // Every base file is below 20 KB; decoding one allocates well under 1 MB. 8 MB leaves room for
     // runtime noise but fails at once if a reader trusts a lying header (the smallest lie below
@@ -75,6 +78,52 @@ public sealed class MalformedFileTests
         Assert.DoesNotContain('\n', message);
         Assert.True(message.Contains(c.Expect, StringComparison.Ordinal), $"{name}: message lacks '{c.Expect}': {message}");
         Assert.True(allocated < AllocationBound, $"{name}: reader allocated {allocated} bytes before failing");
+    }
+
+    // The runtime alone peaks near 35 MiB; every lie in the corpus claims hundreds of MB or more,
+    // so a reader that trusted one would pass this bound at once (common practice).
+    private const long PeakBound = 128L << 20;
+
+    /// <summary>
+    /// The whole corpus through the program itself (<c>pathbench convert</c>, one child per file):
+    /// each file is refused with exit 2 and one line, and each child's own peak resident set
+    /// (VmHWM, reported by the program's test hook) stays small. The largest peak is printed.
+    /// </summary>
+    [Fact]
+    public async Task The_corpus_through_the_program_keeps_a_small_peak_resident_set()
+    {
+        using var dir = new TempFolder();
+        long largest = 0;
+        string largestName = "";
+        foreach (Malformed c in Corpus)
+        {
+            string path = dir.File(c.Name + ".img");
+            File.WriteAllBytes(path, c.Bytes());
+            string peakFile = dir.File("peak");
+            var info = new ProcessStartInfo(Path.Combine(AppContext.BaseDirectory, "pathbench"), ["convert", path, dir.File("out.pfm")])
+            {
+                RedirectStandardError = true,
+                RedirectStandardOutput = true,
+                UseShellExecute = false,
+            };
+            info.Environment[PathBench.Cli.Program.PeakMemoryVariable] = peakFile;
+            using Process child = Process.Start(info)!;
+            Task<string> err = child.StandardError.ReadToEndAsync();
+            _ = child.StandardOutput.ReadToEnd();
+            Assert.True(child.WaitForExit(HangBound), $"{c.Name}: still running after {HangBound.TotalSeconds} s");
+            child.WaitForExit();
+            string line = await err;
+            Assert.True(child.ExitCode == 2, $"{c.Name}: exit {child.ExitCode}: {line}");
+            Assert.Single(line.TrimEnd('\n').Split('\n'));
+            long peak = long.Parse(File.ReadAllText(peakFile), CultureInfo.InvariantCulture);
+            Assert.True(peak < PeakBound, $"{c.Name}: peak resident set {peak} bytes");
+            if (peak > largest)
+            {
+                (largest, largestName) = (peak, c.Name);
+            }
+        }
+
+        output.WriteLine(FormattableString.Invariant($"{Corpus.Length} files, largest peak resident set {largest / 1048576.0:F1} MiB ({largestName})"));
     }
 
     // ---- base files -------------------------------------------------------------------------

@@ -168,7 +168,7 @@ internal static class CompareCommand
 
     /// <summary>
     /// What a comparison holds besides the image being decoded: the other image (12 bytes a pixel),
-    /// the metrics' working memory (16 bytes a pixel: a 2048² PFM pair peaked at 34 bytes a pixel
+    /// the metrics' working memory (16 bytes a pixel: a 5000² PFM pair peaked at 32.8 bytes a pixel
     /// above the idle process, images included, measured with VmHWM), and the heat map's and
     /// strip's drawing (<see cref="ErrorMap.RequireDrawable"/>).
     /// </summary>

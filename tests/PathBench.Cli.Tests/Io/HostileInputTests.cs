@@ -75,6 +75,22 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         Assert.Contains("named pipe", err, StringComparison.Ordinal);
     }
 
+    [Theory]
+    [InlineData("{dir}", "a folder")]
+    [InlineData("/dev/null", "a device")]
+    public void Folders_and_devices_are_refused_as_inputs(string input, string kind)
+    {
+        using var dir = new TempFolder();
+        string path = input.Replace("{dir}", dir.Path, StringComparison.Ordinal);
+        foreach (string[] args in new[] { new[] { "render", path }, ["convert", path, dir.File("o.png")], ["compare", path, path], ["batch", path], ["check", path] })
+        {
+            var r = Run(args);
+            Assert.True(r.Code == 2, $"{string.Join(' ', args)}: exit {r.Code}: {r.Err}");
+            Assert.Single(r.Err.TrimEnd('\n').Split('\n'));
+            Assert.Contains($"not a regular file but {kind}", r.Err, StringComparison.Ordinal);
+        }
+    }
+
     /// <summary>The oversized inputs, name, arguments (files made by <see cref="MakeOversized"/>), and a fragment of the refusal.</summary>
     public static TheoryData<string, string[], string> OversizedCases => new()
     {

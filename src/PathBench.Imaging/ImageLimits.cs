@@ -13,7 +13,7 @@ namespace PathBench.Imaging;
 /// images, metric planes, encoders); it may also refuse a size at once (an output that size could not
 /// be written), so a command refuses at the header what it could not finish.
 /// </param>
-/// <param name="Use">What the command does with the image, for the message ("and compare it").</param>
+/// <param name="Use">What the command does with the image, for the message ("and comparing them").</param>
 public sealed record ImageLimits(MemoryBudget? Budget = null, Func<long, long, Int128>? After = null, string? Use = null)
 {
     /// <summary>The current budget, nothing spent after the decode.</summary>

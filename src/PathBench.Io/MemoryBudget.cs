@@ -65,17 +65,21 @@ public sealed record MemoryBudget(long Bytes)
         return new MemoryBudget(Math.Max(1, (long)(value * scale)));
     }
 
-    /// <summary>Throws unless <paramref name="bytes"/> fit the budget; <paramref name="what"/> says what asked, e.g. "a.exr: decoding 9459x9459 pixels".</summary>
+    /// <summary>Throws unless <paramref name="bytes"/> fit the budget; <paramref name="what"/> says what asked, e.g. "decoding the 9459x9459 pixels the header declares".</summary>
     /// <exception cref="MemoryBudgetException">Above the budget.</exception>
     public void Require(Int128 bytes, string what)
     {
         if (bytes > Bytes)
         {
-            // Round the suggestion up to a whole GiB above the need.
-            long suggestion = bytes >= long.MaxValue >> 1 ? long.MaxValue : (long)((bytes + (1L << 30)) >> 30);
-            string raise = suggestion == long.MaxValue ? "more than any machine has" : FormattableString.Invariant($"--max-memory {suggestion}G");
+            // The suggestion: the need rounded up to a whole MiB below 1 GiB, to a whole GiB above;
+            // above a PiB no machine holds it, and the message says so instead.
+            string raise = bytes >= (Int128)1 << 50
+                ? "no budget would do: no machine has that much memory"
+                : "raise the budget with the global option --max-memory SIZE (" + (bytes < 1L << 30
+                    ? FormattableString.Invariant($"--max-memory {(long)((bytes + (1L << 20) - 1) >> 20)}M")
+                    : FormattableString.Invariant($"--max-memory {(long)((bytes + (1L << 30) - 1) >> 30)}G")) + " would do)";
             throw new MemoryBudgetException(FormattableString.Invariant(
-                $"{what} needs about {Format(bytes)}, above the memory budget of {Format(Bytes)}; raise the budget with the global option --max-memory SIZE ({raise} would do)"));
+                $"{what} needs about {Format(bytes)}, above the memory budget of {Format(Bytes)}; {raise}"));
         }
     }
 

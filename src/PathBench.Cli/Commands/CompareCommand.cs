@@ -97,7 +97,7 @@ internal static class CompareCommand
             ExrReadOptions exr = exrSelection.Read(parse);
             // Both images have the reference's size (or the comparison is refused), so everything the
             // command will hold is known from the reference's header: refused there, before any decode.
-            var limits = new ImageLimits(After: (w, h) => CompareBytes(w, h, heatmapPath, stripPath), Use: "and compare it");
+            var limits = new ImageLimits(After: (w, h) => CompareBytes(w, h, heatmapPath, stripPath), Use: "and comparing them");
             ImageReadResult r = ImageFile.Read(refPath, limits, exr);
             ImageReadResult t = ImageFile.Read(testPath, limits, exr);
             PixelRect rw = r.DisplayWindow ?? PixelRect.Full(r.Image.Width, r.Image.Height);

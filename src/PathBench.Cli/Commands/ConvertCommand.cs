@@ -59,7 +59,7 @@ internal static class ConvertCommand
             // OpenEXR the writer's chunks. Measured with VmHWM above the idle process, image included:
             // a 5000² PFM to PNG peaked at 20.2 bytes a pixel, to ZIP EXR at 36.6.
             long after = format switch { ImageFormat.Png => 12, ImageFormat.Exr => 28, _ => ImageLimits.DecodedBytesPerPixel };
-            var limits = new ImageLimits(After: (w, h) => (Int128)w * h * after, Use: "and convert it");
+            var limits = new ImageLimits(After: (w, h) => (Int128)w * h * after, Use: "and converting them");
             ImageReadResult read = ImageFile.Read(inPath, limits, exrSelection.Read(parse));
             foreach (string note in read.Notes)
             {

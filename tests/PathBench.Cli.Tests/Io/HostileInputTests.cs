@@ -129,7 +129,8 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         Assert.Equal(2, r.Code);
         Assert.Contains("needs about", r.Err, StringComparison.Ordinal);
         Assert.Contains("above the memory budget of 2 GiB", r.Err, StringComparison.Ordinal);
-        Assert.Contains("--max-memory", r.Err, StringComparison.Ordinal);
+        Assert.Contains("(--max-memory 4G would do)", r.Err, StringComparison.Ordinal);
+        Assert.Contains("(--max-memory 1M would do)", Run("--max-memory", "100K", "compare", dir.File("a.pfm"), dir.File("a.pfm")).Err, StringComparison.Ordinal);
         // Raised, the same header passes the budget and the file's own length refuses it.
         var raised = Run("--max-memory", "64G", "compare", dir.File("big.pfm"), dir.File("big.pfm"));
         Assert.Equal(2, raised.Code);

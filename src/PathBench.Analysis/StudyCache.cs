@@ -3,6 +3,7 @@ using System.Security.Cryptography;
 using System.Text;
 using System.Text.Json;
 using PathBench.Imaging;
+using PathBench.Io;
 
 namespace PathBench.Analysis;
 
@@ -69,13 +70,13 @@ public sealed class StudyCache
         long rays, nonFinite;
         try
         {
-            using JsonDocument doc = JsonDocument.Parse(File.ReadAllBytes(json));
+            using JsonDocument doc = JsonDocument.Parse(InputFile.ReadAllBytes(json, reason => new IOException(reason)));
             JsonElement root = doc.RootElement;
             seconds = root.GetProperty("seconds").GetDouble();
             rays = root.GetProperty("rays").GetInt64();
             nonFinite = root.GetProperty("nonfinite_samples").GetInt64();
         }
-        catch (Exception e) when (e is JsonException or KeyNotFoundException or InvalidOperationException or FormatException)
+        catch (Exception e) when (e is JsonException or KeyNotFoundException or InvalidOperationException or FormatException or IOException)
         {
             // A damaged entry is not a result: render again rather than guess.
             return null;
@@ -98,20 +99,15 @@ public sealed class StudyCache
         Directory.CreateDirectory(_folder);
         string image = Path.Combine(_folder, key + ".pfm");
         string json = Path.Combine(_folder, key + ".json");
-        string partialImage = image + ".partial.pfm";
-        ImageFile.Write(partialImage, new RgbImage(width, height, render.Image));
-        File.Move(partialImage, image, overwrite: true);
-        string partialJson = json + ".partial";
-        using (var stream = new FileStream(partialJson, FileMode.Create, FileAccess.Write))
-        using (var w = new Utf8JsonWriter(stream))
+        ImageFile.Write(image, new RgbImage(width, height, render.Image));
+        AtomicFile.Write(json, stream =>
         {
+            using var w = new Utf8JsonWriter(stream);
             w.WriteStartObject();
             w.WriteNumber("seconds", render.Seconds);
             w.WriteNumber("rays", render.Rays);
             w.WriteNumber("nonfinite_samples", render.NonFiniteSamples);
             w.WriteEndObject();
-        }
-
-        File.Move(partialJson, json, overwrite: true);
+        });
     }
 }

@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text;
 using System.Text.Json;
+using PathBench.Io;
 
 namespace PathBench.Analysis;
 
@@ -48,8 +49,8 @@ public static class StudyOutput
     {
         ArgumentNullException.ThrowIfNull(summary);
         Directory.CreateDirectory(directory);
-        WriteAtomically(Path.Combine(directory, "results.csv"), w => WriteCsv(w, summary.Result));
-        WriteAtomically(Path.Combine(directory, "summary.json"), w => WriteJson(w, summary, sceneLabel, referencePath, metadata));
+        AtomicFile.WriteText(Path.Combine(directory, "results.csv"), w => WriteCsv(w, summary.Result));
+        AtomicFile.WriteText(Path.Combine(directory, "summary.json"), w => WriteJson(w, summary, sceneLabel, referencePath, metadata));
     }
 
     /// <summary>One row per replicate render.</summary>
@@ -270,15 +271,4 @@ public static class StudyOutput
     }
 
     private static string Number(double v) => double.IsFinite(v) ? v.ToString("R", CultureInfo.InvariantCulture) : "";
-
-    private static void WriteAtomically(string path, Action<TextWriter> body)
-    {
-        string temp = path + ".partial";
-        using (var writer = new StreamWriter(temp, append: false, new UTF8Encoding(false)))
-        {
-            body(writer);
-        }
-
-        File.Move(temp, path, overwrite: true);
-    }
 }

@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text.Json;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Scenes;
 
@@ -148,7 +149,7 @@ public static class StudyPipeline
     {
         try
         {
-            using JsonDocument doc = JsonDocument.Parse(File.ReadAllBytes(sidecar));
+            using JsonDocument doc = JsonDocument.Parse(InputFile.ReadAllBytes(sidecar, reason => new SceneException($"{sidecar}: the reference's sidecar: {reason}")));
             JsonElement root = doc.RootElement;
             string? sha = root.TryGetProperty("scene_sha256", out JsonElement s) && s.ValueKind == JsonValueKind.String ? s.GetString() : null;
             int? spp = root.TryGetProperty("spp", out JsonElement n) && n.ValueKind == JsonValueKind.Number && n.TryGetInt32(out int v) ? v : null;

@@ -1,4 +1,5 @@
 using System.Globalization;
+using PathBench.Io;
 using ScottPlot;
 
 namespace PathBench.Analysis;
@@ -172,8 +173,8 @@ public static class StudyPlots
     {
         string png = Path.Combine(directory, name + ".png");
         string svg = Path.Combine(directory, name + ".svg");
-        plot.SavePng(png, PlotWidth, PlotHeight);
-        plot.SaveSvg(svg, PlotWidth, PlotHeight);
+        AtomicFile.WriteBytes(png, plot.GetImageBytes(PlotWidth, PlotHeight, ImageFormat.Png));
+        AtomicFile.WriteText(svg, plot.GetSvgXml(PlotWidth, PlotHeight));
         return [png, svg];
     }
 }

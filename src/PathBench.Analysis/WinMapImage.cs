@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text;
 using PathBench.Imaging;
+using PathBench.Io;
 using SkiaSharp;
 
 namespace PathBench.Analysis;
@@ -95,8 +96,7 @@ public static class WinMapImage
             y += LegendRow;
         }
 
-        using FileStream stream = ImageFile.Create(path);
-        PngCodec.WriteBitmap(stream, bitmap);
+        ImageFile.WriteAtomically(path, stream => PngCodec.WriteBitmap(stream, bitmap));
     }
 
     /// <summary>Writes the map as SVG: one rectangle per tile and the legend (no reference image, so it stays small).</summary>
@@ -127,7 +127,7 @@ public static class WinMapImage
         }
 
         svg.Append("</svg>\n");
-        File.WriteAllText(path, svg.ToString(), new UTF8Encoding(false));
+        AtomicFile.WriteText(path, svg.ToString());
     }
 
     private static string LegendLine(WinMap map, IReadOnlyList<string> names, int i)

@@ -1,6 +1,7 @@
 using System.CommandLine;
 using PathBench.Cli.Commands;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering.Accumulation;
 using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
@@ -41,6 +42,10 @@ public static class CliApp
 
         try
         {
+            // Every invocation sets its budget (the default when the option is absent), so an
+            // earlier in-process run never leaks its budget into the next.
+            MemoryBudget.Current = MaxMemory(parse.GetValue(MaxMemoryOption));
+
             // Plug-ins are seen by this invocation only (the catalog's scope ends with it), and only
             // when named: nothing is loaded from a folder or a setting behind the user's back.
             using IDisposable scope = SamplerCatalog.OpenScope();
@@ -56,7 +61,7 @@ public static class CliApp
             stderr.WriteLine($"pathbench: error: {e.Message}");
             return UsageExitCode;
         }
-        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException or AccumulationFileException)
+        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException or AccumulationFileException or MemoryBudgetException or OutputPathException)
         {
             // The libraries' bad-input exceptions already carry the one line to print
             // (file, position, what was wrong); mapped to exit 2 here, once, for every command.
@@ -72,11 +77,19 @@ public static class CliApp
         }
     }
 
+    /// <summary>The global <c>--max-memory</c>: the memory budget every command checks its declared sizes against.</summary>
+    internal static Option<string?> MaxMemoryOption { get; } = new("--max-memory")
+    {
+        Description = "Memory budget for any command, e.g. 512M, 4G (default 2G): inputs and outputs whose declared size needs more are refused before anything is allocated",
+        Recursive = true,
+    };
+
     /// <summary>The root command with every subcommand registered.</summary>
     internal static RootCommand BuildRoot(CliIo io)
     {
         var root = new RootCommand(
             "PathBench: sample generators, randomizations and measurements for the sampling code of physically based renderers.");
+        root.Options.Add(MaxMemoryOption);
         root.Options.Add(new Option<string[]>(PluginOptionName)
         {
             Description = "Load sample generators from a .NET assembly implementing PathBench.Sampling.Generators.IGeneratorPlugin (repeatable; see README, 'Bring your own sampler')",
@@ -100,6 +113,23 @@ public static class CliApp
         root.Subcommands.Add(CompareCommand.Create(io));
         root.Subcommands.Add(ConvertCommand.Create(io));
         return root;
+    }
+
+    private static MemoryBudget MaxMemory(string? text)
+    {
+        if (text is null)
+        {
+            return MemoryBudget.Default;
+        }
+
+        try
+        {
+            return MemoryBudget.Parse(text);
+        }
+        catch (FormatException e)
+        {
+            throw new CliUsageException($"--max-memory: {e.Message}", e);
+        }
     }
 }
 

@@ -22,6 +22,19 @@ public enum ToneCurve
 /// <param name="Curve">Tone curve.</param>
 public sealed record DisplayTransform(double ExposureStops = 0, ToneCurve Curve = ToneCurve.Clamp)
 {
+    /// <summary>
+    /// Largest exposure magnitude accepted, in stops: 2^±32 spans far more than the dynamic range
+    /// of any render (common practice), and keeps a float32 image finite and non-zero for every value
+    /// between 2^-94 and 2^96, where ±200 stops turns every pixel into infinity or zero.
+    /// </summary>
+    public const double MaxExposureStops = 32;
+
+    /// <summary>Null when <paramref name="stops"/> is a usable exposure, else why not (one line, for <paramref name="option"/>).</summary>
+    public static string? ExposureProblem(string option, double stops) =>
+        double.IsFinite(stops) && Math.Abs(stops) <= MaxExposureStops
+            ? null
+            : FormattableString.Invariant($"{option} must be between -{MaxExposureStops} and {MaxExposureStops} stops (a factor of 2^{MaxExposureStops} either way), got {stops}");
+
     /// <summary>Writes the 8-bit sRGB code of each channel into <paramref name="rgb"/>.</summary>
     public void Apply(float r, float g, float b, Span<byte> rgb)
     {

@@ -165,17 +165,22 @@ public static class ErrorMap
     /// <summary>The widest canvas an error map is drawn on before enlargement stops.</summary>
     private const int MaxCanvasSide = 8192;
 
-    /// <summary>The most pixels an error-map canvas may have (1 GiB of RGBA).</summary>
-    private const long MaxCanvasPixels = 1L << 28;
+    private static void RequireCanvas(string path, long width, long height) => PngCodec.RequireEncodable(path, width, height);
 
-    private static void RequireCanvas(string path, long width, long height)
+    /// <summary>
+    /// The memory drawing a heat map (<paramref name="panels"/> = 1) or a side-by-side strip (3) of a
+    /// width×height region needs, from the region's size alone; a canvas the PNG encoder would refuse
+    /// is refused here, before any metric is computed. The canvas is held as RGBA and once more as
+    /// the encoder's copy (8 bytes a canvas pixel); each panel's source holds a cropped float image,
+    /// a colour array and a bitmap (12 + 4 + 4 bytes a region pixel), with the error plane (4).
+    /// </summary>
+    public static Int128 RequireDrawable(string path, long width, long height, int panels)
     {
-        PngCodec.RequireEncodable(path, width, height);
-        if (width * height > MaxCanvasPixels)
-        {
-            throw new ImageFileException(path, FormattableString.Invariant(
-                $"a {width}x{height} error map is more than {MaxCanvasPixels} pixels; pass --roi to map a smaller region"));
-        }
+        int mag = Magnification((int)Math.Min(width, int.MaxValue), (int)Math.Min(height, int.MaxValue), panels);
+        long canvasW = Margin + (panels * ((width * mag) + Margin)) + BarWidth + LabelWidth;
+        long canvasH = TitleHeight + (height * mag) + Margin;
+        RequireCanvas(path, canvasW, canvasH);
+        return ((Int128)canvasW * canvasH * 8) + ((Int128)width * height * ((panels * 20) + 4));
     }
 
     private static SKBitmap HeatBitmap(float[] errors, int width, int height, double top)
@@ -252,7 +257,6 @@ public static class ErrorMap
 
     private static void Save(string path, SKBitmap bitmap)
     {
-        using FileStream stream = ImageFile.Create(path);
-        PngCodec.WriteBitmap(stream, bitmap);
+        ImageFile.WriteAtomically(path, stream => PngCodec.WriteBitmap(stream, bitmap));
     }
 }

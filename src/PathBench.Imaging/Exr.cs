@@ -40,8 +40,7 @@ public static class ExrCodec
     /// <summary>Writes an OpenEXR file.</summary>
     public static void Write(string path, RgbImage image, ExrWriteOptions? options = null)
     {
-        using FileStream stream = ImageFile.Create(path);
-        Write(stream, image, options);
+        ImageFile.WriteAtomically(path, stream => Write(stream, image, options));
     }
 
     /// <summary>Writes a single-part scanline OpenEXR image, increasing y, to a seekable stream.</summary>

@@ -1,3 +1,5 @@
+using PathBench.Io;
+
 namespace PathBench.Imaging;
 
 /// <summary>The file formats PathBench reads and writes.</summary>
@@ -91,40 +93,25 @@ public static class ImageFile
         };
     }
 
-    /// <summary>Opens a file for reading, turning I/O failures into a one-line <see cref="ImageFileException"/>.</summary>
-    public static FileStream OpenRead(string path)
-    {
-        FileStream stream;
-        try
-        {
-            stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException or NotSupportedException)
-        {
-            throw new ImageFileException(path, $"cannot open: {e.Message}", e);
-        }
+    /// <summary>
+    /// Opens a regular file for reading (<see cref="InputFile"/>: its type is checked before the open,
+    /// so a FIFO is refused rather than waited on); failures become a one-line <see cref="ImageFileException"/>.
+    /// </summary>
+    public static FileStream OpenRead(string path) => InputFile.OpenRead(path, reason => new ImageFileException(path, reason));
 
-        // The readers check the header against the file's length and seek to chunks: a pipe or
-        // a device has neither, so it is refused here rather than half-read.
-        if (!stream.CanSeek)
-        {
-            stream.Dispose();
-            throw new ImageFileException(path, "not a regular file (a pipe or device cannot be read; save it to a file first)");
-        }
-
-        return stream;
-    }
-
-    /// <summary>Creates (or truncates) a file for writing, turning I/O failures into a one-line <see cref="ImageFileException"/>.</summary>
-    public static FileStream Create(string path)
+    /// <summary>
+    /// Writes a file through <see cref="AtomicFile"/> (temporary file, flush, rename), turning I/O
+    /// failures into a one-line <see cref="ImageFileException"/>; the previous file survives a failure.
+    /// </summary>
+    public static void WriteAtomically(string path, Action<Stream> body)
     {
         try
         {
-            return new FileStream(path, FileMode.Create, FileAccess.ReadWrite, FileShare.None, 1 << 16);
+            AtomicFile.Write(path, body);
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException or NotSupportedException)
         {
-            throw new ImageFileException(path, $"cannot create: {e.Message}", e);
+            throw new ImageFileException(path, $"cannot write: {e.Message}", e);
         }
     }
 }

@@ -69,7 +69,8 @@ public static class PfmCodec
         // pixels need: then it is skipped, with a note.
         bool crlf = header[pos] == (byte)'\r' && pos + 1 < header.Length && header[pos + 1] == (byte)'\n';
         pos++;
-        limits.Check(fileName, width, height, channels);
+        // Rows are read one at a time into the image: the reader holds one row besides it.
+        limits.Check(fileName, width, height, width * channels * sizeof(float));
 
         bool littleEndian = scale < 0;
         long expected = width * height * channels * sizeof(float);
@@ -152,8 +153,7 @@ public static class PfmCodec
     /// <summary>Writes a colour ("PF") little-endian PFM file.</summary>
     public static void Write(string path, RgbImage image)
     {
-        using FileStream stream = ImageFile.Create(path);
-        Write(stream, image);
+        ImageFile.WriteAtomically(path, stream => Write(stream, image));
     }
 
     /// <summary>Writes a colour ("PF") little-endian PFM (scale −1.0) to a stream.</summary>

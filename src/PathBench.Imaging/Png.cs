@@ -101,8 +101,7 @@ public static class PngCodec
     {
         ArgumentNullException.ThrowIfNull(image);
         RequireEncodable(path, image.Width, image.Height);
-        using FileStream stream = ImageFile.Create(path);
-        Write(stream, image, display);
+        ImageFile.WriteAtomically(path, stream => Write(stream, image, display));
     }
 
     /// <summary>Refuses, before anything is written, a size the PNG encoder would reject.</summary>

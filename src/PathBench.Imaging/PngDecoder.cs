@@ -432,8 +432,22 @@ internal static class PngDecoder
                 throw Fail(FormattableString.Invariant($"a second '{type}' chunk at byte {at}; the PNG specification allows one"));
             }
 
+            // Chunk ordering (PNG specification, Third Edition, "Chunk ordering"): the colour-space
+            // chunks precede PLTE and IDAT; the palette-dependent and other ancillary chunks listed
+            // precede IDAT; hIST follows PLTE.
+            bool beforePalette = type is "gAMA" or "sRGB" or "iCCP" or "cICP" or "cHRM" or "sBIT" or "mDCV" or "cLLI";
+            if (beforePalette && seen.Contains("PLTE"))
+            {
+                throw Fail(FormattableString.Invariant($"chunk '{type}' at byte {at} comes after PLTE; it must precede the palette"));
+            }
+
+            if (type == "hIST" && !seen.Contains("PLTE"))
+            {
+                throw Fail(FormattableString.Invariant($"chunk 'hIST' at byte {at} comes before PLTE; it must follow the palette"));
+            }
+
             seen.Add(type);
-            bool beforeImage = type is "PLTE" or "tRNS" or "gAMA" or "sRGB" or "iCCP" or "cICP" or "cHRM";
+            bool beforeImage = beforePalette || type is "PLTE" or "tRNS" or "bKGD" or "hIST" or "pHYs" or "sPLT" or "eXIf";
             if (beforeImage && seen.Contains("IDAT"))
             {
                 throw Fail(FormattableString.Invariant($"chunk '{type}' at byte {at} comes after the image data; it must precede the first IDAT"));
@@ -577,7 +591,8 @@ internal static class PngDecoder
             }
 
             var h = new PngHeader((int)width, (int)height, bitDepth, (PngColourType)colourType, d[12] == 1);
-            limits.Check(fileName, width, height, h.Channels);
+            // The inflated data, the de-interlaced copy (Adam7 only) and the image.
+            limits.Check(fileName, width, height, (Int128)h.FilteredBytes + (h.Interlaced ? h.RasterBytes : 0));
             long values = (long)width * height * RgbImage.Channels;
             if (h.FilteredBytes > Array.MaxLength || h.RasterBytes > Array.MaxLength || values > Array.MaxLength)
             {

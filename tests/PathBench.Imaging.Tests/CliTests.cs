@@ -236,7 +236,7 @@ public sealed class CliTests
         { "half_for_png_output", ["convert", "{in}", "{dir}/out.png", "--half"], "apply to OpenEXR output only" },
         { "missing_input", ["convert", "{dir}/none.pfm", "{dir}/out.exr"], "none.pfm: cannot open" },
         { "truncated_input", ["convert", "{cut}", "{dir}/out.exr"], "truncated" },
-        { "unwritable_output", ["convert", "{in}", "{dir}/no/such/dir/out.exr"], "cannot create" },
+        { "unwritable_output", ["convert", "{in}", "{dir}/no/such/dir/out.exr"], "cannot write" },
     };
 
     [Theory]

@@ -1,5 +1,8 @@
 using System.Buffers.Binary;
+using System.Diagnostics;
+using System.Globalization;
 using System.Text;
+using Xunit.Abstractions;
 
 namespace PathBench.Imaging.Tests;
 
@@ -9,7 +12,7 @@ namespace PathBench.Imaging.Tests;
 /// line starting with the file name — no other exception, no hang, and no managed allocation
 /// beyond a small bound however large the header's claims.
 /// </summary>
-public sealed class MalformedFileTests
+public sealed class MalformedFileTests(ITestOutputHelper output)
 {
     // Every base file is below 20 KB; decoding one allocates well under 1 MB. 8 MB leaves room for
     // runtime noise but fails at once if a reader trusts a lying header (the smallest lie below
@@ -75,6 +78,52 @@ public sealed class MalformedFileTests
         Assert.DoesNotContain('\n', message);
         Assert.True(message.Contains(c.Expect, StringComparison.Ordinal), $"{name}: message lacks '{c.Expect}': {message}");
         Assert.True(allocated < AllocationBound, $"{name}: reader allocated {allocated} bytes before failing");
+    }
+
+    // The runtime alone peaks near 35 MiB; every lie in the corpus claims hundreds of MB or more,
+    // so a reader that trusted one would pass this bound at once (common practice).
+    private const long PeakBound = 128L << 20;
+
+    /// <summary>
+    /// The whole corpus through the program itself (<c>pathbench convert</c>, one child per file):
+    /// each file is refused with exit 2 and one line, and each child's own peak resident set
+    /// (VmHWM, reported by the program's test hook) stays small. The largest peak is printed.
+    /// </summary>
+    [Fact]
+    public async Task The_corpus_through_the_program_keeps_a_small_peak_resident_set()
+    {
+        using var dir = new TempFolder();
+        long largest = 0;
+        string largestName = "";
+        foreach (Malformed c in Corpus)
+        {
+            string path = dir.File(c.Name + ".img");
+            File.WriteAllBytes(path, c.Bytes());
+            string peakFile = dir.File("peak");
+            var info = new ProcessStartInfo(Path.Combine(AppContext.BaseDirectory, "pathbench"), ["convert", path, dir.File("out.pfm")])
+            {
+                RedirectStandardError = true,
+                RedirectStandardOutput = true,
+                UseShellExecute = false,
+            };
+            info.Environment[PathBench.Cli.Program.PeakMemoryVariable] = peakFile;
+            using Process child = Process.Start(info)!;
+            Task<string> err = child.StandardError.ReadToEndAsync();
+            _ = child.StandardOutput.ReadToEnd();
+            Assert.True(child.WaitForExit(HangBound), $"{c.Name}: still running after {HangBound.TotalSeconds} s");
+            child.WaitForExit();
+            string line = await err;
+            Assert.True(child.ExitCode == 2, $"{c.Name}: exit {child.ExitCode}: {line}");
+            Assert.Single(line.TrimEnd('\n').Split('\n'));
+            long peak = long.Parse(File.ReadAllText(peakFile), CultureInfo.InvariantCulture);
+            Assert.True(peak < PeakBound, $"{c.Name}: peak resident set {peak} bytes");
+            if (peak > largest)
+            {
+                (largest, largestName) = (peak, c.Name);
+            }
+        }
+
+        output.WriteLine(FormattableString.Invariant($"{Corpus.Length} files, largest peak resident set {largest / 1048576.0:F1} MiB ({largestName})"));
     }
 
     // ---- base files -------------------------------------------------------------------------
@@ -248,7 +297,7 @@ public sealed class MalformedFileTests
             new("pfm_magic_with_extra_letter", () => Ascii("PFF\n4 3\n-1\n", 48), "unknown image format"),
             new("pfm_negative_width", () => Ascii("PF\n-4 3\n-1.0\n", 144), "width -4 is out of range"),
             new("pfm_zero_height", () => Ascii("PF\n4 0\n-1.0\n", 144), "height 0 is out of range"),
-            new("pfm_huge_size", () => Ascii("PF\n100000 100000\n-1.0\n", 64), "above the limit"),
+            new("pfm_huge_size", () => Ascii("PF\n100000 100000\n-1.0\n", 64), "above the memory budget of 2 GiB; raise the budget with the global option --max-memory"),
             new("pfm_width_overflows_long", () => Ascii("PF\n99999999999999999999 1\n-1.0\n", 12), "is not an integer"),
             new("pfm_width_not_a_number", () => Ascii("PF\nfour 3\n-1.0\n", 144), "'four' is not an integer"),
             new("pfm_scale_zero", () => Ascii("PF\n4 3\n0\n", 144), "scale '0' is not a non-zero number"),
@@ -289,7 +338,7 @@ public sealed class MalformedFileTests
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 8, 1 << 30);
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i") + 12, 1 << 30);
-            }), "above the limit"),
+            }), "above the memory budget of 2 GiB"),
             new("exr_data_window_full_int_range", () => Mutate(ValidExr(), b =>
             {
                 WriteInt(b, AttributeValue(b, "dataWindow", "box2i"), int.MinValue);
@@ -362,7 +411,7 @@ public sealed class MalformedFileTests
             new("png_bad_crc_ihdr", () => Mutate(ValidPng(), b => b[29] ^= 0x01), "chunk 'IHDR' at byte 8 has a bad CRC"),
             new("png_zero_width", () => PngWithIhdr(0, 4), "PNG size 0x4 is out of range"),
             new("png_negative_height", () => PngWithIhdr(5, 0x80000000), "PNG size 5x2147483648 is out of range"),
-            new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the limit"),
+            new("png_huge_dimensions", () => PngWithIhdr(int.MaxValue, int.MaxValue), "above the memory budget"),
             new("png_lying_dimensions", () => PngWithIhdr(8000, 8000), "cannot hold the 8000x8000 pixels"),
             new("png_huge_declared_tiny_file", () => PngWithIhdr(9000, 9000, depth: 16, colourType: 0), "cannot hold the 9000x9000 pixels"),
             new("png_huge_declared_padded_file", () => PngBytes.File(PngBytes.Ihdr(2000, 2000, 16, 2), Text(40_000), PngBytes.Chunk("IDAT", Zlib(new byte[20])), PngBytes.Chunk("IEND")),
@@ -444,6 +493,17 @@ public sealed class MalformedFileTests
             new("png_gama_after_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("gAMA", 0, 0, 0xB1, 0x8F), PngBytes.Chunk("IEND")),
                 "comes after the image data; it must precede the first IDAT"),
             new("png_two_srgb_chunks", () => GreyPng(Grey4x4(), before: [PngBytes.Chunk("sRGB", 0), PngBytes.Chunk("sRGB", 0)]), "a second 'sRGB' chunk"),
+            // Issue 14: the IDAT data must inflate to exactly the size IHDR implies (PNG specification, "IDAT" and "Filtering").
+            new("png_ihdr_48x32_over_96x64_data", () => PngBytes.Image(48, 32, 8, 2, new byte[64 * (1 + (96 * 3))]), "inflates to more than the 4640 bytes expected"),
+            new("png_ihdr_96x64_over_48x32_data", () => PngBytes.Image(96, 64, 8, 2, new byte[32 * (1 + (48 * 3))]), "zlib data ends after 4640 of 18496 bytes"),
+            // Chunk ordering (PNG specification, Third Edition, "Chunk ordering").
+            new("png_gama_after_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("PLTE", 1, 2, 3), PngBytes.Chunk("gAMA", 0, 0, 0xB1, 0x8F)]), "chunk 'gAMA' at byte 48 comes after PLTE; it must precede the palette"),
+            new("png_srgb_after_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("PLTE", 1, 2, 3), PngBytes.Chunk("sRGB", 0)]), "chunk 'sRGB' at byte 48 comes after PLTE"),
+            new("png_hist_before_plte", () => PngBytes.Image(2, 1, 8, 3, [0, 0, 0], before: [PngBytes.Chunk("hIST", 0, 1), PngBytes.Chunk("PLTE", 1, 2, 3)]), "chunk 'hIST' at byte 33 comes before PLTE"),
+            new("png_phys_after_idat", () => PngBytes.File(PngBytes.Ihdr(4, 4, 8, 0), PngBytes.Chunk("IDAT", Zlib(Grey4x4())), PngBytes.Chunk("pHYs", new byte[9]), PngBytes.Chunk("IEND")),
+                "chunk 'pHYs' at byte"),
+            new("png_iend_absurd_length", () => Mutate(ValidPng(), b => BinaryPrimitives.WriteUInt32BigEndian(b.AsSpan(b.Length - 12), 0x7FFFFFF0)),
+                "truncated: chunk 'IEND' at byte"),
         ];
     }
 }

@@ -100,7 +100,7 @@ public sealed class PngDecoderTests
         // 2^30 x 1 one-bit grey: 2^27 bytes of data, but 3 * 2^30 linear values, more than a .NET array holds (common practice: Array.MaxLength).
         byte[] png = PngBytes.Image(1u << 30, 1, 1, 0, [0, 0]);
         long before = GC.GetAllocatedBytesForCurrentThread();
-        var e = Assert.Throws<ImageNotSupportedException>(() => PngCodec.Read(new MemoryStream(png), "wide.png", new ImageLimits(long.MaxValue)));
+        var e = Assert.Throws<ImageNotSupportedException>(() => PngCodec.Read(new MemoryStream(png), "wide.png", new ImageLimits(new PathBench.Io.MemoryBudget(long.MaxValue))));
         Assert.True(GC.GetAllocatedBytesForCurrentThread() - before < (1 << 20), "the reader allocated before refusing");
         Assert.Equal("wide.png: not supported: a 1073741824x1 1-bit grey image needs 134217729 bytes of image data and 3221225472 linear values, more than one array holds", e.Message);
     }

@@ -1,6 +1,7 @@
 using System.Diagnostics;
 using System.Globalization;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Scenes;
 
@@ -213,7 +214,7 @@ public static class CaseImages
             process.WaitForExit();
         }
 
-        File.WriteAllText(logPath, $"$ {shown}\n--- stdout\n{stdout.Result}\n--- stderr\n{stderr.Result}\n--- exit {(finished ? process.ExitCode.ToString(CultureInfo.InvariantCulture) : "killed after the timeout")}\n");
+        AtomicFile.WriteText(logPath, $"$ {shown}\n--- stdout\n{stdout.Result}\n--- stderr\n{stderr.Result}\n--- exit {(finished ? process.ExitCode.ToString(CultureInfo.InvariantCulture) : "killed after the timeout")}\n");
         if (!finished)
         {
             throw new CaseFailedException(FormattableString.Invariant($"case '{caseName}': the command ran past its timeout of {cmd.TimeoutSeconds} s and was stopped (log: {logPath})"));

@@ -2,6 +2,7 @@ using System.Globalization;
 using System.Text;
 using System.Text.Json;
 using System.Xml;
+using PathBench.Io;
 
 namespace PathBench.Analysis.Checks;
 
@@ -215,7 +216,7 @@ public static class CheckRun
     {
         try
         {
-            using JsonDocument doc = JsonDocument.Parse(File.ReadAllBytes(path));
+            using JsonDocument doc = JsonDocument.Parse(InputFile.ReadAllBytes(path, reason => new Imaging.ImageFileException(path, reason)));
             JsonElement root = doc.RootElement;
             if (!root.TryGetProperty("format", out JsonElement format) || format.GetString() != "pathbench-baseline 1")
             {

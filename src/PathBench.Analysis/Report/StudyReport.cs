@@ -5,6 +5,7 @@ using System.Text;
 using System.Text.Json;
 using System.Text.RegularExpressions;
 using PathBench.Imaging;
+using PathBench.Io;
 
 namespace PathBench.Analysis.Report;
 
@@ -36,7 +37,7 @@ public static partial class StudyReport
             throw new ImageFileException(summaryPath, "not found: run 'pathbench study' into this folder first");
         }
 
-        byte[] summaryBytes = File.ReadAllBytes(summaryPath);
+        byte[] summaryBytes = InputFile.ReadAllBytes(summaryPath, reason => new ImageFileException(summaryPath, reason));
         using JsonDocument summary = ParseSummary(summaryPath, summaryBytes);
         try
         {
@@ -68,7 +69,7 @@ public static partial class StudyReport
             string svgPath = Path.Combine(directory, PlotFiles[i]);
             if (File.Exists(svgPath))
             {
-                html.Append("<figure class=\"plot\">").Append(InlineSvg(File.ReadAllText(svgPath), i)).Append("</figure>\n");
+                html.Append("<figure class=\"plot\">").Append(InlineSvg(InputFile.ReadAllText(svgPath, reason => new ImageFileException(svgPath, reason)), i)).Append("</figure>\n");
             }
         }
 
@@ -119,9 +120,7 @@ public static partial class StudyReport
         html.Append("</body>\n</html>\n");
 
         string output = Path.Combine(directory, "report.html");
-        string partial = output + ".partial";
-        File.WriteAllText(partial, html.ToString(), new UTF8Encoding(false));
-        File.Move(partial, output, overwrite: true);
+        AtomicFile.WriteText(output, html.ToString());
         return output;
     }
 

@@ -2,6 +2,7 @@ using System.CommandLine;
 using System.Diagnostics;
 using System.Globalization;
 using System.Text.Json;
+using PathBench.Io;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
 
@@ -99,7 +100,7 @@ internal static class BatchCommand
 
         try
         {
-            using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(sidecar));
+            using JsonDocument doc = JsonDocument.Parse(InputFile.ReadAllBytes(sidecar, reason => new IOException(reason)));
             return doc.RootElement.TryGetProperty("stopped_by", out JsonElement s) && s.GetString() == "complete";
         }
         catch (JsonException)
@@ -112,7 +113,7 @@ internal static class BatchCommand
     {
         try
         {
-            using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(Path.ChangeExtension(job.Out, ".json")));
+            using JsonDocument doc = JsonDocument.Parse(InputFile.ReadAllBytes(Path.ChangeExtension(job.Out, ".json"), reason => new IOException(reason)));
             return doc.RootElement.GetProperty("spp").GetInt32().ToString(CultureInfo.InvariantCulture);
         }
         catch (Exception e) when (e is IOException or JsonException or KeyNotFoundException or InvalidOperationException)
@@ -124,15 +125,7 @@ internal static class BatchCommand
     /// <summary>Reads and checks the jobs file; errors are <c>FILE:LINE:COLUMN: message</c>.</summary>
     internal static List<BatchJob> Read(string path)
     {
-        string text;
-        try
-        {
-            text = File.ReadAllText(path);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new CliUsageException($"{path}: cannot read: {e.Message}", e);
-        }
+        string text = InputFile.ReadAllText(path, reason => new CliUsageException($"{path}: cannot read: {reason}"));
 
         string folder = Path.GetDirectoryName(Path.GetFullPath(path)) ?? ".";
         var stream = new YamlStream();

@@ -1,5 +1,6 @@
 using System.CommandLine;
 using PathBench.Analysis.Checks;
+using PathBench.Io;
 
 namespace PathBench.Cli.Commands;
 
@@ -36,12 +37,12 @@ internal static class CheckCommand
             CheckRun.WriteTable(io.Out, result);
             if (parse.GetValue(junit) is { } j)
             {
-                ImageIo.Guard(j, () => WriteFile(j, stream => CheckRun.WriteJUnit(stream, result)));
+                ImageIo.Guard(j, () => AtomicFile.Write(j, stream => CheckRun.WriteJUnit(stream, result)));
             }
 
             if (parse.GetValue(json) is { } js)
             {
-                ImageIo.Guard(js, () => WriteFile(js, stream => CheckRun.WriteJson(stream, result)));
+                ImageIo.Guard(js, () => AtomicFile.Write(js, stream => CheckRun.WriteJson(stream, result)));
             }
 
             return result.Passed ? 0 : FailedExitCode;
@@ -67,7 +68,7 @@ internal static class CheckCommand
             var plain = s with { Cases = [.. s.Cases.Select(c => c with { Assertions = [.. c.Assertions.Where(a => !a.AgainstBaseline)] })] };
             CheckResult result = Run(io, plain, path, parse.GetValue(work), parse.GetValue(threads), null);
             string outPath = parse.GetValue(output)!;
-            ImageIo.Guard(outPath, () => WriteFile(outPath, stream => CheckRun.WriteBaseline(stream, result, RenderCommand.Version)));
+            ImageIo.Guard(outPath, () => AtomicFile.Write(outPath, stream => CheckRun.WriteBaseline(stream, result, RenderCommand.Version)));
             io.Out.WriteLine($"{outPath}: figures of {result.Figures.Count} of {s.Cases.Count} cases");
             foreach (Verdict v in result.Verdicts.Where(v => double.IsNaN(v.Measured)).DistinctBy(v => v.Case))
             {
@@ -100,16 +101,5 @@ internal static class CheckCommand
         {
             throw new CliUsageException(e.Message, e);
         }
-    }
-
-    private static void WriteFile(string path, Action<Stream> body)
-    {
-        string partial = path + ".partial";
-        using (var stream = new FileStream(partial, FileMode.Create, FileAccess.Write))
-        {
-            body(stream);
-        }
-
-        File.Move(partial, path, overwrite: true);
     }
 }

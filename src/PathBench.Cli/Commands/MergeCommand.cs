@@ -2,6 +2,7 @@ using System.CommandLine;
 using System.Diagnostics;
 using System.Globalization;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Accumulation;
 
@@ -52,6 +53,17 @@ internal static class MergeCommand
             }
 
             List<SampleRange> ranges = CheckRanges(files, headers, parse.GetValue(allowGaps), out List<SampleRange> gaps);
+            // The merged film and the part being read into it.
+            FilmOutput.RequireMemory(headers[0].Identity.Width, headers[0].Identity.Height, Math.Min(files.Length, 2), asReference, "merging films");
+            var outputs = new OutputPaths();
+            foreach (string file in files)
+            {
+                outputs.Input(file);
+            }
+
+            outputs.Output(outPath, "the merged image").Output(Path.ChangeExtension(outPath, ".json"), "the sidecar (JSON)", ".json")
+                .Output(asReference ? Analysis.ReferenceImage.VariancePath(outPath) : null, "the variance image", ".exr")
+                .Output(parse.GetValue(accumulation), "the merged accumulation file");
             Film? merged = null;
             foreach (string file in files)
             {

@@ -1,6 +1,7 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Numerics;
+using PathBench.Io;
 using PathBench.Sampling.Analysis;
 using PathBench.Sampling.Generators;
 
@@ -35,6 +36,11 @@ internal static class PointStatsCommand
             SamplerOptions.RequireAtLeast("--dims", d, 1);
             SamplerOptions.RequireAtMost("--dims", d, 4096, "every pair is measured");
             (int px, int py) = SamplerOptions.ParsePixel(parse.GetValue(pixel)!);
+            // The points and the sampler's and the measures' working copies (24 bytes a value: --count
+            // 16384 --dims 512 peaked at 21 bytes a value above the idle process, measured with VmHWM)
+            // and, for a power-of-two count, the t-value of every pair of dimensions.
+            long pairCount = BitOperations.IsPow2(n) ? (long)d * (d - 1) / 2 : 0;
+            MemoryBudget.Current.Require(((Int128)n * d * 24) + (pairCount * 24), FormattableString.Invariant($"--count {n} --dims {d}"));
             PointSampler s = sampler.CreateSampler(parse, n, d);
             var points = new double[n * d];
             s.Fill(s.PixelKey(px, py), d, points);

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Reflection;
 using PathBench.Analysis;
 using PathBench.Imaging;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Accumulation;
@@ -81,12 +82,19 @@ internal static class RenderCommand
             }
 
             SceneDescription description = SceneLoader.Load(path);
+            FilmOutput.RequireMemory(description.Camera.Width, description.Camera.Height, 1, reference, reference ? "a reference render" : "a render");
 
             string sidecar = Path.ChangeExtension(outPath, ".json");
+            string variancePath = ReferenceImage.VariancePath(outPath);
+            // The checkpoint being resumed is read, then rewritten: it is the one output that may be an input.
+            new OutputPaths().Input(path)
+                .Output(outPath, "the image")
+                .Output(sidecar, "the sidecar (JSON)", ".json")
+                .Output(reference ? variancePath : null, "the variance image", ".exr")
+                .Output(accumulationPath, "the accumulation file");
             // Check the outputs can be written before spending the render on them.
             RequireWritable(outPath);
             RequireWritable(sidecar);
-            string variancePath = ReferenceImage.VariancePath(outPath);
             if (reference)
             {
                 RequireWritable(variancePath);
@@ -184,6 +192,11 @@ internal static class RenderCommand
                 }
             });
 
+            if (result.Interrupted)
+            {
+                io.Error.WriteLine(InterruptedLine(result, target, outPath, sidecar, reference ? variancePath : null, accumulationPath));
+            }
+
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {result.Done.Count} spp {result.Done}, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples{(stoppedBy == "complete" ? "" : ", stopped by " + stoppedBy.Replace('_', ' '))}"));
             FilmOutput.WarnDropped(io.Out, outPath, result.Film);
@@ -206,6 +219,17 @@ internal static class RenderCommand
         // A plug-in's or a point file's points can change under the same name: their identity goes in too.
         .. SamplerCatalog.Find(spec.Generator).Provenance is { } provenance ? [new KeyValuePair<string, string>("generator_provenance", provenance)] : Array.Empty<KeyValuePair<string, string>>(),
     ];
+
+    /// <summary>The one line after SIGINT or SIGTERM: what the stopped render wrote, and what it did not.</summary>
+    internal static string InterruptedLine(SessionOutcome result, SampleRange target, string outPath, string sidecar, string? variancePath, string? accumulationPath)
+    {
+        string wrote = string.Join(", ", new[] { outPath, variancePath, sidecar }.OfType<string>());
+        string kept = accumulationPath is null
+            ? "no checkpoint was written, so they cannot be resumed (render with --checkpoint FILE for that)"
+            : $"the checkpoint {accumulationPath} holds the {result.Done.Count} done; --resume continues from it";
+        return string.Create(CultureInfo.InvariantCulture,
+            $"pathbench: stopped by {result.Signal ?? "a signal"} after {result.Done.Count} of {target.Count} spp: wrote {wrote} with the {result.Done.Count} spp done; the other {target.Count - result.Done.Count} spp were not rendered and {kept}");
+    }
 
     private static (int Index, int Count) ParseShard(string text)
     {
@@ -248,9 +272,11 @@ internal static class RenderCommand
     private static void RequireWritable(string path)
     {
         string full = Path.GetFullPath(path);
-        if (Directory.Exists(full))
+        FileKind kind = FileStatus.Of(full).Kind;
+        if (kind is not (FileKind.Regular or FileKind.Missing))
         {
-            throw new CliUsageException($"{path}: is a folder, not a file to write");
+            // Opening a FIFO to test it would wait for a reader; a folder or device cannot be replaced by a file.
+            throw new CliUsageException($"{path}: is {FileStatus.Describe(kind)}, not a file to write");
         }
 
         string? folder = Path.GetDirectoryName(full);

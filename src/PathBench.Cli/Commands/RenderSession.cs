@@ -20,9 +20,10 @@ internal sealed record SessionPlan(SampleRange Target, TimeSpan? Budget, string?
 /// <param name="Rays">Rays traced in this process.</param>
 /// <param name="WallSeconds">Wall time of this process's passes.</param>
 /// <param name="Interrupted">A SIGINT or SIGTERM stopped it.</param>
+/// <param name="Signal">Which signal stopped it ("SIGINT", "SIGTERM"), or null.</param>
 /// <param name="Checkpoints">Checkpoints written, the final one included.</param>
 /// <param name="CheckpointSeconds">Wall time spent writing them.</param>
-internal sealed record SessionOutcome(Film Film, SampleRange Done, long Rays, double WallSeconds, bool Interrupted, int Checkpoints, double CheckpointSeconds);
+internal sealed record SessionOutcome(Film Film, SampleRange Done, long Rays, double WallSeconds, bool Interrupted, int Checkpoints, double CheckpointSeconds, string? Signal = null);
 
 /// <summary>
 /// Renders a sample range in whole passes, so the film always holds a contiguous range
@@ -49,6 +50,16 @@ internal static class RenderSession
     /// </summary>
     public const string SignalMarker = "pathbench: test: stop signal taken";
 
+    /// <summary>
+    /// Environment variable (any value) that makes the render, after its first pass, print
+    /// <see cref="SignalWaitMarker"/> and wait for SIGINT or SIGTERM (at most a minute), so a test
+    /// can signal a render that is certainly still running, whatever the machine's speed.
+    /// </summary>
+    public const string SignalWaitVariable = "PATHBENCH_TEST_WAIT_FOR_SIGNAL";
+
+    /// <summary>Printed on stderr when the render waits for a signal (<see cref="SignalWaitVariable"/>).</summary>
+    public const string SignalWaitMarker = "pathbench: test: waiting for a signal";
+
     private static readonly TimeSpan PassTarget = TimeSpan.FromSeconds(1);
     private static readonly TimeSpan RedirectedProgressEvery = TimeSpan.FromSeconds(10);
 
@@ -67,6 +78,7 @@ internal static class RenderSession
         double sppPerSecond = 0;
         int startedAt = done;
         bool consoleProgress = !plan.Quiet && (ReferenceEquals(io.Error, Console.Error) || (io.Error is BatchCommand.TeeWriter tee && ReferenceEquals(tee.First, Console.Error)));
+        bool waitForSignal = Environment.GetEnvironmentVariable(SignalWaitVariable) is not null;
 
         void Checkpoint()
         {
@@ -107,6 +119,13 @@ internal static class RenderSession
             rays += r.Rays;
             sppPerSecond = (end - done) / Math.Max(r.WallSeconds, 1e-6);
             done = end;
+            if (waitForSignal)
+            {
+                waitForSignal = false;
+                io.Error.WriteLine(SignalWaitMarker);
+                io.Error.Flush();
+                signals.WaitForStop(TimeSpan.FromMinutes(1));
+            }
 
             if (plan.AccumulationPath is not null && clock.Elapsed - lastCheckpoint >= plan.CheckpointEvery && done < plan.Target.End)
             {
@@ -131,7 +150,7 @@ internal static class RenderSession
         }
 
         Checkpoint();
-        return new SessionOutcome(film, new SampleRange(plan.Target.First, done), rays, clock.Elapsed.TotalSeconds, signals.StopRequested, checkpoints, checkpointSeconds);
+        return new SessionOutcome(film, new SampleRange(plan.Target.First, done), rays, clock.Elapsed.TotalSeconds, signals.StopRequested, checkpoints, checkpointSeconds, signals.Signal);
     }
 
     /// <summary>spp done, samples/s, Mrays/s and the time left at this rate.</summary>
@@ -179,7 +198,9 @@ internal static class RenderSession
         private readonly PosixSignalRegistration _interrupt;
         private readonly PosixSignalRegistration _terminate;
         private readonly Action? _taken;
+        private readonly ManualResetEventSlim _stopped = new();
         private int _requests;
+        private string? _signal;
 
         public StopSignals(Action? taken)
         {
@@ -190,14 +211,21 @@ internal static class RenderSession
 
         public bool StopRequested => Volatile.Read(ref _requests) > 0;
 
+        /// <summary>The first signal received, "SIGINT" or "SIGTERM"; null before one.</summary>
+        public string? Signal => Volatile.Read(ref _signal);
+
+        public void WaitForStop(TimeSpan bound) => _stopped.Wait(bound);
+
         public void Dispose()
         {
             _interrupt.Dispose();
             _terminate.Dispose();
+            _stopped.Dispose();
         }
 
         private void Handle(PosixSignalContext context)
         {
+            Interlocked.CompareExchange(ref _signal, context.Signal == PosixSignal.SIGTERM ? "SIGTERM" : "SIGINT", null);
             int n = Interlocked.Increment(ref _requests);
             if (n == 1 || context.Signal == PosixSignal.SIGTERM)
             {
@@ -208,6 +236,8 @@ internal static class RenderSession
             {
                 _taken?.Invoke();
             }
+
+            _stopped.Set();
         }
     }
 }

@@ -3,6 +3,7 @@ using System.Diagnostics;
 using System.Globalization;
 using System.Reflection;
 using PathBench.Analysis;
+using PathBench.Io;
 using PathBench.Rendering.Scenes;
 using Spectre.Console;
 
@@ -51,8 +52,8 @@ internal static class StudyCommand
             string studyPath = Path.Combine(dir, "fence-yard.study.yaml");
             ImageIo.Guard(studyPath, () =>
             {
-                File.WriteAllText(studyPath, Resource(DemoStudyResource));
-                File.WriteAllText(Path.Combine(dir, "fence-yard.yaml"), Resource(DemoSceneResource));
+                AtomicFile.WriteText(studyPath, Resource(DemoStudyResource));
+                AtomicFile.WriteText(Path.Combine(dir, "fence-yard.yaml"), Resource(DemoSceneResource));
             });
             StudyDefinition study = StudyFile.Load(studyPath);
             return Run(io, study, dir, parse.GetValue(threads), parse.GetValue(quiet));

@@ -46,8 +46,6 @@ internal static class ExrReader
             throw new ImageFileException(fileName, FormattableString.Invariant($"display window {display} is empty or too large"));
         }
 
-        limits.Check(fileName, data.Width, data.Height, part.Channels.Length);
-
         // B44 codes perceptually linear HALF channels through an exp/log table this reader does not have.
         if (part.Compression is ExrCompression.B44 or ExrCompression.B44A
             && part.Channels.FirstOrDefault(c => c.PerceptuallyLinear && c.Type == ExrPixelType.Half) is { Name: { } linear })
@@ -55,7 +53,6 @@ internal static class ExrReader
             throw new ImageNotSupportedException(fileName, $"B44 with the perceptually linear channel '{linear}'");
         }
 
-        limits.Check(fileName, display.Width, display.Height, RgbImage.Channels);
         Selection selection = SelectChannels(part.Channels, options, fileName, notes);
 
         // Where this part's offset table starts: after the tables of the parts before it.
@@ -66,6 +63,16 @@ internal static class ExrReader
         }
 
         ChunkGrid grid = ChunkGrid.Of(part, fileName);
+        long bytesPerPixel = part.Channels.Sum(c => (long)c.Size);
+        long maxChunkRaw = bytesPerPixel * grid.MaxBlockWidth * grid.MaxBlockHeight;
+        // Chunks are decoded a batch at a time into the image: besides it the reader holds one
+        // batch of compressed chunks and a decompressed one per worker (each at most the raw size,
+        // within the codecs' bounds). Checked from the header alone, before the file's length is.
+        limits.Check(fileName, display.Width, display.Height, (Int128)(ChunkBatch + Environment.ProcessorCount) * maxChunkRaw);
+        if (maxChunkRaw > Array.MaxLength)
+        {
+            throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
+        }
         long tableEntries = part.ChunkCount ?? grid.TableEntries;
         if (tableEntries < grid.Count)
         {
@@ -86,12 +93,6 @@ internal static class ExrReader
             firstChunk += 8L * p.ChunkCount!.Value;
         }
 
-        long bytesPerPixel = part.Channels.Sum(c => (long)c.Size);
-        long maxChunkRaw = bytesPerPixel * grid.MaxBlockWidth * grid.MaxBlockHeight;
-        if (maxChunkRaw > Array.MaxLength)
-        {
-            throw new ImageNotSupportedException(fileName, FormattableString.Invariant($"chunks of {maxChunkRaw} bytes"));
-        }
 
         // The chunks must be able to hold the pixels the header declares before anything that size is
         // allocated: uncompressed they need every byte, compressed at least a codec's bound of them.

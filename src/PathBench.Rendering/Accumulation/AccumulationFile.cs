@@ -5,6 +5,7 @@ using System.Numerics;
 using System.Runtime.InteropServices;
 using System.Security.Cryptography;
 using System.Text;
+using PathBench.Io;
 
 namespace PathBench.Rendering.Accumulation;
 
@@ -54,9 +55,7 @@ public static class AccumulationFile
         ArgumentNullException.ThrowIfNull(path);
         ArgumentNullException.ThrowIfNull(accumulation);
         RequireLittleEndian();
-        string full = Path.GetFullPath(path);
-        string temp = TempPath(full);
-        using (var file = new FileStream(temp, FileMode.Create, FileAccess.Write, FileShare.None, 1 << 16))
+        AtomicFile.Write(path, file =>
         {
             using (var hashing = new HashingStream(file))
             {
@@ -78,18 +77,7 @@ public static class AccumulationFile
                 hashing.Write(length);
                 file.Write(hashing.Hash());
             }
-
-            file.Flush(flushToDisk: true);
-        }
-
-        File.Move(temp, full, overwrite: true);
-    }
-
-    /// <summary>The temp file a write goes through: hidden, in the target's folder, so the rename stays on one file system.</summary>
-    public static string TempPath(string path)
-    {
-        string full = Path.GetFullPath(path);
-        return Path.Combine(Path.GetDirectoryName(full) ?? ".", "." + Path.GetFileName(full) + ".tmp");
+        });
     }
 
     /// <summary>Reads the header only (no sums): what the file holds, for checks before a render.</summary>
@@ -108,15 +96,7 @@ public static class AccumulationFile
     {
         ArgumentNullException.ThrowIfNull(path);
         RequireLittleEndian();
-        FileStream file;
-        try
-        {
-            file = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new AccumulationFileException(path, $"cannot read: {e.Message}", e);
-        }
+        FileStream file = InputFile.OpenRead(path, reason => new AccumulationFileException(path, reason));
 
         using (file)
         {

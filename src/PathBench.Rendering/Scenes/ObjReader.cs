@@ -151,8 +151,12 @@ internal static class ObjReader
                 default:
                     if (!Ignored.Contains(keyword, StringComparer.Ordinal))
                     {
-                        throw Error(lineNumber, tokens[0].Column,
-                            $"unsupported OBJ statement '{YamlNodeReader.Shown(keyword)}' (read: v, vt, vn, f; ignored: o, g, s, usemtl, mtllib)");
+                        // Only a keyword-like word is quoted: a file that is not OBJ at all (a key, a
+                        // password file given by mistake) must not have its first line printed.
+                        bool keywordLike = keyword.Length <= 16 && keyword.All(c => char.IsAsciiLetterOrDigit(c) || c == '_');
+                        throw Error(lineNumber, tokens[0].Column, keywordLike
+                            ? $"unsupported OBJ statement '{keyword}' (read: v, vt, vn, f; ignored: o, g, s, usemtl, mtllib)"
+                            : "not an OBJ statement (read: v, vt, vn, f; ignored: o, g, s, usemtl, mtllib); is this an OBJ file?");
                     }
                     break;
             }

@@ -1,5 +1,6 @@
 using System.Security.Cryptography;
 using System.Text;
+using PathBench.Io;
 using PathBench.Rendering.Geometry;
 using PathBench.Sampling.Warps;
 using YamlDotNet.Core;
@@ -76,17 +77,19 @@ public static class SceneLoader
     internal static (string Text, byte[] Bytes) ReadTextFile(string path, string what)
     {
         byte[] bytes;
-        try
+        using (FileStream stream = InputFile.OpenRead(path, reason => new SceneException($"{path}: cannot read file: {OneLine(reason)}")))
         {
-            using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read);
             if (stream.Length > MaxFileBytes)
                 throw new SceneException(FormattableString.Invariant($"{path}: cannot read file: it is {stream.Length} bytes, above the limit of {MaxFileBytes} (64 MiB) for {what}"));
             bytes = new byte[stream.Length];
-            stream.ReadExactly(bytes);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException or NotSupportedException)
-        {
-            throw new SceneException($"{path}: cannot read file: {OneLine(e.Message)}", e);
+            try
+            {
+                stream.ReadExactly(bytes);
+            }
+            catch (IOException e)
+            {
+                throw new SceneException($"{path}: cannot read file: {OneLine(e.Message)}", e);
+            }
         }
 
         string text;
@@ -699,8 +702,14 @@ public static class SceneLoader
                 string display = Path.Combine(Path.GetDirectoryName(sourcePath) ?? "", file);
                 try
                 {
-                    using var text = new StreamReader(full, Encoding.UTF8, detectEncodingFromByteOrderMarks: true);
+                    // Strict UTF-8: a binary file is refused as "not UTF-8 text" without quoting any of it.
+                    using FileStream stream = InputFile.OpenRead(full, reason => reader.Error(fileNode, $"cannot read mesh file '{YamlNodeReader.Shown(file)}': {OneLine(reason)}"));
+                    using var text = new StreamReader(stream, new UTF8Encoding(false, throwOnInvalidBytes: true), detectEncodingFromByteOrderMarks: true);
                     mesh = ObjReader.Read(text, display);
+                }
+                catch (DecoderFallbackException)
+                {
+                    throw reader.Error(fileNode, $"cannot read mesh file '{YamlNodeReader.Shown(file)}': not UTF-8 text (an OBJ file is text)");
                 }
                 catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException or NotSupportedException)
                 {

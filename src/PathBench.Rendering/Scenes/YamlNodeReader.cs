@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Text;
+using PathBench.Io;
 using PathBench.Sampling.Warps;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
@@ -141,25 +142,8 @@ internal sealed class YamlNodeReader(string sourcePath)
     public static bool IsNull(YamlScalarNode s) =>
         s.Style is ScalarStyle.Plain && s.Value is "" or "~" or "null" or "Null" or "NULL" or null;
 
-    /// <summary>Quotes user text on one line: control characters escaped, long text cut.</summary>
-    public static string Shown(string text)
-    {
-        const int MaxShown = 60;
-        var sb = new StringBuilder(Math.Min(text.Length, MaxShown + 8));
-        foreach (char ch in text)
-        {
-            if (sb.Length >= MaxShown)
-            {
-                sb.Append('…');
-                break;
-            }
-            if (char.IsControl(ch))
-                sb.Append(ch switch { '\n' => "\\n", '\r' => "\\r", '\t' => "\\t", _ => FormattableString.Invariant($"\\u{(int)ch:x4}") });
-            else
-                sb.Append(ch);
-        }
-        return sb.ToString();
-    }
+    /// <summary>Quotes user text on one line as <see cref="TextExcerpt"/> allows: printable ASCII, at most 32 characters, nothing of binary content.</summary>
+    public static string Shown(string text) => TextExcerpt.Of(text);
 
     private string PlainScalar(YamlNode node, string what, string expected)
     {
@@ -211,7 +195,12 @@ internal sealed class MappingView
                 continue;
             string? near = NameSuggestion.Closest(key, table.Keys);
             string hint = near is null ? $"; expected one of: {string.Join(", ", table.Keys)}" : $"; did you mean '{near}'?";
-            throw _reader.Error(keyNode, $"unknown key '{YamlNodeReader.Shown(key)}' in {What}{hint}");
+            // Only a name-like key is quoted: a file that is not YAML of ours at all (a password
+            // file given by mistake) parses as one odd key, which must not be printed.
+            bool nameLike = key.Length <= 40 && key.All(c => char.IsAsciiLetterOrDigit(c) || c is '_' or '-' or '.');
+            throw _reader.Error(keyNode, nameLike
+                ? $"unknown key '{key}' in {What}{hint}"
+                : $"unknown key in {What} (not shown: not a key name; is this the right file?){hint}");
         }
         foreach (string key in table.Required)
         {

@@ -37,7 +37,7 @@ public sealed class AccumulationFileTests
         Assert.Equal(Identity.Configuration, back.Identity.Configuration);
         Assert.Equal([new SampleRange(0, 8)], back.Ranges);
         Assert.Null(Identity.FirstDifference(back.Identity));
-        Assert.False(File.Exists(AccumulationFile.TempPath(dir.File("a.accum"))), "the temp file is renamed, not left behind");
+        Assert.DoesNotContain(Directory.GetFiles(dir.Path), f => PathBench.Io.AtomicFile.IsTempName(Path.GetFileName(f)));
     }
 
     [Fact]

@@ -70,6 +70,9 @@ public sealed class Bvh
     /// <summary>Number of nodes.</summary>
     public int NodeCount => _nodes.Length;
 
+    /// <summary>Bytes of the node array (what a query walks besides the primitives).</summary>
+    public long NodeBytes => (long)_nodes.Length * Unsafe.SizeOf<Node>();
+
     private static int Build(List<Node> nodes, int[] order, (Vec3d Min, Vec3d Max)[] bounds, Vec3d[] centroids, int start, int end, int depth)
     {
         int index = nodes.Count;

@@ -13,10 +13,12 @@ internal static class BenchCommand
         var scene = new Option<string?>("--scene") { Description = $"Benchmark scene: {string.Join(", ", BenchScenes.Names)} (default: all)" };
         var threads = new Option<int>("--threads") { Description = "Threads for the all-threads figures (one-thread figures are always measured)", DefaultValueFactory = _ => Environment.ProcessorCount };
         var json = new Option<bool>("--json") { Description = "Write JSON instead of a table" };
+        var noShare = new Option<bool>("--no-sampler-share") { Description = "Skip the sampler-share frames (every generator × randomization; the longest part)" };
         var command = new Command("bench", "Measure BVH build, ray throughput (primary and incoherent), render speed, thread scaling and each sampler's share of a frame");
         command.Options.Add(scene);
         command.Options.Add(threads);
         command.Options.Add(json);
+        command.Options.Add(noShare);
         command.SetAction(parse =>
         {
             int t = parse.GetValue(threads);
@@ -32,7 +34,7 @@ internal static class BenchCommand
             var reports = new List<BenchReport>();
             foreach (string s in name is null ? BenchScenes.Names : [name])
             {
-                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default, line => io.Error.WriteLine("bench: " + line)));
+                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default, !parse.GetValue(noShare), line => io.Error.WriteLine("bench: " + line)));
             }
 
             if (asJson)

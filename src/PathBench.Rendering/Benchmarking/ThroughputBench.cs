@@ -81,8 +81,8 @@ public static class ThroughputBench
     /// <summary>The options every render of the benchmark uses: the render command's defaults (cosine, MIS, roulette) and 8 bounces.</summary>
     public static PathTracerOptions Options { get; } = new(HemisphereStrategy.Cosine, LightStrategy.Mis, 8, true);
 
-    /// <summary>Runs every measurement on <paramref name="sceneName"/>; <paramref name="log"/> hears what is being measured.</summary>
-    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, Action<string>? log = null)
+    /// <summary>Runs every measurement on <paramref name="sceneName"/> (the sampler shares only when <paramref name="samplerShares"/>); <paramref name="log"/> hears what is being measured.</summary>
+    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, bool samplerShares, Action<string>? log = null)
     {
         ArgumentNullException.ThrowIfNull(sizes);
         threads = Math.Max(1, threads);
@@ -111,7 +111,7 @@ public static class ThroughputBench
 
         var shares = new List<SamplerShare>();
         Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4);
-        foreach ((string g, string r) in Combinations())
+        foreach ((string g, string r) in samplerShares ? Combinations() : [])
         {
             log?.Invoke($"{sceneName}: sampler share of {g}/{r}");
             shares.Add(Share(small, g, r, sizes.ShareSpp, sizes.Repeats));

@@ -106,6 +106,68 @@ public sealed class BvhTests
         Assert.True(grazingHits > 1000, $"only {grazingHits} grazing rays hit: the set does not test what it claims");
     }
 
+    [Theory]
+    [InlineData(true)]
+    [InlineData(false)]
+    public void Wide_hierarchy_finds_the_hits_of_the_scalar_reference(bool vectorised)
+    {
+        // The fast path (four-wide, 256-bit slab tests, or its scalar fallback) against the plain
+        // binary tree it replaced: same distance, same primitive, same occlusion, for random,
+        // axis-aligned and grazing rays. The arithmetic of the primitive tests is identical, so
+        // exact equality is the tolerance; only exact ties between two primitives could differ.
+        Primitive[] prims = RandomScene(600);
+        var wide = new Bvh(prims) { Vectorised = vectorised };
+        var reference = new ReferenceBvh(prims);
+        for (uint r = 0; r < 6000; r++)
+        {
+            Ray ray = r % 3 == 2 ? GrazingRay(prims, r) : RandomRay(r);
+            if (r % 3 == 1)
+            {
+                ray = ray with { Direction = new Vec3d(0, r % 2 == 0 ? 1 : -1, 0) };
+            }
+
+            bool a = wide.Intersect(ray, out SurfaceHit h);
+            bool b = reference.Intersect(ray, out SurfaceHit g);
+            Assert.Equal(b, a);
+            if (a)
+            {
+                Assert.Equal(g.T, h.T);
+                Assert.Equal(reference.PrimitiveOrder[g.Primitive], wide.PrimitiveOrder[h.Primitive]);
+                Assert.Equal(g.Point, h.Point);
+                Assert.Equal(g.GeometricNormal, h.GeometricNormal);
+            }
+
+            double limit = a ? h.T * (1 + (1e-9 * (r % 2))) : 1e3;
+            Assert.Equal(reference.Occluded(ray, limit), wide.Occluded(ray, limit));
+        }
+    }
+
+    [Fact]
+    public void Queries_allocate_nothing()
+    {
+        // No allocation per ray (issue 12): 3000 closest-hit and any-hit queries after a warm-up;
+        // GC.GetAllocatedBytesForCurrentThread counts exactly.
+        var bvh = new Bvh(RandomScene(600));
+        int hits = Trace(bvh);
+        long before = GC.GetAllocatedBytesForCurrentThread();
+        hits += Trace(bvh);
+        Assert.Equal(0, GC.GetAllocatedBytesForCurrentThread() - before);
+        Assert.True(hits > 0);
+
+        static int Trace(Bvh bvh)
+        {
+            int n = 0;
+            for (uint r = 0; r < 3000; r++)
+            {
+                Ray ray = RandomRay(r);
+                n += bvh.Intersect(ray, out _) ? 1 : 0;
+                n += bvh.Occluded(ray, 5) ? 1 : 0;
+            }
+
+            return n;
+        }
+    }
+
     private static Ray RandomRay(uint r)
     {
         var origin = new Vec3d(U(3, r, 0) * 30 - 15, U(3, r, 1) * 30 - 15, U(3, r, 2) * 30 - 15);

@@ -112,6 +112,7 @@ public static class CliApp
         root.Subcommands.Add(SelfTestCommand.Create(io));
         root.Subcommands.Add(CompareCommand.Create(io));
         root.Subcommands.Add(ConvertCommand.Create(io));
+        root.Subcommands.Add(BenchCommand.Create(io));
         return root;
     }
 

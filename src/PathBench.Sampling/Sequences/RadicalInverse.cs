@@ -67,7 +67,7 @@ public static class RadicalInverse
         // Positions at and above the index's length hold permuted zeros, the same for every
         // point of this (pixel, dimension): their sum comes from a per-thread cache, computed
         // once per key. The cache changes no value, only the time (tested against PermutedDirect).
-        double[] zeroTail = ZeroTails.For(key, b);
+        ReadOnlySpan<double> zeroTail = ZeroTails.For(key, b);
         uint ub = (uint)b;
         double invBase = 1.0 / b;
         double weight = invBase;
@@ -118,29 +118,43 @@ public static class RadicalInverse
     /// </summary>
     private static class ZeroTails
     {
+        // One slot per base among the first 256 primes (a path's dimensions), so the
+        // dimensions of one pixel never evict each other; bases further out share slots.
         private const int Slots = 256;
 
+        // Base 3 has the most digits of any odd base (21): every slot holds that many plus one.
+        private static readonly int Stride = DigitsFor(3) + 1;
+
+        // Slot of each base: its index among the primes, modulo Slots; and its digit count.
+        private static readonly int[] SlotOfBase = BuildSlots();
+        private static readonly int[] DigitsOfBase = BuildDigits();
+
+        // Flat per-thread tables, filled in place: a miss recomputes a slot without allocating
+        // (one array per miss cost about 111 B per sample when slots thrashed).
         [ThreadStatic]
         private static ulong[]? t_keys;
 
         [ThreadStatic]
-        private static double[][]? t_tails;
+        private static int[]? t_bases;
+
+        [ThreadStatic]
+        private static double[]? t_tails;
 
         public static double Shared(ulong key) => SampleHash.ToUnit(SampleHash.Combine(key, TailSalt));
 
-        public static double[] For(ulong key, int b)
+        public static ReadOnlySpan<double> For(ulong key, int b)
         {
             t_keys ??= new ulong[Slots];
-            t_tails ??= new double[Slots][];
-            int slot = (int)(SampleHash.Mix64(key) & (Slots - 1));
-            double[]? tail = t_tails[slot];
-            if (tail is not null && t_keys[slot] == key && tail.Length == DigitsFor(b) + 1)
+            t_bases ??= new int[Slots];
+            t_tails ??= new double[Slots * Stride];
+            int slot = SlotOfBase[b];
+            int digits = DigitsOfBase[b];
+            Span<double> tail = t_tails.AsSpan(slot * Stride, digits + 1);
+            if (t_keys[slot] == key && t_bases[slot] == b)
             {
                 return tail;
             }
 
-            int digits = DigitsFor(b);
-            tail = new double[digits + 1];
             double deepest = PortableMath.InversePower(b, digits);
             double acc = Shared(key) * deepest;
             tail[digits] = acc;
@@ -151,8 +165,32 @@ public static class RadicalInverse
             }
 
             t_keys[slot] = key;
-            t_tails[slot] = tail;
+            t_bases[slot] = b;
             return tail;
+        }
+
+        private static int[] BuildSlots()
+        {
+            ReadOnlySpan<int> primes = Primes;
+            var slots = new int[primes[^1] + 1];
+            for (int i = 0; i < primes.Length; i++)
+            {
+                slots[primes[i]] = i % Slots;
+            }
+
+            return slots;
+        }
+
+        private static int[] BuildDigits()
+        {
+            ReadOnlySpan<int> primes = Primes;
+            var digits = new int[primes[^1] + 1];
+            foreach (int p in primes)
+            {
+                digits[p] = DigitsFor(p);
+            }
+
+            return digits;
         }
     }
 

@@ -1,0 +1,284 @@
+using System.Diagnostics;
+using System.Runtime.CompilerServices;
+using PathBench.Rendering.Geometry;
+using PathBench.Rendering.Integrators;
+using PathBench.Rendering.Materials;
+using PathBench.Sampling.Generators;
+using PathBench.Sampling.Hashing;
+using PathBench.Sampling.Warps;
+
+namespace PathBench.Rendering.Benchmarking;
+
+/// <summary>Ray throughput of one kind of query, on one thread and on all of them.</summary>
+/// <param name="Rays">Traversal queries per run (one ray = one closest-hit query).</param>
+/// <param name="MraysPerCore">Millions of queries per second on one thread.</param>
+/// <param name="MraysTotal">Millions of queries per second on <see cref="BenchReport.Threads"/> threads.</param>
+public sealed record RayThroughput(long Rays, double MraysPerCore, double MraysTotal)
+{
+    /// <summary>Total over one thread.</summary>
+    public double Scaling => MraysTotal / MraysPerCore;
+}
+
+/// <summary>A full render's speed: samples (camera paths) and rays per second, one thread and all.</summary>
+public sealed record RenderThroughput(long Samples, long Rays, double SamplesPerSecondOneThread, double SamplesPerSecond, double MraysPerCore, double MraysTotal)
+{
+    /// <summary>All threads over one thread.</summary>
+    public double Scaling => SamplesPerSecond / SamplesPerSecondOneThread;
+}
+
+/// <summary>The share of a one-thread frame spent making sample points, for one generator × randomization.</summary>
+public sealed record SamplerShare(string Generator, string Randomize, long Calls, double FrameSeconds, double SamplerSeconds)
+{
+    /// <summary>Sampler time over frame time.</summary>
+    public double Fraction => SamplerSeconds / FrameSeconds;
+}
+
+/// <summary>Everything <c>pathbench bench</c> measured on one scene.</summary>
+public sealed record BenchReport(
+    string Scene,
+    int Primitives,
+    int Triangles,
+    int Threads,
+    double BvhBuildSeconds,
+    long BvhNodeBytes,
+    long PrimitiveBytes,
+    RayThroughput Primary,
+    RayThroughput Incoherent,
+    RenderThroughput Render,
+    IReadOnlyList<SamplerShare> SamplerShares)
+{
+    /// <summary>Primitives per second of BVH build.</summary>
+    public double BvhTrianglesPerSecond => Primitives / BvhBuildSeconds;
+
+    /// <summary>Node (and index) bytes per primitive: the hierarchy alone.</summary>
+    public double BvhBytesPerTriangle => (double)BvhNodeBytes / Primitives;
+
+    /// <summary>Hierarchy plus the primitive records the traversal reads.</summary>
+    public double TotalBytesPerTriangle => (double)(BvhNodeBytes + PrimitiveBytes) / Primitives;
+}
+
+/// <summary>Sizes of a benchmark run.</summary>
+/// <param name="Width">Image width.</param>
+/// <param name="Height">Image height.</param>
+/// <param name="Spp">Samples per pixel of the full render and of the primary rays.</param>
+/// <param name="ShareWidth">Image width of the sampler-share frames (height 3/4 of it).</param>
+/// <param name="ShareSpp">Samples per pixel of the sampler-share frames.</param>
+/// <param name="Repeats">Each timing is the fastest of this many runs (the least disturbed by other work on the machine).</param>
+public sealed record BenchSizes(int Width, int Height, int Spp, int ShareWidth, int ShareSpp, int Repeats)
+{
+    /// <summary>What <c>pathbench bench</c> runs.</summary>
+    public static BenchSizes Default { get; } = new(320, 240, 8, 96, 16, 3);
+}
+
+/// <summary>
+/// The throughput benchmark. Rays are counted as traversal queries: one closest-hit or any-hit
+/// query is one ray, whatever it hits. BVH build and scene generation are timed apart and not
+/// in any ray rate; the incoherent rays are made before the clock starts. Each figure is the
+/// fastest of a few runs.
+/// </summary>
+public static class ThroughputBench
+{
+    /// <summary>The options every render of the benchmark uses: the render command's defaults (cosine, MIS, roulette) and 8 bounces.</summary>
+    public static PathTracerOptions Options { get; } = new(HemisphereStrategy.Cosine, LightStrategy.Mis, 8, true);
+
+    /// <summary>Runs every measurement on <paramref name="sceneName"/> (the sampler shares only when <paramref name="samplerShares"/>); <paramref name="log"/> hears what is being measured.</summary>
+    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, bool samplerShares, Action<string>? log = null)
+    {
+        ArgumentNullException.ThrowIfNull(sizes);
+        threads = Math.Max(1, threads);
+        log?.Invoke($"{sceneName}: generating the scene");
+        Scene scene = BenchScenes.Create(sceneName, sizes.Width, sizes.Height);
+        Primitive[] prims = scene.Bvh.Primitives.ToArray();
+        int triangles = prims.Count(p => p.Kind == PrimitiveKind.Triangle);
+
+        log?.Invoke($"{sceneName}: BVH build ({prims.Length} primitives)");
+        double build = Best(sizes.Repeats, () => GC.KeepAlive(new Bvh(prims)));
+        Bvh bvh = scene.Bvh;
+
+        log?.Invoke($"{sceneName}: primary and incoherent rays");
+        Ray[] primary = PrimaryRays(scene.Camera, sizes.Spp);
+        Ray[] bounces = BounceRays(bvh, primary);
+        RayThroughput p = Rays(bvh, primary, threads, sizes.Repeats);
+        RayThroughput b = Rays(bvh, bounces, threads, sizes.Repeats);
+
+        log?.Invoke($"{sceneName}: full renders, 1 and {threads} threads");
+        PointSampler sampler = CreateSampler("sobol", "owen", sizes.Spp);
+        long rays = 0;
+        double one = Best(sizes.Repeats, () => rays = Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, 1)).Rays);
+        double all = Best(sizes.Repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, threads)));
+        long samples = (long)sizes.Width * sizes.Height * sizes.Spp;
+        var render = new RenderThroughput(samples, rays, samples / one, samples / all, rays / one / 1e6, rays / all / 1e6);
+
+        var shares = new List<SamplerShare>();
+        Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4);
+        foreach ((string g, string r) in samplerShares ? Combinations() : [])
+        {
+            log?.Invoke($"{sceneName}: sampler share of {g}/{r}");
+            shares.Add(Share(small, g, r, sizes.ShareSpp, sizes.Repeats));
+        }
+
+        return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, (long)prims.Length * Unsafe.SizeOf<Primitive>(), p, b, render, shares);
+    }
+
+    /// <summary>Every generator with each randomization it takes (including none), as <c>pathbench samplers</c> lists them.</summary>
+    public static IEnumerable<(string Generator, string Randomize)> Combinations()
+    {
+        foreach (GeneratorInfo g in SamplerCatalog.Generators)
+        {
+            foreach (Randomization r in g.Randomizations)
+            {
+                yield return (g.Name, RandomizationNames.NameOf(r));
+            }
+        }
+    }
+
+    private static PointSampler CreateSampler(string generator, string randomize, int spp)
+    {
+        (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
+        int dims = Math.Min(SamplerCatalog.Find(generator).MaxDimensions, DimensionLayout.Total(Options.MaxDepth));
+        return SamplerCatalog.Create(new SamplerSpec(generator, r, anti, spp, 1), dims);
+    }
+
+    /// <summary>Camera rays through pixel positions from a fixed hash (seed 11), <paramref name="spp"/> per pixel.</summary>
+    private static Ray[] PrimaryRays(Camera camera, int spp)
+    {
+        var rays = new Ray[(long)camera.Width * camera.Height * spp];
+        int k = 0;
+        for (int y = 0; y < camera.Height; y++)
+        {
+            for (int x = 0; x < camera.Width; x++)
+            {
+                for (int s = 0; s < spp; s++, k++)
+                {
+                    rays[k] = camera.Generate(x + SampleHash.Uniform(11, (uint)k, 0), y + SampleHash.Uniform(11, (uint)k, 1), 0.5, 0.5);
+                }
+            }
+        }
+
+        return rays;
+    }
+
+    /// <summary>
+    /// One diffuse bounce from every primary hit: a cosine-distributed direction about the
+    /// normal on the side the camera ray came from (fixed hash, seed 12), as a path tracer's
+    /// second ray. In the closed room every one hits something.
+    /// </summary>
+    private static Ray[] BounceRays(Bvh bvh, Ray[] primary)
+    {
+        var rays = new List<Ray>(primary.Length);
+        for (int i = 0; i < primary.Length; i++)
+        {
+            if (!bvh.Intersect(primary[i], out SurfaceHit hit))
+            {
+                continue;
+            }
+
+            Vec3d n = Vec3d.Dot(hit.GeometricNormal, primary[i].Direction) < 0 ? hit.GeometricNormal : -hit.GeometricNormal;
+            var frame = new ShadingFrame(n);
+            Vec3d wi = frame.ToWorld(Warp.CosineHemisphere(SampleHash.Uniform(12, (uint)i, 0), SampleHash.Uniform(12, (uint)i, 1)));
+            rays.Add(new Ray(RayOffset.Offset(hit.Point, n, wi), wi, double.PositiveInfinity));
+        }
+
+        return rays.ToArray();
+    }
+
+    private static RayThroughput Rays(Bvh bvh, Ray[] rays, int threads, int repeats)
+    {
+        double one = Best(repeats, () => Trace(bvh, rays, 1));
+        double all = Best(repeats, () => Trace(bvh, rays, threads));
+        return new RayThroughput(rays.Length, rays.Length / one / 1e6, rays.Length / all / 1e6);
+    }
+
+    /// <summary>Closest-hit queries for every ray, split into contiguous chunks per thread; the hit count is returned so no query is optimised away.</summary>
+    private static long Trace(Bvh bvh, Ray[] rays, int threads)
+    {
+        const int Chunk = 4096;
+        int chunks = (rays.Length + Chunk - 1) / Chunk;
+        long hits = 0;
+        Parallel.For(0, chunks, new ParallelOptions { MaxDegreeOfParallelism = threads }, () => 0L, (c, state, local) =>
+        {
+            int end = Math.Min(rays.Length, (c + 1) * Chunk);
+            for (int i = c * Chunk; i < end; i++)
+            {
+                local += bvh.Intersect(rays[i], out _) ? 1 : 0;
+            }
+
+            return local;
+        }, local => Interlocked.Add(ref hits, local));
+        return hits;
+    }
+
+    /// <summary>
+    /// The share of a one-thread frame spent in the sampler: the frame is rendered once through a
+    /// recording sampler that notes every call the path tracer makes (pixel, index, dimension,
+    /// one or two coordinates), then the same calls are replayed against the sampler alone and
+    /// timed; the frame itself is timed without the recorder.
+    /// </summary>
+    private static SamplerShare Share(Scene scene, string generator, string randomize, int spp, int repeats)
+    {
+        PointSampler sampler = CreateSampler(generator, randomize, spp);
+        var recorder = new RecordingSampler(sampler);
+        Renderer.Render(new RenderJob(scene, recorder, Options, 0, spp, 1));
+        SampleCall[] calls = recorder.Calls.ToArray();
+        double frame = Best(repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, spp, 1)));
+        double replay = Best(repeats, () => Replay(sampler, calls));
+        return new SamplerShare(generator, randomize, calls.Length, frame, replay);
+    }
+
+    private static double Replay(PointSampler sampler, SampleCall[] calls)
+    {
+        double sum = 0;
+        foreach (SampleCall c in calls)
+        {
+            var stream = new SampleStream(sampler, c.Pixel, c.Index);
+            if (c.Pair)
+            {
+                (double x, double y) = stream.Get2D(c.Dimension);
+                sum += x + y;
+            }
+            else
+            {
+                sum += stream.Get(c.Dimension);
+            }
+        }
+
+        return sum;
+    }
+
+    private static double Best(int repeats, Action run)
+    {
+        double best = double.PositiveInfinity;
+        for (int i = 0; i < Math.Max(1, repeats); i++)
+        {
+            long start = Stopwatch.GetTimestamp();
+            run();
+            best = Math.Min(best, Stopwatch.GetElapsedTime(start).TotalSeconds);
+        }
+
+        return best;
+    }
+
+    private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
+
+    private readonly record struct SampleCall(ulong Pixel, uint Index, int Dimension, bool Pair);
+
+    /// <summary>Passes every call to the sampler it wraps (through <see cref="SampleStream"/>, padding included) and notes it. One thread only.</summary>
+    private sealed class RecordingSampler(PointSampler inner) : PointSampler(inner.Spec)
+    {
+        public List<SampleCall> Calls { get; } = new(1 << 20);
+
+        public override int MaxDimensions => int.MaxValue;
+
+        public override double Sample(ulong pixel, uint index, int dimension)
+        {
+            Calls.Add(new SampleCall(pixel, index, dimension, false));
+            return new SampleStream(inner, pixel, index).Get(dimension);
+        }
+
+        public override (double X, double Y) Sample2D(ulong pixel, uint index, int dimension)
+        {
+            Calls.Add(new SampleCall(pixel, index, dimension, true));
+            return new SampleStream(inner, pixel, index).Get2D(dimension);
+        }
+    }
+}

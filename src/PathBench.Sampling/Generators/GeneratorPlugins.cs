@@ -1,5 +1,6 @@
 using System.Reflection;
 using System.Runtime.Loader;
+using PathBench.Io;
 
 namespace PathBench.Sampling.Generators;
 
@@ -24,6 +25,12 @@ public static class GeneratorPlugins
         if (!File.Exists(full))
         {
             throw new SamplerSpecException($"--plugin {path}: no such file");
+        }
+
+        // A pipe or device would block the loader's open: refused before anything opens it.
+        if (InputFile.Refusal(full) is { } refusal)
+        {
+            throw new SamplerSpecException($"--plugin {path}: {refusal}");
         }
 
         try

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Runtime.InteropServices;
 using System.Security.Cryptography;
 using System.Text;
+using PathBench.Io;
 
 namespace PathBench.Sampling.Generators;
 
@@ -70,7 +71,8 @@ public static class PointFile
 
         try
         {
-            using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read);
+            // Through the I/O layer: a pipe or device is refused before it is opened (it would block).
+            using FileStream stream = InputFile.OpenRead(path, reason => new SamplerSpecException($"{path}: {reason}"));
             Span<byte> head = stackalloc byte[HeaderBytes];
             int got = stream.ReadAtLeast(head, HeaderBytes, throwOnEndOfStream: false);
             stream.Position = 0;

@@ -50,6 +50,8 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         { "study", ["study", "{fifo}", "--out", "{dir}/st"] },
         { "check suite", ["check", "{fifo}", "--work", "{dir}/w"] },
         { "report summary", ["report", "{dir}/fifo-report"] },
+        { "point file", ["points", "--generator", "file:{fifo}", "--count", "4"] },
+        { "plug-in", ["--plugin", "{fifo}", "samplers"] },
     };
 
     [Theory]

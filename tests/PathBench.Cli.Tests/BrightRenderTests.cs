@@ -60,6 +60,21 @@ public sealed class BrightRenderTests
     }
 
     /// <summary>
+    /// 1e39 is above the largest binary32 value, (2 − 2^-23)·2^127 ≈ 3.4028e38 (IEEE 754-2019, table
+    /// 3.2): the PFM holds it as infinite, and the render says so on standard output.
+    /// </summary>
+    [Fact]
+    public void Pixel_means_above_the_float_range_are_written_as_infinite_with_a_warning()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("furnace.yaml"), FurnaceScene("1e39"));
+        (int code, string output, string err) = Run("render", dir.File("furnace.yaml"), "--out", dir.File("hot.pfm"));
+        Assert.True(code == 0, err);
+        Assert.All(ImageFile.Read(dir.File("hot.pfm")).Image.Data, v => Assert.True(float.IsPositiveInfinity(v)));
+        Assert.Contains("144 channel values average above the float range", output, StringComparison.Ordinal);
+    }
+
+    /// <summary>
     /// A scene cannot ask for a NaN (the loader refuses non-finite and absurd numbers), so the parts
     /// are made in code: an emitter whose red emission is NaN makes every sample non-finite (IEEE 754:
     /// NaN propagates through arithmetic). Merging them must say so on standard output.

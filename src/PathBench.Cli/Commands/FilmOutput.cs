@@ -45,7 +45,8 @@ internal static class FilmOutput
 
     /// <summary>
     /// Prints a warning on <paramref name="output"/> when samples were dropped (NaN or infinite
-    /// values: counted, never averaged in), so a partly empty image is never reported as clean.
+    /// values: counted, never averaged in), or when pixel means are beyond what a float image holds,
+    /// so a partly empty or partly infinite image is never reported as clean.
     /// </summary>
     public static void WarnDropped(TextWriter output, string outPath, Film film)
     {
@@ -53,6 +54,18 @@ internal static class FilmOutput
         {
             output.WriteLine(string.Create(System.Globalization.CultureInfo.InvariantCulture,
                 $"pathbench: warning: {outPath}: {film.NonFiniteSamples} non-finite samples (NaN or infinite) were dropped; their pixels average the remaining samples"));
+        }
+
+        // Only a pixel with wide sums (channel values of 2^32 or more) can average above the float
+        // range (3.4e38, IEEE 754 binary32), which EXR and PFM then hold as infinite: said, not silent.
+        if (film.WidePixels > 0 && !outPath.EndsWith(".png", StringComparison.OrdinalIgnoreCase))
+        {
+            int beyond = film.ToRgb().Count(float.IsInfinity);
+            if (beyond > 0)
+            {
+                output.WriteLine(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                    $"pathbench: warning: {outPath}: {beyond} channel values average above the float range (3.4e38) and are written as infinite"));
+            }
         }
     }
 

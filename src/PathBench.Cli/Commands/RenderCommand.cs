@@ -87,7 +87,15 @@ internal static class RenderCommand
             string sidecar = Path.ChangeExtension(outPath, ".json");
             string variancePath = ReferenceImage.VariancePath(outPath);
             // The checkpoint being resumed is read, then rewritten: it is the one output that may be an input.
-            new OutputPaths().Input(path)
+            var paths = new OutputPaths().Input(path);
+            // The scene's meshes are inputs too (resolved as the loader does, beside the scene).
+            string sceneFolder = Path.GetDirectoryName(Path.GetFullPath(path)) ?? ".";
+            foreach (MeshShape mesh in description.Shapes.OfType<MeshShape>())
+            {
+                paths.Input(Path.GetFullPath(Path.Combine(sceneFolder, mesh.File)));
+            }
+
+            paths
                 .Output(outPath, "the image")
                 .Output(sidecar, "the sidecar (JSON)", ".json")
                 .Output(reference ? variancePath : null, "the variance image", ".exr")

@@ -239,6 +239,20 @@ public sealed class HostileInputTests(ITestOutputHelper output)
     }
 
     [Fact]
+    public void A_render_whose_checkpoint_would_replace_a_mesh_of_the_scene_is_refused()
+    {
+        using var dir = new TempFolder();
+        const string obj = "v 0 0 0\nv 1 0 0\nv 0 1 0\nf 1 2 3\n";
+        string mesh = dir.Write("tri.obj", obj);
+        string scene = dir.Write("m.yaml", Scene + "\n  - { type: mesh, file: tri.obj, material: white }\n");
+        var r = Run("render", scene, "--checkpoint", mesh, "--out", dir.File("m.pfm"));
+        Assert.Equal(2, r.Code);
+        Assert.Contains("the accumulation file would overwrite the input", r.Err, StringComparison.Ordinal);
+        Assert.Equal(obj, File.ReadAllText(mesh));
+        Assert.False(File.Exists(dir.File("m.pfm")));
+    }
+
+    [Fact]
     public void A_failed_write_keeps_the_previous_file_and_leaves_no_temp_file()
     {
         using var dir = new TempFolder();

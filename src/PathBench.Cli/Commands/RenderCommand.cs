@@ -87,12 +87,11 @@ internal static class RenderCommand
             string sidecar = Path.ChangeExtension(outPath, ".json");
             string variancePath = ReferenceImage.VariancePath(outPath);
             // The checkpoint being resumed is read, then rewritten: it is the one output that may be an input.
+            // The scene's meshes are inputs too, as the loader resolved them.
             var paths = new OutputPaths().Input(path);
-            // The scene's meshes are inputs too (resolved as the loader does, beside the scene).
-            string sceneFolder = Path.GetDirectoryName(Path.GetFullPath(path)) ?? ".";
-            foreach (MeshShape mesh in description.Shapes.OfType<MeshShape>())
+            foreach (string mesh in description.MeshFiles)
             {
-                paths.Input(Path.GetFullPath(Path.Combine(sceneFolder, mesh.File)));
+                paths.Input(mesh);
             }
 
             paths

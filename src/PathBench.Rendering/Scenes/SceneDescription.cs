@@ -20,7 +20,11 @@ public sealed record SceneDescription(
     RenderSettings Render,
     Rgb EnvironmentRadiance,
     IReadOnlyDictionary<string, MaterialDescription> Materials,
-    IReadOnlyList<ShapeDescription> Shapes);
+    IReadOnlyList<ShapeDescription> Shapes)
+{
+    /// <summary>Full paths of the mesh files the loader read, each once; empty for a scene built in code.</summary>
+    public IReadOnlyList<string> MeshFiles { get; init; } = [];
+}
 
 /// <summary>A pinhole or thin-lens camera.</summary>
 /// <param name="Position">Eye point.</param>

@@ -137,7 +137,7 @@ public static class SceneLoader
         Dictionary<string, MaterialDescription> materials = ReadMaterials(reader, top.Required("materials"));
         var meshes = new MeshFiles(reader, sourcePath, baseDirectory);
         List<ShapeDescription> shapes = ReadShapes(reader, top.Required("shapes"), materials, meshes);
-        return new SceneDescription(sourcePath, sha256, camera, render, environment, materials, shapes);
+        return new SceneDescription(sourcePath, sha256, camera, render, environment, materials, shapes) { MeshFiles = meshes.Paths };
     }
 
     /// <summary>
@@ -683,6 +683,9 @@ public static class SceneLoader
     {
         private readonly Dictionary<string, ObjMesh> _read = new(StringComparer.Ordinal);
         private long _triangles;
+
+        /// <summary>The full paths read so far, each once.</summary>
+        public IReadOnlyList<string> Paths => [.. _read.Keys];
 
         public ObjMesh Get(string file, YamlNode fileNode)
         {

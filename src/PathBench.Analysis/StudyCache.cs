@@ -41,17 +41,17 @@ public sealed class StudyCache
     public int Hits { get; private set; }
 
     /// <summary>
-    /// The key of one render: the PathBench version, the scene's SHA-256 and resolution, every
+    /// The key of one render: the identity of the code that renders (<see cref="RenderCodeIdentity"/>), the scene's SHA-256 and resolution, every
     /// render setting, the seed, the planned count and the sample count. For a progressive
     /// configuration the planned count does not change the points and is left out. A plug-in or
     /// point-file generator adds its provenance (assembly version id, file SHA-256), so changed points
     /// are rendered anew.
     /// </summary>
-    public static string Key(string version, string sceneSha256, int width, int height, StudyConfiguration c, int depth, ulong seed, int spp)
+    public static string Key(string codeIdentity, string sceneSha256, int width, int height, StudyConfiguration c, int depth, ulong seed, int spp)
     {
         ArgumentNullException.ThrowIfNull(c);
         string text = string.Create(CultureInfo.InvariantCulture,
-            $"{FormatTag}|{version}|{sceneSha256}|{width}x{height}|{c.Generator}|{c.RandomizeName}|{c.HemisphereName}|{c.LightsName}|{depth}|{c.RussianRoulette}|{seed}|{spp}{(c.Info.Provenance is { } p ? "|" + p : "")}");
+            $"{FormatTag}|{codeIdentity}|{sceneSha256}|{width}x{height}|{c.Generator}|{c.RandomizeName}|{c.HemisphereName}|{c.LightsName}|{depth}|{c.RussianRoulette}|{seed}|{spp}{(c.Info.Provenance is { } p ? "|" + p : "")}");
         return Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(text)))[..32];
     }
 

@@ -50,7 +50,7 @@ public static class StudyPipeline
         int threads = options.Threads ?? study.Threads ?? Environment.ProcessorCount;
         var cache = new StudyCache(Path.Combine(options.OutputDirectory, "cache"));
         Scene scene = Scene.Build(description);
-        var env = new StudyEnvironment(scene, description.Sha256, description.Render.MaxDepth, threads, options.Version, cache);
+        var env = new StudyEnvironment(scene, description.Sha256, description.Render.MaxDepth, threads, cache);
         var runner = new StudyRunner(study, env);
 
         var files = new List<string>();

@@ -94,9 +94,8 @@ public sealed class PixelMoments
 /// <param name="SceneSha256">SHA-256 of the scene file (and its meshes), part of every cache key.</param>
 /// <param name="SceneMaxDepth">The scene's own path length, for configurations that do not set one.</param>
 /// <param name="Threads">Worker threads per render (the image does not depend on it).</param>
-/// <param name="Version">PathBench version, part of every cache key.</param>
 /// <param name="Cache">Where finished renders are kept; null to keep none.</param>
-public sealed record StudyEnvironment(Scene Scene, string SceneSha256, int SceneMaxDepth, int Threads, string Version, StudyCache? Cache);
+public sealed record StudyEnvironment(Scene Scene, string SceneSha256, int SceneMaxDepth, int Threads, StudyCache? Cache);
 
 /// <summary>
 /// Runs a study's renders.
@@ -145,7 +144,7 @@ public sealed class StudyRunner
         ulong seed = unchecked(_study.Seed + 0x5EED_0000_0000UL);
         int depth = _env.SceneMaxDepth;
         string? path = _env.Cache is { } cache
-            ? Path.Combine(cache.Folder, "reference-" + StudyCache.Key(_env.Version, _env.SceneSha256, Width, Height, c, depth, seed, spp) + ".exr")
+            ? Path.Combine(cache.Folder, "reference-" + StudyCache.Key(RenderCodeIdentity.Value, _env.SceneSha256, Width, Height, c, depth, seed, spp) + ".exr")
             : null;
         if (path is not null && File.Exists(path) && File.Exists(ReferenceImage.VariancePath(path)))
         {
@@ -262,7 +261,7 @@ public sealed class StudyRunner
     private PathTracerOptions Options(StudyConfiguration c) => new(c.Hemisphere, c.Lights, Depth(c), c.RussianRoulette);
 
     private string Key(StudyConfiguration c, ulong seed, int spp) =>
-        StudyCache.Key(_env.Version, _env.SceneSha256, Width, Height, c, Depth(c), seed, spp);
+        StudyCache.Key(RenderCodeIdentity.Value, _env.SceneSha256, Width, Height, c, Depth(c), seed, spp);
 
     private IEnumerable<(int Spp, CachedRender Render, bool Cached)> Render(StudyConfiguration c, ulong seed, CancellationToken cancel)
     {

@@ -103,7 +103,7 @@ public sealed class CheckBrokenSamplerTests
               - { name: fair, images: [ "fair/r*.pfm" ], spp: 16, assert: { unbiased: { alpha: 0.001 } } }
               - { name: biased, images: [ "biased/r*.pfm" ], spp: 16, assert: { unbiased: { alpha: 0.001 } } }
             """);
-        CheckResult result = CheckRun.Run(CheckSuiteFile.Load(temp.File("suite.yaml")), temp.File("work"), "test", 2, null);
+        CheckResult result = CheckRun.Run(CheckSuiteFile.Load(temp.File("suite.yaml")), temp.File("work"), 2, null);
         Verdict fair = result.Verdicts.Single(v => v.Case == "fair"), biased = result.Verdicts.Single(v => v.Case == "biased");
         Assert.True(fair.Passed, fair.Detail);
         Assert.False(biased.Passed, biased.Detail);

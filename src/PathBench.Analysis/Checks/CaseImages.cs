@@ -39,19 +39,19 @@ public static class CaseImages
     /// <summary>Measures one case; <paramref name="workDirectory"/> holds its command outputs and logs.</summary>
     /// <exception cref="CaseFailedException">The case's images could not be produced or read (a failure of the case, reported as such).</exception>
     /// <exception cref="SceneException">The case's scene or reference does not fit (bad input).</exception>
-    public static CaseMeasurements Measure(CheckCase c, string workDirectory, string version, int threads, Action<string>? log = null)
+    public static CaseMeasurements Measure(CheckCase c, string workDirectory, int threads, Action<string>? log = null)
     {
         ArgumentNullException.ThrowIfNull(c);
         return c.Source switch
         {
-            RenderSource r => Render(c, r, workDirectory, version, threads),
+            RenderSource r => Render(c, r, workDirectory, threads),
             ImagesSource i => FromFiles(c, ReadReference(c, i.Location), spp => i.Files[spp]),
             CommandSource cmd => Run(c, cmd, workDirectory, log),
             _ => throw new InvalidOperationException("unknown case source"),
         };
     }
 
-    private static CaseMeasurements Render(CheckCase c, RenderSource r, string workDirectory, string version, int threads)
+    private static CaseMeasurements Render(CheckCase c, RenderSource r, string workDirectory, int threads)
     {
         var study = new StudyDefinition(c.Location, r.ScenePath, c.Reference, c.Spp, c.Seeds.Count, 0, [r.Configuration with { Name = c.Name }])
         {
@@ -61,7 +61,7 @@ public static class CaseImages
         };
         SceneDescription description = StudyPipeline.LoadScene(study);
         var cache = new StudyCache(Path.Combine(workDirectory, "cache"));
-        var runner = new StudyRunner(study, new StudyEnvironment(Scene.Build(description), description.Sha256, description.Render.MaxDepth, threads, version, cache));
+        var runner = new StudyRunner(study, new StudyEnvironment(Scene.Build(description), description.Sha256, description.Render.MaxDepth, threads, cache));
         ReferenceImage reference = c.Reference.Path is { } path
             ? StudyPipeline.ReadReference(study, description, path)
             : runner.RenderReference(c.Reference.Spp!.Value, c.Reference.Generator, c.Reference.Randomize);

@@ -26,7 +26,7 @@ public static class CheckRun
     /// <summary>Runs every case. A case that cannot produce its images fails all its assertions with the reason; it never stops the others.</summary>
     /// <exception cref="Rendering.Scenes.SceneException">Bad input (a scene or reference that does not fit).</exception>
     /// <exception cref="InvalidOperationException">An assertion needs a baseline the run was not given.</exception>
-    public static CheckResult Run(CheckSuite suite, string workDirectory, string version, int threads, IReadOnlyDictionary<string, CaseFigures>? baseline, Action<string>? progress = null)
+    public static CheckResult Run(CheckSuite suite, string workDirectory, int threads, IReadOnlyDictionary<string, CaseFigures>? baseline, Action<string>? progress = null)
     {
         ArgumentNullException.ThrowIfNull(suite);
         if (baseline is null && suite.Cases.SelectMany(c => c.Assertions).FirstOrDefault(a => a.AgainstBaseline) is not null)
@@ -45,7 +45,7 @@ public static class CheckRun
             var clock = System.Diagnostics.Stopwatch.StartNew();
             try
             {
-                CaseMeasurements m = CaseImages.Measure(c, workDirectory, version, threads, progress);
+                CaseMeasurements m = CaseImages.Measure(c, workDirectory, threads, progress);
                 figures[c.Name] = Verdicts.Figures(c, m);
                 verdicts.AddRange(Verdicts.Decide(c, m, baseline));
             }

@@ -95,7 +95,7 @@ internal static class CheckCommand
         ImageIo.Guard(dir, () => Directory.CreateDirectory(dir));
         try
         {
-            return CheckRun.Run(suite, dir, RenderCommand.Version, threads ?? Environment.ProcessorCount, baseline, line => io.Error.WriteLine("pathbench: " + line));
+            return CheckRun.Run(suite, dir, threads ?? Environment.ProcessorCount, baseline, line => io.Error.WriteLine("pathbench: " + line));
         }
         catch (InvalidOperationException e)
         {

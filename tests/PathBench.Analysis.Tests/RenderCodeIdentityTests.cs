@@ -18,12 +18,28 @@ public sealed class RenderCodeIdentityTests
     {
         // The SDK appends "+<commit>" to the informational version when it knows the commit; that
         // attribute is part of the assembly's bytes, and so of its deterministic module version id.
-        foreach (Assembly a in RenderCodeIdentity.Assemblies)
+        // A portable PDB records the module ids of its references and the PDB's id is written into
+        // the assembly, so every PathBench assembly they reference must be free of the commit too.
+        var seen = new HashSet<string>();
+        var pending = new Queue<Assembly>(RenderCodeIdentity.Assemblies);
+        while (pending.TryDequeue(out Assembly? a))
         {
+            if (!seen.Add(a.GetName().Name!))
+            {
+                continue;
+            }
+
+            foreach (AssemblyName r in a.GetReferencedAssemblies().Where(r => r.Name!.StartsWith("PathBench.", StringComparison.Ordinal)))
+            {
+                pending.Enqueue(Assembly.Load(r));
+            }
+
             string? informational = a.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion;
             Assert.NotNull(informational);
             Assert.DoesNotContain('+', informational);
         }
+
+        Assert.Contains("PathBench.Imaging", seen);
     }
 
     [Fact]

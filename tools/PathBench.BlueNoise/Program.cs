@@ -44,8 +44,6 @@ double rankingSeconds = clock.Elapsed.TotalSeconds;
 
 // Low-band shares of fresh steps (white noise: 0.047): the seed tile alone, and the level's ranking.
 int n = settings.Tile * settings.Tile;
-var levelWords = new uint[n];
-var blocks = new uint[n];
 for (int level = 0; level < BlueNoiseRankingTable.Levels; level++)
 {
     int spp = 1 << level;
@@ -53,13 +51,10 @@ for (int level = 0; level < BlueNoiseRankingTable.Levels; level++)
     for (int pair = 0; pair < settings.Pairs; pair++)
     {
         PairOutcome o = ranked[(level * settings.Pairs) + pair];
-        for (int p = 0; p < n; p++)
-        {
-            levelWords[p] = words[(pair * n) + keys[(((level * settings.Pairs) + pair) * n) + p]];
-            blocks[p] = BlueNoiseRankingTable.Block(levelWords[p]) << level;
-        }
-
-        double alone = SpectrumCheck.LowBandShare(words.AsSpan(pair * n, n), [], settings.Tile, pair, spp, 16, 99);
+        int at = ((level * settings.Pairs) + pair) * n;
+        ReadOnlySpan<uint> pairWords = words.AsSpan(pair * n, n);
+        (uint[] levelWords, uint[] blocks) = SpectrumCheck.Ranked(pairWords, q => keys[at + q], level);
+        double alone = SpectrumCheck.LowBandShare(pairWords, [], settings.Tile, pair, spp, 16, 99);
         double share = SpectrumCheck.LowBandShare(levelWords, blocks, settings.Tile, pair, spp, 16, 99);
         Console.Write(Text($"  pair {pair}: {alone:F3}/{share:F3} ({o.FinalEnergy / o.InitialEnergy:F2})"));
     }

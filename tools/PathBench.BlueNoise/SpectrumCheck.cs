@@ -56,6 +56,24 @@ public static class SpectrumCheck
         return low / total;
     }
 
+    /// <summary>
+    /// The words and index keys (block · 2^level) pixel by pixel that a ranking level gives one pair:
+    /// <paramref name="key"/>(q) is the seed-tile position the pixel at q takes.
+    /// </summary>
+    public static (uint[] Words, uint[] Keys) Ranked(ReadOnlySpan<uint> pairWords, Func<int, int> key, int level)
+    {
+        ArgumentNullException.ThrowIfNull(key);
+        var words = new uint[pairWords.Length];
+        var keys = new uint[pairWords.Length];
+        for (int q = 0; q < words.Length; q++)
+        {
+            words[q] = pairWords[key(q)];
+            keys[q] = BlueNoiseRankingTable.Block(words[q]) << level;
+        }
+
+        return (words, keys);
+    }
+
     /// <summary>Energy below 1/8 cycle per pixel and in all, of the image's DFT (a plain separable DFT).</summary>
     public static (double Low, double Total) Bands(ReadOnlySpan<double> image, int tile)
     {

@@ -154,18 +154,36 @@ public sealed class KillResumeTests(ITestOutputHelper output)
     }
 
     [Fact]
-    public void A_time_budget_alone_plans_a_finite_sequence_for_its_own_length()
+    public void A_time_budget_alone_stops_cleanly_at_the_end_of_a_finite_sequence()
     {
-        // pmj02 holds 2^14 points per pixel (its tables); a budget with no --spp plans that many
-        // instead of refusing the 2^24 a sequence without an end would get.
+        // pmj02 defines 2^14 points per pixel (MaxPoints): a budget with no --spp plans that many instead
+        // of refusing the 2^24 a sequence without an end would get. On a 2x2-pixel, one-bounce scene those take
+        // well under a second, so a one-hour budget is certain to outlast them: the outcome does not
+        // depend on the machine's speed. The render must end at 2^14 spp, complete, exit 0, and say why.
         using var dir = new TempFolder();
-        string scene = dir.Write("s.yaml", ShardMergeTests.Scene);
-        var r = Run("render", scene, "--generator", "pmj02", "--time-budget", "0.5s", "--out", dir.File("p.exr"));
+        string scene = dir.Write("s.yaml", ShardMergeTests.Scene.Replace("resolution: [12, 8]", "resolution: [2, 2]", StringComparison.Ordinal)
+            .Replace("max_depth: 4", "max_depth: 1", StringComparison.Ordinal));
+        var r = Run("render", scene, "--generator", "pmj02", "--time-budget", "1h", "--out", dir.File("p.exr"));
         Assert.True(r.Code == 0, r.Err);
         using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("p.json")));
         JsonElement j = doc.RootElement;
         Assert.Equal(1 << 14, j.GetProperty("planned_spp").GetInt32());
-        Assert.InRange(j.GetProperty("spp").GetInt32(), 1, 1 << 14);
+        Assert.Equal(1 << 14, j.GetProperty("spp").GetInt32());
+        Assert.Equal("complete", j.GetProperty("stopped_by").GetString());
+        Assert.Contains("pathbench: note: pmj02 defines 16384 points per pixel; the render stopped at them with ", r.Out, StringComparison.Ordinal);
+        Assert.DoesNotContain("stopped by time budget", r.Out, StringComparison.Ordinal);
+        Assert.DoesNotContain("error", r.Err, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_time_budget_without_spp_is_refused_for_bluenoise_which_is_planned_for_its_count()
+    {
+        using var dir = new TempFolder();
+        string scene = dir.Write("s.yaml", ShardMergeTests.Scene);
+        var r = Run("render", scene, "--generator", "bluenoise", "--time-budget", "1h", "--out", dir.File("p.exr"));
+        Assert.Equal(2, r.Code);
+        Assert.Equal("pathbench: error: --time-budget without --spp: 'bluenoise' is a point set planned for its count; give --spp too (the render stops at whichever comes first)", r.Err.Trim());
+        Assert.False(File.Exists(dir.File("p.exr")));
     }
 
     private static Process Start(string[] args, int? stallMs)

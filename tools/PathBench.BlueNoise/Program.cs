@@ -3,58 +3,72 @@ using System.Globalization;
 using PathBench.BlueNoise;
 using PathBench.Sampling.Sequences;
 
-// Regenerates src/PathBench.Sampling/Data/bluenoise_owen_sobol.bin from OptimizerSettings.Committed:
-//   dotnet run -c Release --project tools/PathBench.BlueNoise [-- --out PATH]
-// The output is a pure function of the settings (see SeedTileOptimizer), so a rerun writes the same bytes.
-string output = "src/PathBench.Sampling/Data/bluenoise_owen_sobol.bin";
+// Regenerates the blue-noise tables from OptimizerSettings.Committed and RankingSettings.Committed:
+//   dotnet run -c Release --project tools/PathBench.BlueNoise [-- --out-dir DIR]
+// writing DIR/bluenoise_owen_sobol.bin (scrambling seeds) and DIR/bluenoise_owen_sobol_ranking.bin
+// (ranking keys, optimised on top of those seeds). Both are pure functions of the settings (see the
+// optimisers), so a rerun writes the same bytes.
+string directory = "src/PathBench.Sampling/Data";
 OptimizerSettings settings = OptimizerSettings.Committed;
+RankingSettings ranking = RankingSettings.Committed;
 for (int i = 0; i < args.Length; i++)
 {
-    if (args[i] == "--out" && i + 1 < args.Length)
+    if (args[i] == "--out-dir" && i + 1 < args.Length)
     {
-        output = args[++i];
+        directory = args[++i];
     }
-    else if (args[i] == "--try" && i + 4 < args.Length)
+    else if (args[i] == "--try-ranking" && i + 2 < args.Length)
     {
-        // Exploration only: --try SPP INTEGRANDS RADIUS SWEEPS, e.g. --try 1,2,4 16 16 64.
-        settings = settings with
-        {
-            Spp = [.. args[++i].Split(',').Select(x => int.Parse(x, CultureInfo.InvariantCulture))],
-            Integrands = int.Parse(args[++i], CultureInfo.InvariantCulture),
-            SwapRadius = int.Parse(args[++i], CultureInfo.InvariantCulture),
-            Sweeps = int.Parse(args[++i], CultureInfo.InvariantCulture),
-        };
+        // Exploration only: --try-ranking INTEGRANDS SWEEPS, e.g. 64 32.
+        ranking = ranking with { Integrands = Int(args[++i]), Sweeps = Int(args[++i]) };
     }
     else
     {
-        Console.Error.WriteLine($"bluenoise: unknown argument '{args[i]}'; usage: [--out PATH]");
+        Console.Error.WriteLine($"bluenoise: unknown argument '{args[i]}'; usage: [--out-dir DIR]");
         return 2;
     }
 }
 
 var clock = Stopwatch.StartNew();
 (uint[] words, PairOutcome[] outcomes) = SeedTileOptimizer.Run(settings);
-clock.Stop();
+double seedSeconds = clock.Elapsed.TotalSeconds;
 for (int pair = 0; pair < outcomes.Length; pair++)
 {
     PairOutcome o = outcomes[pair];
-    Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-        $"pair {pair} (dimensions {2 * pair}-{(2 * pair) + 1}): low-pass energy {o.FinalEnergy / o.InitialEnergy:F3} of the random arrangement's, {o.Accepted} swaps"));
+    Console.WriteLine(Text($"pair {pair} (dimensions {2 * pair}-{(2 * pair) + 1}): low-pass energy {o.FinalEnergy / o.InitialEnergy:F3} of the random arrangement's, {o.Accepted} swaps"));
 }
 
+clock.Restart();
+(int[] keys, PairOutcome[] ranked) = RankingTileOptimizer.Run(ranking, settings, words);
+double rankingSeconds = clock.Elapsed.TotalSeconds;
+
+// Low-band shares of fresh steps (white noise: 0.047): the seed tile alone, and the level's ranking.
 int n = settings.Tile * settings.Tile;
-foreach (int spp in new[] { 1, 2, 4, 8, 16 })
+for (int level = 0; level < BlueNoiseRankingTable.Levels; level++)
 {
-    Console.Write(string.Create(CultureInfo.InvariantCulture, $"spp {spp,2}: low-band share"));
+    int spp = 1 << level;
+    Console.Write(Text($"spp {spp,2}: low-band share seeds alone / ranked"));
     for (int pair = 0; pair < settings.Pairs; pair++)
     {
-        double blue = SpectrumCheck.LowBandShare(words.AsSpan(pair * n, n), settings.Tile, pair, spp, 16, 99);
-        Console.Write(string.Create(CultureInfo.InvariantCulture, $"  pair {pair}: {blue:F4}"));
+        PairOutcome o = ranked[(level * settings.Pairs) + pair];
+        int at = ((level * settings.Pairs) + pair) * n;
+        ReadOnlySpan<uint> pairWords = words.AsSpan(pair * n, n);
+        (uint[] levelWords, uint[] blocks) = SpectrumCheck.Ranked(pairWords, q => keys[at + q], level);
+        double alone = SpectrumCheck.LowBandShare(pairWords, [], settings.Tile, pair, spp, 16, 99);
+        double share = SpectrumCheck.LowBandShare(levelWords, blocks, settings.Tile, pair, spp, 16, 99);
+        Console.Write(Text($"  pair {pair}: {alone:F3}/{share:F3} ({o.FinalEnergy / o.InitialEnergy:F2})"));
     }
 
     Console.WriteLine();
 }
 
-File.WriteAllBytes(output, BlueNoiseSeedTable.Write(settings.HeaderFields(), words));
-Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"wrote {output} in {clock.Elapsed.TotalSeconds:F1} s (optimisation only)"));
+string seedFile = Path.Combine(directory, "bluenoise_owen_sobol.bin");
+string rankingFile = Path.Combine(directory, "bluenoise_owen_sobol_ranking.bin");
+File.WriteAllBytes(seedFile, BlueNoiseSeedTable.Write(settings.HeaderFields(), words));
+File.WriteAllBytes(rankingFile, BlueNoiseRankingTable.Write(ranking.HeaderFields(settings), keys));
+Console.WriteLine(Text($"wrote {seedFile} (seeds, {seedSeconds:F1} s) and {rankingFile} (ranking keys, {rankingSeconds:F1} s); optimisation time only"));
 return 0;
+
+static int Int(string s) => int.Parse(s, CultureInfo.InvariantCulture);
+
+static string Text(FormattableString s) => s.ToString(CultureInfo.InvariantCulture);

@@ -81,13 +81,20 @@ public static class SeedTileOptimizer
         var outcomes = new PairOutcome[settings.Pairs];
         for (int pair = 0; pair < settings.Pairs; pair++)
         {
-            outcomes[pair] = RunPair(settings, pair, words.AsSpan(pair * n, n));
+            Span<uint> pairWords = words.AsSpan(pair * n, n);
+            var random = new Stream(SampleHash.Combine(SampleHash.Mix64(settings.Seed), (ulong)pair));
+            for (int p = 0; p < n; p++)
+            {
+                pairWords[p] = random.Next32();
+            }
+
+            outcomes[pair] = RunPair(settings, pair, -1, random, pairWords, []);
         }
 
         return (words, outcomes);
     }
 
-    private sealed class Stream(ulong key)
+    internal sealed class Stream(ulong key)
     {
         private ulong _counter;
 
@@ -100,22 +107,23 @@ public static class SeedTileOptimizer
         public int Below(int bound) => (int)((Next() >> 33) % (ulong)bound);
     }
 
-    private static PairOutcome RunPair(OptimizerSettings s, int pair, Span<uint> words)
+    /// <summary>
+    /// Rearranges one pair's words (with <paramref name="positions"/>, when given, swapped alongside)
+    /// to minimise the low-pass energy; with <paramref name="level"/> ≥ 0, pixel sample i is sequence
+    /// point i XOR (<see cref="BlueNoiseRankingTable.Block"/>(word) · 2^level), as the ranking tables use it.
+    /// </summary>
+    internal static PairOutcome RunPair(OptimizerSettings s, int pair, int level, Stream random, Span<uint> words, Span<int> positions)
     {
+        ArgumentNullException.ThrowIfNull(s);
+        ArgumentNullException.ThrowIfNull(random);
         int t = s.Tile, n = t * t, levels = s.Spp.Length, v = s.Integrands * levels;
-        var random = new Stream(SampleHash.Combine(SampleHash.Mix64(s.Seed), (ulong)pair));
-        for (int p = 0; p < n; p++)
-        {
-            words[p] = random.Next32();
-        }
-
-        double[] e = Errors(s, pair, words, random);
+        double[] e = Errors(s, pair, level, words, random);
         Normalise(e, n, s.Integrands, levels);
 
         int b = s.FilterOrder;
-        double[] gg = Autocorrelation(b);
-        double[] h = Smooth(e, t, v, gg, b);
-        double energy = Dot(e, h);
+        double[] gg = LowPass.Autocorrelation(b);
+        double[] h = LowPass.Smooth(e, t, v, gg, b);
+        double energy = LowPass.Dot(e, h);
         double initial = energy;
         long accepted = 0;
         int side = 2 * s.SwapRadius + 1;
@@ -150,21 +158,26 @@ public static class SeedTileOptimizer
             accepted++;
             energy += change;
             (words[p1], words[p2]) = (words[p2], words[p1]);
+            if (!positions.IsEmpty)
+            {
+                (positions[p1], positions[p2]) = (positions[p2], positions[p1]);
+            }
+
             for (int c = 0; c < v; c++)
             {
                 delta[c] = e[r2 + c] - e[r1 + c];
                 (e[r1 + c], e[r2 + c]) = (e[r2 + c], e[r1 + c]);
             }
 
-            AddWindow(h, t, gg, b, x1, y1, delta, 1);
-            AddWindow(h, t, gg, b, p2 % t, p2 / t, delta, -1);
+            LowPass.AddWindow(h, t, gg, b, x1, y1, delta, 1);
+            LowPass.AddWindow(h, t, gg, b, p2 % t, p2 / t, delta, -1);
         }
 
         return new PairOutcome(initial, energy, accepted);
     }
 
     // e[p·V + k·L + l]: the mean of integrand k over the first Spp[l] points of pixel p.
-    private static double[] Errors(OptimizerSettings s, int pair, ReadOnlySpan<uint> words, Stream random)
+    private static double[] Errors(OptimizerSettings s, int pair, int rankLevel, ReadOnlySpan<uint> words, Stream random)
     {
         int n = words.Length, levels = s.Spp.Length, v = s.Integrands * levels, most = s.Spp[^1];
         var steps = new (double Nx, double Ny, double Cx, double Cy, uint ScrambleX, uint ScrambleY)[s.Integrands];
@@ -181,13 +194,14 @@ public static class SeedTileOptimizer
         for (int p = 0; p < n; p++)
         {
             (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(words[p]);
+            uint key = rankLevel < 0 ? 0 : BlueNoiseRankingTable.Block(words[p]) << rankLevel;
             for (int k = 0; k < steps.Length; k++)
             {
                 var step = steps[k];
                 int count = 0, level = 0;
                 for (int i = 0; i < most; i++)
                 {
-                    uint reversed = BitReversal.Reverse((uint)i);
+                    uint reversed = BitReversal.Reverse((uint)i ^ key);
                     double x = Unit(BlueNoiseSobolSampler.ScrambledReversed(matrices, reversed, 2 * pair, sx, step.ScrambleX));
                     double y = Unit(BlueNoiseSobolSampler.ScrambledReversed(matrices, reversed, (2 * pair) + 1, sy, step.ScrambleY));
                     if (((x - step.Cx) * step.Nx) + ((y - step.Cy) * step.Ny) >= 0)
@@ -251,33 +265,6 @@ public static class SeedTileOptimizer
         }
     }
 
-    // (G ∗ G) along one axis for the binomial filter of order b: C(2b, b + d) / 4^b, d = −b … b.
-    private static double[] Autocorrelation(int b)
-    {
-        var row = new double[(2 * b) + 1];
-        row[0] = 1;
-        for (int i = 1; i <= 2 * b; i++)
-        {
-            for (int j = i; j > 0; j--)
-            {
-                row[j] += row[j - 1];
-            }
-        }
-
-        double total = 0;
-        foreach (double x in row)
-        {
-            total += x;
-        }
-
-        for (int i = 0; i < row.Length; i++)
-        {
-            row[i] /= total;
-        }
-
-        return row;
-    }
-
     private static double Gg(double[] gg, int b, int dx, int dy)
     {
         if (Math.Abs(dx) > b || Math.Abs(dy) > b)
@@ -287,47 +274,6 @@ public static class SeedTileOptimizer
 
         // Separable: the 2-D value is the product of the two axes'.
         return gg[b + dx] * gg[b + dy];
-    }
-
-    private static double[] Smooth(double[] e, int t, int v, double[] gg, int b)
-    {
-        var h = new double[e.Length];
-        for (int p = 0; p < t * t; p++)
-        {
-            AddWindow(h, t, gg, b, p % t, p / t, e.AsSpan(p * v, v), 1);
-        }
-
-        return h;
-    }
-
-    // h += sign · (G∗G)(· − (x, y)) · amount, over the window where G∗G is non-zero.
-    private static void AddWindow(double[] h, int t, double[] gg, int b, int x, int y, ReadOnlySpan<double> amount, double sign)
-    {
-        int v = amount.Length;
-        for (int dy = -b; dy <= b; dy++)
-        {
-            int row = Wrap(y + dy, t) * t;
-            for (int dx = -b; dx <= b; dx++)
-            {
-                double w = sign * gg[b + dy] * gg[b + dx];
-                Span<double> target = h.AsSpan((row + Wrap(x + dx, t)) * v, v);
-                for (int c = 0; c < v; c++)
-                {
-                    target[c] += w * amount[c];
-                }
-            }
-        }
-    }
-
-    private static double Dot(double[] a, double[] b)
-    {
-        double sum = 0;
-        for (int i = 0; i < a.Length; i++)
-        {
-            sum += a[i] * b[i];
-        }
-
-        return sum;
     }
 
     private static int Wrap(int i, int t) => ((i % t) + t) % t;

@@ -12,8 +12,8 @@ namespace PathBench.BlueNoise;
 /// </summary>
 public static class SpectrumCheck
 {
-    /// <summary>Mean over <paramref name="integrands"/> steps of the periodogram energy with radial frequency below 1/8 cycle per pixel, as a share of all but the mean's.</summary>
-    public static double LowBandShare(ReadOnlySpan<uint> words, int tile, int pair, int spp, int integrands, ulong seed)
+    /// <summary>Mean over <paramref name="integrands"/> steps (pixel p's sample i is sequence point i XOR keys[p], or i when <paramref name="keys"/> is empty) of the periodogram energy with radial frequency below 1/8 cycle per pixel, as a share of all but the mean's.</summary>
+    public static double LowBandShare(ReadOnlySpan<uint> words, ReadOnlySpan<uint> keys, int tile, int pair, int spp, int integrands, ulong seed)
     {
         SobolMatrices matrices = SobolMatrices.Default;
         int n = tile * tile;
@@ -32,7 +32,7 @@ public static class SpectrumCheck
                 int count = 0;
                 for (int i = 0; i < spp; i++)
                 {
-                    uint r = BitReversal.Reverse((uint)i);
+                    uint r = BitReversal.Reverse((uint)i ^ (keys.IsEmpty ? 0 : keys[p]));
                     double x = (BitReversal.Reverse(BlueNoiseSobolSampler.ScrambledReversed(matrices, r, 2 * pair, sx, scrambleX)) + 0.5) / 4294967296.0;
                     double y = (BitReversal.Reverse(BlueNoiseSobolSampler.ScrambledReversed(matrices, r, (2 * pair) + 1, sy, scrambleY)) + 0.5) / 4294967296.0;
                     count += ((x - cx) * cos) + ((y - cy) * sin) >= 0 ? 1 : 0;
@@ -54,6 +54,24 @@ public static class SpectrumCheck
         }
 
         return low / total;
+    }
+
+    /// <summary>
+    /// The words and index keys (block · 2^level) pixel by pixel that a ranking level gives one pair:
+    /// <paramref name="key"/>(q) is the seed-tile position the pixel at q takes.
+    /// </summary>
+    public static (uint[] Words, uint[] Keys) Ranked(ReadOnlySpan<uint> pairWords, Func<int, int> key, int level)
+    {
+        ArgumentNullException.ThrowIfNull(key);
+        var words = new uint[pairWords.Length];
+        var keys = new uint[pairWords.Length];
+        for (int q = 0; q < words.Length; q++)
+        {
+            words[q] = pairWords[key(q)];
+            keys[q] = BlueNoiseRankingTable.Block(words[q]) << level;
+        }
+
+        return (words, keys);
     }
 
     /// <summary>Energy below 1/8 cycle per pixel and in all, of the image's DFT (a plain separable DFT).</summary>

@@ -206,11 +206,21 @@ internal static class RenderCommand
 
             io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"{outPath}: {result.Film.Width}x{result.Film.Height}, {result.Done.Count} spp {result.Done}, {spec.Generator}/{spec.RandomizeName}, {result.WallSeconds:F2} s, {result.Rays / 1e6 / Math.Max(result.WallSeconds, 1e-9):F2} Mrays/s, {result.Film.NonFiniteSamples} non-finite samples{(stoppedBy == "complete" ? "" : ", stopped by " + stoppedBy.Replace('_', ' '))}"));
+            if (timeBudget is not null && sppGiven is null && n == info.MaxPoints && stoppedBy == "complete")
+            {
+                // Not an error: the budget plans a finite sequence for its own length, and the render ends there.
+                io.Out.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"pathbench: note: {info.Name} defines {info.MaxPoints} points per pixel; the render stopped at them with {FormatRemaining(timeBudget.Value, result.WallSeconds)} of the time budget left (a generator without that limit renders on)"));
+            }
+
             FilmOutput.WarnDropped(io.Out, outPath, result.Film);
             return result.Interrupted ? RenderSession.InterruptedExitCode : 0;
         });
         return command;
     }
+
+    private static string FormatRemaining(TimeSpan budget, double wallSeconds) =>
+        string.Create(CultureInfo.InvariantCulture, $"{Math.Max(0, budget.TotalSeconds - wallSeconds):F0} s");
 
     /// <summary>Every setting the samples depend on, in the order the accumulation file and the sidecar record them.</summary>
     internal static List<KeyValuePair<string, string>> Configuration(SamplerSpec spec, PathTracerOptions options, string lights) =>

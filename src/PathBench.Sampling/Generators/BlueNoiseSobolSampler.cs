@@ -4,23 +4,28 @@ using PathBench.Sampling.Sequences;
 namespace PathBench.Sampling.Generators;
 
 /// <summary>
-/// Owen-scrambled Sobol points whose per-pixel scramble seeds, for the first
-/// <see cref="BlueNoiseSeedTable.Pairs"/> dimension pairs, come from a tile of seeds optimised so
-/// that neighbouring pixels' errors are negatively correlated: the error image is blue noise
+/// Owen-scrambled Sobol points whose per-pixel scramble seeds and sequence blocks, for the first
+/// <see cref="BlueNoiseSeedTable.Pairs"/> dimension pairs, come from a tile optimised so that
+/// neighbouring pixels' errors are negatively correlated: the error image is blue noise
 /// (Heitz, Belcour, Ostromoukhov, Coeurjolly &amp; Iehl 2019; Heitz &amp; Belcour 2019).
 /// </summary>
 /// <remarks>
 /// <para>
-/// Coordinate d of point i in the pixel at (x, y): S_d(T_{p,d}(Sobol_d(i))), in natural index order,
-/// where T_{p,d} is the hash-based Owen scramble (<see cref="OwenScrambler"/>) seeded from the tile at
-/// (x mod 64, y mod 64) and S_d a further Owen scramble common to every pixel, seeded from the global
-/// seed (the <c>owen</c> randomization; <c>none</c> leaves it out). Why it stays unbiased: for a
+/// Coordinate d of point i in the pixel at (x, y): S_d(T_{p,d}(Sobol_d(i XOR k_{p,d}))), where
+/// T_{p,d} is the hash-based Owen scramble (<see cref="OwenScrambler"/>) seeded from the seed-tile
+/// entry that the ranking key of the planned count's level names at (x mod 64, y mod 64), k_{p,d}
+/// that entry's sequence block times 2^level (<see cref="BlueNoiseRankingTable"/>: the table for the
+/// largest power of two not above the planned count, 16 above it), and S_d a further Owen scramble
+/// common to every pixel, seeded from the global seed (the <c>owen</c> randomization; <c>none</c>
+/// leaves it out). The points depend on the planned count, so the generator is not progressive. Why it stays unbiased: for a
 /// uniform seed, x + seed is uniform and the Laine–Karras steps are bijections, so every coordinate
 /// of every pixel is uniform whatever the tile holds. Why the blue noise survives S_d: the tile was
 /// optimised for integrands seen through random common scrambles of this kind
 /// (<c>tools/PathBench.BlueNoise</c>); a nested scramble maps dyadic boxes onto dyadic boxes, so
 /// how neighbouring pixels' points share the boxes out between them is the same in every replicate.
-/// Each pixel's point set is an Owen-scrambled Sobol net, so the convergence rate is Owen's.
+/// The XOR keeps the first 2^level samples one aligned block of the sequence (a digitally shifted
+/// copy of its first block, in every dimension), so each pixel's point set is an Owen-scrambled Sobol
+/// net and the convergence rate is Owen's.
 /// </para>
 /// <para>
 /// Dimensions from 2·Pairs on use per-pixel hashed seeds, as plain Owen-scrambled Sobol (without its
@@ -37,10 +42,14 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     private const int TileBits = 6;
     private const int TileMask = BlueNoiseSeedTable.Tile - 1;
     private const int TabledDimensions = 2 * BlueNoiseSeedTable.Pairs;
+    private const int Positions = BlueNoiseSeedTable.Tile * BlueNoiseSeedTable.Tile;
     private readonly SobolMatrices _matrices = SobolMatrices.Default;
-    private readonly BlueNoiseSeedTable _table = BlueNoiseSeedTable.Default;
     private readonly uint[] _common = new uint[TabledDimensions];
     private readonly bool _scrambleCommon;
+
+    // Per pair and tile position, the level's seed word and its block shifted by the level (the index XOR).
+    private readonly uint[] _words = new uint[BlueNoiseSeedTable.Pairs * Positions];
+    private readonly uint[] _blocks = new uint[BlueNoiseSeedTable.Pairs * Positions];
 
     /// <summary>Creates the sampler.</summary>
     public BlueNoiseSobolSampler(SamplerSpec spec) : base(spec)
@@ -50,7 +59,23 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         {
             _common[d] = CommonSeed(spec.Seed, d);
         }
+
+        Level = BlueNoiseRankingTable.LevelFor(spec.Count);
+        BlueNoiseSeedTable seeds = BlueNoiseSeedTable.Default;
+        BlueNoiseRankingTable ranking = BlueNoiseRankingTable.Default;
+        for (int pair = 0; pair < BlueNoiseSeedTable.Pairs; pair++)
+        {
+            for (int q = 0; q < Positions; q++)
+            {
+                uint word = seeds.Word(pair, ranking.Key(Level, pair, q));
+                _words[(pair * Positions) + q] = word;
+                _blocks[(pair * Positions) + q] = BlueNoiseRankingTable.Block(word) << Level;
+            }
+        }
     }
+
+    /// <summary>The ranking level the planned count chose: 2^Level samples per pixel (<see cref="BlueNoiseRankingTable.LevelFor"/>).</summary>
+    public int Level { get; }
 
     /// <inheritdoc/>
     public override int MaxDimensions => _matrices.Dimensions;
@@ -81,15 +106,15 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
     {
-        uint reversedIndex = BitReversal.Reverse(index);
         if (dimension >= TabledDimensions)
         {
             uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            return ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(reversedIndex, dimension), seed));
+            return ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(index), dimension), seed));
         }
 
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_table.Word(dimension >> 1, (int)(pixel & 0xFFF)));
-        return Tabled(reversedIndex, dimension, (dimension & 1) == 0 ? sx : sy);
+        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
+        return Tabled(BitReversal.Reverse(index ^ _blocks[entry]), dimension, (dimension & 1) == 0 ? sx : sy);
     }
 
     /// <inheritdoc/>
@@ -101,8 +126,9 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         }
 
         // The pair shares one table word and one index reversal.
-        uint reversedIndex = BitReversal.Reverse(index);
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_table.Word(dimension >> 1, (int)(pixel & 0xFFF)));
+        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
+        uint reversedIndex = BitReversal.Reverse(index ^ _blocks[entry]);
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         return (Tabled(reversedIndex, dimension, sx), Tabled(reversedIndex, dimension + 1, sy));
     }
 

@@ -102,11 +102,14 @@ public static class SamplerCatalog
         new("sobol", "base-2 digital sequence, Sobol 1967; direction numbers of Joe & Kuo 2008, SIAM J. Sci. Comput. 30(5)",
             false, 21201, [Randomization.None, Randomization.CranleyPatterson, Randomization.DigitalShift, Randomization.Owen], Randomization.Owen,
             "digit permutations in base 2 are the digital shift; use digital-shift", s => new SobolSampler(s)),
-        new("bluenoise", "Owen-scrambled Sobol whose per-pixel seeds come from a 64x64 tile arranged so that errors form a blue noise in " +
-            "screen space; Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019, 'A low-discrepancy sampler that distributes Monte Carlo " +
-            "errors as a blue noise in screen space' (SIGGRAPH Talks), seeds placed by swapping as in Heitz & Belcour 2019, Comput. Graph. " +
-            "Forum 38(4) (EGSR); tile made by tools/PathBench.BlueNoise",
-            false, 21201, [Randomization.None, Randomization.Owen], Randomization.Owen,
+        new("bluenoise", "Owen-scrambled Sobol whose per-pixel scramble seeds and sequence blocks come from a 64x64 tile (repeating every 64 " +
+            "pixels) arranged so that errors form a blue noise in screen space, with ranking tables optimised for 1, 2, 4, 8 and 16 spp " +
+            "(a planned count uses the table of the largest power of two not above it, 16 above that, so it is not progressive: a study " +
+            "renders each rung); Heitz, Belcour, Ostromoukhov, Coeurjolly & Iehl 2019, 'A low-discrepancy sampler that distributes Monte " +
+            "Carlo errors as a blue noise in screen space' (SIGGRAPH Talks), seeds placed by swapping as in Heitz & Belcour 2019, Comput. " +
+            "Graph. Forum 38(4) (EGSR); tables made by tools/PathBench.BlueNoise, optimised pair of dimensions by pair on 2-D steps: " +
+            "strongest at 1 spp, weaker from 2 spp on in path-traced images, where a path couples the pairs",
+            true, 21201, [Randomization.None, Randomization.Owen], Randomization.Owen,
             "the tile is optimised for errors seen through an Owen scramble common to all pixels: a Cranley-Patterson shift moves points " +
             "across the dyadic cells that relation lives in, and a digital shift alone moves each pixel's one fixed scramble rigidly, " +
             "so smooth integrands lose Owen's rate; digit permutations in base 2 are the digital shift",

@@ -1,9 +1,3 @@
-using System.Buffers.Binary;
-using System.Globalization;
-using System.Reflection;
-using System.Security.Cryptography;
-using System.Text;
-
 namespace PathBench.Sampling.Sequences;
 
 /// <summary>
@@ -59,112 +53,18 @@ public sealed class BlueNoiseSeedTable
         (word, (uint)(Hashing.SampleHash.Mix64(word ^ 0x424C55454E4F4953UL) >> 32));
 
     /// <summary>The lower-case hex SHA-256 of the words as stored (little-endian).</summary>
-    public static string Sha256(ReadOnlySpan<uint> words) => Convert.ToHexStringLower(SHA256.HashData(ToBytes(words)));
+    public static string Sha256(ReadOnlySpan<uint> words) => TableFile.Sha256(words);
 
     /// <summary>Writes a table file: the header fields (without <c>sha256</c>, which is added), then the words.</summary>
-    public static byte[] Write(IEnumerable<(string Key, string Value)> header, ReadOnlySpan<uint> words)
-    {
-        ArgumentNullException.ThrowIfNull(header);
-        if (words.Length != Pairs * Tile * Tile)
-        {
-            throw new ArgumentException($"a table holds {Pairs * Tile * Tile} words, got {words.Length}", nameof(words));
-        }
-
-        var text = new StringBuilder(Magic).Append('\n');
-        foreach ((string key, string value) in header)
-        {
-            text.Append(key).Append(": ").Append(value).Append('\n');
-        }
-
-        text.Append("sha256: ").Append(Sha256(words)).Append("\nend\n");
-        return [.. Encoding.ASCII.GetBytes(text.ToString()), .. ToBytes(words)];
-    }
+    public static byte[] Write(IEnumerable<(string Key, string Value)> header, ReadOnlySpan<uint> words) =>
+        TableFile.Write(Magic, header, words, Pairs * Tile * Tile);
 
     /// <summary>Reads a table file; <see cref="InvalidDataException"/> with a one-line reason when it is malformed.</summary>
     public static BlueNoiseSeedTable Read(ReadOnlySpan<byte> file, string name)
     {
-        var header = new List<(string, string)>();
-        int at = 0, line = 0;
-        string? sha = null;
-        while (true)
-        {
-            int end = file[at..].IndexOf((byte)'\n');
-            if (end < 0 || end > 4096)
-            {
-                throw new InvalidDataException($"{name}: header line {line + 1} does not end (no 'end' line)");
-            }
-
-            string text = Encoding.ASCII.GetString(file.Slice(at, end));
-            at += end + 1;
-            line++;
-            if (line == 1)
-            {
-                if (text != Magic)
-                {
-                    throw new InvalidDataException($"{name}: not a blue-noise seed table (first line '{text}')");
-                }
-
-                continue;
-            }
-
-            if (text == "end")
-            {
-                break;
-            }
-
-            int colon = text.IndexOf(": ", StringComparison.Ordinal);
-            if (colon <= 0)
-            {
-                throw new InvalidDataException($"{name}: header line {line} is not 'key: value'");
-            }
-
-            (string key, string value) = (text[..colon], text[(colon + 2)..]);
-            if (key == "sha256")
-            {
-                sha = value;
-            }
-
-            header.Add((key, value));
-        }
-
-        int expected = Pairs * Tile * Tile * sizeof(uint);
-        if (file.Length - at != expected)
-        {
-            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture, $"{name}: {file.Length - at} bytes of seeds, expected {expected}"));
-        }
-
-        var words = new uint[Pairs * Tile * Tile];
-        for (int i = 0; i < words.Length; i++)
-        {
-            words[i] = BinaryPrimitives.ReadUInt32LittleEndian(file.Slice(at + (4 * i), 4));
-        }
-
-        string actual = Sha256(words);
-        if (sha != actual)
-        {
-            throw new InvalidDataException($"{name}: the seeds' SHA-256 is {actual}, the header says {sha ?? "nothing"}");
-        }
-
+        (uint[] words, List<(string, string)> header) = TableFile.Read(file, name, Magic, "a blue-noise seed table", "seeds", Pairs * Tile * Tile);
         return new BlueNoiseSeedTable(words, header);
     }
 
-    private static byte[] ToBytes(ReadOnlySpan<uint> words)
-    {
-        var bytes = new byte[words.Length * sizeof(uint)];
-        for (int i = 0; i < words.Length; i++)
-        {
-            BinaryPrimitives.WriteUInt32LittleEndian(bytes.AsSpan(4 * i), words[i]);
-        }
-
-        return bytes;
-    }
-
-    private static BlueNoiseSeedTable LoadEmbedded()
-    {
-        using Stream stream = Assembly.GetExecutingAssembly().GetManifestResourceStream(ResourceName)
-            ?? throw new InvalidOperationException($"embedded resource {ResourceName} is missing");
-        using var memory = new MemoryStream();
-        stream.CopyTo(memory);
-        return Read(memory.ToArray(), ResourceName);
-    }
+    private static BlueNoiseSeedTable LoadEmbedded() => Read(TableFile.Embedded(ResourceName), ResourceName);
 }

@@ -31,21 +31,46 @@ internal static class BinnedSah
     // Nodes with at least this many primitives hand one child to another thread (below it a task costs more than it saves).
     private const int ParallelGrain = 8192;
 
-    /// <summary>A node of the binary tree; bounds are single precision, rounded outward.</summary>
+    /// <summary>
+    /// A node of the binary tree in 32 bytes (the build writes up to 2n − 1 of them): bounds in
+    /// single precision, rounded outward, with the links in the fourth lanes.
+    /// </summary>
     [StructLayout(LayoutKind.Sequential)]
-    internal struct Node
+    internal readonly struct Node
     {
-        public Vector128<float> Lo;  // min x, y, z (fourth lane unused)
-        public Vector128<float> Hi;  // max x, y, z (fourth lane unused)
-        public int Start;   // leaf: first primitive; interior: slot of the right child (the left child is the next slot)
-        public int Count;   // leaf: primitive count (> 0); interior: 0
-        public int Axis;    // interior: split axis, to visit the nearer child first
+        private readonly Vector128<float> _lo;  // min x, y, z; fourth lane: Start
+        private readonly Vector128<float> _hi;  // max x, y, z; fourth lane: Count (> 0) of a leaf, −1 − axis of an interior node
+
+        private Node(Vector128<float> lo, Vector128<float> hi, int start, int code)
+        {
+            _lo = lo.AsInt32().WithElement(3, start).AsSingle();
+            _hi = hi.AsInt32().WithElement(3, code).AsSingle();
+        }
+
+        /// <summary>Leaf: first primitive; interior: slot of the right child (the left child is the next slot).</summary>
+        public int Start => _lo.AsInt32().GetElement(3);
+
+        /// <summary>Leaf: primitive count (&gt; 0); interior: 0.</summary>
+        public int Count => Math.Max(0, _hi.AsInt32().GetElement(3));
+
+        /// <summary>Interior: split axis, to visit the nearer child first.</summary>
+        public int Axis => -1 - _hi.AsInt32().GetElement(3);
+
+        /// <summary>Lower corner (x, y, z lanes; the fourth is not a coordinate).</summary>
+        public Vector128<float> Lo => _lo;
+
+        /// <summary>Upper corner (x, y, z lanes; the fourth is not a coordinate).</summary>
+        public Vector128<float> Hi => _hi;
 
         /// <summary>Lower corner.</summary>
-        public readonly Vec3d Min => new(Lo.GetElement(0), Lo.GetElement(1), Lo.GetElement(2));
+        public Vec3d Min => new(_lo.GetElement(0), _lo.GetElement(1), _lo.GetElement(2));
 
         /// <summary>Upper corner.</summary>
-        public readonly Vec3d Max => new(Hi.GetElement(0), Hi.GetElement(1), Hi.GetElement(2));
+        public Vec3d Max => new(_hi.GetElement(0), _hi.GetElement(1), _hi.GetElement(2));
+
+        public static Node Leaf(Vector128<float> lo, Vector128<float> hi, int start, int count) => new(lo, hi, start, count);
+
+        public static Node Interior(Vector128<float> lo, Vector128<float> hi, int right, int axis) => new(lo, hi, right, -1 - axis);
     }
 
     /// <summary>
@@ -92,7 +117,7 @@ internal static class BinnedSah
     /// <paramref name="threads"/> threads; <c>Order</c> maps leaf positions to input indices.
     /// Node 0 is the root; the array has 2n − 1 slots, some of them unused.
     /// </summary>
-    public static (Node[] Nodes, int[] Order) Build(ReadOnlySpan<Primitive> primitives, int maxLeaf, int threads = 0)
+    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0)
     {
         if (primitives.Length == 0)
         {
@@ -102,14 +127,13 @@ internal static class BinnedSah
         int n = primitives.Length;
         threads = threads <= 0 ? Environment.ProcessorCount : threads;
         var items = GC.AllocateUninitializedArray<Item>(n);
-        Primitive[] source = primitives.ToArray();
         var options = new ParallelOptions { MaxDegreeOfParallelism = threads };
         const int Chunk = 16384;
         Parallel.For(0, (n + Chunk - 1) / Chunk, options, c =>
         {
             for (int i = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); i < end; i++)
             {
-                (Vec3d lo, Vec3d hi) = source[i].Bounds();
+                (Vec3d lo, Vec3d hi) = primitives[i].Bounds();
                 items[i] = new Item
                 {
                     Lo = Vector128.Create(Down(lo.X), Down(lo.Y), Down(lo.Z), BitConverter.Int32BitsToSingle(i)),
@@ -156,8 +180,8 @@ internal static class BinnedSah
     private static float HalfArea(Vector128<float> lo, Vector128<float> hi)
     {
         Vector128<float> d = hi - lo;
-        float x = d.GetElement(0), y = d.GetElement(1), z = d.GetElement(2);
-        return (x * y) + (y * z) + (z * x);
+        Vector128<float> p = d * Vector128.Shuffle(d, Vector128.Create(1, 2, 0, 3)); // xy, yz, zx (fourth lane not a coordinate)
+        return p.GetElement(0) + p.GetElement(1) + p.GetElement(2);
     }
 
     private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel)
@@ -167,22 +191,25 @@ internal static class BinnedSah
         {
             int count = end - start;
             Vector128<float> extent = bounds.CHi - bounds.CLo;
-            // Bin k of axis a holds centroids in [lo + k·e/16, lo + (k+1)·e/16); the factor just under 1 keeps the largest in bin 15 (Wald 2007, §3.2).
+            // A node of fewer than 16 primitives gets one bin per primitive: more could not all be
+            // filled, and the per-node cost of clearing and sweeping bins dominates the lower levels.
+            int bins = Math.Min(Bins, Math.Max(2, count));
+            // Bin k of axis a holds centroids in [lo + k·e/bins, lo + (k+1)·e/bins); the factor just under 1 keeps the largest in the last bin (Wald 2007, §3.2).
             Vector128<float> scale = Vector128.ConditionalSelect(
                 Vector128.GreaterThan(extent, Vector128<float>.Zero),
-                Vector128.Create(Bins * (1 - 1e-6f)) / extent,
+                Vector128.Create(bins * (1 - 1e-6f)) / extent,
                 Vector128<float>.Zero);
             int axis = -1, split = -1;
             // A leaf costs its intersections; up to maxLeaf primitives may stay together when no split is cheaper.
             float bestCost = count <= maxLeaf ? IntersectionCost * count : float.PositiveInfinity;
             if (count > 1 && depth < MaxDepth - 1 && scale != Vector128<float>.Zero)
             {
-                (axis, split) = BestSplit(start, end, bounds, scale, ref bestCost);
+                (axis, split) = BestSplit(start, end, bins, bounds, scale, ref bestCost);
             }
 
             if (axis < 0 && (count <= maxLeaf || depth >= MaxDepth - 1))
             {
-                nodes[slot] = new Node { Lo = bounds.Lo, Hi = bounds.Hi, Start = start, Count = count };
+                nodes[slot] = Node.Leaf(bounds.Lo, bounds.Hi, start, count);
                 return;
             }
 
@@ -200,11 +227,11 @@ internal static class BinnedSah
             }
             else
             {
-                mid = Partition(start, end, axis, split, bounds.CLo, scale, ref left, ref right);
+                mid = Partition(start, end, bins, axis, split, bounds.CLo, scale, ref left, ref right);
             }
 
             int rightSlot = slot + (2 * (mid - start));
-            nodes[slot] = new Node { Lo = bounds.Lo, Hi = bounds.Hi, Start = rightSlot, Count = 0, Axis = axis };
+            nodes[slot] = Node.Interior(bounds.Lo, bounds.Hi, rightSlot, axis);
             if (parallel is not null && count >= ParallelGrain)
             {
                 Parallel.Invoke(
@@ -220,25 +247,35 @@ internal static class BinnedSah
         }
 
         /// <summary>Bins the range's centroids on all three axes in one pass and returns the cheapest split (axis −1 when none beats <paramref name="bestCost"/>).</summary>
-        private (int Axis, int Split) BestSplit(int start, int end, in RangeBounds bounds, Vector128<float> scale, ref float bestCost)
+        [SkipLocalsInit] // the bins are filled below; the sweep arrays are written before they are read
+        private (int Axis, int Split) BestSplit(int start, int end, int bins, in RangeBounds bounds, Vector128<float> scale, ref float bestCost)
         {
             Span<Vector128<float>> binLo = stackalloc Vector128<float>[3 * Bins];
             Span<Vector128<float>> binHi = stackalloc Vector128<float>[3 * Bins];
             Span<int> binCount = stackalloc int[3 * Bins];
+            binLo = binLo[..(3 * bins)];
+            binHi = binHi[..(3 * bins)];
+            binCount = binCount[..(3 * bins)];
             binLo.Fill(RangeBounds.Empty.Lo);
             binHi.Fill(RangeBounds.Empty.Hi);
             binCount.Clear();
             Vector128<float> cLo = bounds.CLo;
+            // Bin indices are clamped to [0, Bins): the hot loop indexes the bins unchecked.
+            ref Vector128<float> lo0 = ref MemoryMarshal.GetReference(binLo);
+            ref Vector128<float> hi0 = ref MemoryMarshal.GetReference(binHi);
+            ref int count0 = ref MemoryMarshal.GetReference(binCount);
             for (int i = start; i < end; i++)
             {
                 ref readonly Item item = ref items[i];
-                Vector128<int> b = BinOf(item, cLo, scale);
+                Vector128<int> b = BinOf(item, cLo, scale, bins) + Vector128.Create(0, bins, 2 * bins, 0);
                 for (int a = 0; a < 3; a++)
                 {
-                    int k = (a * Bins) + b.GetElement(a);
-                    binCount[k]++;
-                    binLo[k] = Vector128.Min(binLo[k], item.Lo);
-                    binHi[k] = Vector128.Max(binHi[k], item.Hi);
+                    int k = b.GetElement(a);
+                    Unsafe.Add(ref count0, k)++;
+                    ref Vector128<float> lo = ref Unsafe.Add(ref lo0, k);
+                    ref Vector128<float> hi = ref Unsafe.Add(ref hi0, k);
+                    lo = Vector128.Min(lo, item.Lo);
+                    hi = Vector128.Max(hi, item.Hi);
                 }
             }
 
@@ -256,11 +293,11 @@ internal static class BinnedSah
                 // Sweep from the left, then evaluate each split with a sweep from the right.
                 Vector128<float> lo = RangeBounds.Empty.Lo, hi = RangeBounds.Empty.Hi;
                 int lc = 0;
-                for (int b = 0; b < Bins - 1; b++)
+                for (int b = 0; b < bins - 1; b++)
                 {
-                    lo = Vector128.Min(lo, binLo[(a * Bins) + b]);
-                    hi = Vector128.Max(hi, binHi[(a * Bins) + b]);
-                    lc += binCount[(a * Bins) + b];
+                    lo = Vector128.Min(lo, binLo[(a * bins) + b]);
+                    hi = Vector128.Max(hi, binHi[(a * bins) + b]);
+                    lc += binCount[(a * bins) + b];
                     leftCount[b] = lc;
                     leftArea[b] = lc > 0 ? HalfArea(lo, hi) : 0;
                 }
@@ -268,11 +305,11 @@ internal static class BinnedSah
                 lo = RangeBounds.Empty.Lo;
                 hi = RangeBounds.Empty.Hi;
                 int rc = 0;
-                for (int b = Bins - 1; b > 0; b--)
+                for (int b = bins - 1; b > 0; b--)
                 {
-                    lo = Vector128.Min(lo, binLo[(a * Bins) + b]);
-                    hi = Vector128.Max(hi, binHi[(a * Bins) + b]);
-                    rc += binCount[(a * Bins) + b];
+                    lo = Vector128.Min(lo, binLo[(a * bins) + b]);
+                    hi = Vector128.Max(hi, binHi[(a * bins) + b]);
+                    rc += binCount[(a * bins) + b];
                     int l = leftCount[b - 1];
                     if (l == 0 || rc == 0)
                     {
@@ -297,17 +334,17 @@ internal static class BinnedSah
         /// <paramref name="split"/> to the front (Hoare's two-ended scan) and gathers both sides'
         /// bounds on the way; returns the first right-hand position.
         /// </summary>
-        private int Partition(int start, int end, int axis, int split, Vector128<float> cLo, Vector128<float> scale, ref RangeBounds left, ref RangeBounds right)
+        private int Partition(int start, int end, int bins, int axis, int split, Vector128<float> cLo, Vector128<float> scale, ref RangeBounds left, ref RangeBounds right)
         {
             int i = start, j = end - 1;
             while (true)
             {
-                while (i <= j && BinOf(items[i], cLo, scale).GetElement(axis) < split)
+                while (i <= j && BinOf(items[i], cLo, scale, bins).GetElement(axis) < split)
                 {
                     left.Add(items[i++]);
                 }
 
-                while (i <= j && BinOf(items[j], cLo, scale).GetElement(axis) >= split)
+                while (i <= j && BinOf(items[j], cLo, scale, bins).GetElement(axis) >= split)
                 {
                     right.Add(items[j--]);
                 }
@@ -322,7 +359,7 @@ internal static class BinnedSah
         }
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        private static Vector128<int> BinOf(in Item item, Vector128<float> cLo, Vector128<float> scale) =>
-            Vector128.Min(Vector128.Max(Vector128.ConvertToInt32((Centroid(item) - cLo) * scale), Vector128<int>.Zero), Vector128.Create(Bins - 1));
+        private static Vector128<int> BinOf(in Item item, Vector128<float> cLo, Vector128<float> scale, int bins) =>
+            Vector128.Min(Vector128.Max(Vector128.ConvertToInt32((Centroid(item) - cLo) * scale), Vector128<int>.Zero), Vector128.Create(bins - 1));
     }
 }

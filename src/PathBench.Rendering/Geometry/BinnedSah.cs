@@ -115,11 +115,9 @@ internal static class BinnedSah
     /// Builds the tree over <paramref name="primitives"/> with leaves of at most
     /// <paramref name="maxLeaf"/> primitives (fewer where the SAH says splitting pays) on up to
     /// <paramref name="threads"/> threads; <c>Order</c> maps leaf positions to input indices.
-    /// <paramref name="testWidth"/> primitives are intersected at once (a SIMD leaf test), so a
-    /// leaf of k costs ⌈k / width⌉ intersections in the heuristic (common practice for SIMD leaves).
     /// Node 0 is the root; the array has 2n − 1 slots, some of them unused.
     /// </summary>
-    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0, int testWidth = 1)
+    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0)
     {
         if (primitives.Length == 0)
         {
@@ -151,7 +149,7 @@ internal static class BinnedSah
         }
 
         var nodes = GC.AllocateUninitializedArray<Node>((2 * n) - 1);
-        new Builder(items, nodes, maxLeaf, testWidth, threads > 1 ? options : null).Build(0, n, 0, 0, root);
+        new Builder(items, nodes, maxLeaf, threads > 1 ? options : null).Build(0, n, 0, 0, root);
         var order = new int[n];
         for (int i = 0; i < n; i++)
         {
@@ -186,7 +184,7 @@ internal static class BinnedSah
         return p.GetElement(0) + p.GetElement(1) + p.GetElement(2);
     }
 
-    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, int testWidth, ParallelOptions? parallel)
+    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel)
     {
         /// <summary>Builds the subtree over items [start, end) into <paramref name="slot"/> and the slots after it.</summary>
         public void Build(int start, int end, int slot, int depth, RangeBounds bounds)
@@ -203,7 +201,7 @@ internal static class BinnedSah
                 Vector128<float>.Zero);
             int axis = -1, split = -1;
             // A leaf costs its intersections; up to maxLeaf primitives may stay together when no split is cheaper.
-            float bestCost = count <= maxLeaf ? IntersectionCost * Tests(count) : float.PositiveInfinity;
+            float bestCost = count <= maxLeaf ? IntersectionCost * count : float.PositiveInfinity;
             if (count > 1 && depth < MaxDepth - 1 && scale != Vector128<float>.Zero)
             {
                 (axis, split) = BestSplit(start, end, bins, bounds, scale, ref bestCost);
@@ -318,7 +316,7 @@ internal static class BinnedSah
                         continue;
                     }
 
-                    float cost = TraversalCost + (IntersectionCost * ((leftArea[b - 1] * Tests(l)) + (HalfArea(lo, hi) * Tests(rc))) / parentArea);
+                    float cost = TraversalCost + (IntersectionCost * ((leftArea[b - 1] * l) + (HalfArea(lo, hi) * rc)) / parentArea);
                     if (cost < bestCost)
                     {
                         bestCost = cost;
@@ -359,9 +357,6 @@ internal static class BinnedSah
                 (items[i], items[j]) = (items[j], items[i]);
             }
         }
-
-        /// <summary>Intersection tests a leaf of <paramref name="count"/> primitives needs.</summary>
-        private int Tests(int count) => (count + testWidth - 1) / testWidth;
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private static Vector128<int> BinOf(in Item item, Vector128<float> cLo, Vector128<float> scale, int bins) =>

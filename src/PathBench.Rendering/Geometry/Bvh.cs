@@ -13,8 +13,7 @@ namespace PathBench.Rendering.Geometry;
 /// <see cref="Vector256{T}"/> slab tests (a scalar loop where 256-bit vectors are not
 /// accelerated). A node is 128 bytes, aligned to 128 so it spans two cache lines: 24 floats of
 /// boxes (min x, max x, min y, max y, min z, max z, four lanes each), four child links (a
-/// node's index, or the complement of a leaf's number × 4 + its size − 1) and padding. A leaf's
-/// primitives are tested together from its <see cref="LeafBlocks"/> block. Boxes are stored in single precision rounded outward (each float box
+/// node's index, or the complement of a leaf's first primitive × 4 + its size − 1) and padding. Boxes are stored in single precision rounded outward (each float box
 /// contains the double box of its primitives) and widened to double, exactly, for the slab
 /// test, whose arithmetic is the double test's as before: a stored box can only be larger, so
 /// no hit is lost, and since the primitive tests are unchanged the closest hit is the same
@@ -44,7 +43,6 @@ public sealed class Bvh
     private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 128-byte aligned
     private readonly int _first;
     private readonly int _nodeCount;
-    private readonly LeafBlocks _leaves;
 
     /// <summary>Builds the hierarchy on all cores; the primitive array is reordered into leaf order and kept.</summary>
     public Bvh(Primitive[] primitives)
@@ -61,7 +59,7 @@ public sealed class Bvh
             throw new ArgumentException($"a BVH takes at most {MaxPrimitives - 1} primitives, not {primitives.Length}", nameof(primitives));
         }
 
-        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads, LeafBlocks.Lanes);
+        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads);
         int n = primitives.Length;
         _primitives = GC.AllocateUninitializedArray<Primitive>(n);
         Parallel.For(0, (n + 16383) / 16384, new ParallelOptions { MaxDegreeOfParallelism = threads <= 0 ? Environment.ProcessorCount : threads }, c =>
@@ -81,7 +79,6 @@ public sealed class Bvh
         long address = Marshal.UnsafeAddrOfPinnedArrayElement(_nodes, 0);
         _first = (int)((NodeAlign - (address % NodeAlign)) % NodeAlign) / sizeof(float);
         collapsed.Nodes.AsSpan(0, NodeFloats * _nodeCount).CopyTo(_nodes.AsSpan(_first));
-        _leaves = new LeafBlocks(_primitives, collapsed.Leaves);
     }
 
     /// <summary>Whether queries use the 256-bit slab test (false: the scalar loop). Tests switch it to compare the two.</summary>
@@ -99,18 +96,12 @@ public sealed class Bvh
     /// <summary>Bytes of the hierarchy a query walks besides the primitives: 128 per node (boxes, child links, padding).</summary>
     public long NodeBytes => (long)_nodeCount * NodeAlign;
 
-    /// <summary>Bytes of the leaves' triangle blocks (<see cref="LeafBlocks"/>): 320 per leaf, a copy of the vertices laid out for the four-lane test.</summary>
-    public long LeafBytes => _leaves.Bytes;
-
     /// <summary>The four-wide nodes of a binary tree, laid out depth first as they are made.</summary>
     private sealed class Collapser(BinnedSah.Node[] binary)
     {
         public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
 
         public int Count { get; private set; }
-
-        /// <summary>Each leaf's first primitive and size, in the order leaf links number them.</summary>
-        public List<(int Start, int Count)> Leaves { get; } = [];
 
         /// <summary>
         /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
@@ -171,15 +162,7 @@ public sealed class Bvh
             for (int lane = 0; lane < count; lane++)
             {
                 ref readonly BinnedSah.Node c = ref binary[open[lane]];
-                if (c.Count > 0)
-                {
-                    links[lane] = ~((Leaves.Count << 2) | (c.Count - 1));
-                    Leaves.Add((c.Start, c.Count));
-                }
-                else
-                {
-                    links[lane] = Collapse(open[lane]);
-                }
+                links[lane] = c.Count > 0 ? ~((c.Start << 2) | (c.Count - 1)) : Collapse(open[lane]);
             }
 
             // Written after the children, which may have grown the array.
@@ -215,7 +198,7 @@ public sealed class Bvh
     /// <summary>The nearest hit along the ray before <see cref="Ray.TMax"/>; false when there is none.</summary>
     public bool Intersect(in Ray ray, out SurfaceHit hit)
     {
-        var query = new ClosestHit(this, ray);
+        var query = new ClosestHit(_primitives, ray);
         Walk(ray, ref query);
         if (query.Best < 0)
         {
@@ -235,7 +218,7 @@ public sealed class Bvh
     /// <summary>True when anything blocks the ray before <paramref name="tMax"/> (shadow rays: any hit ends the walk).</summary>
     public bool Occluded(in Ray ray, double tMax)
     {
-        var query = new AnyHit(this, ray, tMax);
+        var query = new AnyHit(_primitives, ray, tMax);
         Walk(ray, ref query);
         return query.Found;
     }
@@ -246,82 +229,29 @@ public sealed class Bvh
         /// <summary>The far end of the ray segment still searched.</summary>
         double TMax { get; }
 
-        /// <summary>Tests the <paramref name="count"/> primitives of leaf <paramref name="leaf"/>; true ends the walk.</summary>
-        bool Leaf(int leaf, int count);
+        /// <summary>Tests primitives [start, start + count); true ends the walk.</summary>
+        bool Leaf(int start, int count);
     }
 
-    /// <summary>
-    /// The leaf test both queries share: each primitive's hit parameter in (0, tMax) or +∞, in
-    /// leaf order. Triangles come from the four-lane block test (or, on the scalar path, from
-    /// their records with the same arithmetic); other kinds from their records.
-    /// </summary>
-    private readonly struct LeafTester(Bvh bvh, in Ray ray)
+    private struct ClosestHit(Primitive[] primitives, in Ray ray) : ILeafQuery
     {
         private readonly Ray _ray = ray;
         private readonly RayShear _shear = new(ray.Direction);
-        private readonly LeafRay _leafRay = new(new RayShear(ray.Direction), ray.Origin);
-        private readonly bool _vectorised = bvh.Vectorised;
-
-        /// <summary>The leaf's first primitive, and its triangles' times when vectorised.</summary>
-        [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public int Times(int leaf, double tMax, out Vector256<double> times, out int others)
-        {
-            ref double block = ref bvh._leaves.Block(leaf);
-            int start = LeafBlocks.Start(ref block);
-            if (_vectorised)
-            {
-                times = LeafBlocks.Times(ref block, _leafRay, tMax);
-                others = LeafBlocks.Others(ref block);
-            }
-            else
-            {
-                times = default;
-                others = -1; // every lane from its record
-            }
-
-            return start;
-        }
-
-        /// <summary>Lane <paramref name="lane"/>'s time: from the vector, or from the record when the lane is in <paramref name="others"/>.</summary>
-        [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public double Lane(int start, int lane, Vector256<double> times, int others, double tMax)
-        {
-            if ((others >> lane & 1) == 0)
-            {
-                return times.GetElement(lane);
-            }
-
-            ref readonly Primitive p = ref bvh._primitives[start + lane];
-            return p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(_shear, _ray.Origin, tMax) : p.Intersect(_ray, tMax);
-        }
-    }
-
-    private struct ClosestHit(Bvh bvh, in Ray ray) : ILeafQuery
-    {
-        private readonly LeafTester _tester = new(bvh, ray);
 
         public double TMax { get; private set; } = ray.TMax;
 
         public int Best { get; private set; } = -1;
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public bool Leaf(int leaf, int count)
+        public bool Leaf(int start, int count)
         {
-            int start = _tester.Times(leaf, TMax, out Vector256<double> times, out int others);
-            if (others == 0 && Vector256.LessThan(times, Vector256.Create(TMax)) == Vector256<double>.Zero)
+            for (int i = start; i < start + count; i++)
             {
-                return false; // nothing in this leaf: the common case
-            }
-
-            // In leaf order with a strict comparison, as a loop over the records would: of two
-            // primitives at the same distance the first wins.
-            for (int lane = 0; lane < count; lane++)
-            {
-                double t = _tester.Lane(start, lane, times, others, TMax);
+                double t = Test(primitives[i], _ray, _shear, TMax);
                 if (t < TMax)
                 {
                     TMax = t;
-                    Best = start + lane;
+                    Best = i;
                 }
             }
 
@@ -329,21 +259,21 @@ public sealed class Bvh
         }
     }
 
-    private struct AnyHit(Bvh bvh, in Ray ray, double tMax) : ILeafQuery
+    private struct AnyHit(Primitive[] primitives, in Ray ray, double tMax) : ILeafQuery
     {
-        private readonly LeafTester _tester = new(bvh, ray);
+        private readonly Ray _ray = ray;
+        private readonly RayShear _shear = new(ray.Direction);
 
         public readonly double TMax => tMax;
 
         public bool Found { get; private set; }
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public bool Leaf(int leaf, int count)
+        public bool Leaf(int start, int count)
         {
-            int start = _tester.Times(leaf, tMax, out Vector256<double> times, out int others);
-            for (int lane = 0; lane < count; lane++)
+            for (int i = start; i < start + count; i++)
             {
-                if (_tester.Lane(start, lane, times, others, tMax) < tMax)
+                if (Test(primitives[i], _ray, _shear, tMax) < tMax)
                 {
                     Found = true;
                     return true;
@@ -353,6 +283,11 @@ public sealed class Bvh
             return false;
         }
     }
+
+    /// <summary>One primitive; triangles reuse the ray's shear (the same arithmetic as <see cref="Primitive.Intersect"/>).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static double Test(in Primitive p, in Ray ray, in RayShear shear, double tMax) =>
+        p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(shear, ray.Origin, tMax) : p.Intersect(ray, tMax);
 
     /// <summary>
     /// The one traversal loop of both queries: pop the nearest pending child; a leaf goes to the

@@ -340,15 +340,6 @@ public readonly struct RayShear
         Sy = d[_ky] * Sz;
     }
 
-    /// <summary>The axis that becomes x.</summary>
-    internal int AxisX => _kx;
-
-    /// <summary>The axis that becomes y.</summary>
-    internal int AxisY => _ky;
-
-    /// <summary>The axis that becomes z (the direction's largest component).</summary>
-    internal int AxisZ => _kz;
-
     /// <summary>Component kx of <paramref name="p"/>.</summary>
     public double X(Vec3d p) => p[_kx];
 

@@ -47,6 +47,15 @@ public sealed class LightSet
         EnvironmentProbability = environmentProbability;
     }
 
+    /// <summary>
+    /// Bytes the light set holds: its per-light tables and lights' own records, plus one int per
+    /// primitive (which light it is). No copy of the other primitives: on a million-triangle
+    /// scene with one light this is about 4 MB, not the 130 MB a copy of every record took.
+    /// </summary>
+    internal long Bytes =>
+        ((long)_primitives.Length * sizeof(int)) + ((long)(_cdf.Length + _probability.Length) * sizeof(double))
+        + ((long)_lightOfPrimitive.Length * sizeof(int)) + ((long)_lightPrims.Length * System.Runtime.CompilerServices.Unsafe.SizeOf<Primitive>());
+
     /// <summary>Number of area lights.</summary>
     public int AreaLightCount => _primitives.Length;
 

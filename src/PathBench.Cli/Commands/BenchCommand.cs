@@ -72,6 +72,7 @@ internal static class BenchCommand
             w.Number("bvh_build_triangles_per_second", r.BvhTrianglesPerSecond);
             w.Number("bvh_bytes_per_triangle", r.BvhBytesPerTriangle);
             w.Number("bvh_and_primitive_bytes_per_triangle", r.TotalBytesPerTriangle);
+            w.WriteNumber("light_set_bytes", r.LightSetBytes);
             Rays(w, "primary", r.Primary);
             Rays(w, "incoherent", r.Incoherent);
             w.WriteNumber("render_samples", r.Render.Samples);
@@ -115,6 +116,7 @@ internal static class BenchCommand
         var inv = CultureInfo.InvariantCulture;
         o.WriteLine(string.Create(inv, $"{r.Scene}: {r.Primitives} primitives ({r.Triangles} triangles), {r.Threads} threads for the totals"));
         o.WriteLine(string.Create(inv, $"  BVH build          {r.BvhBuildSeconds,8:F3} s   {r.BvhTrianglesPerSecond / 1e6,8:F2} M primitives/s   {r.BvhBytesPerTriangle:F1} B/primitive (nodes), {r.TotalBytesPerTriangle:F1} with primitives"));
+        o.WriteLine(string.Create(inv, $"  light set          {r.LightSetBytes / 1e6,8:F2} MB"));
         o.WriteLine(string.Create(inv, $"  primary rays       {r.Primary.MraysPerCore,8:F2} Mrays/s per core   {r.Primary.MraysTotal,8:F2} total   scaling {r.Primary.Scaling:F2}x"));
         o.WriteLine(string.Create(inv, $"  incoherent rays    {r.Incoherent.MraysPerCore,8:F2} Mrays/s per core   {r.Incoherent.MraysTotal,8:F2} total   scaling {r.Incoherent.Scaling:F2}x"));
         o.WriteLine(string.Create(inv, $"  full render        {r.Render.SamplesPerSecondOneThread / 1e6,8:F3} Msamples/s per core {r.Render.SamplesPerSecond / 1e6,8:F3} total   scaling {r.Render.Scaling:F2}x   {r.Render.MraysPerCore:F2} / {r.Render.MraysTotal:F2} Mrays/s"));

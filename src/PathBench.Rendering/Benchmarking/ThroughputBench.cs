@@ -47,6 +47,9 @@ public sealed record BenchReport(
     RenderThroughput Render,
     IReadOnlyList<SamplerShare> SamplerShares)
 {
+    /// <summary>Bytes of the scene's light set (<see cref="LightSet"/>).</summary>
+    public long LightSetBytes { get; init; }
+
     /// <summary>Primitives per second of BVH build.</summary>
     public double BvhTrianglesPerSecond => Primitives / BvhBuildSeconds;
 
@@ -117,7 +120,10 @@ public static class ThroughputBench
             shares.Add(Share(small, g, r, sizes.ShareSpp, sizes.Repeats));
         }
 
-        return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, (long)prims.Length * Unsafe.SizeOf<Primitive>(), p, b, render, shares);
+        return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, (long)prims.Length * Unsafe.SizeOf<Primitive>(), p, b, render, shares)
+        {
+            LightSetBytes = scene.Lights.Bytes,
+        };
     }
 
     /// <summary>Every generator with each randomization it takes (including none), as <c>pathbench samplers</c> lists them.</summary>

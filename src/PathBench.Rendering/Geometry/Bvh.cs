@@ -1,6 +1,7 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering.Geometry;
@@ -10,51 +11,74 @@ namespace PathBench.Rendering.Geometry;
 /// <see cref="BinnedSah"/> (leaves of up to four primitives) collapsed so each node holds the
 /// boxes of up to four children side by side, and one query tests all four with
 /// <see cref="Vector256{T}"/> slab tests (a scalar loop where 256-bit vectors are not
-/// accelerated). Boxes and rays stay in double precision, so a box test is as conservative as
-/// the binary tree's was and the hits are the same; children are visited nearest first and
-/// skipped when they start beyond the best hit. The stack lives on the call stack, unzeroed:
-/// no allocation and no clearing per query.
+/// accelerated). A node is 128 bytes, aligned to 128 so it spans two cache lines: 24 floats of
+/// boxes (min x, max x, min y, max y, min z, max z, four lanes each), four child links (a
+/// node's index, or the complement of a leaf's first primitive × 4 + its size − 1) and padding. Boxes are stored in single precision rounded outward (each float box
+/// contains the double box of its primitives) and widened to double, exactly, for the slab
+/// test, whose arithmetic is the double test's as before: a stored box can only be larger, so
+/// no hit is lost, and since the primitive tests are unchanged the closest hit is the same
+/// (only which of two primitives at exactly the same distance wins could depend on the visit
+/// order). Children are visited nearest first and skipped when they start beyond the best
+/// hit. The stack lives on the call stack, unzeroed: no allocation and no clearing per query.
 /// </summary>
 public sealed class Bvh
 {
     /// <summary>Deepest tree a query supports; the build stops splitting before this.</summary>
     public const int MaxDepth = BinnedSah.MaxDepth;
 
+    /// <summary>Most primitives a hierarchy takes: a leaf link packs its start and size into one int.</summary>
+    public const int MaxPrimitives = 1 << 29;
+
     private const int MaxLeaf = 4;
     private const int Lanes = 4;
     private const int Planes = 6 * Lanes; // minX, maxX, minY, maxY, minZ, maxZ, four lanes each
+    private const int ChildOffset = Planes;
+    private const int NodeFloats = 32;    // 128 bytes
+    private const int NodeAlign = NodeFloats * sizeof(float);
 
     // Each level of the binary tree under a wide node adds at most three siblings to the stack.
     private const int StackSize = 3 * MaxDepth + 4;
 
     private readonly Primitive[] _primitives;
-    private readonly double[] _bounds;   // node k: _bounds[Planes·k + Lanes·plane + lane]
-    private readonly int[] _children;    // node k: _children[Lanes·k + lane]: ≥ 0 a node, < 0 ~(leaf slot)
-    private readonly int[] _leafStart;
-    private readonly int[] _leafCount;
+    private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 128-byte aligned
+    private readonly int _first;
+    private readonly int _nodeCount;
 
-    /// <summary>Builds the hierarchy; the primitive array is reordered into leaf order and kept.</summary>
+    /// <summary>Builds the hierarchy on all cores; the primitive array is reordered into leaf order and kept.</summary>
     public Bvh(Primitive[] primitives)
+        : this(primitives, 0)
+    {
+    }
+
+    /// <summary>Builds the hierarchy on up to <paramref name="threads"/> threads (0: all cores); the tree is the same for any count.</summary>
+    internal Bvh(Primitive[] primitives, int threads)
     {
         ArgumentNullException.ThrowIfNull(primitives);
-        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf);
-        int n = primitives.Length;
-        _primitives = new Primitive[n];
-        for (int i = 0; i < n; i++)
+        if (primitives.Length >= MaxPrimitives)
         {
-            _primitives[i] = primitives[order[i]];
+            throw new ArgumentException($"a BVH takes at most {MaxPrimitives - 1} primitives, not {primitives.Length}", nameof(primitives));
         }
 
+        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads);
+        int n = primitives.Length;
+        _primitives = GC.AllocateUninitializedArray<Primitive>(n);
+        Parallel.For(0, (n + 16383) / 16384, new ParallelOptions { MaxDegreeOfParallelism = threads <= 0 ? Environment.ProcessorCount : threads }, c =>
+        {
+            for (int i = c * 16384, end = Math.Min(n, (c + 1) * 16384); i < end; i++)
+            {
+                _primitives[i] = primitives[order[i]];
+            }
+        });
+
         PrimitiveOrder = order;
-        var bounds = new List<double>(binary.Length * Planes / 2);
-        var children = new List<int>(binary.Length * Lanes / 2);
-        var leafStart = new List<int>(binary.Length / 2 + 1);
-        var leafCount = new List<int>(binary.Length / 2 + 1);
-        Collapse(binary, 0, bounds, children, leafStart, leafCount);
-        _bounds = bounds.ToArray();
-        _children = children.ToArray();
-        _leafStart = leafStart.ToArray();
-        _leafCount = leafCount.ToArray();
+        var collapsed = new Collapser(binary);
+        collapsed.Collapse(0);
+        _nodeCount = collapsed.Count;
+        // Pinned (never moved), so the alignment found here holds for the array's life.
+        _nodes = GC.AllocateUninitializedArray<float>((NodeFloats * _nodeCount) + NodeFloats, pinned: true);
+        long address = Marshal.UnsafeAddrOfPinnedArrayElement(_nodes, 0);
+        _first = (int)((NodeAlign - (address % NodeAlign)) % NodeAlign) / sizeof(float);
+        collapsed.Nodes.AsSpan(0, NodeFloats * _nodeCount).CopyTo(_nodes.AsSpan(_first));
     }
 
     /// <summary>Whether queries use the 256-bit slab test (false: the scalar loop). Tests switch it to compare the two.</summary>
@@ -67,91 +91,102 @@ public sealed class Bvh
     public IReadOnlyList<int> PrimitiveOrder { get; }
 
     /// <summary>Number of (four-wide) nodes.</summary>
-    public int NodeCount => _children.Length / Lanes;
+    public int NodeCount => _nodeCount;
 
-    /// <summary>Bytes of the hierarchy a query walks besides the primitives: boxes, child links and leaf ranges.</summary>
-    public long NodeBytes => (_bounds.LongLength * sizeof(double)) + ((_children.LongLength + _leafStart.LongLength + _leafCount.LongLength) * sizeof(int));
+    /// <summary>Bytes of the hierarchy a query walks besides the primitives: 128 per node (boxes, child links, padding).</summary>
+    public long NodeBytes => (long)_nodeCount * NodeAlign;
 
-    /// <summary>
-    /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
-    /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
-    /// one first, until four children are gathered or only leaves remain.
-    /// </summary>
-    private static int Collapse(BinnedSah.Node[] binary, int b, List<double> bounds, List<int> children, List<int> leafStart, List<int> leafCount)
+    /// <summary>The four-wide nodes of a binary tree, laid out depth first as they are made.</summary>
+    private sealed class Collapser(BinnedSah.Node[] binary)
     {
-        Span<int> open = stackalloc int[Lanes];
-        int count;
-        if (binary[b].Count > 0)
-        {
-            open[0] = b;
-            count = 1;
-        }
-        else
-        {
-            open[0] = b + 1;
-            open[1] = binary[b].Start;
-            count = 2;
-        }
+        public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
 
-        while (count < Lanes)
+        public int Count { get; private set; }
+
+        /// <summary>
+        /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
+        /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
+        /// one first, until four children are gathered or only leaves remain.
+        /// </summary>
+        public int Collapse(int b)
         {
-            int widest = -1;
-            double area = -1;
-            for (int i = 0; i < count; i++)
+            Span<int> open = stackalloc int[Lanes];
+            int count;
+            if (binary[b].Count > 0)
             {
-                ref readonly BinnedSah.Node c = ref binary[open[i]];
-                double a = c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
-                if (a > area)
-                {
-                    area = a;
-                    widest = i;
-                }
-            }
-
-            if (widest < 0)
-            {
-                break;
-            }
-
-            int opened = open[widest];
-            open[widest] = opened + 1;
-            open[count++] = binary[opened].Start;
-        }
-
-        int node = children.Count / Lanes;
-        for (int i = 0; i < Planes; i++)
-        {
-            // Empty lanes get inverted boxes (min +∞, max −∞): their near plane lies beyond the far one for any ray.
-            bounds.Add((i / Lanes & 1) == 0 ? double.PositiveInfinity : double.NegativeInfinity);
-        }
-
-        for (int i = 0; i < Lanes; i++)
-        {
-            children.Add(0);
-        }
-
-        for (int lane = 0; lane < count; lane++)
-        {
-            ref readonly BinnedSah.Node c = ref binary[open[lane]];
-            for (int axis = 0; axis < 3; axis++)
-            {
-                bounds[(Planes * node) + (Lanes * 2 * axis) + lane] = c.Min[axis];
-                bounds[(Planes * node) + (Lanes * ((2 * axis) + 1)) + lane] = c.Max[axis];
-            }
-
-            if (c.Count > 0)
-            {
-                children[(Lanes * node) + lane] = ~leafStart.Count;
-                leafStart.Add(c.Start);
-                leafCount.Add(c.Count);
+                open[0] = b;
+                count = 1;
             }
             else
             {
-                children[(Lanes * node) + lane] = Collapse(binary, open[lane], bounds, children, leafStart, leafCount);
+                open[0] = b + 1;
+                open[1] = binary[b].Start;
+                count = 2;
             }
-        }
 
-        return node;
+            while (count < Lanes)
+            {
+                int widest = -1;
+                double area = -1;
+                for (int i = 0; i < count; i++)
+                {
+                    ref readonly BinnedSah.Node c = ref binary[open[i]];
+                    double a = c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
+                    if (a > area)
+                    {
+                        area = a;
+                        widest = i;
+                    }
+                }
+
+                if (widest < 0)
+                {
+                    break;
+                }
+
+                int opened = open[widest];
+                open[widest] = opened + 1;
+                open[count++] = binary[opened].Start;
+            }
+
+            int node = Count++;
+            if (Nodes.Length < NodeFloats * Count)
+            {
+                float[] grown = new float[Nodes.Length * 2];
+                Nodes.CopyTo(grown, 0);
+                Nodes = grown;
+            }
+
+            Span<int> links = stackalloc int[Lanes];
+            links.Clear();
+            for (int lane = 0; lane < count; lane++)
+            {
+                ref readonly BinnedSah.Node c = ref binary[open[lane]];
+                links[lane] = c.Count > 0 ? ~((c.Start << 2) | (c.Count - 1)) : Collapse(open[lane]);
+            }
+
+            // Written after the children, which may have grown the array.
+            Span<float> planes = Nodes.AsSpan(NodeFloats * node, NodeFloats);
+            for (int i = 0; i < Planes; i++)
+            {
+                // Empty lanes get inverted boxes (min +∞, max −∞): their near plane lies beyond the far one for any ray.
+                planes[i] = (i / Lanes & 1) == 0 ? float.PositiveInfinity : float.NegativeInfinity;
+            }
+
+            for (int lane = 0; lane < count; lane++)
+            {
+                ref readonly BinnedSah.Node c = ref binary[open[lane]];
+                for (int axis = 0; axis < 3; axis++)
+                {
+                    planes[(Lanes * 2 * axis) + lane] = c.Lo.GetElement(axis);
+                    planes[(Lanes * ((2 * axis) + 1)) + lane] = c.Hi.GetElement(axis);
+                }
+            }
+
+            links.CopyTo(MemoryMarshal.Cast<float, int>(planes[ChildOffset..]));
+            planes[(ChildOffset + Lanes)..].Clear(); // padding to 128 bytes
+            return node;
+        }
     }
 
     private static double HalfArea(Vec3d min, Vec3d max)
@@ -271,6 +306,8 @@ public sealed class Bvh
         Span<int> stackRef = stackalloc int[StackSize];
         Span<double> stackNear = stackalloc double[StackSize];
         Span<double> near = stackalloc double[Lanes];
+        // Node indices come from the build and are in range; the walk reads nodes without bounds checks.
+        ref float nodes = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_nodes), _first);
         stackRef[0] = 0;
         stackNear[0] = 0;
         int sp = 1;
@@ -285,7 +322,7 @@ public sealed class Bvh
             int r = stackRef[sp];
             if (r < 0)
             {
-                if (query.Leaf(_leafStart[~r], _leafCount[~r]))
+                if (query.Leaf(~r >> 2, (~r & 3) + 1))
                 {
                     return;
                 }
@@ -293,9 +330,10 @@ public sealed class Bvh
                 continue;
             }
 
+            ref float node = ref Unsafe.Add(ref nodes, NodeFloats * r);
             int mask = Vectorised
-                ? TestVector(r, ray.Origin, inv, nx, ny, nz, query.TMax, near)
-                : TestScalar(r, ray.Origin, inv, nx, ny, nz, query.TMax, near);
+                ? TestVector(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near)
+                : TestScalar(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near);
             int first = sp;
             for (; mask != 0; mask &= mask - 1)
             {
@@ -310,7 +348,7 @@ public sealed class Bvh
                     j--;
                 }
 
-                stackRef[j] = _children[(Lanes * r) + lane];
+                stackRef[j] = Unsafe.As<float, int>(ref Unsafe.Add(ref node, ChildOffset + lane));
                 stackNear[j] = t;
             }
         }
@@ -319,25 +357,25 @@ public sealed class Bvh
     private static double Reciprocal(double x) => x == 0 ? 1e300 : 1.0 / x;
 
     /// <summary>
-    /// Slab tests (Kay &amp; Kajiya 1986, "Ray tracing complex scenes", SIGGRAPH) of node
-    /// <paramref name="node"/>'s four boxes; returns the mask of lanes hit before
+    /// Slab tests (Kay &amp; Kajiya 1986, "Ray tracing complex scenes", SIGGRAPH) of the four
+    /// boxes of <paramref name="node"/>; returns the mask of lanes hit before
     /// <paramref name="tMax"/> and writes their entry distances (clamped at 0) to
-    /// <paramref name="near"/>. Native min/max: no operand is ever NaN here (finite
-    /// reciprocals, infinite planes only with non-zero factors), so the NaN and signed-zero
-    /// handling of <see cref="Math.Min(double, double)"/> buys nothing.
+    /// <paramref name="near"/>. The float planes are widened to double (exactly) and the test is
+    /// the double one. Native min/max: no operand is ever NaN here (finite reciprocals, infinite
+    /// planes only with non-zero factors), so the NaN and signed-zero handling of
+    /// <see cref="Math.Min(double, double)"/> buys nothing.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private int TestVector(int node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
+    private static int TestVector(ref float node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
     {
-        ref double b = ref _bounds[Planes * node];
         Vector256<double> ix = Vector256.Create(inv.X), iy = Vector256.Create(inv.Y), iz = Vector256.Create(inv.Z);
         Vector256<double> ox = Vector256.Create(o.X), oy = Vector256.Create(o.Y), oz = Vector256.Create(o.Z);
-        Vector256<double> tnx = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * nx)) - ox) * ix;
-        Vector256<double> tfx = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * (1 - nx))) - ox) * ix;
-        Vector256<double> tny = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * (2 + ny))) - oy) * iy;
-        Vector256<double> tfy = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * (3 - ny))) - oy) * iy;
-        Vector256<double> tnz = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * (4 + nz))) - oz) * iz;
-        Vector256<double> tfz = (Vector256.LoadUnsafe(ref b, (nuint)(Lanes * (5 - nz))) - oz) * iz;
+        Vector256<double> tnx = (Plane(ref node, nx) - ox) * ix;
+        Vector256<double> tfx = (Plane(ref node, 1 - nx) - ox) * ix;
+        Vector256<double> tny = (Plane(ref node, 2 + ny) - oy) * iy;
+        Vector256<double> tfy = (Plane(ref node, 3 - ny) - oy) * iy;
+        Vector256<double> tnz = (Plane(ref node, 4 + nz) - oz) * iz;
+        Vector256<double> tfz = (Plane(ref node, 5 - nz) - oz) * iz;
         Vector256<double> t0 = Vector256.MaxNative(Vector256.MaxNative(tnx, tny), Vector256.MaxNative(tnz, Vector256<double>.Zero));
         Vector256<double> t1 = Vector256.MinNative(Vector256.MinNative(tfx, tfy), tfz);
         // Bounds are inflated by a relative 1e-12 against rounding on flat (zero-thickness) boxes.
@@ -347,10 +385,18 @@ public sealed class Bvh
         return (int)hit.ExtractMostSignificantBits();
     }
 
-    /// <summary>The same slab tests one lane at a time, for hardware without 256-bit vectors, with the same operations in the same order.</summary>
-    private int TestScalar(int node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
+    /// <summary>One plane's four floats, widened to double (exact).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<double> Plane(ref float node, int plane)
     {
-        ReadOnlySpan<double> b = _bounds.AsSpan(Planes * node, Planes);
+        Vector128<float> p = Vector128.LoadUnsafe(ref node, (nuint)(Lanes * plane));
+        return Avx.IsSupported ? Avx.ConvertToVector256Double(p) : Vector256.Create(Vector128.WidenLower(p), Vector128.WidenUpper(p));
+    }
+
+    /// <summary>The same slab tests one lane at a time, for hardware without 256-bit vectors, with the same operations in the same order.</summary>
+    private static int TestScalar(ref float node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
+    {
+        ReadOnlySpan<float> b = MemoryMarshal.CreateReadOnlySpan(ref node, Planes);
         int mask = 0;
         for (int lane = 0; lane < Lanes; lane++)
         {

@@ -26,15 +26,20 @@ public sealed class BvhTests
         return prims;
     }
 
-    [Fact]
-    public void Closest_hit_and_occlusion_equal_brute_force()
+    [Theory]
+    [InlineData(0.0)]
+    [InlineData(1e5 + (1.0 / 3))]
+    public void Closest_hit_and_occlusion_equal_brute_force(double offset)
     {
-        // The BVH is an acceleration only: the nearest hit must be the one a test of every primitive finds.
-        Primitive[] prims = RandomScene(400);
+        // The BVH is an acceleration only: the nearest hit must be the one a test of every
+        // primitive finds, exactly. The offset scene sits where single-precision boxes round by
+        // about 0.004 (1e5 is far from 0), so the rounding of the stored boxes is exercised.
+        var shift = new Vec3d(offset, -offset / 5, offset / 7);
+        Primitive[] prims = RandomScene(400).Select(p => Shift(p, shift)).ToArray();
         var bvh = new Bvh(prims);
         for (uint r = 0; r < 3000; r++)
         {
-            var origin = new Vec3d(U(2, r, 0) * 30 - 15, U(2, r, 1) * 30 - 15, U(2, r, 2) * 30 - 15);
+            var origin = shift + new Vec3d(U(2, r, 0) * 30 - 15, U(2, r, 1) * 30 - 15, U(2, r, 2) * 30 - 15);
             Vec3d dir = Warp.UniformSphere(U(2, r, 3), U(2, r, 4));
             // Every tenth ray is axis-aligned, to exercise zero direction components in the slab test.
             if (r % 10 == 0)
@@ -140,6 +145,108 @@ public sealed class BvhTests
             double limit = a ? h.T * (1 + (1e-9 * (r % 2))) : 1e3;
             Assert.Equal(reference.Occluded(ray, limit), wide.Occluded(ray, limit));
         }
+    }
+
+    [Fact]
+    public void Build_is_the_same_tree_for_any_thread_count()
+    {
+        // Determinism (issue 12): the parallel build must give the same tree on 1, 2 or 3
+        // threads. 40 000 primitives put the top levels above the parallel grain, so the larger
+        // counts really hand subtrees to other threads.
+        Primitive[] prims = RandomScene(40_000);
+        (BinnedSah.Node[] one, int[] orderOne) = BinnedSah.Build(prims, 4, 1);
+        List<BinnedSah.Node> reachable = Reachable(one);
+        foreach (int threads in new[] { 2, 3 })
+        {
+            (BinnedSah.Node[] many, int[] order) = BinnedSah.Build(prims, 4, threads);
+            Assert.Equal(orderOne, order);
+            List<BinnedSah.Node> other = Reachable(many);
+            Assert.Equal(reachable.Count, other.Count);
+            for (int i = 0; i < reachable.Count; i++)
+            {
+                Assert.True(Same(reachable[i], other[i]), $"{threads} threads: node {i} differs");
+            }
+        }
+
+        var wideOne = new Bvh(prims, 1);
+        var wideTwo = new Bvh(prims, 2);
+        Assert.Equal(wideOne.NodeCount, wideTwo.NodeCount);
+        Assert.Equal(wideOne.PrimitiveOrder, wideTwo.PrimitiveOrder);
+
+        static bool Same(BinnedSah.Node a, BinnedSah.Node b) =>
+            a.Min == b.Min && a.Max == b.Max && a.Start == b.Start && a.Count == b.Count && (a.Count > 0 || a.Axis == b.Axis);
+    }
+
+    [Fact]
+    public void Single_precision_boxes_contain_their_primitives_double_bounds()
+    {
+        // The float boxes are rounded outward, so each contains the double bounds of everything
+        // beneath it: a slab test on it cannot reject a ray that meets one of its primitives
+        // (the conservative-bounds argument of Ize 2013, "Robust BVH Ray Traversal", JCGT 2(2)).
+        // Coordinates of 1e5 + fractions are far from any float, so rounding happens on every box.
+        Primitive[] prims = RandomScene(3000).Select(p => Shift(p, new Vec3d(1e5 + 1.0 / 3, -2e4 - 1.0 / 7, 7.0 / 11))).ToArray();
+        (BinnedSah.Node[] nodes, int[] order) = BinnedSah.Build(prims, 4, 2);
+        int checkedBoxes = 0;
+        Check(0);
+        Assert.True(checkedBoxes >= prims.Length, "every primitive is checked against its leaf");
+
+        void Check(int slot)
+        {
+            BinnedSah.Node nd = nodes[slot];
+            if (nd.Count > 0)
+            {
+                for (int i = nd.Start; i < nd.Start + nd.Count; i++)
+                {
+                    (Vec3d lo, Vec3d hi) = prims[order[i]].Bounds();
+                    Assert.True(Inside(lo, hi, nd), $"primitive {order[i]} pokes out of its leaf box");
+                    checkedBoxes++;
+                }
+
+                return;
+            }
+
+            foreach (int child in new[] { slot + 1, nd.Start })
+            {
+                Assert.True(Inside(nodes[child].Min, nodes[child].Max, nd), $"child {child} pokes out of node {slot}");
+                Check(child);
+            }
+        }
+
+        static bool Inside(Vec3d lo, Vec3d hi, BinnedSah.Node box) =>
+            lo.X >= box.Min.X && lo.Y >= box.Min.Y && lo.Z >= box.Min.Z && hi.X <= box.Max.X && hi.Y <= box.Max.Y && hi.Z <= box.Max.Z;
+    }
+
+    private static Primitive Shift(Primitive p, Vec3d by)
+    {
+        p.A += by;
+        if (p.Kind == PrimitiveKind.Triangle)
+        {
+            p.B += by;
+            p.C += by;
+        }
+
+        return p;
+    }
+
+    /// <summary>The nodes reachable from the root, depth first (left, then right): what a walk can see, whatever the unused slots hold.</summary>
+    private static List<BinnedSah.Node> Reachable(BinnedSah.Node[] nodes)
+    {
+        var list = new List<BinnedSah.Node>();
+        var stack = new Stack<int>();
+        stack.Push(0);
+        while (stack.Count > 0)
+        {
+            int slot = stack.Pop();
+            BinnedSah.Node nd = nodes[slot];
+            list.Add(nd);
+            if (nd.Count == 0)
+            {
+                stack.Push(nd.Start);
+                stack.Push(slot + 1);
+            }
+        }
+
+        return list;
     }
 
     [Fact]

@@ -1,5 +1,6 @@
 using System.Diagnostics;
 using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
@@ -209,36 +210,53 @@ public static class ThroughputBench
     }
 
     /// <summary>
-    /// The share of a one-thread frame spent in the sampler: the frame is rendered once through a
-    /// recording sampler that notes every call the path tracer makes (pixel, index, dimension,
-    /// one or two coordinates), then the same calls are replayed against the sampler alone and
-    /// timed; the frame itself is timed without the recorder.
+    /// The share of a one-thread frame spent making sample points, timed directly: the frame is rendered
+    /// once through a recorder that notes, in order, every block the renderer starts, every sample it
+    /// takes from the block and every coordinate it asks for (two bytes each); then exactly those requests
+    /// are replayed against a fresh <see cref="SampleCache"/> of the same sampler, through the same code the
+    /// renderer runs (block fills by the sampler's batch methods, then loads), and timed. The frame itself
+    /// is timed without the recorder. The replay time includes reading the recorded requests, so the
+    /// share is an upper bound; what it leaves out is the cache misses the renderer's own data cause.
     /// </summary>
     private static SamplerShare Share(Scene scene, string generator, string randomize, int spp, int repeats)
     {
         PointSampler sampler = CreateSampler(generator, randomize, spp);
-        var recorder = new RecordingSampler(sampler);
-        Renderer.Render(new RenderJob(scene, recorder, Options, 0, spp, 1));
-        SampleCall[] calls = recorder.Calls.ToArray();
-        double frame = Best(repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, spp, 1)));
-        double replay = Best(repeats, () => Replay(sampler, calls));
-        return new SamplerShare(generator, randomize, calls.Length, frame, replay);
+        int dims = DimensionLayout.Total(Options.MaxDepth);
+        var job = new RenderJob(scene, sampler, Options, 0, spp, 1);
+        var recording = new Recording();
+        var film = new Film(scene.Camera.Width, scene.Camera.Height);
+        Renderer.RenderTiles<RecordingSource, RecordingStream>(job, film, () => new RecordingSource(new SampleCache(sampler, dims), recording), null, default);
+        double frame = Best(repeats, () => Renderer.Render(job));
+        double replay = Best(repeats, () => Replay(new SampleCache(sampler, dims), recording));
+        return new SamplerShare(generator, randomize, recording.Coordinates, frame, replay);
     }
 
-    private static double Replay(PointSampler sampler, SampleCall[] calls)
+    private static double Replay(SampleCache cache, Recording recording)
     {
         double sum = 0;
-        foreach (SampleCall c in calls)
+        int block = 0;
+        CachedSampleStream stream = default;
+        ReadOnlySpan<ushort> codes = CollectionsMarshal.AsSpan(recording.Codes);
+        ReadOnlySpan<(ulong Pixel, uint First, int Count)> blocks = CollectionsMarshal.AsSpan(recording.Blocks);
+        foreach (ushort code in codes)
         {
-            var stream = new SampleStream(sampler, c.Pixel, c.Index);
-            if (c.Pair)
+            if (code == Recording.NewBlock)
             {
-                (double x, double y) = stream.Get2D(c.Dimension);
+                (ulong pixel, uint first, int count) = blocks[block++];
+                cache.BeginBlock(pixel, first, count);
+            }
+            else if ((code & Recording.NewSample) != 0)
+            {
+                stream = cache.Stream(code & ~Recording.NewSample);
+            }
+            else if ((code & 1) != 0)
+            {
+                (double x, double y) = stream.Get2D(code >> 1);
                 sum += x + y;
             }
             else
             {
-                sum += stream.Get(c.Dimension);
+                sum += stream.Get(code >> 1);
             }
         }
 
@@ -260,25 +278,60 @@ public static class ThroughputBench
 
     private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
 
-    private readonly record struct SampleCall(ulong Pixel, uint Index, int Dimension, bool Pair);
-
-    /// <summary>Passes every call to the sampler it wraps (through <see cref="SampleStream"/>, padding included) and notes it. One thread only.</summary>
-    private sealed class RecordingSampler(PointSampler inner) : PointSampler(inner.Spec)
+    /// <summary>The renderer's requests in order, two bytes each: a block start, a sample of the block, or one coordinate (dimension × 2, + 1 for a pair).</summary>
+    private sealed class Recording
     {
-        public List<SampleCall> Calls { get; } = new(1 << 20);
+        public const ushort NewBlock = 0xFFFF;
+        public const int NewSample = 0x8000;
 
-        public override int MaxDimensions => int.MaxValue;
+        public List<ushort> Codes { get; } = new(1 << 22);
 
-        public override double Sample(ulong pixel, uint index, int dimension)
+        public List<(ulong Pixel, uint First, int Count)> Blocks { get; } = new(1 << 16);
+
+        /// <summary>Coordinate requests (one per single coordinate or pair).</summary>
+        public long Coordinates { get; set; }
+
+        public void Add(int dimension, bool pair)
         {
-            Calls.Add(new SampleCall(pixel, index, dimension, false));
-            return new SampleStream(inner, pixel, index).Get(dimension);
+            if (dimension >= NewSample / 2 - 1)
+            {
+                throw new InvalidOperationException($"dimension {dimension} does not fit the recording's codes");
+            }
+
+            Codes.Add((ushort)(2 * dimension + (pair ? 1 : 0)));
+            Coordinates++;
+        }
+    }
+
+    /// <summary>The renderer's cache source, noting every request. One thread only.</summary>
+    private readonly struct RecordingSource(SampleCache cache, Recording recording) : IStreamSource<RecordingStream>
+    {
+        public void BeginBlock(ulong pixel, uint first, int count)
+        {
+            recording.Codes.Add(Recording.NewBlock);
+            recording.Blocks.Add((pixel, first, count));
+            cache.BeginBlock(pixel, first, count);
         }
 
-        public override (double X, double Y) Sample2D(ulong pixel, uint index, int dimension)
+        public RecordingStream Stream(int slot)
         {
-            Calls.Add(new SampleCall(pixel, index, dimension, true));
-            return new SampleStream(inner, pixel, index).Get2D(dimension);
+            recording.Codes.Add((ushort)(Recording.NewSample | slot));
+            return new RecordingStream(cache.Stream(slot), recording);
+        }
+    }
+
+    private readonly struct RecordingStream(CachedSampleStream inner, Recording recording) : ISampleStream
+    {
+        public double Get(int dimension)
+        {
+            recording.Add(dimension, false);
+            return inner.Get(dimension);
+        }
+
+        public (double X, double Y) Get2D(int dimension)
+        {
+            recording.Add(dimension, true);
+            return inner.Get2D(dimension);
         }
     }
 }

@@ -56,14 +56,33 @@ public abstract class PointSampler
     /// </summary>
     public virtual void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
-        if (xs.Length != ys.Length)
-        {
-            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
-        }
-
+        RequireSameLength(xs, ys);
         for (int i = 0; i < xs.Length; i++)
         {
             (xs[i], ys[i]) = Sample2D(pixel, firstIndex + (uint)i, dimension);
+        }
+    }
+
+    /// <summary>
+    /// Dimension <paramref name="dimension"/> of the consecutive points <paramref name="firstIndex"/>,
+    /// <paramref name="firstIndex"/>+1, …, one per element of <paramref name="xs"/>: the same values as
+    /// <see cref="Sample"/>, for callers that want many at once. Generators override it to compute a
+    /// dimension's per-pixel seeds once per batch instead of once per point.
+    /// </summary>
+    public virtual void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = Sample(pixel, firstIndex + (uint)i, dimension);
+        }
+    }
+
+    /// <summary>Throws unless the two coordinate buffers of a pair batch have the same length.</summary>
+    protected static void RequireSameLength(Span<double> xs, Span<double> ys)
+    {
+        if (xs.Length != ys.Length)
+        {
+            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
         }
     }
 

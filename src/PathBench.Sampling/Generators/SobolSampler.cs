@@ -66,11 +66,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             return;
         }
 
-        if (xs.Length != ys.Length)
-        {
-            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
-        }
-
+        RequireSameLength(xs, ys);
         ulong seeds = PairSeeds(pixel, dimension);
         int done = OwenSobolBatch.Run(
             _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),

@@ -1,6 +1,5 @@
 using System.Diagnostics;
 using System.Runtime.CompilerServices;
-using System.Runtime.InteropServices;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
@@ -28,7 +27,13 @@ public sealed record RenderThroughput(long Samples, long Rays, double SamplesPer
 }
 
 /// <summary>The share of a one-thread frame spent making sample points, for one generator × randomization.</summary>
-public sealed record SamplerShare(string Generator, string Randomize, long Calls, double FrameSeconds, double SamplerSeconds)
+/// <param name="Generator">Generator name.</param>
+/// <param name="Randomize">Randomization name.</param>
+/// <param name="Calls">Batches the renderer asked of the sampler (one dimension or pair, for the rest of a block of samples).</param>
+/// <param name="Coordinates">Coordinates those batches made.</param>
+/// <param name="FrameSeconds">Time of the one-thread frame.</param>
+/// <param name="SamplerSeconds">Time of the same batches replayed against the sampler alone.</param>
+public sealed record SamplerShare(string Generator, string Randomize, long Calls, long Coordinates, double FrameSeconds, double SamplerSeconds)
 {
     /// <summary>Sampler time over frame time.</summary>
     public double Fraction => SamplerSeconds / FrameSeconds;
@@ -211,53 +216,52 @@ public static class ThroughputBench
 
     /// <summary>
     /// The share of a one-thread frame spent making sample points, timed directly: the frame is rendered
-    /// once through a recorder that notes, in order, every block the renderer starts, every sample it
-    /// takes from the block and every coordinate it asks for (two bytes each); then exactly those requests
-    /// are replayed against a fresh <see cref="SampleCache"/> of the same sampler, through the same code the
-    /// renderer runs (block fills by the sampler's batch methods, then loads), and timed. The frame itself
-    /// is timed without the recorder. The replay time includes reading the recorded requests, so the
-    /// share is an upper bound; what it leaves out is the cache misses the renderer's own data cause.
+    /// once with its thread's <see cref="SampleCache"/> noting every batch it asks of the sampler (the
+    /// sampler's only work in a render); exactly those batches are then replayed against the sampler,
+    /// into a buffer, and timed. The frame itself is timed without the recorder. The coordinates' reads
+    /// from the cache (a compare and a load each, inline in the path tracer) count as the tracer's time.
     /// </summary>
     private static SamplerShare Share(Scene scene, string generator, string randomize, int spp, int repeats)
     {
         PointSampler sampler = CreateSampler(generator, randomize, spp);
-        int dims = DimensionLayout.Total(Options.MaxDepth);
         var job = new RenderJob(scene, sampler, Options, 0, spp, 1);
-        var recording = new Recording();
-        var film = new Film(scene.Camera.Width, scene.Camera.Height);
-        Renderer.RenderTiles<RecordingSource, RecordingStream>(job, film, () => new RecordingSource(new SampleCache(sampler, dims), recording), null, default);
+        var calls = new List<SampleBatchCall>(1 << 18);
+        var cache = new SampleCache(sampler, DimensionLayout.Total(Options.MaxDepth)) { Recorder = calls };
+        Renderer.RenderTiles<CacheSource, CachedSampleStream>(job, new Film(scene.Camera.Width, scene.Camera.Height), () => new CacheSource(cache), null, default);
+        cache.Recorder = null;
+        SampleBatchCall[] batches = calls.ToArray();
         double frame = Best(repeats, () => Renderer.Render(job));
-        double replay = Best(repeats, () => Replay(new SampleCache(sampler, dims), recording));
-        return new SamplerShare(generator, randomize, recording.Coordinates, frame, replay);
+        double replay = Best(repeats, () => Replay(sampler, batches));
+        return new SamplerShare(generator, randomize, batches.Length, batches.Sum(c => (long)c.Count * (c.Pair ? 2 : 1)), frame, replay);
     }
 
-    private static double Replay(SampleCache cache, Recording recording)
+    private static double Replay(PointSampler sampler, SampleBatchCall[] batches)
     {
+        Span<double> xs = stackalloc double[SampleCache.BlockSize];
+        Span<double> ys = stackalloc double[SampleCache.BlockSize];
+        int limit = sampler.MaxDimensions;
         double sum = 0;
-        int block = 0;
-        CachedSampleStream stream = default;
-        ReadOnlySpan<ushort> codes = CollectionsMarshal.AsSpan(recording.Codes);
-        ReadOnlySpan<(ulong Pixel, uint First, int Count)> blocks = CollectionsMarshal.AsSpan(recording.Blocks);
-        foreach (ushort code in codes)
+        foreach (SampleBatchCall c in batches)
         {
-            if (code == Recording.NewBlock)
+            Span<double> x = xs[..c.Count], y = ys[..c.Count];
+            if (c.Dimension >= limit)
             {
-                (ulong pixel, uint first, int count) = blocks[block++];
-                cache.BeginBlock(pixel, first, count);
+                for (int i = 0; i < x.Length; i++)
+                {
+                    x[i] = SampleStream.Padding(c.Pixel, c.First + (uint)i, c.Dimension);
+                }
             }
-            else if ((code & Recording.NewSample) != 0)
+            else if (c.Pair)
             {
-                stream = cache.Stream(code & ~Recording.NewSample);
-            }
-            else if ((code & 1) != 0)
-            {
-                (double x, double y) = stream.Get2D(code >> 1);
-                sum += x + y;
+                sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y);
+                sum += y[0];
             }
             else
             {
-                sum += stream.Get(code >> 1);
+                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x);
             }
+
+            sum += x[0];
         }
 
         return sum;
@@ -277,61 +281,4 @@ public static class ThroughputBench
     }
 
     private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
-
-    /// <summary>The renderer's requests in order, two bytes each: a block start, a sample of the block, or one coordinate (dimension × 2, + 1 for a pair).</summary>
-    private sealed class Recording
-    {
-        public const ushort NewBlock = 0xFFFF;
-        public const int NewSample = 0x8000;
-
-        public List<ushort> Codes { get; } = new(1 << 22);
-
-        public List<(ulong Pixel, uint First, int Count)> Blocks { get; } = new(1 << 16);
-
-        /// <summary>Coordinate requests (one per single coordinate or pair).</summary>
-        public long Coordinates { get; set; }
-
-        public void Add(int dimension, bool pair)
-        {
-            if (dimension >= NewSample / 2 - 1)
-            {
-                throw new InvalidOperationException($"dimension {dimension} does not fit the recording's codes");
-            }
-
-            Codes.Add((ushort)(2 * dimension + (pair ? 1 : 0)));
-            Coordinates++;
-        }
-    }
-
-    /// <summary>The renderer's cache source, noting every request. One thread only.</summary>
-    private readonly struct RecordingSource(SampleCache cache, Recording recording) : IStreamSource<RecordingStream>
-    {
-        public void BeginBlock(ulong pixel, uint first, int count)
-        {
-            recording.Codes.Add(Recording.NewBlock);
-            recording.Blocks.Add((pixel, first, count));
-            cache.BeginBlock(pixel, first, count);
-        }
-
-        public RecordingStream Stream(int slot)
-        {
-            recording.Codes.Add((ushort)(Recording.NewSample | slot));
-            return new RecordingStream(cache.Stream(slot), recording);
-        }
-    }
-
-    private readonly struct RecordingStream(CachedSampleStream inner, Recording recording) : ISampleStream
-    {
-        public double Get(int dimension)
-        {
-            recording.Add(dimension, false);
-            return inner.Get(dimension);
-        }
-
-        public (double X, double Y) Get2D(int dimension)
-        {
-            recording.Add(dimension, true);
-            return inner.Get2D(dimension);
-        }
-    }
 }

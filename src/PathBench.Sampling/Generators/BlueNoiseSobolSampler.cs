@@ -106,6 +106,49 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         return (Tabled(reversedIndex, dimension, sx), Tabled(reversedIndex, dimension + 1, sy));
     }
 
+    /// <inheritdoc/>
+    /// <remarks>The dimension's seed (from the tile or the padding hash) is looked up once per batch.</remarks>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        if (dimension >= TabledDimensions)
+        {
+            uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
+            for (int i = 0; i < xs.Length; i++)
+            {
+                xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
+            }
+
+            return;
+        }
+
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_table.Word(dimension >> 1, (int)(pixel & 0xFFF)));
+        uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = Tabled(BitReversal.Reverse(firstIndex + (uint)i), dimension, pixelSeed);
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if ((dimension & 1) != 0 || dimension >= TabledDimensions)
+        {
+            // Sample2D is two single coordinates here.
+            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        RequireSameLength(xs, ys);
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_table.Word(dimension >> 1, (int)(pixel & 0xFFF)));
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint reversedIndex = BitReversal.Reverse(firstIndex + (uint)i);
+            xs[i] = Tabled(reversedIndex, dimension, sx);
+            ys[i] = Tabled(reversedIndex, dimension + 1, sy);
+        }
+    }
+
     private double Tabled(uint reversedIndex, int dimension, uint pixelSeed) =>
         ToUnit(ScrambledReversed(_matrices, reversedIndex, dimension, pixelSeed, _scrambleCommon ? _common[dimension] : null));
 

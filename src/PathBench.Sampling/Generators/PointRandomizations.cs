@@ -24,8 +24,9 @@ public static class PointRandomizations
     /// <summary><paramref name="x"/> shifted by <paramref name="offset"/> (from <see cref="RotationOffset"/>) on the torus [0, 1).</summary>
     public static double Rotate(double x, double offset)
     {
+        // s − 1 or s − 0 (exact, the same bits as s): a flag rather than a branch, which points would mispredict half the time.
         double s = x + offset;
-        return s >= 1.0 ? s - 1.0 : s;
+        return s - (s >= 1.0 ? 1 : 0);
     }
 
     /// <summary>

@@ -40,7 +40,10 @@ public sealed class Camera
         return new Camera(c.Position, c.LookAt, c.Up, c.FovDegrees, c.Width, c.Height, c.ApertureRadius, c.FocusDistance);
     }
 
-    /// <summary>The primary ray through film position (x, y) in pixels, lens sample (lu, lv).</summary>
+    /// <summary>Whether the camera has a thin lens (a positive aperture): a pinhole camera ignores the lens sample.</summary>
+    public bool HasLens => _aperture > 0;
+
+    /// <summary>The primary ray through film position (x, y) in pixels, lens sample (lu, lv) (ignored without <see cref="HasLens"/>).</summary>
     public Ray Generate(double x, double y, double lu, double lv)
     {
         double px = (2 * x / Width - 1) * _tanHalf * _aspect;

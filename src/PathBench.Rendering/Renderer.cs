@@ -62,15 +62,32 @@ public static class Renderer
             throw new ArgumentException($"a {film.Width}×{film.Height} film cannot take a {camera.Width}×{camera.Height} render", nameof(film));
         }
 
+        SampleCache PerThread() => new(job.Sampler, DimensionLayout.Total(job.Options.MaxDepth));
+        return RenderTiles<CacheSource, CachedSampleStream>(job, film, () => new CacheSource(PerThread()), progress, cancel);
+    }
+
+    /// <summary>
+    /// The tile loop, generic over where a thread's sample streams come from (the JIT specialises it
+    /// per struct type, so the path tracer's coordinate calls inline): each pixel's samples run in
+    /// blocks of <see cref="SampleCache.BlockSize"/>, so a source can make a dimension for a whole block at once.
+    /// </summary>
+    internal static RenderResult RenderTiles<TSource, TStream>(RenderJob job, Film film, Func<TSource> perThread, Action<int, int>? progress, CancellationToken cancel)
+        where TSource : struct, IStreamSource<TStream>
+        where TStream : struct, ISampleStream
+    {
+        Camera camera = job.Scene.Camera;
         int tilesX = (camera.Width + TileSize - 1) / TileSize;
         int tilesY = (camera.Height + TileSize - 1) / TileSize;
         int tiles = tilesX * tilesY;
         var tracer = new PathTracer(job.Scene, job.Options);
+        // A pinhole camera ignores the lens pair: it is not drawn. The layout keeps dimensions 2–3
+        // for the lens all the same, so every later dimension, and every image, is unchanged.
+        bool lens = camera.HasLens;
         long rays = 0, nonFinite = 0;
         int done = 0;
         var clock = Stopwatch.StartNew();
         var parallel = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, job.Threads), CancellationToken = cancel };
-        Parallel.For(0, tiles, parallel, tile =>
+        Parallel.For(0, tiles, parallel, perThread, (tile, _, source) =>
         {
             int x0 = tile % tilesX * TileSize, y0 = tile / tilesX * TileSize;
             int x1 = Math.Min(x0 + TileSize, camera.Width), y1 = Math.Min(y0 + TileSize, camera.Height);
@@ -81,13 +98,20 @@ public static class Renderer
                 {
                     var acc = new PixelAccumulator();
                     ulong key = job.Sampler.PixelKey(x, y);
-                    for (int s = job.FirstSample; s < job.EndSample; s++)
+                    for (int s = job.FirstSample; s < job.EndSample;)
                     {
-                        var stream = new SampleStream(job.Sampler, key, (uint)s);
-                        (double fx, double fy) = stream.Get2D(DimensionLayout.Pixel);
-                        (double lu, double lv) = stream.Get2D(DimensionLayout.Lens);
-                        var ray = camera.Generate(x + fx, y + fy, lu, lv);
-                        acc.Add(tracer.Radiance(ray, stream, ref tileRays));
+                        int n = Math.Min(SampleCache.BlockSize, job.EndSample - s);
+                        source.BeginBlock(key, (uint)s, n);
+                        for (int j = 0; j < n; j++)
+                        {
+                            TStream stream = source.Stream(j);
+                            (double fx, double fy) = stream.Get2D(DimensionLayout.Pixel);
+                            (double lu, double lv) = lens ? stream.Get2D(DimensionLayout.Lens) : (0.5, 0.5);
+                            var ray = camera.Generate(x + fx, y + fy, lu, lv);
+                            acc.Add(tracer.Radiance(ray, stream, ref tileRays));
+                        }
+
+                        s += n;
                     }
 
                     // Each pixel belongs to one tile and so to one thread: no locking.
@@ -99,9 +123,29 @@ public static class Renderer
             Interlocked.Add(ref rays, tileRays);
             Interlocked.Add(ref nonFinite, tileNonFinite);
             progress?.Invoke(Interlocked.Increment(ref done), tiles);
-        });
+            return source;
+        }, _ => { });
 
         film.AddDropped(nonFinite);
         return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
     }
+}
+
+/// <summary>Where one thread's sample streams come from: blocks of consecutive samples of one pixel.</summary>
+internal interface IStreamSource<TStream>
+    where TStream : struct, ISampleStream
+{
+    /// <summary>Starts samples [<paramref name="first"/>, <paramref name="first"/> + <paramref name="count"/>) of the pixel with key <paramref name="pixel"/>.</summary>
+    void BeginBlock(ulong pixel, uint first, int count);
+
+    /// <summary>The stream of sample <c>first + slot</c>.</summary>
+    TStream Stream(int slot);
+}
+
+/// <summary>The renderer's source: a thread's <see cref="SampleCache"/> (a struct wrapper, so the tile loop specialises on it).</summary>
+internal readonly struct CacheSource(SampleCache cache) : IStreamSource<CachedSampleStream>
+{
+    public void BeginBlock(ulong pixel, uint first, int count) => cache.BeginBlock(pixel, first, count);
+
+    public CachedSampleStream Stream(int slot) => cache.Stream(slot);
 }

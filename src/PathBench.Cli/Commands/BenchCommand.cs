@@ -89,6 +89,7 @@ internal static class BenchCommand
                 w.WriteString("generator", s.Generator);
                 w.WriteString("randomize", s.Randomize);
                 w.WriteNumber("calls", s.Calls);
+                w.WriteNumber("coordinates", s.Coordinates);
                 w.Number("frame_seconds", s.FrameSeconds);
                 w.Number("sampler_seconds", s.SamplerSeconds);
                 w.Number("fraction_of_frame", s.Fraction);

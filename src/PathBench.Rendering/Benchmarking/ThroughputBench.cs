@@ -27,7 +27,13 @@ public sealed record RenderThroughput(long Samples, long Rays, double SamplesPer
 }
 
 /// <summary>The share of a one-thread frame spent making sample points, for one generator × randomization.</summary>
-public sealed record SamplerShare(string Generator, string Randomize, long Calls, double FrameSeconds, double SamplerSeconds)
+/// <param name="Generator">Generator name.</param>
+/// <param name="Randomize">Randomization name.</param>
+/// <param name="Calls">Batches the renderer asked of the sampler (one dimension or pair, for the rest of a block of samples).</param>
+/// <param name="Coordinates">Coordinates those batches made.</param>
+/// <param name="FrameSeconds">Time of the one-thread frame.</param>
+/// <param name="SamplerSeconds">Time of the same batches replayed against the sampler alone.</param>
+public sealed record SamplerShare(string Generator, string Randomize, long Calls, long Coordinates, double FrameSeconds, double SamplerSeconds)
 {
     /// <summary>Sampler time over frame time.</summary>
     public double Fraction => SamplerSeconds / FrameSeconds;
@@ -215,37 +221,53 @@ public static class ThroughputBench
     }
 
     /// <summary>
-    /// The share of a one-thread frame spent in the sampler: the frame is rendered once through a
-    /// recording sampler that notes every call the path tracer makes (pixel, index, dimension,
-    /// one or two coordinates), then the same calls are replayed against the sampler alone and
-    /// timed; the frame itself is timed without the recorder.
+    /// The share of a one-thread frame spent making sample points, timed directly: the frame is rendered
+    /// once with its thread's <see cref="SampleCache"/> noting every batch it asks of the sampler (the
+    /// sampler's only work in a render); exactly those batches are then replayed against the sampler,
+    /// into a buffer, and timed. The frame itself is timed without the recorder. The coordinates' reads
+    /// from the cache (a compare and a load each, inline in the path tracer) count as the tracer's time.
     /// </summary>
     private static SamplerShare Share(Scene scene, string generator, string randomize, int spp, int repeats)
     {
         PointSampler sampler = CreateSampler(generator, randomize, spp);
-        var recorder = new RecordingSampler(sampler);
-        Renderer.Render(new RenderJob(scene, recorder, Options, 0, spp, 1));
-        SampleCall[] calls = recorder.Calls.ToArray();
-        double frame = Best(repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, spp, 1)));
-        double replay = Best(repeats, () => Replay(sampler, calls));
-        return new SamplerShare(generator, randomize, calls.Length, frame, replay);
+        var job = new RenderJob(scene, sampler, Options, 0, spp, 1);
+        var calls = new List<SampleBatchCall>(1 << 18);
+        var cache = new SampleCache(sampler, DimensionLayout.Total(Options.MaxDepth)) { Recorder = calls };
+        Renderer.RenderTiles<CacheSource, CachedSampleStream>(job, new Film(scene.Camera.Width, scene.Camera.Height), () => new CacheSource(cache), null, default);
+        cache.Recorder = null;
+        SampleBatchCall[] batches = calls.ToArray();
+        double frame = Best(repeats, () => Renderer.Render(job));
+        double replay = Best(repeats, () => Replay(sampler, batches));
+        return new SamplerShare(generator, randomize, batches.Length, batches.Sum(c => (long)c.Count * (c.Pair ? 2 : 1)), frame, replay);
     }
 
-    private static double Replay(PointSampler sampler, SampleCall[] calls)
+    private static double Replay(PointSampler sampler, SampleBatchCall[] batches)
     {
+        Span<double> xs = stackalloc double[SampleCache.BlockSize];
+        Span<double> ys = stackalloc double[SampleCache.BlockSize];
+        int limit = sampler.MaxDimensions;
         double sum = 0;
-        foreach (SampleCall c in calls)
+        foreach (SampleBatchCall c in batches)
         {
-            var stream = new SampleStream(sampler, c.Pixel, c.Index);
-            if (c.Pair)
+            Span<double> x = xs[..c.Count], y = ys[..c.Count];
+            if (c.Dimension >= limit)
             {
-                (double x, double y) = stream.Get2D(c.Dimension);
-                sum += x + y;
+                for (int i = 0; i < x.Length; i++)
+                {
+                    x[i] = SampleStream.Padding(c.Pixel, c.First + (uint)i, c.Dimension);
+                }
+            }
+            else if (c.Pair)
+            {
+                sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y);
+                sum += y[0];
             }
             else
             {
-                sum += stream.Get(c.Dimension);
+                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x);
             }
+
+            sum += x[0];
         }
 
         return sum;
@@ -265,26 +287,4 @@ public static class ThroughputBench
     }
 
     private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
-
-    private readonly record struct SampleCall(ulong Pixel, uint Index, int Dimension, bool Pair);
-
-    /// <summary>Passes every call to the sampler it wraps (through <see cref="SampleStream"/>, padding included) and notes it. One thread only.</summary>
-    private sealed class RecordingSampler(PointSampler inner) : PointSampler(inner.Spec)
-    {
-        public List<SampleCall> Calls { get; } = new(1 << 20);
-
-        public override int MaxDimensions => int.MaxValue;
-
-        public override double Sample(ulong pixel, uint index, int dimension)
-        {
-            Calls.Add(new SampleCall(pixel, index, dimension, false));
-            return new SampleStream(inner, pixel, index).Get(dimension);
-        }
-
-        public override (double X, double Y) Sample2D(ulong pixel, uint index, int dimension)
-        {
-            Calls.Add(new SampleCall(pixel, index, dimension, true));
-            return new SampleStream(inner, pixel, index).Get2D(dimension);
-        }
-    }
 }

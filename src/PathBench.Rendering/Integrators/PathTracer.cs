@@ -70,8 +70,10 @@ public static class DimensionLayout
 /// One pixel sample's stream of numbers: the generator's coordinates up to its dimension limit,
 /// then independent hash values (padding), so any generator serves any path length.
 /// </summary>
-public readonly struct SampleStream
+public readonly struct SampleStream : ISampleStream
 {
+    private const ulong PaddingSalt = 0x50414444494E4700UL;
+
     private readonly PointSampler _sampler;
     private readonly ulong _pixel;
     private readonly uint _index;
@@ -87,11 +89,14 @@ public readonly struct SampleStream
         _limit = sampler.MaxDimensions;
     }
 
-    /// <summary>Coordinate <paramref name="dimension"/> of this sample.</summary>
-    public double Get(int dimension) =>
-        dimension < _limit ? _sampler.Sample(_pixel, _index, dimension) : SampleHash.Uniform(_pixel ^ 0x50414444494E4700UL, _index, dimension);
+    /// <summary>The padding value of dimension <paramref name="dimension"/> (at or past the generator's limit) of sample <paramref name="index"/>.</summary>
+    public static double Padding(ulong pixel, uint index, int dimension) => SampleHash.Uniform(pixel ^ PaddingSalt, index, dimension);
 
-    /// <summary>Dimensions <paramref name="dimension"/> and the next.</summary>
+    /// <inheritdoc/>
+    public double Get(int dimension) =>
+        dimension < _limit ? _sampler.Sample(_pixel, _index, dimension) : Padding(_pixel, _index, dimension);
+
+    /// <inheritdoc/>
     public (double X, double Y) Get2D(int dimension) =>
         dimension + 1 < _limit ? _sampler.Sample2D(_pixel, _index, dimension) : (Get(dimension), Get(dimension + 1));
 }
@@ -104,7 +109,9 @@ public readonly struct SampleStream
 public sealed class PathTracer(Scene scene, PathTracerOptions options)
 {
     /// <summary>Radiance along the camera ray of one sample; <paramref name="rays"/> counts every ray traced.</summary>
-    public Rgb Radiance(Ray ray, in SampleStream stream, ref long rays)
+    /// <remarks>Generic over the stream so the JIT compiles one copy per stream type and inlines its calls.</remarks>
+    public Rgb Radiance<TStream>(Ray ray, TStream stream, ref long rays)
+        where TStream : struct, ISampleStream
     {
         Rgb l = Rgb.Black;
         Rgb beta = Rgb.Grey(1);

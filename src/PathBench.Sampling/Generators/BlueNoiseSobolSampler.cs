@@ -132,6 +132,53 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         return (Tabled(reversedIndex, dimension, sx), Tabled(reversedIndex, dimension + 1, sy));
     }
 
+    /// <inheritdoc/>
+    /// <remarks>The dimension's seed and block (from the tile through the ranking table, or the padding hash) are looked up once per batch.</remarks>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        if (dimension >= TabledDimensions)
+        {
+            uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
+            for (int i = 0; i < xs.Length; i++)
+            {
+                xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
+            }
+
+            return;
+        }
+
+        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
+        uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
+        uint block = _blocks[entry];
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = Tabled(BitReversal.Reverse((firstIndex + (uint)i) ^ block), dimension, pixelSeed);
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if ((dimension & 1) != 0 || dimension >= TabledDimensions)
+        {
+            // Sample2D is two single coordinates here.
+            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        RequireSameLength(xs, ys);
+        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
+        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
+        uint block = _blocks[entry];
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);
+            xs[i] = Tabled(reversedIndex, dimension, sx);
+            ys[i] = Tabled(reversedIndex, dimension + 1, sy);
+        }
+    }
+
     private double Tabled(uint reversedIndex, int dimension, uint pixelSeed) =>
         ToUnit(ScrambledReversed(_matrices, reversedIndex, dimension, pixelSeed, _scrambleCommon ? _common[dimension] : null));
 

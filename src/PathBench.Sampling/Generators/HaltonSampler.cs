@@ -27,6 +27,37 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
                 return RadicalInverse.Plain(index, b);
         }
     }
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        int b = RadicalInverse.Primes[dimension];
+        switch (Spec.Randomize)
+        {
+            case Randomization.DigitPermutation:
+                RadicalInverse.PermutedBatch(firstIndex, b, SampleHash.Combine(pixel ^ Salts.DigitPermutation, (ulong)dimension), xs);
+                return;
+            case Randomization.CranleyPatterson:
+                double offset = PointRandomizations.RotationOffset(pixel, dimension);
+                for (int i = 0; i < xs.Length; i++)
+                {
+                    xs[i] = PointRandomizations.Rotate(RadicalInverse.Plain(firstIndex + (uint)i, b), offset);
+                }
+
+                return;
+            default:
+                for (int i = 0; i < xs.Length; i++)
+                {
+                    xs[i] = RadicalInverse.Plain(firstIndex + (uint)i, b);
+                }
+
+                return;
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+        PairBySingles(pixel, firstIndex, dimension, xs, ys);
 }
 
 /// <summary>
@@ -44,6 +75,24 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
         double x = dimension == 0 ? (double)index / Count : RadicalInverse.Plain(index, RadicalInverse.Primes[dimension - 1]);
         return Spec.Randomize == Randomization.CranleyPatterson ? Rotation.Apply(x, pixel, dimension) : x;
     }
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        double offset = PointRandomizations.RotationOffset(pixel, dimension);
+        bool rotate = Spec.Randomize == Randomization.CranleyPatterson;
+        int b = dimension == 0 ? 0 : RadicalInverse.Primes[dimension - 1];
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = firstIndex + (uint)i;
+            double x = dimension == 0 ? (double)index / Count : RadicalInverse.Plain(index, b);
+            xs[i] = rotate ? PointRandomizations.Rotate(x, offset) : x;
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+        PairBySingles(pixel, firstIndex, dimension, xs, ys);
 }
 
 /// <summary>The Cranley–Patterson (1976) rotation: a random toroidal shift, one offset per pixel and dimension.</summary>

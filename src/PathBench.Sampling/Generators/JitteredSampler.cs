@@ -19,9 +19,45 @@ public sealed class JitteredSampler : PointSampler
     public override int MaxDimensions => int.MaxValue;
 
     /// <inheritdoc/>
-    public override double Sample(ulong pixel, uint index, int dimension)
+    public override double Sample(ulong pixel, uint index, int dimension) =>
+        Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
-        uint cell = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1)));
+        uint seed = PairSeed(pixel, dimension);
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = firstIndex + (uint)i;
+            xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if ((dimension & 1) != 0)
+        {
+            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        // An even-aligned pair shares its cell: one permutation per point for both coordinates.
+        RequireSameLength(xs, ys);
+        uint seed = PairSeed(pixel, dimension);
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = firstIndex + (uint)i;
+            uint cell = KenslerPermutation.Permute(index, (uint)Count, seed);
+            xs[i] = Coordinate(pixel, index, dimension, cell);
+            ys[i] = Coordinate(pixel, index, dimension + 1, cell);
+        }
+    }
+
+    private static uint PairSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1));
+
+    private double Coordinate(ulong pixel, uint index, int dimension, uint cell)
+    {
         double jitter = SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension);
         double x = (dimension & 1) == 0
             ? (cell % (uint)_grid.Columns + jitter) / _grid.Columns

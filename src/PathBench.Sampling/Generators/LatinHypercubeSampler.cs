@@ -18,4 +18,20 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
         return UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
     }
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = firstIndex + (uint)i;
+            uint stratum = KenslerPermutation.Permute(index, (uint)Count, seed);
+            xs[i] = UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+        PairBySingles(pixel, firstIndex, dimension, xs, ys);
 }

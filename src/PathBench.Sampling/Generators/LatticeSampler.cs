@@ -36,4 +36,21 @@ public sealed class LatticeSampler : PointSampler
         double x = (double)((ulong)index * (uint)_z[dimension] % (uint)Count) / Count;
         return Spec.Randomize == Randomization.CranleyPatterson ? Rotation.Apply(x, pixel, dimension) : x;
     }
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        bool rotate = Spec.Randomize == Randomization.CranleyPatterson;
+        double offset = rotate ? PointRandomizations.RotationOffset(pixel, dimension) : 0;
+        uint z = (uint)_z[dimension];
+        for (int i = 0; i < xs.Length; i++)
+        {
+            double x = (double)((ulong)(firstIndex + (uint)i) * z % (uint)Count) / Count;
+            xs[i] = rotate ? PointRandomizations.Rotate(x, offset) : x;
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+        PairBySingles(pixel, firstIndex, dimension, xs, ys);
 }

@@ -9,7 +9,8 @@ namespace PathBench.Sampling.Generators;
 /// Owen-scrambled Sobol 2-D points, eight at a time with AVX2: the same arithmetic as the
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
 /// reversal) on eight 32-bit lanes, the table walk by gathers. Returns how many points it
-/// wrote (a multiple of eight; zero without AVX2), leaving the rest to the scalar code.
+/// wrote (a multiple of eight; zero without AVX2), leaving the rest to the scalar code. With an
+/// empty <c>ys</c> it makes the first coordinate only (one dimension).
 /// </summary>
 internal static class OwenSobolBatch
 {
@@ -22,6 +23,7 @@ internal static class OwenSobolBatch
             return 0;
         }
 
+        bool pair = !ys.IsEmpty;
         int n = xs.Length & ~7;
         Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
         Vector256<uint> sIndex = Vector256.Create(seedIndex), sx = Vector256.Create(seedX), sy = Vector256.Create(seedY);
@@ -32,10 +34,11 @@ internal static class OwenSobolBatch
             {
                 Vector256<uint> index = Vector256.Create(firstIndex + (uint)i) + lane;
                 Vector256<uint> r = LaineKarras(Reverse(index), sIndex);
-                Vector256<uint> vx = Reverse(LaineKarras(Walk(tx, r), sx));
-                Vector256<uint> vy = Reverse(LaineKarras(Walk(ty, r), sy));
-                Store(vx, px + i);
-                Store(vy, py + i);
+                Store(Reverse(LaineKarras(Walk(tx, r), sx)), px + i);
+                if (pair)
+                {
+                    Store(Reverse(LaineKarras(Walk(ty, r), sy)), py + i);
+                }
             }
         }
 

@@ -16,10 +16,17 @@ public static class PointRandomizations
     /// uniform offset per pixel and dimension. Any fixed point becomes uniform on [0, 1), so an estimate
     /// with it is unbiased whatever the point set.
     /// </summary>
-    public static double CranleyPatterson(double x, ulong pixel, int dimension)
+    public static double CranleyPatterson(double x, ulong pixel, int dimension) => Rotate(x, RotationOffset(pixel, dimension));
+
+    /// <summary>The offset <see cref="CranleyPatterson"/> adds in dimension <paramref name="dimension"/> of the pixel with key <paramref name="pixel"/>: one per pixel and dimension, so a batch computes it once.</summary>
+    public static double RotationOffset(ulong pixel, int dimension) => SampleHash.Uniform(pixel ^ Salts.Rotation, 0, dimension);
+
+    /// <summary><paramref name="x"/> shifted by <paramref name="offset"/> (from <see cref="RotationOffset"/>) on the torus [0, 1).</summary>
+    public static double Rotate(double x, double offset)
     {
-        double s = x + SampleHash.Uniform(pixel ^ Salts.Rotation, 0, dimension);
-        return s >= 1.0 ? s - 1.0 : s;
+        // s − 1 or s − 0 (exact, the same bits as s): a flag rather than a branch, which points would mispredict half the time.
+        double s = x + offset;
+        return s - (s >= 1.0 ? 1 : 0);
     }
 
     /// <summary>

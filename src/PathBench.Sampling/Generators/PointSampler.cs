@@ -56,14 +56,44 @@ public abstract class PointSampler
     /// </summary>
     public virtual void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
-        if (xs.Length != ys.Length)
-        {
-            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
-        }
-
+        RequireSameLength(xs, ys);
         for (int i = 0; i < xs.Length; i++)
         {
             (xs[i], ys[i]) = Sample2D(pixel, firstIndex + (uint)i, dimension);
+        }
+    }
+
+    /// <summary>
+    /// Dimension <paramref name="dimension"/> of the consecutive points <paramref name="firstIndex"/>,
+    /// <paramref name="firstIndex"/>+1, …, one per element of <paramref name="xs"/>: the same values as
+    /// <see cref="Sample"/>, for callers that want many at once. Generators override it to compute a
+    /// dimension's per-pixel seeds once per batch instead of once per point.
+    /// </summary>
+    public virtual void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = Sample(pixel, firstIndex + (uint)i, dimension);
+        }
+    }
+
+    /// <summary>
+    /// <see cref="Sample2DBatch"/> as two <see cref="SampleBatch"/> calls: for generators that do not
+    /// override <see cref="Sample2D"/>, whose pairs are two single coordinates.
+    /// </summary>
+    protected void PairBySingles(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        RequireSameLength(xs, ys);
+        SampleBatch(pixel, firstIndex, dimension, xs);
+        SampleBatch(pixel, firstIndex, dimension + 1, ys);
+    }
+
+    /// <summary>Throws unless the two coordinate buffers of a pair batch have the same length.</summary>
+    protected static void RequireSameLength(Span<double> xs, Span<double> ys)
+    {
+        if (xs.Length != ys.Length)
+        {
+            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
         }
     }
 
@@ -106,8 +136,56 @@ public abstract class PairedPointSampler(SamplerSpec spec) : PointSampler(spec)
             ? SamplePair(pixel, index, dimension >> 1)
             : (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
 
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        const int MaxStack = 64;
+        if (xs.Length > MaxStack)
+        {
+            base.SampleBatch(pixel, firstIndex, dimension, xs);
+            return;
+        }
+
+        // The pair is made whole, as Sample makes it; the other coordinate goes to a scratch buffer.
+        Span<double> other = stackalloc double[xs.Length];
+        if ((dimension & 1) == 0)
+        {
+            SamplePairBatch(pixel, firstIndex, dimension >> 1, xs, other);
+        }
+        else
+        {
+            SamplePairBatch(pixel, firstIndex, dimension >> 1, other, xs);
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if ((dimension & 1) != 0)
+        {
+            base.Sample2DBatch(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        RequireSameLength(xs, ys);
+        SamplePairBatch(pixel, firstIndex, dimension >> 1, xs, ys);
+    }
+
     /// <summary>Dimensions 2·<paramref name="pair"/> and 2·<paramref name="pair"/>+1 of point <paramref name="index"/>.</summary>
     protected abstract (double X, double Y) SamplePair(ulong pixel, uint index, int pair);
+
+    /// <summary>
+    /// <see cref="SamplePair"/> of the consecutive points from <paramref name="firstIndex"/>, one per element of
+    /// <paramref name="xs"/> and <paramref name="ys"/> (the same length): the same values, for generators that
+    /// can hoist a pair's per-pixel work out of the loop.
+    /// </summary>
+    protected virtual void SamplePairBatch(ulong pixel, uint firstIndex, int pair, Span<double> xs, Span<double> ys)
+    {
+        for (int i = 0; i < xs.Length; i++)
+        {
+            (xs[i], ys[i]) = SamplePair(pixel, firstIndex + (uint)i, pair);
+        }
+    }
 }
 
 /// <summary>What a sampler is built from: generator name, randomization, antithetic pairing, planned count and global seed.</summary>

@@ -88,10 +88,43 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
         }
 
         ulong seeds = SampleHash.Combine(pixel ^ Salts.PmjPair, (ulong)pair);
+        return Randomized(Rotated(pixel, pair), index, (uint)seeds, (uint)(seeds >> 32));
+    }
+
+    /// <inheritdoc/>
+    protected override void SamplePairBatch(ulong pixel, uint firstIndex, int pair, Span<double> xs, Span<double> ys)
+    {
+        if (Spec.Randomize == Randomization.None)
+        {
+            base.SamplePairBatch(pixel, firstIndex, pair, xs, ys);
+            return;
+        }
+
+        // The pair's table and seeds, once per batch.
+        ulong seeds = SampleHash.Combine(pixel ^ Salts.PmjPair, (ulong)pair);
+        ProgressiveMultiJittered s = Rotated(pixel, pair);
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = firstIndex + (uint)i;
+            if (index >= MaxPoints)
+            {
+                ThrowPastEnd(index);
+            }
+
+            (xs[i], ys[i]) = Randomized(s, index, (uint)seeds, (uint)(seeds >> 32));
+        }
+    }
+
+    // Each pixel starts the pairs at its own table, so pixels do not share one pattern per pair.
+    private ProgressiveMultiJittered Rotated(ulong pixel, int pair)
+    {
         uint rotation = (uint)(pixel >> 40) % TableCount;
-        ProgressiveMultiJittered s = _tables[(int)((uint)(pair + rotation) % TableCount)].Value;
+        return _tables[(int)((uint)(pair + rotation) % TableCount)].Value;
+    }
+
+    private (double X, double Y) Randomized(ProgressiveMultiJittered s, uint index, uint seedX, uint seedY)
+    {
         uint x = s.X[(int)index], y = s.Y[(int)index];
-        uint seedX = (uint)seeds, seedY = (uint)(seeds >> 32);
         if (Spec.Randomize == Randomization.Owen)
         {
             x = OwenScrambler.Scramble(x, seedX);

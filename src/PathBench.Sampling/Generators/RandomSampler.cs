@@ -14,4 +14,17 @@ public sealed class RandomSampler(SamplerSpec spec) : PointSampler(spec)
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
         SampleHash.Uniform(pixel ^ Salts.Independent, index, dimension);
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = SampleHash.Uniform(pixel ^ Salts.Independent, firstIndex + (uint)i, dimension);
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+        PairBySingles(pixel, firstIndex, dimension, xs, ys);
 }

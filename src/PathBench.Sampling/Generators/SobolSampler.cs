@@ -58,19 +58,68 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     }
 
     /// <inheritdoc/>
+    /// <remarks>A dimension's randomization (seed, shift or offset) is computed once per batch.</remarks>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    {
+        switch (Spec.Randomize)
+        {
+            case Randomization.Owen:
+                uint seed = (uint)(PairSeeds(pixel, dimension) >> (32 * (dimension & 1)));
+                int done = 0;
+                if (dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
+                {
+                    done = OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, (uint)(pixel >> 32), seed, 0, xs, default);
+                }
+
+                for (int i = done; i < xs.Length; i++)
+                {
+                    xs[i] = OwenCoordinate(ReversedShuffledIndex(pixel, firstIndex + (uint)i), dimension, seed);
+                }
+
+                return;
+            case Randomization.DigitalShift:
+                uint shift = SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
+                for (int i = 0; i < xs.Length; i++)
+                {
+                    xs[i] = ((_matrices.Sample(firstIndex + (uint)i, dimension) ^ shift) + 0.5) * Scale;
+                }
+
+                return;
+            case Randomization.CranleyPatterson:
+                double offset = PointRandomizations.RotationOffset(pixel, dimension);
+                for (int i = 0; i < xs.Length; i++)
+                {
+                    xs[i] = PointRandomizations.Rotate(_matrices.Sample(firstIndex + (uint)i, dimension) * Scale, offset);
+                }
+
+                return;
+            default:
+                for (int i = 0; i < xs.Length; i++)
+                {
+                    xs[i] = _matrices.Sample(firstIndex + (uint)i, dimension) * Scale;
+                }
+
+                return;
+        }
+    }
+
+    /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
-        if (Spec.Randomize != Randomization.Owen || (dimension & 1) != 0 || dimension + 1 >= Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
+        if (Spec.Randomize != Randomization.Owen)
+        {
+            // Sample2D is two single coordinates for these.
+            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        if ((dimension & 1) != 0 || dimension + 1 >= Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
         {
             base.Sample2DBatch(pixel, firstIndex, dimension, xs, ys);
             return;
         }
 
-        if (xs.Length != ys.Length)
-        {
-            throw new ArgumentException("the two coordinate buffers must be the same length", nameof(ys));
-        }
-
+        RequireSameLength(xs, ys);
         ulong seeds = PairSeeds(pixel, dimension);
         int done = OwenSobolBatch.Run(
             _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),

@@ -56,33 +56,84 @@ public static class RadicalInverse
     [MethodImpl(InliningOptions.HotPath)]
     public static double Permuted(uint index, int b, ulong key)
     {
+        Span<double> one = stackalloc double[1];
+        PermutedBatch(index, b, key, one);
+        return one[0];
+    }
+
+    /// <summary>
+    /// <see cref="Permuted"/> of the consecutive indices <paramref name="firstIndex"/>, <paramref name="firstIndex"/>+1, …
+    /// (one per element of <paramref name="xs"/>), bit for bit: the digit positions' permutation seeds are hashed
+    /// once per batch, the zero tail looked up once, and for bases small enough a table of the permuted digits per
+    /// position and digit is filled as they are met, so the upper digits, which consecutive indices share, are
+    /// permuted once per batch rather than once per point.
+    /// </summary>
+    public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs)
+    {
         if (b == 2)
         {
-            // In base 2 a permutation of {0, 1} is a flip or not: a digital shift.
             ulong shift = SampleHash.Mix64(key);
-            ulong bits = ((ulong)BitReversal.Reverse(index) << 32) ^ shift;
-            return (bits >> 11) * (1.0 / 9007199254740992.0);
+            for (int i = 0; i < xs.Length; i++)
+            {
+                ulong bits = ((ulong)BitReversal.Reverse(firstIndex + (uint)i) << 32) ^ shift;
+                xs[i] = (bits >> 11) * (1.0 / 9007199254740992.0);
+            }
+
+            return;
         }
 
         // Positions at and above the index's length hold permuted zeros, the same for every
         // point of this (pixel, dimension): their sum comes from a per-thread cache, computed
         // once per key. The cache changes no value, only the time (tested against PermutedDirect).
         ReadOnlySpan<double> zeroTail = ZeroTails.For(key, b);
+        int digits = zeroTail.Length - 1;
         uint ub = (uint)b;
         double invBase = 1.0 / b;
-        double weight = invBase;
-        double sum = 0;
-        int k = 0;
-        for (; index != 0; k++)
+        Span<uint> seeds = stackalloc uint[digits];
+        int seeded = 0;
+        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table.
+        const int TableEntries = 512;
+        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries;
+        Span<byte> table = tabled ? stackalloc byte[TableEntries] : default;
+        table.Fill(0xFF);
+        for (int i = 0; i < xs.Length; i++)
         {
-            uint next = index / ub;
-            uint digit = index - next * ub;
-            sum += KenslerPermutation.Permute(digit, ub, (uint)SampleHash.Combine(key, (ulong)k)) * weight;
-            weight *= invBase;
-            index = next;
-        }
+            uint index = firstIndex + (uint)i;
+            double weight = invBase;
+            double sum = 0;
+            int k = 0;
+            for (; index != 0; k++)
+            {
+                uint next = index / ub;
+                uint digit = index - next * ub;
+                for (; seeded <= k; seeded++)
+                {
+                    seeds[seeded] = (uint)SampleHash.Combine(key, (ulong)seeded);
+                }
 
-        return UnitInterval.Clamp(sum + zeroTail[k]);
+                uint permuted;
+                if (tabled)
+                {
+                    int at = k * b + (int)digit;
+                    permuted = table[at];
+                    if (permuted == 0xFF)
+                    {
+                        permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
+                        table[at] = (byte)permuted;
+                    }
+                }
+                else
+                {
+                    permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
+                }
+
+                sum += permuted * weight;
+                weight *= invBase;
+                index = next;
+            }
+
+            xs[i] = UnitInterval.Clamp(sum + zeroTail[k]);
+        }
     }
 
     /// <summary>The same value as <see cref="Permuted"/>, digit by digit with no cache: the reference it is tested against.</summary>
@@ -155,18 +206,56 @@ public static class RadicalInverse
                 return tail;
             }
 
-            double deepest = PortableMath.InversePower(b, digits);
-            double acc = Shared(key) * deepest;
+            double[]? powers = InversePowers(b);
+            double acc = Shared(key) * (powers is null ? PortableMath.InversePower(b, digits) : powers[digits]);
             tail[digits] = acc;
+            // Every position's image of 0 at once (eight lanes at a time): the bulk of a (pixel, dimension)'s cost.
+            Span<uint> seeds = stackalloc uint[digits];
+            for (int k = 0; k < digits; k++)
+            {
+                seeds[k] = (uint)SampleHash.Combine(key, (ulong)k);
+            }
+
+            Span<uint> zeros = stackalloc uint[digits];
+            KenslerPermutation.PermuteZeros((uint)b, seeds, zeros);
             for (int k = digits - 1; k >= 0; k--)
             {
-                acc += KenslerPermutation.Permute(0, (uint)b, (uint)SampleHash.Combine(key, (ulong)k)) * PortableMath.InversePower(b, k + 1);
+                acc += zeros[k] * (powers is null ? PortableMath.InversePower(b, k + 1) : powers[k + 1]);
                 tail[k] = acc;
             }
 
             t_keys[slot] = key;
             t_bases[slot] = b;
             return tail;
+        }
+
+        // PortableMath.InversePower(b, k) for k = 0 … digits of each base among the first Slots primes,
+        // made once: the tail of every (pixel, dimension) needs them all, and each costs a loop of k steps.
+        private static readonly double[][] PowersOfBase = BuildPowers();
+
+        // Null for the bases past the first Slots primes, which compute them as they go.
+        private static double[]? InversePowers(int b) => Primes[SlotOfBase[b]] == b ? PowersOfBase[SlotOfBase[b]] : null;
+
+        private static double[] Powers(int b, int digits)
+        {
+            var powers = new double[digits + 1];
+            for (int k = 0; k <= digits; k++)
+            {
+                powers[k] = PortableMath.InversePower(b, k);
+            }
+
+            return powers;
+        }
+
+        private static double[][] BuildPowers()
+        {
+            var powers = new double[Slots][];
+            for (int i = 0; i < Slots; i++)
+            {
+                powers[i] = Powers(Primes[i], DigitsFor(Primes[i]));
+            }
+
+            return powers;
         }
 
         private static int[] BuildSlots()

@@ -32,4 +32,26 @@ public sealed class KenslerPermutationTests
         int[] b = Enumerable.Range(0, 64).Select(i => (int)KenslerPermutation.Permute((uint)i, 64, 2)).ToArray();
         Assert.NotEqual(a, b);
     }
+
+    [Fact]
+    public void Vector_images_of_zero_equal_the_scalar_permutation()
+    {
+        // PermuteZeros (eight lanes with Vector256, scalar tail) against Permute one seed at a time:
+        // lengths with long cycle walks (just above a power of two), primes and powers of two; seeds from a fixed hash.
+        foreach (uint l in new uint[] { 2, 3, 5, 17, 33, 65, 127, 257, 383, 1024, 7919, 65537 })
+        {
+            var seeds = new uint[37];
+            for (int k = 0; k < seeds.Length; k++)
+            {
+                seeds[k] = (uint)SampleHash.Combine(l, (ulong)k);
+            }
+
+            var images = new uint[seeds.Length];
+            KenslerPermutation.PermuteZeros(l, seeds, images);
+            for (int k = 0; k < seeds.Length; k++)
+            {
+                Assert.Equal(KenslerPermutation.Permute(0, l, seeds[k]), images[k]);
+            }
+        }
+    }
 }

@@ -1,0 +1,115 @@
+using PathBench.Rendering.Geometry;
+using PathBench.Rendering.Integrators;
+using PathBench.Sampling.Generators;
+
+namespace PathBench.Rendering.Tests.Integrators;
+
+/// <summary>The renderer's per-thread sample cache against the one-call-per-coordinate <see cref="SampleStream"/>.</summary>
+public sealed class SampleCacheTests
+{
+    public static TheoryData<string, string> Catalog()
+    {
+        var data = new TheoryData<string, string>();
+        foreach (GeneratorInfo g in SamplerCatalog.Generators)
+        {
+            foreach (Randomization r in g.Randomizations)
+            {
+                data.Add(g.Name, RandomizationNames.NameOf(r));
+            }
+        }
+
+        return data;
+    }
+
+    private static PointSampler Create(string generator, string randomize, int count, int dims)
+    {
+        (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
+        return SamplerCatalog.Create(new SamplerSpec(generator, r, anti, count, 8), Math.Min(SamplerCatalog.Find(generator).MaxDimensions, dims));
+    }
+
+    [Theory]
+    [MemberData(nameof(Catalog))]
+    public void Cached_coordinates_are_the_streams_in_any_request_order(string generator, string randomize)
+    {
+        // Requests as a path tracer makes them: pairs and singles, samples stopping at different depths,
+        // dimensions past the generator's limit (padding) and past the cache's planned size.
+        const int count = 37, planned = 20;
+        PointSampler s = Create(generator, randomize, count, planned);
+        var cache = new SampleCache(s, planned);
+        ulong key = s.PixelKey(3, 4);
+        for (int first = 0; first < count; first += SampleCache.BlockSize)
+        {
+            int n = Math.Min(SampleCache.BlockSize, count - first);
+            cache.BeginBlock(key, (uint)first, n);
+            for (int j = 0; j < n; j++)
+            {
+                uint index = (uint)(first + j);
+                var direct = new SampleStream(s, key, index);
+                CachedSampleStream cached = cache.Stream(j);
+                int depth = (int)(index * 7 % 11); // paths of 0 to 10 vertices
+                Assert.Equal(direct.Get2D(0), cached.Get2D(0));
+                for (int v = 0; v < depth; v++)
+                {
+                    int d = DimensionLayout.Vertex(v);
+                    Assert.Equal(direct.Get2D(d + DimensionLayout.LightPosition), cached.Get2D(d + DimensionLayout.LightPosition));
+                    Assert.Equal(direct.Get(d + DimensionLayout.LightChoice), cached.Get(d + DimensionLayout.LightChoice));
+                    Assert.Equal(direct.Get2D(d + DimensionLayout.Direction), cached.Get2D(d + DimensionLayout.Direction));
+                    Assert.Equal(direct.Get(d + DimensionLayout.Lobe), cached.Get(d + DimensionLayout.Lobe));
+                    Assert.Equal(direct.Get(d + DimensionLayout.Roulette), cached.Get(d + DimensionLayout.Roulette));
+                }
+            }
+        }
+    }
+
+    [Theory]
+    [MemberData(nameof(Catalog))]
+    public void Path_tracing_through_the_cache_allocates_nothing_per_sample(string generator, string randomize)
+    {
+        // Issue 12: no allocation per sample or per ray. The renderer's per-sample work on this thread
+        // (blocks, coordinates, camera ray, path) over six pixels, after a warm-up pass over the same
+        // pixels that sizes the cache and builds the samplers' per-thread and lazily built tables (the pmj
+        // family's sequences, once per process); GC.GetAllocatedBytesForCurrentThread counts exactly.
+        Scene scene = DeterminismTests.Box();
+        var tracer = new PathTracer(scene, DeterminismTests.Options);
+        const int count = 32;
+        PointSampler s = Create(generator, randomize, count, DimensionLayout.Total(DeterminismTests.Options.MaxDepth));
+        var cache = new SampleCache(s, DimensionLayout.Total(DeterminismTests.Options.MaxDepth));
+        long rays = 0;
+        double sum = Pixels();
+        long before = GC.GetAllocatedBytesForCurrentThread();
+        sum += Pixels();
+        long allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+        Assert.True(allocated == 0, $"{generator}/{randomize}: {allocated} bytes allocated for {6 * count} samples");
+        Assert.True(rays > 0 && sum >= 0);
+
+        double Pixels()
+        {
+            double total = 0;
+            for (int p = 0; p < 6; p++)
+            {
+                total += Pixel(p * 3, 7 + p);
+            }
+
+            return total;
+        }
+
+        double Pixel(int x, int y)
+        {
+            ulong key = s.PixelKey(x, y);
+            double total = 0;
+            for (int first = 0; first < count; first += SampleCache.BlockSize)
+            {
+                cache.BeginBlock(key, (uint)first, SampleCache.BlockSize);
+                for (int j = 0; j < SampleCache.BlockSize; j++)
+                {
+                    CachedSampleStream stream = cache.Stream(j);
+                    (double fx, double fy) = stream.Get2D(DimensionLayout.Pixel);
+                    Ray ray = scene.Camera.Generate(x + fx, y + fy, 0.5, 0.5);
+                    total += tracer.Radiance(ray, stream, ref rays).Max;
+                }
+            }
+
+            return total;
+        }
+    }
+}

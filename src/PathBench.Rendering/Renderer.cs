@@ -70,6 +70,24 @@ public static class Renderer
         int done = 0;
         var clock = Stopwatch.StartNew();
         var parallel = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, job.Threads), CancellationToken = cancel };
+        try
+        {
+            RenderTiles(job, film, camera, tilesX, tiles, tracer, parallel, progress, ref rays, ref nonFinite, ref done);
+        }
+        catch (AggregateException e) when (e.InnerExceptions.OfType<PathBench.Io.MemoryBudgetException>().FirstOrDefault() is { } budget)
+        {
+            // The film's wide sums outgrew the budget in a worker: that one line, not the aggregate.
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Capture(budget).Throw();
+        }
+
+        film.AddDropped(nonFinite);
+        return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
+    }
+
+    private static void RenderTiles(RenderJob job, Film film, Camera camera, int tilesX, int tiles, PathTracer tracer, ParallelOptions parallel, Action<int, int>? progress, ref long raysTotal, ref long nonFiniteTotal, ref int doneTotal)
+    {
+        long rays = 0, nonFinite = 0;
+        int done = 0;
         Parallel.For(0, tiles, parallel, tile =>
         {
             int x0 = tile % tilesX * TileSize, y0 = tile / tilesX * TileSize;
@@ -79,7 +97,7 @@ public static class Renderer
             {
                 for (int x = x0; x < x1; x++)
                 {
-                    var acc = new PixelAccumulator();
+                    PixelAccumulator acc = film.AccumulatorFor(x, y);
                     ulong key = job.Sampler.PixelKey(x, y);
                     for (int s = job.FirstSample; s < job.EndSample; s++)
                     {
@@ -101,7 +119,8 @@ public static class Renderer
             progress?.Invoke(Interlocked.Increment(ref done), tiles);
         });
 
-        film.AddDropped(nonFinite);
-        return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
+        raysTotal = rays;
+        nonFiniteTotal = nonFinite;
+        doneTotal = done;
     }
 }

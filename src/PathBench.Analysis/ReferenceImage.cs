@@ -35,6 +35,9 @@ public sealed class ReferenceImage
         MeanVariance = sum / varianceOfMean.Length;
     }
 
+    /// <summary>Bytes a reference holds per pixel: its value and variance, three doubles each.</summary>
+    public const int BytesPerPixel = 2 * 3 * sizeof(double);
+
     /// <summary>Width in pixels.</summary>
     public int Width { get; }
 
@@ -104,16 +107,22 @@ public sealed class ReferenceImage
     /// size and hold no negative or non-finite value); without one, the variance is taken as 0 and
     /// the study says so.
     /// </summary>
-    /// <exception cref="ImageFileException">A file cannot be read or the variance file does not fit the image.</exception>
-    public static ReferenceImage Read(string imagePath, int? spp = null)
+    /// <param name="imagePath">The reference image.</param>
+    /// <param name="spp">Its samples per pixel, when known.</param>
+    /// <param name="extraBytesPerPixel">What the caller will spend per pixel besides the reference itself, checked against the budget with the header.</param>
+    /// <param name="use">What the caller does with it, for the refusal ("and measuring case 'x'").</param>
+    /// <exception cref="ImageFileException">A file cannot be read, is above the memory budget, or the variance file does not fit the image.</exception>
+    public static ReferenceImage Read(string imagePath, int? spp = null, long extraBytesPerPixel = 0, string? use = null)
     {
-        RgbImage image = ImageFile.Read(imagePath).Image;
+        // The header's size is checked against the budget with what follows (the widened planes, the caller's own use) before the decode.
+        var limits = new ImageLimits(After: (w, h) => (Int128)w * h * (BytesPerPixel + extraBytesPerPixel), Use: use);
+        RgbImage image = ImageFile.Read(imagePath, limits).Image;
         double[] value = Widen(image.Data);
         string variancePath = VariancePath(imagePath);
         double[] variance;
         if (File.Exists(variancePath))
         {
-            RgbImage v = ImageFile.Read(variancePath).Image;
+            RgbImage v = ImageFile.Read(variancePath, limits).Image;
             if (v.Width != image.Width || v.Height != image.Height)
             {
                 throw new ImageFileException(variancePath, FormattableString.Invariant($"the variance file is {v.Width}x{v.Height}, its image {imagePath} is {image.Width}x{image.Height}"));

@@ -10,7 +10,7 @@ namespace PathBench.Analysis;
 /// <summary>How a study runs: where its outputs go and what the machine gives it.</summary>
 /// <param name="OutputDirectory">DIR: results, plots, images and the render cache (<c>DIR/cache</c>).</param>
 /// <param name="Threads">Worker threads per render; null for the study file's setting, else every core.</param>
-/// <param name="Version">PathBench version (recorded, and part of every cache key).</param>
+/// <param name="Version">PathBench version, recorded in the outputs (the cache keys use <see cref="RenderCodeIdentity"/>).</param>
 public sealed record StudyRunOptions(string OutputDirectory, int? Threads, string Version);
 
 /// <summary>What a finished study produced.</summary>
@@ -92,8 +92,8 @@ public static class StudyPipeline
         return new StudyOutcome(summary, files, cache.Hits, referencePath);
     }
 
-    /// <summary>The study's scene, at the study's resolution when it sets one (the film size checked first).</summary>
-    public static SceneDescription LoadScene(StudyDefinition study)
+    /// <summary>The study's scene, at the study's resolution when it sets one (its memory checked against the budget first; <paramref name="what"/> names it in the refusal).</summary>
+    public static SceneDescription LoadScene(StudyDefinition study, string what = "a study")
     {
         ArgumentNullException.ThrowIfNull(study);
         SceneDescription description = SceneLoader.Load(study.ScenePath);
@@ -103,13 +103,7 @@ public static class StudyPipeline
         }
 
         int width = description.Camera.Width, height = description.Camera.Height;
-        long bytes = StudyRunner.EstimateBytes(study, width, height);
-        if (bytes > StudyRunner.MaxStatisticsBytes)
-        {
-            throw new SceneException(string.Create(CultureInfo.InvariantCulture,
-                $"{study.SourcePath}: a {width}x{height} study of {study.Configurations.Count} configurations, {study.Spp.Count} sample counts and {study.Replicates} replicates needs about {bytes >> 20} MiB, above the {StudyRunner.MaxStatisticsBytes >> 30} GiB limit; set a smaller 'resolution' or fewer of them"));
-        }
-
+        StudyRunner.RequireMemory(study, width, height, what);
         return description;
     }
 

@@ -1,6 +1,9 @@
+using System.Globalization;
+using PathBench.Io;
 using PathBench.Rendering;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
+using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Generators;
 
 namespace PathBench.Analysis;
@@ -232,21 +235,40 @@ public sealed class StudyRunner
         return new StudyResult(_study, reference, samples, moments, finals, first, _env.Threads);
     }
 
-    /// <summary>The most memory a study's statistics may hold (the machines it is written for have 24 GiB).</summary>
-    public const long MaxStatisticsBytes = 8L << 30;
-
     /// <summary>
-    /// Memory a study holds besides the renders themselves: per configuration and spp the
-    /// per-pixel sums over replicates (two doubles per value) and the first replicate's image (one
-    /// float per value), and per configuration each replicate's image at the largest spp (one
-    /// float per value), plus two films in flight.
+    /// Memory a study holds, estimated from its declared sizes before anything is rendered: per
+    /// configuration and spp the per-pixel sums over replicates (two doubles per value) and the first
+    /// replicate's image (one float per value); per configuration each replicate's image at the largest
+    /// spp (one float per value); two films in flight (<see cref="Film.BytesPerPixel"/> each); the
+    /// reference (value and variance in double, 48 bytes a pixel) and an image being written (72 bytes
+    /// a pixel, the figure measured for a render's output in FilmOutput).
     /// </summary>
-    public static long EstimateBytes(StudyDefinition study, int width, int height)
+    public static Int128 EstimateBytes(StudyDefinition study, int width, int height)
     {
         ArgumentNullException.ThrowIfNull(study);
-        long values = 3L * width * height;
+        Int128 pixels = (Int128)width * height;
+        Int128 values = 3 * pixels;
         long configs = study.Configurations.Count;
-        return (values * 20 * configs * study.Spp.Count) + (values * 4 * configs * study.Replicates) + (2 * Film.RequiredBytes(width, height));
+        return (values * 20 * configs * study.Spp.Count) + (values * 4 * configs * study.Replicates) + (pixels * ((2 * Film.BytesPerPixel) + 48 + 72));
+    }
+
+    /// <summary>
+    /// Refuses a study (or a check case, which runs as one) whose <see cref="EstimateBytes"/> is above
+    /// the memory budget, with the file's name, what it asked for and how to raise the budget.
+    /// </summary>
+    /// <exception cref="SceneException">Above the budget.</exception>
+    public static void RequireMemory(StudyDefinition study, int width, int height, string what)
+    {
+        ArgumentNullException.ThrowIfNull(study);
+        try
+        {
+            MemoryBudget.Current.Require(EstimateBytes(study, width, height), string.Create(CultureInfo.InvariantCulture,
+                $"{what} of {width}x{height} pixels, {study.Configurations.Count} configurations, {study.Spp.Count} sample counts and {study.Replicates} replicates"));
+        }
+        catch (MemoryBudgetException e)
+        {
+            throw new SceneException($"{study.SourcePath}: {e.Message}", e);
+        }
     }
 
     /// <summary>How many replicates a configuration renders: one for a deterministic quadrature, all otherwise.</summary>

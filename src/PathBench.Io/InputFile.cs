@@ -51,7 +51,7 @@ public static class InputFile
         return stream;
     }
 
-    /// <summary>Reads a whole regular file, refusing one longer than <paramref name="maxBytes"/> before reading it.</summary>
+    /// <summary>Reads a whole regular file, refusing one longer than <paramref name="maxBytes"/>, or whose bytes and what is built from them (3 bytes a byte) exceed the memory budget, before reading it.</summary>
     public static byte[] ReadAllBytes(string path, Func<string, Exception> fail, long maxBytes = int.MaxValue)
     {
         using FileStream stream = OpenRead(path, fail);
@@ -59,6 +59,17 @@ public static class InputFile
         if (length > Math.Min(maxBytes, Array.MaxLength))
         {
             throw fail(FormattableString.Invariant($"{length} bytes is above the limit of {Math.Min(maxBytes, Array.MaxLength)} bytes for this kind of file"));
+        }
+
+        // The bytes, and what a reader builds from them (a JSON document, UTF-16 text: about twice
+        // as much again; common practice), against the budget before anything is read.
+        try
+        {
+            MemoryBudget.Current.Require((Int128)length * 3, FormattableString.Invariant($"reading the {length} bytes of the file"));
+        }
+        catch (MemoryBudgetException e)
+        {
+            throw fail(e.Message);
         }
 
         byte[] bytes = new byte[length];

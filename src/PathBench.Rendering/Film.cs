@@ -18,9 +18,11 @@ namespace PathBench.Rendering;
 /// 2^1056). Integer addition stays associative, so thread count, tile order and the split of the
 /// sample range still cannot change a bit; a plain double sum could (floating-point addition is
 /// not associative). Sparse because such samples are rare in a sensible scene: a film pays nothing
-/// until one arrives. Where every pixel is that bright the cost is real: a 1024 × 1024 render of an
-/// emitter of 1e30 at 4 spp peaked at 1.5 GB of RSS against 0.2 GB for emission 1, and took 20 s
-/// against 2.5 s (arbitrary-size integers allocate); see tools/accumulation-format.md.
+/// until one arrives, then a table of one reference a pixel (8 bytes) and, per pixel that has such
+/// values, words sized by their magnitudes: at most <see cref="WideSums.MaxBytesPerPixel"/> (1312)
+/// bytes, whatever the values. Those bytes are counted as they are taken and held to
+/// <see cref="WideBytesLimit"/> (what the memory budget leaves), so a film of bright pixels cannot
+/// outgrow the budget: past it, accumulation stops with a <see cref="PathBench.Io.MemoryBudgetException"/>.
 /// </para>
 /// </summary>
 public sealed class Film
@@ -47,11 +49,12 @@ public sealed class Film
     // carry count stays below its sample count, which an int spp bounds below 2^32.
     private readonly uint[] _sumSquaresHigh;
 
-    // The sums of the values too bright for the planes, by pixel index; locked because tiles store concurrently.
-    private readonly SortedDictionary<int, WideSums> _wide = [];
+    // The sums of the values too bright for the planes, by pixel index; allocated with the first of
+    // them. Each pixel belongs to one tile, so only the table's creation and the byte count are shared.
+    private WideSums?[]? _wide;
 
-    // _wide.Count, readable without the lock so pixels of a film with no wide sums (nearly all) cost one read.
     private int _widePixels;
+    private long _wideBytes;
 
     /// <summary>Allocates a film, after checking its size.</summary>
     public Film(int width, int height)
@@ -83,6 +86,15 @@ public sealed class Film
     /// <summary>Pixels holding at least one channel value of magnitude ≥ <see cref="MaxValue"/>, kept in the wide sums.</summary>
     public int WidePixels => Volatile.Read(ref _widePixels);
 
+    /// <summary>Bytes the wide sums hold: the table of references and each wide pixel's words.</summary>
+    public long WideBytes => Interlocked.Read(ref _wideBytes);
+
+    /// <summary>
+    /// The most bytes the wide sums may hold; set by a command to what its memory budget leaves after
+    /// its estimate (the default: the whole budget at the film's creation). Taking more throws.
+    /// </summary>
+    public long WideBytesLimit { get; set; } = PathBench.Io.MemoryBudget.Current.Bytes;
+
     /// <summary>The accumulator bytes a film of this size needs; throws for non-positive sizes.</summary>
     public static long RequiredBytes(int width, int height)
     {
@@ -109,7 +121,7 @@ public sealed class Film
         WideSums? wide = Wide(i);
         return wide is null
             ? (double)_sum[3 * i + c] / Scale / _count[i]
-            : WideSums.Ratio((BigInteger)_sum[3 * i + c] + wide.Sum[c], _count[i], -32);
+            : WideSums.Ratio((BigInteger)_sum[3 * i + c] + wide.SumOf(c), _count[i], -32);
     }
 
     /// <summary>
@@ -135,8 +147,8 @@ public sealed class Film
             return (double)((n * squares) - (sum * sum)) / ((double)n * (n - 1)) / (Scale * Scale);
         }
 
-        sum += wide.Sum[c];
-        squares += wide.Squares[c];
+        sum += wide.SumOf(c);
+        squares += wide.SquaresOf(c);
         return WideSums.Ratio((n * squares) - (sum * sum), (BigInteger)n * (n - 1), -64);
     }
 
@@ -161,36 +173,76 @@ public sealed class Film
             AddSquares(3 * i + c, a.SumSquaresLow(c), a.SumSquaresHigh(c));
         }
 
-        if (a.Wide is not null)
+        if (a.Wide is not null && ReferenceEquals(a.Wide, Wide(i)))
+        {
+            // The accumulator added into this film's own sums (see AccumulatorFor): only their growth is new.
+            Charge(a.Wide.Bytes - a.WideBytesBefore);
+        }
+        else if (a.Wide is not null)
         {
             AddWide(i, a.Wide);
         }
     }
 
-    private WideSums? Wide(int i)
-    {
-        if (Volatile.Read(ref _widePixels) == 0)
-        {
-            return null;
-        }
+    private WideSums? Wide(int i) => Volatile.Read(ref _wide)?[i];
 
-        lock (_wide)
-        {
-            return _wide.GetValueOrDefault(i);
-        }
+    /// <summary>
+    /// An accumulator for pixel (x, y) that adds wide values straight into the film's own sums for
+    /// that pixel (when it has them), so a pass over bright pixels allocates nothing per pixel; only
+    /// the thread that owns the pixel's tile may use it, and must hand it to <see cref="Store"/>.
+    /// </summary>
+    internal PixelAccumulator AccumulatorFor(int x, int y)
+    {
+        WideSums? wide = Wide(y * Width + x);
+        return new PixelAccumulator { Wide = wide, WideBytesBefore = wide?.Bytes ?? 0 };
     }
 
+    /// <summary>Adds a pixel's wide sums; <paramref name="sums"/> is taken over (not copied) when the pixel has none yet, so the caller must not use it again.</summary>
     private void AddWide(int i, WideSums sums)
     {
-        lock (_wide)
+        WideSums?[] table = WideTable();
+        WideSums? mine = table[i];
+        if (mine is null)
         {
-            if (!_wide.TryGetValue(i, out WideSums? mine))
-            {
-                _wide.Add(i, mine = new WideSums());
-                Volatile.Write(ref _widePixels, _wide.Count);
-            }
+            table[i] = sums;
+            Interlocked.Increment(ref _widePixels);
+            Charge(sums.Bytes);
+            return;
+        }
 
-            mine.Add(sums);
+        long before = mine.Bytes;
+        mine.Add(sums);
+        Charge(mine.Bytes - before);
+    }
+
+    private WideSums?[] WideTable()
+    {
+        WideSums?[]? table = Volatile.Read(ref _wide);
+        if (table is not null)
+        {
+            return table;
+        }
+
+        long bytes = 24 + ((long)Width * Height * 8);
+        Charge(bytes);
+        var fresh = new WideSums?[Width * Height];
+        WideSums?[]? raced = Interlocked.CompareExchange(ref _wide, fresh, null);
+        if (raced is not null)
+        {
+            Charge(-bytes);
+            return raced;
+        }
+
+        return fresh;
+    }
+
+    private void Charge(long bytes)
+    {
+        long total = Interlocked.Add(ref _wideBytes, bytes);
+        if (bytes > 0 && total > WideBytesLimit)
+        {
+            throw new PathBench.Io.MemoryBudgetException(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"the exact sums of the {WidePixels} pixels with sample values of 2^32 or more ({PathBench.Io.MemoryBudget.Format(total)}, at most {WideSums.MaxBytesPerPixel} bytes a pixel) exceed the {PathBench.Io.MemoryBudget.Format(Math.Max(0, WideBytesLimit))} the memory budget leaves the {Width}x{Height} film; raise the budget with the global option --max-memory SIZE (--max-memory {(((Int128)Width * Height * WideSums.MaxBytesPerPixel) + PathBench.Io.MemoryBudget.Current.Bytes + (1L << 30) - 1) >> 30}G would do for any values)"));
         }
     }
 
@@ -225,7 +277,10 @@ public sealed class Film
 
         foreach ((int i, WideSums sums) in other.WideEntries())
         {
-            AddWide(i, sums);
+            // A copy: the other film keeps its own.
+            var copy = new WideSums();
+            copy.Add(sums);
+            AddWide(i, copy);
         }
 
         AddDropped(other.NonFiniteSamples);
@@ -239,7 +294,7 @@ public sealed class Film
             && other.NonFiniteSamples == NonFiniteSamples
             && _count.AsSpan().SequenceEqual(other._count) && _sum.AsSpan().SequenceEqual(other._sum)
             && _sumSquaresLow.AsSpan().SequenceEqual(other._sumSquaresLow) && _sumSquaresHigh.AsSpan().SequenceEqual(other._sumSquaresHigh)
-            && WideEntries().SequenceEqual(other.WideEntries(), WideSums.EntryComparer);
+            && WideEntries().SequenceEqual(other.WideEntries(), EntryComparer.Instance);
     }
 
     // The accumulation file (Accumulation/AccumulationFile.cs) reads and writes these planes as they lie in memory.
@@ -253,23 +308,40 @@ public sealed class Film
 
     internal void SetDropped(long nonFinite) => NonFiniteSamples = nonFinite;
 
-    /// <summary>The wide sums by pixel index, ascending (a snapshot).</summary>
+    /// <summary>The wide sums by pixel index, ascending.</summary>
     internal IReadOnlyList<KeyValuePair<int, WideSums>> WideEntries()
     {
-        lock (_wide)
+        WideSums?[]? table = Volatile.Read(ref _wide);
+        var entries = new List<KeyValuePair<int, WideSums>>();
+        for (int i = 0; table is not null && i < table.Length; i++)
         {
-            return [.. _wide];
+            if (table[i] is { } sums)
+            {
+                entries.Add(new(i, sums));
+            }
         }
+
+        return entries;
     }
 
     /// <summary>Sets a pixel's wide sums (the accumulation file's reader); the pixel must have none yet.</summary>
     internal void SetWide(int i, WideSums sums)
     {
-        lock (_wide)
+        if (Wide(i) is not null)
         {
-            _wide.Add(i, sums);
-            Volatile.Write(ref _widePixels, _wide.Count);
+            throw new InvalidOperationException($"pixel {i} already has wide sums");
         }
+
+        AddWide(i, sums);
+    }
+
+    private sealed class EntryComparer : IEqualityComparer<KeyValuePair<int, WideSums>>
+    {
+        public static readonly EntryComparer Instance = new();
+
+        public bool Equals(KeyValuePair<int, WideSums> a, KeyValuePair<int, WideSums> b) => a.Key == b.Key && a.Value.SameValues(b.Value);
+
+        public int GetHashCode(KeyValuePair<int, WideSums> e) => e.Key;
     }
 
     /// <summary>The image of pixel means as float RGB, row 0 at the top, channels interleaved.</summary>
@@ -303,6 +375,9 @@ internal struct PixelAccumulator
 
     /// <summary>The channel values too bright for the fixed-point sums; null until one arrives (a reference, so the struct stays small).</summary>
     public WideSums? Wide;
+
+    /// <summary>The bytes <see cref="Wide"/> held when it was the film's own (<see cref="Film.AccumulatorFor"/>), so the film charges only the growth.</summary>
+    public long WideBytesBefore;
 
     public void Add(Rgb v)
     {
@@ -371,85 +446,5 @@ internal struct PixelAccumulator
         {
             carries++;
         }
-    }
-}
-
-/// <summary>
-/// One pixel's exact sums of q = v · 2^32 and q² per channel over its channel values of magnitude
-/// ≥ 2^32 (see <see cref="Film"/>): arbitrary-size integers, so any finite double adds exactly.
-/// </summary>
-internal sealed class WideSums
-{
-    /// <summary>Σq per channel.</summary>
-    public readonly BigInteger[] Sum = new BigInteger[3];
-
-    /// <summary>Σq² per channel.</summary>
-    public readonly BigInteger[] Squares = new BigInteger[3];
-
-    /// <summary>Compares two films' entries (pixel index and sums) for equality.</summary>
-    public static readonly IEqualityComparer<KeyValuePair<int, WideSums>> EntryComparer = new Equality();
-
-    /// <summary>Adds channel value <paramref name="v"/> (finite, |v| ≥ 2^32) to channel <paramref name="c"/>.</summary>
-    public void Add(int c, double v)
-    {
-        BigInteger q = Fixed(v);
-        Sum[c] += q;
-        Squares[c] += q * q;
-    }
-
-    /// <summary>Adds another pixel's wide sums.</summary>
-    public void Add(WideSums other)
-    {
-        for (int c = 0; c < 3; c++)
-        {
-            Sum[c] += other.Sum[c];
-            Squares[c] += other.Squares[c];
-        }
-    }
-
-    /// <summary>v · 2^32 as an integer, exactly: the 53-bit significand shifted by the exponent (IEEE 754 binary64 layout).</summary>
-    public static BigInteger Fixed(double v)
-    {
-        long bits = BitConverter.DoubleToInt64Bits(v);
-        int exponent = (int)((bits >> 52) & 0x7FF);
-        long significand = (bits & ((1L << 52) - 1)) | (1L << 52);
-        // v = significand · 2^(exponent − 1075); times 2^32. |v| ≥ 2^32 means exponent ≥ 1055, so the shift is ≥ 12.
-        int shift = exponent - 1075 + 32;
-        if (exponent == 0x7FF || shift < 0)
-        {
-            throw new ArgumentOutOfRangeException(nameof(v), v, "wide sums take finite values of magnitude 2^32 or more");
-        }
-
-        BigInteger q = new BigInteger(significand) << shift;
-        return bits < 0 ? -q : q;
-    }
-
-    /// <summary>
-    /// numerator / divisor · 2^<paramref name="exponent"/> as a double, from integers only: the
-    /// quotient is taken to at least 64 significant bits, cut to 62 and scaled by a power of two
-    /// (exact, IEEE 754), so the result is the same on every machine and within a few units in the
-    /// last place of the true ratio.
-    /// </summary>
-    public static double Ratio(BigInteger numerator, BigInteger divisor, int exponent)
-    {
-        if (numerator.IsZero)
-        {
-            return 0;
-        }
-
-        BigInteger magnitude = BigInteger.Abs(numerator);
-        long shift = Math.Max(0, 64 + divisor.GetBitLength() - magnitude.GetBitLength());
-        BigInteger quotient = (magnitude << (int)shift) / divisor;
-        int cut = (int)Math.Max(0, quotient.GetBitLength() - 62);
-        double value = Math.ScaleB((double)(long)(quotient >> cut), (int)(exponent - shift + cut));
-        return numerator.Sign < 0 ? -value : value;
-    }
-
-    private sealed class Equality : IEqualityComparer<KeyValuePair<int, WideSums>>
-    {
-        public bool Equals(KeyValuePair<int, WideSums> a, KeyValuePair<int, WideSums> b) =>
-            a.Key == b.Key && a.Value.Sum.SequenceEqual(b.Value.Sum) && a.Value.Squares.SequenceEqual(b.Value.Squares);
-
-        public int GetHashCode(KeyValuePair<int, WideSums> e) => e.Key;
     }
 }

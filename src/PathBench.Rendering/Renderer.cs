@@ -87,7 +87,20 @@ public static class Renderer
         int done = 0;
         var clock = Stopwatch.StartNew();
         var parallel = new ParallelOptions { MaxDegreeOfParallelism = Math.Max(1, job.Threads), CancellationToken = cancel };
-        Parallel.For(0, tiles, parallel, perThread, (tile, _, source) =>
+        try
+        {
+            Parallel.For(0, tiles, parallel, perThread, (tile, _, source) => RenderTile(tile, source), _ => { });
+        }
+        catch (AggregateException e) when (e.InnerExceptions.OfType<PathBench.Io.MemoryBudgetException>().FirstOrDefault() is { } budget)
+        {
+            // The film's wide sums outgrew the budget in a worker: that one line, not the aggregate.
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Capture(budget).Throw();
+        }
+
+        film.AddDropped(nonFinite);
+        return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
+
+        TSource RenderTile(int tile, TSource source)
         {
             int x0 = tile % tilesX * TileSize, y0 = tile / tilesX * TileSize;
             int x1 = Math.Min(x0 + TileSize, camera.Width), y1 = Math.Min(y0 + TileSize, camera.Height);
@@ -96,7 +109,7 @@ public static class Renderer
             {
                 for (int x = x0; x < x1; x++)
                 {
-                    var acc = new PixelAccumulator();
+                    PixelAccumulator acc = film.AccumulatorFor(x, y);
                     ulong key = job.Sampler.PixelKey(x, y);
                     for (int s = job.FirstSample; s < job.EndSample;)
                     {
@@ -124,10 +137,7 @@ public static class Renderer
             Interlocked.Add(ref nonFinite, tileNonFinite);
             progress?.Invoke(Interlocked.Increment(ref done), tiles);
             return source;
-        }, _ => { });
-
-        film.AddDropped(nonFinite);
-        return new RenderResult(film, rays, clock.Elapsed.TotalSeconds);
+        }
     }
 }
 

@@ -68,6 +68,21 @@ public sealed class BatchCommandTests
         Assert.Contains("a.exr: failed, exit 2: pathbench: error:", File.ReadAllText(dir.File("jobs.log")), StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void The_batchs_memory_budget_holds_for_every_job()
+    {
+        // A 12x8 render holds 12 · 8 · 188 bytes (README), above a 10 KiB budget: the job must be refused
+        // by the budget the batch was given, not by the default each job's command line would set.
+        using var dir = new TempFolder();
+        dir.Write("s.yaml", ShardMergeTests.Scene);
+        string jobs = dir.Write("jobs.yaml", "jobs:\n  - { scene: s.yaml, out: a.exr, options: { spp: 2 } }\n");
+        var r = Run("--max-memory", "10K", "batch", jobs);
+        Assert.Equal(1, r.Code);
+        Assert.Contains("0 rendered, 0 skipped, 1 failed", r.Out, StringComparison.Ordinal);
+        Assert.False(File.Exists(dir.File("a.exr")));
+        Assert.Contains("above the memory budget of 10 KiB", File.ReadAllText(dir.File("jobs.log")), StringComparison.Ordinal);
+    }
+
     [Theory]
     [InlineData("jobs:\n  - { scene: s.yaml }\n", ":2:5: a job needs 'out'")]
     [InlineData("jobs:\n  - { scene: s.yaml, out: a.exr, colour: red }\n", ":2:34: unknown key 'colour' in a job")]

@@ -60,6 +60,31 @@ public sealed class BrightRenderTests
     }
 
     /// <summary>
+    /// The wide sums of a bright film are held to what the memory budget leaves after the render's
+    /// estimate (common practice: our own rule, README). 64² pixels at 1e30: the estimate is
+    /// 4096 · (116 + 180) bytes, 1.16 MiB; each pixel's wide sums take 248 bytes (3 channels of 3 + 5
+    /// words, and the object) and the table 8 a pixel, 0.99 MiB in all: above what 2 MiB leaves, within
+    /// what 3 MiB leaves.
+    /// </summary>
+    [Fact]
+    public void Wide_sums_beyond_what_the_budget_leaves_stop_the_render_with_one_line()
+    {
+        using var dir = new TempFolder();
+        File.WriteAllText(dir.File("furnace.yaml"), FurnaceScene("1e30").Replace("resolution: [8, 6]", "resolution: [64, 64]", StringComparison.Ordinal));
+        (int code, _, string err) = Run("--max-memory", "2M", "render", dir.File("furnace.yaml"), "--spp", "2", "--out", dir.File("hot.pfm"));
+        Assert.Equal(2, code);
+        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        Assert.Contains("the exact sums of the", err, StringComparison.Ordinal);
+        Assert.Contains("at most 1312 bytes a pixel", err, StringComparison.Ordinal);
+        Assert.Contains("--max-memory", err, StringComparison.Ordinal);
+        Assert.False(File.Exists(dir.File("hot.pfm")));
+
+        (code, _, err) = Run("--max-memory", "3M", "render", dir.File("furnace.yaml"), "--spp", "2", "--out", dir.File("hot.pfm"));
+        Assert.True(code == 0, err);
+        Assert.All(ImageFile.Read(dir.File("hot.pfm")).Image.Data, v => Assert.Equal(1e30f, v));
+    }
+
+    /// <summary>
     /// 1e39 is above the largest binary32 value, (2 − 2^-23)·2^127 ≈ 3.4028e38 (IEEE 754-2019, table
     /// 3.2): the PFM holds it as infinite, and the render says so on standard output.
     /// </summary>

@@ -128,13 +128,13 @@ public sealed class StudyCommandTests
     [Fact]
     public void A_study_too_large_for_memory_is_refused_before_anything_is_rendered()
     {
-        // 8192² pixels × 3 values × (16 bytes × 2 configurations × 3 spp + 4 bytes × 2 × 8 replicates) ≈ 30 GiB.
+        // 8192² pixels × (3 values × (20 bytes × 2 configurations × 3 spp + 4 bytes × 2 × 8 replicates) + 352) ≈ 56.5 GiB.
         using var dir = new TempFolder();
         dir.Write("s.yaml", Scene);
         dir.Write("study.yaml", "scene: s.yaml\nresolution: [8192, 8192]\nreference: { spp: 4 }\nspp: [1, 2, 4]\nreplicates: 8\nconfigurations:\n  - { name: a, generator: random }\n  - { name: b, generator: sobol }\n");
         (int code, _, string err) = Run("study", dir.File("study.yaml"), "--out", dir.File("out"), "--quiet");
         Assert.Equal(2, code);
-        Assert.Contains("above the 8 GiB limit", err, StringComparison.Ordinal);
+        Assert.Contains("a study of 8192x8192 pixels, 2 configurations, 3 sample counts and 8 replicates needs about 56.5 GiB, above the memory budget of 2 GiB", err, StringComparison.Ordinal);
         Assert.False(Directory.Exists(dir.File("out")));
     }
 

@@ -45,21 +45,39 @@ public static class CaseImages
         return c.Source switch
         {
             RenderSource r => Render(c, r, workDirectory, threads),
-            ImagesSource i => FromFiles(c, ReadReference(c, i.Location), spp => i.Files[spp]),
+            ImagesSource i => FromFiles(c, ReadReference(c, i.Location, i.Files.Values.Max(f => f.Count)), spp => i.Files[spp]),
             CommandSource cmd => Run(c, cmd, workDirectory, log),
             _ => throw new InvalidOperationException("unknown case source"),
         };
     }
 
-    private static CaseMeasurements Render(CheckCase c, RenderSource r, string workDirectory, int threads)
+    /// <summary>
+    /// Refuses, before any case runs, a render case whose replicates would need more than the memory
+    /// budget (its scene's resolution is declared); a case of files or of a command is checked when its
+    /// reference's header is read, before any replicate is read or run.
+    /// </summary>
+    /// <exception cref="SceneException">The case's scene does not load or its estimate is above the budget.</exception>
+    public static void RequireMemory(CheckCase c)
     {
-        var study = new StudyDefinition(c.Location, r.ScenePath, c.Reference, c.Spp, c.Seeds.Count, 0, [r.Configuration with { Name = c.Name }])
+        ArgumentNullException.ThrowIfNull(c);
+        if (c.Source is RenderSource r)
+        {
+            StudyPipeline.LoadScene(AsStudy(c, r, 1), $"case '{c.Name}'");
+        }
+    }
+
+    private static StudyDefinition AsStudy(CheckCase c, RenderSource r, int threads) =>
+        new(c.Location, r.ScenePath, c.Reference, c.Spp, c.Seeds.Count, 0, [r.Configuration with { Name = c.Name }])
         {
             Resolution = r.Resolution,
             Threads = threads,
             Seeds = c.Seeds,
         };
-        SceneDescription description = StudyPipeline.LoadScene(study);
+
+    private static CaseMeasurements Render(CheckCase c, RenderSource r, string workDirectory, int threads)
+    {
+        StudyDefinition study = AsStudy(c, r, threads);
+        SceneDescription description = StudyPipeline.LoadScene(study, $"case '{c.Name}'");
         var cache = new StudyCache(Path.Combine(workDirectory, "cache"));
         var runner = new StudyRunner(study, new StudyEnvironment(Scene.Build(description), description.Sha256, description.Render.MaxDepth, threads, cache));
         ReferenceImage reference = c.Reference.Path is { } path
@@ -72,7 +90,13 @@ public static class CaseImages
         return new CaseMeasurements(reference, errors, moments, result.FinalImages[c.Name], nonFinite);
     }
 
-    private static ReferenceImage ReadReference(CheckCase c, string location)
+    /// <summary>
+    /// Reads the case's reference, its header checked against the budget with what measuring
+    /// <paramref name="replicates"/> images of that size at each spp holds: per spp the replicates'
+    /// per-pixel sums (<see cref="PixelMoments"/>, two doubles per value), each replicate's image at the
+    /// largest spp and the one being read (three floats a pixel each).
+    /// </summary>
+    private static ReferenceImage ReadReference(CheckCase c, string location, int replicates)
     {
         string path = c.Reference.Path!;
         if (!File.Exists(path))
@@ -80,7 +104,8 @@ public static class CaseImages
             throw new SceneException($"{location}: the reference {path} does not exist");
         }
 
-        return ReferenceImage.Read(path, c.Reference.Spp);
+        long perPixel = (c.Spp.Count * 3L * 2 * sizeof(double)) + ((replicates + 1L) * ImageLimits.DecodedBytesPerPixel);
+        return ReferenceImage.Read(path, c.Reference.Spp, perPixel, $"and measuring case '{c.Name}' ({c.Spp.Count} sample counts, {replicates} replicates)");
     }
 
     /// <summary>Reads every replicate file, checks its size against the reference, and measures it.</summary>
@@ -132,6 +157,8 @@ public static class CaseImages
 
     private static CaseMeasurements Run(CheckCase c, CommandSource cmd, string workDirectory, Action<string>? log)
     {
+        // Read first: a reference that is missing or too large for the budget stops the case before the user's renderer runs.
+        ReferenceImage reference = ReadReference(c, c.Location, c.Seeds.Count);
         string folder = Path.Combine(workDirectory, c.Name);
         Directory.CreateDirectory(folder);
         var outputs = new Dictionary<int, IReadOnlyList<string>>();
@@ -163,7 +190,7 @@ public static class CaseImages
             outputs[spp] = files;
         }
 
-        return FromFiles(c, ReadReference(c, c.Location), spp => outputs[spp]);
+        return FromFiles(c, reference, spp => outputs[spp]);
     }
 
     private static void RunOnce(CommandSource cmd, Dictionary<string, string> values, string logPath, string caseName)

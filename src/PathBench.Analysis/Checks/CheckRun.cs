@@ -35,6 +35,12 @@ public static class CheckRun
             throw new InvalidOperationException($"case '{name}' asserts mse_at_most against a baseline: pass --baseline FILE (made by 'pathbench baseline')");
         }
 
+        // Every render case's memory is known from its scene: refused before the first case runs.
+        foreach (CheckCase c in suite.Cases)
+        {
+            CaseImages.RequireMemory(c);
+        }
+
         DateTime started = DateTime.UtcNow;
         var verdicts = new List<Verdict>();
         var figures = new Dictionary<string, CaseFigures>(StringComparer.Ordinal);

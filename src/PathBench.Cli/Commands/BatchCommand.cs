@@ -50,7 +50,9 @@ internal static class BatchCommand
                 }
 
                 bool resume = File.Exists(job.Accumulation);
-                string[] args = [job.Reference ? "reference" : "render", job.Scene, "--out", job.Out, "--checkpoint", job.Accumulation, .. job.Options, .. resume ? new[] { "--resume" } : []];
+                // Each job runs as its own command line, which sets its own budget: the batch's goes with it.
+                string budget = MemoryBudget.Current.Bytes.ToString(CultureInfo.InvariantCulture);
+                string[] args = ["--max-memory", budget, job.Reference ? "reference" : "render", job.Scene, "--out", job.Out, "--checkpoint", job.Accumulation, .. job.Options, .. resume ? new[] { "--resume" } : []];
                 Log($"{job.Out}: {(resume ? "resuming" : "starting")}: pathbench {string.Join(' ', args)}");
                 var clock = Stopwatch.StartNew();
                 using var jobErr = new StringWriter(CultureInfo.InvariantCulture);

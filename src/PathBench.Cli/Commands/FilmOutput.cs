@@ -22,11 +22,23 @@ internal static class FilmOutput
     /// with VmHWM on a 2000² render at 1 spp: 179 bytes a pixel above the idle process writing EXR,
     /// 146 writing PNG, 290 for a reference at 2 spp, so 116 of film plus 63, 30 and 174.
     /// </summary>
+    /// <remarks>
+    /// The films' wide sums (pixels with sample values of 2^32 or more, up to 1312 bytes a pixel, see
+    /// <c>WideSums</c>) cannot be estimated from declared sizes, since no size declares how bright a
+    /// sample will be: they are held to what the budget leaves after this estimate
+    /// (<see cref="WideRoom"/>, <see cref="Film.WideBytesLimit"/>) as they are taken.
+    /// </remarks>
     public static void RequireMemory(int width, int height, int films, bool reference, string what)
     {
-        long perPixel = ((long)films * Film.BytesPerPixel) + (reference ? 180 : 72);
+        long perPixel = PerPixel(films, reference);
         MemoryBudget.Current.Require((Int128)width * height * perPixel, FormattableString.Invariant($"{what} of {width}x{height} pixels ({perPixel} bytes a pixel)"));
     }
+
+    /// <summary>What the memory budget leaves for the films' wide sums after <see cref="RequireMemory"/>'s estimate.</summary>
+    public static long WideRoom(int width, int height, int films, bool reference) =>
+        MemoryBudget.Current.Bytes - ((long)width * height * PerPixel(films, reference));
+
+    private static long PerPixel(int films, bool reference) => ((long)films * Film.BytesPerPixel) + (reference ? 180 : 72);
 
     /// <summary>Writes the image (and for a reference the variance image); returns the mean variance (0 for a plain image).</summary>
     public static double WriteImage(string outPath, Film film, int spp, bool reference)

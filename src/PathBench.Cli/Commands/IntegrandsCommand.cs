@@ -1,6 +1,7 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Numerics;
+using PathBench.Io;
 using PathBench.Sampling.Analysis;
 using PathBench.Sampling.Generators;
 
@@ -39,6 +40,11 @@ internal static class IntegrandsCommand
                 throw new CliUsageException($"--min-count and --max-count must be powers of two, got {lo} and {hi}");
             }
 
+            // Before any point is drawn: one estimate (a double) per count, replicate and integrand, and
+            // each worker's generator tables for the largest count.
+            int ladder = BitOperations.Log2((uint)hi) - BitOperations.Log2((uint)lo) + 1;
+            Int128 bytes = ((Int128)ladder * k * TestIntegrands.All.Count * sizeof(double)) + ((Int128)hi * SamplerOptions.GeneratorBytesPerPoint * t);
+            MemoryBudget.Current.Require(bytes, FormattableString.Invariant($"--min-count {lo} --max-count {hi} ({ladder} counts) --replicates {k} --threads {t}"));
             SamplerSpec spec = sampler.Spec(parse, lo);
             IReadOnlyList<IntegrandConvergence> results = ConvergenceStudy.Run(spec.Generator, spec.Randomize, spec.Antithetic, lo, hi, k, spec.Seed, t);
 

@@ -71,6 +71,7 @@ internal static class MergeCommand
                 if (merged is null)
                 {
                     merged = film;
+                    merged.WideBytesLimit = FilmOutput.WideRoom(film.Width, film.Height, 2, asReference);
                 }
                 else
                 {

@@ -1,6 +1,7 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Text.Json;
+using PathBench.Io;
 using PathBench.Sampling.Generators;
 
 namespace PathBench.Cli.Commands;
@@ -30,6 +31,9 @@ internal static class PointsCommand
             SamplerOptions.RequireAtLeast("--count", n, 1);
             SamplerOptions.RequireAtLeast("--dims", d, 1);
             (int px, int py) = SamplerOptions.ParsePixel(parse.GetValue(pixel)!);
+            // The points are streamed (CSV line by line, JSON flushed as it grows), so only the
+            // generator's tables grow with --count.
+            MemoryBudget.Current.Require((Int128)n * SamplerOptions.GeneratorBytesPerPoint, FormattableString.Invariant($"the generator's tables for --count {n}"));
             PointSampler s = sampler.CreateSampler(parse, n, d);
             ulong key = s.PixelKey(px, py);
             if (parse.GetValue(format) == "json")
@@ -56,6 +60,10 @@ internal static class PointsCommand
                         }
 
                         json.WriteEndArray();
+                        if (json.BytesPending >= JsonOutput.FlushBytes)
+                        {
+                            json.Flush();
+                        }
                     }
 
                     json.WriteEndArray();

@@ -66,6 +66,8 @@ internal static class RenderSession
     public static SessionOutcome Run(CliIo io, RenderJob job, RenderIdentity identity, SessionPlan plan, Accumulation? resumed)
     {
         Film film = resumed?.Film ?? new Film(identity.Width, identity.Height);
+        // Held to what the budget leaves after the render's estimate (a reference's, the larger).
+        film.WideBytesLimit = FilmOutput.WideRoom(identity.Width, identity.Height, 1, reference: true);
         int done = resumed is null ? plan.Target.First : resumed.Ranges[0].End;
         Action? stall = StallHook(io);
         using var signals = new StopSignals(stall is null ? null : () => TestLine(io, SignalMarker));

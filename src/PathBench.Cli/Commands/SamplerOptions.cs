@@ -77,6 +77,13 @@ internal sealed class SamplerOptions
         throw new CliUsageException($"--pixel expects X,Y with two non-negative integers, got '{text}'");
     }
 
+    /// <summary>
+    /// Bytes a generator's own tables may take per point of the count it is planned for: the rank-1 lattice's
+    /// component-by-component search holds two doubles a point (RankOneLattice); every other built-in
+    /// generator's tables have a fixed size, and a point file is checked when it is read.
+    /// </summary>
+    public const long GeneratorBytesPerPoint = 2 * sizeof(double);
+
     public static void RequireAtLeast(string option, long value, long min)
     {
         if (value < min)

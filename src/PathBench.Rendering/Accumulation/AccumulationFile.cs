@@ -210,22 +210,24 @@ public static class AccumulationFile
     {
         using var w = new BinaryWriter(s, Encoding.UTF8, leaveOpen: true);
         w.Write(entries.Count);
+        byte[] buffer = new byte[(WideSums.MaxSquareWords * sizeof(ulong)) + 8];
         foreach ((int pixel, WideSums sums) in entries)
         {
             w.Write(pixel);
             for (int c = 0; c < 3; c++)
             {
-                WriteInteger(w, sums.Sum[c]);
-                WriteInteger(w, sums.Squares[c]);
+                WriteInteger(w, sums, c, squares: false, buffer);
+                WriteInteger(w, sums, c, squares: true, buffer);
             }
         }
     }
 
-    private static void WriteInteger(BinaryWriter w, BigInteger value)
+    // The shortest signed little-endian form, as BigInteger.ToByteArray gives it, written without allocating.
+    private static void WriteInteger(BinaryWriter w, WideSums sums, int c, bool squares, byte[] buffer)
     {
-        byte[] bytes = value.ToByteArray(isUnsigned: false, isBigEndian: false);
-        w.Write((ushort)bytes.Length);
-        w.Write(bytes);
+        int n = sums.WriteMinimal(c, squares, buffer);
+        w.Write((ushort)n);
+        w.Write(buffer, 0, n);
     }
 
     private static void ReadWide(Stream s, Film film, string path)
@@ -250,17 +252,20 @@ public static class AccumulationFile
                 throw new AccumulationFileException(path, $"wide pixel {k} has index {pixel}: not after {previous}, outside the film, or a pixel with no samples");
             }
 
-            var sums = new WideSums();
+            var sum = new BigInteger[3];
+            var squares = new BigInteger[3];
             for (int c = 0; c < 3; c++)
             {
-                sums.Sum[c] = ReadInteger(s, buffer, path);
-                sums.Squares[c] = ReadInteger(s, buffer, path);
-                if (sums.Squares[c].Sign < 0)
+                sum[c] = ReadInteger(s, buffer, path);
+                squares[c] = ReadInteger(s, buffer, path);
+                if (squares[c].Sign < 0)
                 {
                     throw new AccumulationFileException(path, $"wide pixel {pixel} has a negative sum of squares");
                 }
             }
 
+            WideSums sums = WideSums.FromIntegers(sum, squares)
+                ?? throw new AccumulationFileException(path, $"wide pixel {pixel} has sums beyond what 2^31 finite samples can reach");
             film.SetWide(pixel, sums);
             previous = pixel;
         }

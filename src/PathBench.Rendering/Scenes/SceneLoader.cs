@@ -58,6 +58,26 @@ public static class SceneLoader
     /// </summary>
     internal const double ParallelTolerance = 1e-9;
 
+    /// <summary>
+    /// The scene-scale range, relative part: every length that defines a shape (a radius, a quad
+    /// edge, a mesh's extent) and, with a lens, the aperture radius and focus distance must be at least
+    /// this times 1 + the largest coordinate magnitude of that shape (of the camera's position). Rays
+    /// leave surfaces 1e-9 · (1 + the largest coordinate magnitude) off them (<see cref="Geometry.RayOffset"/>),
+    /// so a feature above this floor is at least 1000 offsets across and self-intersection is avoided
+    /// at below 0.1 % of its size (common practice); far below it, hits cannot be computed reliably
+    /// (a radius of 1e-200 squares to 0). The absolute part is the 1e100 bound on every number.
+    /// </summary>
+    public const double MinRelativeLength = 1e-6;
+
+    /// <summary>
+    /// The scene-scale range, upper part for flat shapes: a quad's edges, a disk's radius and a mesh's
+    /// extent are at most this. Their normals and areas come from cross products, whose squared length
+    /// is the fourth power of the lengths (a quad with edges of 1e99 overflowed to a NaN normal and
+    /// rendered black); 1e60 keeps every such product below 1e240. A sphere's radius may reach the
+    /// 1e100 of every number: its hits are computed from the exact |f|² − r² (Primitive).
+    /// </summary>
+    public const double MaxFlatLength = 1e60;
+
     private const string AlbedoWhy = "; an albedo above 1 would reflect more light than arrives";
     private const string F0Why = "; an f0 above 1 would reflect more light than arrives";
 
@@ -389,11 +409,19 @@ public static class SceneLoader
         }
 
         double focus = ScaledVector.Length(view); // focusing on the look_at point is what a user who set no distance expects
-        if (cam.TryGet("focus_distance", out YamlNode focusNode))
+        bool focusGiven = cam.TryGet("focus_distance", out YamlNode focusNode);
+        if (focusGiven)
         {
             focus = reader.Number(focusNode, cam.Of("focus_distance"));
             if (!(focus > 0))
                 throw reader.Error(focusNode, $"{cam.Of("focus_distance")} must be > 0, got {YamlNodeReader.Text(focusNode)}");
+        }
+
+        if (aperture > 0)
+        {
+            // A pinhole uses neither; with a lens both are lengths of the scene.
+            RequireScale(reader, apertureNode!, cam.Of("aperture_radius"), aperture, Largest(position));
+            RequireScale(reader, focusGiven ? focusNode : lookAtNode, !focusGiven ? $"the focus distance (from 'position' to {cam.Of("look_at")})" : cam.Of("focus_distance"), focus, Largest(position));
         }
         return new CameraDescription(position, lookAt, up, fov, width, height, aperture, focus);
     }
@@ -514,6 +542,7 @@ public static class SceneLoader
     {
         Vec3d center = reader.Vector(s.Required("center"), s.Of("center"));
         double radius = PositiveNumber(reader, s, "radius");
+        RequireScale(reader, s.Required("radius"), s.Of("radius"), radius, Largest(center));
         return new SphereShape(MaterialName(reader, s, materials), center, radius);
     }
 
@@ -523,6 +552,9 @@ public static class SceneLoader
         Vec3d edgeU = NonZeroVector(reader, s, "edge_u");
         YamlNode edgeVNode = s.Required("edge_v");
         Vec3d edgeV = NonZeroVector(reader, s, "edge_v");
+        double reach = Math.Max(Largest(corner), Math.Max(Largest(corner + edgeU), Math.Max(Largest(corner + edgeV), Largest(corner + edgeU + edgeV))));
+        RequireScale(reader, s.Required("edge_u"), $"the length of {s.Of("edge_u")}", ScaledVector.Length(edgeU), reach, flat: true);
+        RequireScale(reader, edgeVNode, $"the length of {s.Of("edge_v")}", ScaledVector.Length(edgeV), reach, flat: true);
         if (Parallel(edgeU, edgeV))
             throw reader.Error(edgeVNode, $"'edge_u' and 'edge_v' in {s.What} are parallel; the quad has no area");
         return new QuadShape(MaterialName(reader, s, materials), corner, edgeU, edgeV);
@@ -533,6 +565,7 @@ public static class SceneLoader
         Vec3d center = reader.Vector(s.Required("center"), s.Of("center"));
         Vec3d normal = NonZeroVector(reader, s, "normal");
         double radius = PositiveNumber(reader, s, "radius");
+        RequireScale(reader, s.Required("radius"), s.Of("radius"), radius, Largest(center), flat: true);
         // Scale by the largest component before normalising: a tiny but valid normal such as
         // [0, 1e-170, 0] would square to 0 and normalise to NaN.
         normal /= Math.Max(Math.Abs(normal.X), Math.Max(Math.Abs(normal.Y), Math.Abs(normal.Z)));
@@ -550,7 +583,10 @@ public static class SceneLoader
         ObjMesh obj = meshes.Get(file, fileNode);
 
         if (!s.Has("transform"))
+        {
+            RequireMeshScale(reader, fileNode, s, file, obj.Positions);
             return new MeshShape(material, file, obj.Positions, obj.Normals, obj.TexCoords);
+        }
 
         int corners = obj.Positions.Length;
         var positions = new Vec3d[corners];
@@ -568,6 +604,7 @@ public static class SceneLoader
             if (!normals[i].IsFinite)
                 throw reader.Error(transformNode, $"the transform of {s.What} takes a normal of '{YamlNodeReader.Shown(file)}' to a non-finite direction");
         }
+        RequireMeshScale(reader, transformNode, s, file, positions);
         if (transform.FlipsWinding)
         {
             // A mirror reverses the winding; swapping corners 1 and 2 keeps the winding-order normal on the side the shading normals say is outside.
@@ -639,6 +676,44 @@ public static class SceneLoader
             ? $"; did you mean '{YamlNodeReader.Shown(near)}'?"
             : $"; the scene defines: {string.Join(", ", materials.Keys.Take(10).Select(YamlNodeReader.Shown))}{(materials.Count > 10 ? ", ..." : "")}";
         throw reader.Error(node, $"unknown material '{YamlNodeReader.Shown(name)}' in {s.What}{hint}");
+    }
+
+    private static double Largest(Vec3d p) => Math.Max(Math.Abs(p.X), Math.Max(Math.Abs(p.Y), Math.Abs(p.Z)));
+
+    /// <summary>Refuses a length below the scene-scale range (<see cref="MinRelativeLength"/>) for a shape whose coordinates reach <paramref name="reach"/> in magnitude.</summary>
+    private static void RequireScale(YamlNodeReader reader, YamlNode node, string what, double length, double reach, bool flat = false)
+    {
+        double floor = MinRelativeLength * (1 + reach);
+        if (!(length >= floor))
+        {
+            throw reader.Error(node, string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"{what} is {length:G4}, below the scene-scale range: lengths must be at least 1e-6 · (1 + the largest coordinate magnitude, here {reach:G4}) = {floor:G4}"));
+        }
+
+        if (flat && length > MaxFlatLength)
+        {
+            throw reader.Error(node, string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"{what} is {length:G4}, above the scene-scale range: quads, disks and meshes must be at most 1e60 across"));
+        }
+    }
+
+    /// <summary>A mesh's extent (the longest side of its bounding box) in the scene-scale range; a triangle smaller than that is allowed (a degenerate one is never hit).</summary>
+    private static void RequireMeshScale(YamlNodeReader reader, YamlNode node, MappingView s, string file, Vec3d[] positions)
+    {
+        if (positions.Length == 0)
+        {
+            return;
+        }
+
+        Vec3d lo = positions[0], hi = positions[0];
+        foreach (Vec3d p in positions)
+        {
+            lo = Vec3d.Min(lo, p);
+            hi = Vec3d.Max(hi, p);
+        }
+
+        Vec3d extent = hi - lo;
+        RequireScale(reader, node, $"the extent of '{YamlNodeReader.Shown(file)}' in {s.What}", Largest(extent), Math.Max(Largest(lo), Largest(hi)), flat: true);
     }
 
     private static double PositiveNumber(YamlNodeReader reader, MappingView s, string key)

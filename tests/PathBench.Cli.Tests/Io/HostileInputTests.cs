@@ -104,6 +104,12 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         { "pointstats 65536 x 4096", ["pointstats", "--generator", "sobol", "--count", "65536", "--dims", "4096"], "--count 65536 --dims 4096" },
         { "side-by-side strip", ["compare", "{dir}/wide.pfm", "{dir}/wide.pfm", "--side-by-side", "{dir}/s.png"], "beyond the encoder's limit" },
         { "budget lowered", ["--max-memory", "100K", "compare", "{dir}/a.pfm", "{dir}/a.pfm"], "above the memory budget of 100 KiB" },
+        { "study of 8192²", ["study", "{dir}/big.study.yaml", "--out", "{dir}/st", "--quiet"], "a study of 8192x8192 pixels, 2 configurations, 2 sample counts and 4 replicates needs about" },
+        { "check render case of 8192²", ["check", "{dir}/big-render.suite.yaml", "--work", "{dir}/w"], "case 'big' of 8192x8192 pixels, 1 configurations, 1 sample counts and 2 replicates needs about" },
+        // 64² decodes in 48 KiB; measuring the case holds 4096 × 132 bytes more, above 100 KiB.
+        { "check files case", ["--max-memory", "100K", "check", "{dir}/files.suite.yaml", "--work", "{dir}/w"], "and measuring case 'files' (1 sample counts, 2 replicates) needs about" },
+        { "integrands 100000 replicates", ["--max-memory", "1M", "integrands", "--generator", "sobol", "--replicates", "100000"], "--min-count 4 --max-count 4096 (11 counts) --replicates 100000" },
+        { "points 10^6", ["--max-memory", "1M", "points", "--generator", "lattice", "--count", "1000000"], "the generator's tables for --count 1000000 needs about 15.3 MiB" },
     };
 
     [Theory]
@@ -117,7 +123,8 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         (int code, string err, long peak) = RunChild(args, peakFile);
         output.WriteLine($"{name}: exit {code}, peak resident {peak / 1048576.0:F1} MiB: {err.Trim()}");
         Assert.True(code == 2, $"{name}: exit {code}: {err}");
-        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        // check's progress names each case it starts ("pathbench: case NAME"); the refusal is the one error line.
+        Assert.Single(err.TrimEnd('\n').Split('\n'), line => !line.StartsWith("pathbench: case ", StringComparison.Ordinal));
         Assert.Contains(expect, err, StringComparison.Ordinal);
         Assert.True(peak > 0 && peak < PeakBound, $"{name}: peak resident set {peak} bytes");
     }
@@ -414,6 +421,11 @@ public sealed class HostileInputTests(ITestOutputHelper output)
         File.WriteAllBytes(dir.File("big.png"), PngDeclaring(9459, 9459));
         File.WriteAllBytes(dir.File("big.exr"), ExrDeclaring(dir.File("small.exr"), 9459, 9459));
         dir.Write("big.yaml", Scene.Replace("resolution: [24, 16]", "resolution: [8192, 8192]", StringComparison.Ordinal));
+        dir.Write("big.study.yaml", "scene: big.yaml\nreference: { spp: 4 }\nspp: [1, 2]\nreplicates: 4\nconfigurations:\n  - { name: a, generator: random }\n  - { name: b, generator: sobol }\n");
+        dir.Write("big-render.suite.yaml", "reference: { spp: 4 }\ncases:\n  - { name: big, render: { scene: big.yaml, generator: random }, spp: 4, replicates: 2, assert: { nonfinite_at_most: 0 } }\n");
+        WritePfm(dir.File("r1.pfm"), 64, 64);
+        WritePfm(dir.File("r2.pfm"), 64, 64);
+        dir.Write("files.suite.yaml", "reference: { path: a.pfm }\ncases:\n  - { name: files, images: [ \"r*.pfm\" ], spp: 16, assert: { nonfinite_at_most: 0 } }\n");
     }
 
     /// <summary>A valid 4x4 grey PNG whose IHDR then claims another size (its CRC recomputed: PNG specification, "CRC algorithm").</summary>

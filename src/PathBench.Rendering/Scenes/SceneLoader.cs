@@ -783,7 +783,7 @@ public static class SceneLoader
                     // Strict UTF-8: a binary file is refused as "not UTF-8 text" without quoting any of it.
                     using FileStream stream = InputFile.OpenRead(full, reason => reader.Error(fileNode, $"cannot read mesh file '{YamlNodeReader.Shown(file)}': {OneLine(reason)}"));
                     using var text = new StreamReader(stream, new UTF8Encoding(false, throwOnInvalidBytes: true), detectEncodingFromByteOrderMarks: true);
-                    mesh = ObjReader.Read(text, display);
+                    mesh = ObjReader.Read(text, display, bytesBefore: _triangles * ObjReader.BytesPerTriangle);
                 }
                 catch (DecoderFallbackException)
                 {
@@ -804,6 +804,10 @@ public static class SceneLoader
                 throw reader.Error(fileNode, FormattableString.Invariant(
                     $"mesh file '{YamlNodeReader.Shown(file)}' brings the scene to {_triangles} triangles, above the limit of {MaxTriangles} (2^26)"));
             }
+
+            // A mesh used again is not read again, but its triangles are built again.
+            MemoryBudget.Current.Require(_triangles * ObjReader.BytesPerTriangle, FormattableString.Invariant(
+                $"{reader.SourcePath}:{fileNode.Start.Line}:{fileNode.Start.Column}: building the scene's {_triangles} mesh triangles ({ObjReader.BytesPerTriangle} bytes a triangle)"));
             return mesh;
         }
     }

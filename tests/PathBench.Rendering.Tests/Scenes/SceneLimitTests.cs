@@ -1,4 +1,5 @@
 using System.Text;
+using PathBench.Io;
 using PathBench.Rendering.Scenes;
 
 namespace PathBench.Rendering.Tests.Scenes;
@@ -68,9 +69,47 @@ public sealed class SceneLimitTests
         for (int i = 0; i < 1025; i++)
             scene.Append("  - { type: mesh, file: meshes/big.obj, material: wall }\n");
 
-        SceneException e = Assert.Throws<SceneException>(() => SceneLoader.Parse(scene.ToString(), "room.yaml", folder.Path));
+        // The count limit is what is tested here: a budget far above what 2^26 triangles would need.
+        SceneException e = WithBudget(1L << 40, () => Assert.Throws<SceneException>(() => SceneLoader.Parse(scene.ToString(), "room.yaml", folder.Path)));
         // Shape k is on line 3 + k; column 25 is the value of 'file'.
         Assert.Equal("room.yaml:1028:25: mesh file 'meshes/big.obj' brings the scene to 67174400 triangles, above the limit of 67108864 (2^26)", e.Message);
+    }
+
+    [Fact]
+    public void A_mesh_is_held_to_the_memory_budget_while_it_is_read()
+    {
+        // 3 vertex entries (64 bytes each) and 100 one-triangle faces (1024 bytes each): a budget of
+        // 192 + 50 · 1024 bytes takes 50 faces; the 51st, on line 3 + 51, is refused before it is stored.
+        string obj = "v 0 0 0\nv 1 0 0\nv 0 1 0\n" + string.Concat(Enumerable.Repeat("f 1 2 3\n", 100));
+        MemoryBudgetException e = WithBudget(192 + (50 * 1024), () => Assert.Throws<MemoryBudgetException>(() => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)));
+        Assert.StartsWith("m.obj:54:1: reading the scene's meshes up to here (1024 bytes a triangle, 64 a vertex entry) needs about 51.2 KiB, above the memory budget of 50.2 KiB;", e.Message);
+        Assert.Contains("--max-memory", e.Message);
+        Assert.Equal(100, WithBudget(192 + (100 * 1024), () => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)).TriangleCount);
+    }
+
+    [Fact]
+    public void A_mesh_used_twice_counts_its_triangles_twice_against_the_budget()
+    {
+        using var folder = new TempFolder();
+        folder.Write("tile.obj", "v 0 0 0\nv 1 0 0\nv 0 1 0\n" + string.Concat(Enumerable.Repeat("f 1 2 3\n", 100)));
+        string scene = Head + "shapes:\n  - { type: mesh, file: tile.obj, material: wall }\n  - { type: mesh, file: tile.obj, material: wall }\n";
+        MemoryBudgetException e = WithBudget(150 * 1024, () => Assert.Throws<MemoryBudgetException>(() => SceneLoader.Parse(scene, "room.yaml", folder.Path)));
+        // The second shape is on line 5; column 25 is the value of 'file'.
+        Assert.StartsWith("room.yaml:5:25: building the scene's 200 mesh triangles (1024 bytes a triangle) needs about 200 KiB, above the memory budget of 150 KiB;", e.Message);
+    }
+
+    private static T WithBudget<T>(long bytes, Func<T> body)
+    {
+        MemoryBudget saved = MemoryBudget.Current;
+        MemoryBudget.Current = new MemoryBudget(bytes);
+        try
+        {
+            return body();
+        }
+        finally
+        {
+            MemoryBudget.Current = saved;
+        }
     }
 
     [Fact]

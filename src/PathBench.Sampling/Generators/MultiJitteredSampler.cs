@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -42,13 +43,27 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         const int MaxTabled = 64;
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
+        uint p = PairSeed(pixel, pair);
+        int vectored = Vector256.IsHardwareAccelerated ? xs.Length & ~7 : 0;
+        for (int at = 0; at < vectored; at += 8)
+        {
+            Points8(pixel, pair, p, firstIndex + (uint)at, xs.Slice(at, 8), ys.Slice(at, 8));
+        }
+
+        if (vectored == xs.Length)
+        {
+            return;
+        }
+
+        firstIndex += (uint)vectored;
+        xs = xs[vectored..];
+        ys = ys[vectored..];
         if (m > MaxTabled || n > MaxTabled)
         {
             base.SamplePairBatch(pixel, firstIndex, pair, xs, ys);
             return;
         }
 
-        uint p = PairSeed(pixel, pair);
         Span<uint> columnShuffle = stackalloc uint[(int)m];
         Span<uint> rowShuffle = stackalloc uint[(int)n];
         columnShuffle.Fill(uint.MaxValue);
@@ -71,6 +86,30 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             }
 
             (xs[i], ys[i]) = Point(pixel, pair, s, sx, sy);
+        }
+    }
+
+    // Eight consecutive points of a pair: the index shuffle and the column and row shuffles each run as one
+    // eight-lane permutation (KenslerPermutation.Permute8, the same integers as the scalar form).
+    private void Points8(ulong pixel, int pair, uint p, uint first, Span<double> xs, Span<double> ys)
+    {
+        uint m = (uint)_grid.Columns;
+        Vector256<uint> lane = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+        Vector256<uint> s = KenslerPermutation.Permute8(Vector256.Create(first) + lane, (uint)Count, p * 0x51633e2du);
+        Span<uint> columns = stackalloc uint[8];
+        Span<uint> rows = stackalloc uint[8];
+        for (int k = 0; k < 8; k++)
+        {
+            uint sk = s.GetElement(k);
+            columns[k] = sk % m;
+            rows[k] = sk / m;
+        }
+
+        Vector256<uint> sx = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)columns), m, p * 0x68bc21ebu);
+        Vector256<uint> sy = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)rows), (uint)_grid.Rows, p * 0x02e5be93u);
+        for (int k = 0; k < 8; k++)
+        {
+            (xs[k], ys[k]) = Point(pixel, pair, s.GetElement(k), sx.GetElement(k), sy.GetElement(k));
         }
     }
 

@@ -89,13 +89,70 @@ public static class KenslerPermutation
         return w | (w >> 16);
     }
 
+    /// <summary>
+    /// <see cref="Permute"/>(i + k, l, p) for k = 0 … <c>images.Length</c> − 1 into <paramref name="images"/>: one seed,
+    /// consecutive indices, eight lanes at a time on 256-bit vectors where the machine has them (each lane
+    /// cycle-walks under a mask until all are in range), the rest one at a time. The same integers as the scalar form.
+    /// </summary>
+    public static void PermuteRun(uint first, uint l, uint p, Span<uint> images)
+    {
+        int done = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            Vector256<uint> lane = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+            for (; done + 8 <= images.Length; done += 8)
+            {
+                Permute8(Vector256.Create(first + (uint)done) + lane, l, p).CopyTo(images.Slice(done, 8));
+            }
+        }
+
+        for (; done < images.Length; done++)
+        {
+            images[done] = Permute(first + (uint)done, l, p);
+        }
+    }
+
+    /// <summary>Lanes of <see cref="Permute"/>(i, l, p) under one seed: the scalar steps on eight lanes at once.</summary>
+    internal static Vector256<uint> Permute8(Vector256<uint> i, uint l, uint p)
+    {
+        if (l <= 1)
+        {
+            return Vector256<uint>.Zero;
+        }
+
+        // ((ulong)i + p) % l with i < l is (i + q) % l for q = p % l, and i + q < 2l: subtract l once where the
+        // true sum reaches l, that is where the 32-bit sum is at least l or has wrapped past 2^32 (then it is below q).
+        Vector256<uint> limit = Vector256.Create(l);
+        Vector256<uint> q = Vector256.Create(p % l);
+        Vector256<uint> sum = Walk8(i, l, Vector256.Create(p)) + q;
+        Vector256<uint> over = Vector256.GreaterThanOrEqual(sum, limit) | Vector256.LessThan(sum, q);
+        return sum - (over & limit);
+    }
+
     /// <summary>Lanes of <see cref="Permute"/>(0, l, p): the scalar steps on eight lanes at once.</summary>
     internal static Vector256<uint> Permute8(uint l, Vector256<uint> p)
+    {
+        Vector256<uint> i = Walk8(Vector256<uint>.Zero, l, p);
+
+        // ((ulong)i + p) % l with i < l: the same integer as (i + p % l) % l, which stays below 2l.
+        Span<uint> lanes = stackalloc uint[8];
+        i.CopyTo(lanes);
+        for (int k = 0; k < 8; k++)
+        {
+            lanes[k] = (uint)(((ulong)lanes[k] + p.GetElement(k)) % l);
+        }
+
+        return Vector256.Create((ReadOnlySpan<uint>)lanes);
+    }
+
+    // The scalar loop of Permute before its final offset, on eight lanes (l > 1): a lane that has left the
+    // cycle walk keeps its value while the others walk on.
+    [MethodImpl(InliningOptions.HotPath)]
+    private static Vector256<uint> Walk8(Vector256<uint> i, uint l, Vector256<uint> p)
     {
         uint w = MaskBelow(l);
         Vector256<uint> mask = Vector256.Create(w);
         Vector256<uint> limit = Vector256.Create(l);
-        Vector256<uint> i = Vector256<uint>.Zero;
         Vector256<uint> walking = Vector256<uint>.AllBitsSet;
         Vector256<uint> p16 = p >>> 16, p8 = p >>> 8, p23 = p >>> 23, p27 = (p >>> 27) | Vector256<uint>.One;
         do
@@ -124,14 +181,6 @@ public static class KenslerPermutation
         }
         while (walking != Vector256<uint>.Zero);
 
-        // ((ulong)i + p) % l with i < l: the same integer as (i + p % l) % l, which stays below 2l.
-        Span<uint> lanes = stackalloc uint[8];
-        i.CopyTo(lanes);
-        for (int k = 0; k < 8; k++)
-        {
-            lanes[k] = (uint)(((ulong)lanes[k] + p.GetElement(k)) % l);
-        }
-
-        return Vector256.Create((ReadOnlySpan<uint>)lanes);
+        return i;
     }
 }

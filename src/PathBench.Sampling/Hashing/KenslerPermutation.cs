@@ -15,12 +15,18 @@ namespace PathBench.Sampling.Hashing;
 public static class KenslerPermutation
 {
     /// <summary>The image of <paramref name="i"/> under the permutation of [0, <paramref name="l"/>) chosen by <paramref name="p"/>.</summary>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="i"/> is not below <paramref name="l"/> (from such an index the cycle walk need not end).</exception>
     [MethodImpl(InliningOptions.HotPath)]
     public static uint Permute(uint i, uint l, uint p)
     {
         if (l <= 1)
         {
             return 0;
+        }
+
+        if (i >= l)
+        {
+            ThrowOutside(i, l);
         }
 
         uint w = MaskBelow(l);
@@ -94,8 +100,14 @@ public static class KenslerPermutation
     /// consecutive indices, eight lanes at a time on 256-bit vectors where the machine has them (each lane
     /// cycle-walks under a mask until all are in range), the rest one at a time. The same integers as the scalar form.
     /// </summary>
+    /// <exception cref="ArgumentOutOfRangeException">The run reaches past <paramref name="l"/> − 1.</exception>
     public static void PermuteRun(uint first, uint l, uint p, Span<uint> images)
     {
+        if (l > 1 && (ulong)first + (ulong)images.Length > l)
+        {
+            ThrowOutside((uint)Math.Min(uint.MaxValue, (ulong)first + (ulong)images.Length - 1), l);
+        }
+
         int done = 0;
         if (Vector256.IsHardwareAccelerated)
         {
@@ -183,4 +195,8 @@ public static class KenslerPermutation
 
         return i;
     }
+
+    [System.Diagnostics.CodeAnalysis.DoesNotReturn]
+    private static void ThrowOutside(uint i, uint l) =>
+        throw new ArgumentOutOfRangeException(nameof(i), i, FormattableString.Invariant($"index {i} is not below the permutation's length {l}"));
 }

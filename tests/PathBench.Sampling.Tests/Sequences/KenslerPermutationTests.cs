@@ -81,4 +81,15 @@ public sealed class KenslerPermutationTests
             }
         }
     }
+
+    [Fact]
+    public void An_index_at_or_past_the_length_is_refused_rather_than_walked_forever()
+    {
+        // From an index ≥ l the cycle walk can loop forever (Kensler 2013's walk assumes i < l); it is refused instead.
+        Assert.Throws<ArgumentOutOfRangeException>(() => KenslerPermutation.Permute(4, 4, 0x1234));
+        Assert.Throws<ArgumentOutOfRangeException>(() => KenslerPermutation.PermuteRun(2, 4, 0x1234, new uint[3]));
+        var ok = new uint[2];
+        KenslerPermutation.PermuteRun(2, 4, 0x1234, ok);
+        Assert.Equal([KenslerPermutation.Permute(2, 4, 0x1234), KenslerPermutation.Permute(3, 4, 0x1234)], ok);
+    }
 }

@@ -13,10 +13,17 @@ public sealed class RadicalInverseAllocationTests
         // the per-thread tables: the counter must not move (GC.GetAllocatedBytesForCurrentThread is exact).
         var sampler = SamplerCatalog.Create(new SamplerSpec("halton", Randomization.DigitPermutation, false, 64, 3), 200);
         double sum = Sweep(sampler);
-        long before = GC.GetAllocatedBytesForCurrentThread();
-        sum += Sweep(sampler);
-        long allocated = GC.GetAllocatedBytesForCurrentThread() - before;
-        Assert.True(allocated == 0, $"{allocated} bytes allocated for {16 * 64 * 200} coordinates");
+        // An allocation per sample allocates in every pass; one-time runtime work (the tiered JIT
+        // promoting a method) can land in any one, so one of three passes must allocate nothing.
+        var allocated = new long[3];
+        for (int pass = 0; pass < allocated.Length; pass++)
+        {
+            long before = GC.GetAllocatedBytesForCurrentThread();
+            sum += Sweep(sampler);
+            allocated[pass] = GC.GetAllocatedBytesForCurrentThread() - before;
+        }
+
+        Assert.True(allocated.Min() == 0, $"{string.Join(", ", allocated)} bytes allocated in three passes of {16 * 64 * 200} coordinates");
         Assert.True(sum > 0);
     }
 

@@ -30,6 +30,9 @@ public sealed class StudyCommandTests
         Assert.True(code == 0, err);
         Assert.Contains("rnd", output, StringComparison.Ordinal);
         Assert.Contains("equal time", output, StringComparison.Ordinal);
+        // Two rungs give a slope but no interval (no residual degrees of freedom): said, not printed as ±Infinity.
+        Assert.DoesNotContain("Infinity", output, StringComparison.Ordinal);
+        Assert.Contains("[no CI from 2 spp]", output, StringComparison.Ordinal);
 
         using JsonDocument doc = JsonDocument.Parse(File.ReadAllText(dir.File("out/summary.json")));
         JsonElement root = doc.RootElement;

@@ -142,7 +142,9 @@ internal static class StudyCommand
             rows.Add(
             [
                 c.Configuration.Name,
-                c.Slope is { } f ? Inv($"{f.Slope:F2} [{f.SlopeLow:F2}, {f.SlopeHigh:F2}]") : "-",
+                c.Slope is not { } f ? "-"
+                    : double.IsFinite(f.SlopeLow) && double.IsFinite(f.SlopeHigh) ? Inv($"{f.Slope:F2} [{f.SlopeLow:F2}, {f.SlopeHigh:F2}]")
+                    : Inv($"{f.Slope:F2} [no CI from {c.Points.Count} spp]"), // a line through two points has no residual to estimate its spread
                 Theory(c.Theory),
                 Inv($"{last.Mse:G3}"),
                 Inv($"{last.RelMse:G3}"),

@@ -256,15 +256,7 @@ public sealed class BvhTests
         // GC.GetAllocatedBytesForCurrentThread counts exactly.
         var bvh = new Bvh(RandomScene(600));
         int hits = Trace(bvh);
-        // An allocation per query allocates in every pass; one-time runtime work (the tiered JIT
-        // promoting a method) can land in any one, so one of three passes must allocate nothing.
-        var allocated = new long[3];
-        for (int pass = 0; pass < allocated.Length; pass++)
-        {
-            long before = GC.GetAllocatedBytesForCurrentThread();
-            hits += Trace(bvh);
-            allocated[pass] = GC.GetAllocatedBytesForCurrentThread() - before;
-        }
+        long[] allocated = Allocations.OfThreePasses(() => hits += Trace(bvh));
 
         Assert.True(allocated.Min() == 0, $"{string.Join(", ", allocated)} bytes allocated in three passes");
         Assert.True(hits > 0);

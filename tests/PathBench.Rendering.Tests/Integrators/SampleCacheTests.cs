@@ -76,17 +76,7 @@ public sealed class SampleCacheTests
         var cache = new SampleCache(s, DimensionLayout.Total(DeterminismTests.Options.MaxDepth));
         long rays = 0;
         double sum = Pixels();
-        // An allocation per sample or per ray allocates in every pass over the same pixels. One clean
-        // CI run saw 3128 bytes in the one pass measured after the warm-up (halton/digit-permutation,
-        // once in many runs): one-time runtime work, such as the tiered JIT promoting a method, can
-        // land in any pass. So three passes are measured and one of them must allocate nothing.
-        var allocated = new long[3];
-        for (int pass = 0; pass < allocated.Length; pass++)
-        {
-            long before = GC.GetAllocatedBytesForCurrentThread();
-            sum += Pixels();
-            allocated[pass] = GC.GetAllocatedBytesForCurrentThread() - before;
-        }
+        long[] allocated = Allocations.OfThreePasses(() => sum += Pixels());
 
         Assert.True(allocated.Min() == 0, $"{generator}/{randomize}: {string.Join(", ", allocated)} bytes allocated in three passes of {6 * count} samples");
         Assert.True(rays > 0 && sum >= 0);

@@ -13,15 +13,7 @@ public sealed class RadicalInverseAllocationTests
         // the per-thread tables: the counter must not move (GC.GetAllocatedBytesForCurrentThread is exact).
         var sampler = SamplerCatalog.Create(new SamplerSpec("halton", Randomization.DigitPermutation, false, 64, 3), 200);
         double sum = Sweep(sampler);
-        // An allocation per sample allocates in every pass; one-time runtime work (the tiered JIT
-        // promoting a method) can land in any one, so one of three passes must allocate nothing.
-        var allocated = new long[3];
-        for (int pass = 0; pass < allocated.Length; pass++)
-        {
-            long before = GC.GetAllocatedBytesForCurrentThread();
-            sum += Sweep(sampler);
-            allocated[pass] = GC.GetAllocatedBytesForCurrentThread() - before;
-        }
+        long[] allocated = Allocations.OfThreePasses(() => sum += Sweep(sampler));
 
         Assert.True(allocated.Min() == 0, $"{string.Join(", ", allocated)} bytes allocated in three passes of {16 * 64 * 200} coordinates");
         Assert.True(sum > 0);

@@ -214,16 +214,19 @@ public sealed class LightSet
     public double EnvironmentPdf => EnvironmentProbability / (4 * Math.PI);
 
     // A sphere is sampled by its visible cap only from clearly outside it; from inside (or on it), by area.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static bool SeesCapFromOutside(double d2, double r2) => d2 > r2 * (1 + 1e-9);
 
     // 1 − cos θ_max of the cap a sphere of squared radius r2 subtends at squared distance d2,
     // as sin²/(1 + cos) so small caps lose no precision to cancellation.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static double CapOneMinusCos(double d2, double r2)
     {
         double sin2Max = r2 / d2;
         return sin2Max / (1 + Math.Sqrt(Math.Max(0, 1 - sin2Max)));
     }
 
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static (Vec3d Point, Vec3d Normal) SamplePoint(in Primitive prim, double u1, double u2)
     {
         switch (prim.Kind)

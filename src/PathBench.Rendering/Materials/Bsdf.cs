@@ -81,8 +81,12 @@ public static class Bsdf
                 }
 
                 double pdf = hemisphere == HemisphereStrategy.Cosine ? wi.Z / Math.PI : 0.5 / Math.PI;
-                // f·cos/pdf: albedo for cosine sampling, 2·albedo·cos for uniform.
-                Rgb weight = albedo * (wi.Z / Math.PI / pdf);
+                // f·cos/pdf: albedo for cosine sampling, 2·albedo·cos for uniform. For cosine
+                // sampling the factor is x / x with x = pdf, exactly 1 in IEEE 754 for any finite
+                // positive x, so the weight is the albedo itself (the same bits, two divisions fewer).
+                Rgb weight = hemisphere == HemisphereStrategy.Cosine && pdf > 0 && double.IsFinite(pdf)
+                    ? albedo
+                    : albedo * (wi.Z / Math.PI / pdf);
                 return new BsdfSample(new Vec3d(wi.X, wi.Y, wi.Z * side), weight, pdf, false);
             }
 

@@ -166,7 +166,9 @@ public sealed class LightSet
     [MethodImpl(MethodImplOptions.NoInlining)]
     private static LightSample SampleArea(in Primitive prim, Material m, Vec3d p, double select, double u1, double u2)
     {
-        (Vec3d point, Vec3d n) = SamplePoint(prim, u1, u2);
+        // Quads (the usual area light) inline; the other shapes in their own method, which keeps
+        // this one small enough for the JIT to inline its vector arithmetic.
+        (Vec3d point, Vec3d n) = prim.Kind == PrimitiveKind.Quad ? (prim.A + prim.B * u1 + prim.C * u2, prim.Normal) : SamplePoint(prim, u1, u2);
         Vec3d to = point - p;
         double dist2 = to.LengthSquared;
         double dist1 = Math.Sqrt(dist2);
@@ -226,13 +228,12 @@ public sealed class LightSet
         return sin2Max / (1 + Math.Sqrt(Math.Max(0, 1 - sin2Max)));
     }
 
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    // A point uniform by area on a disk, triangle or sphere light (seen from inside); quads are sampled in SampleArea.
+    [MethodImpl(MethodImplOptions.NoInlining)]
     private static (Vec3d Point, Vec3d Normal) SamplePoint(in Primitive prim, double u1, double u2)
     {
         switch (prim.Kind)
         {
-            case PrimitiveKind.Quad:
-                return (prim.A + prim.B * u1 + prim.C * u2, prim.Normal);
             case PrimitiveKind.Disk:
             {
                 (double x, double y) = Warp.ConcentricDisk(u1, u2);

@@ -324,6 +324,7 @@ public sealed class PathTracer
     /// have found it (camera rays, after a delta bounce, or no light sampling), 0 under pure
     /// next-event estimation (light sampling counts it instead), else the MIS weight.
     /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private double EmissionWeight(bool afterDelta, double bsdfPdf, double lightPdf) =>
         afterDelta || !_sampleLights ? 1.0
         : _strategy == LightStrategy.Nee ? 0.0
@@ -370,6 +371,7 @@ public sealed class PathTracer
     }
 
     /// <summary>The power heuristic with β = 2: w = a² / (a² + b²).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static double PowerHeuristic(double a, double b)
     {
         double a2 = a * a, b2 = b * b;

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Materials;
 using PathBench.Sampling;
@@ -109,8 +110,10 @@ public sealed class LightSet
         }
 
         // The area lights' cumulative probabilities run from the environment's share up to 1.
+        // With one area light every choice lands on it (whatever the search would return, the
+        // clamp below makes it 0), so the search is skipped.
         double u = uSelect - EnvironmentProbability;
-        int k = Array.BinarySearch(_cdf, u);
+        int k = _cdf.Length == 1 ? 0 : Array.BinarySearch(_cdf, u);
         k = k < 0 ? ~k : k + 1;
         k = Math.Min(k, _primitives.Length - 1);
         while (k > 0 && _probability[k] == 0)
@@ -133,23 +136,39 @@ public sealed class LightSet
             double r2 = prim.Radius * prim.Radius;
             if (SeesCapFromOutside(d2, r2))
             {
-                double d = Math.Sqrt(d2);
-                double oneMinusCos = CapOneMinusCos(d2, r2);
-                double cosT = 1 - u1 * oneMinusCos;
-                double sinT2 = Math.Max(0, 1 - cosT * cosT);
-                var frame = new ShadingFrame(toCenter / d);
-                (double s, double c) = PortableMath.SinCos(2 * Math.PI * u2);
-                double sinT = Math.Sqrt(sinT2);
-                Vec3d w = frame.ToWorld(new Vec3d(sinT * c, sinT * s, cosT));
-                // Distance to the near side of the sphere along w.
-                double dist = d * cosT - Math.Sqrt(Math.Max(0, r2 - d2 * sinT2));
-                Vec3d y = p + w * dist;
-                Rgb le = m.Emitted((y - prim.A).Normalized(), -w);
-                return new LightSample(w, dist, le, select / (2 * Math.PI * oneMinusCos));
+                return SampleCap(prim, m, p, toCenter, d2, r2, select, u1, u2);
             }
         }
 
-        (Vec3d point, Vec3d n) = SamplePoint(prim, u1, u2);
+        return SampleArea(prim, m, p, select, u1, u2);
+    }
+
+    /// <summary>A direction in the cap a sphere light subtends from outside it, and the near point it meets.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static LightSample SampleCap(in Primitive prim, Material m, Vec3d p, Vec3d toCenter, double d2, double r2, double select, double u1, double u2)
+    {
+        double d = Math.Sqrt(d2);
+        double oneMinusCos = CapOneMinusCos(d2, r2);
+        double cosT = 1 - u1 * oneMinusCos;
+        double sinT2 = Math.Max(0, 1 - cosT * cosT);
+        var frame = new ShadingFrame(toCenter / d);
+        (double s, double c) = PortableMath.SinCos(2 * Math.PI * u2);
+        double sinT = Math.Sqrt(sinT2);
+        Vec3d w = frame.ToWorld(new Vec3d(sinT * c, sinT * s, cosT));
+        // Distance to the near side of the sphere along w.
+        double dist = d * cosT - Math.Sqrt(Math.Max(0, r2 - d2 * sinT2));
+        Vec3d y = p + w * dist;
+        Rgb le = m.Emitted((y - prim.A).Normalized(), -w);
+        return new LightSample(w, dist, le, select / (2 * Math.PI * oneMinusCos));
+    }
+
+    /// <summary>A point chosen uniformly by area on a light, as a direction and distance from <paramref name="p"/>.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static LightSample SampleArea(in Primitive prim, Material m, Vec3d p, double select, double u1, double u2)
+    {
+        // Quads (the usual area light) inline; the other shapes in their own method, which keeps
+        // this one small enough for the JIT to inline its vector arithmetic.
+        (Vec3d point, Vec3d n) = prim.Kind == PrimitiveKind.Quad ? (prim.A + prim.B * u1 + prim.C * u2, prim.Normal) : SamplePoint(prim, u1, u2);
         Vec3d to = point - p;
         double dist2 = to.LengthSquared;
         double dist1 = Math.Sqrt(dist2);
@@ -197,22 +216,24 @@ public sealed class LightSet
     public double EnvironmentPdf => EnvironmentProbability / (4 * Math.PI);
 
     // A sphere is sampled by its visible cap only from clearly outside it; from inside (or on it), by area.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static bool SeesCapFromOutside(double d2, double r2) => d2 > r2 * (1 + 1e-9);
 
     // 1 − cos θ_max of the cap a sphere of squared radius r2 subtends at squared distance d2,
     // as sin²/(1 + cos) so small caps lose no precision to cancellation.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static double CapOneMinusCos(double d2, double r2)
     {
         double sin2Max = r2 / d2;
         return sin2Max / (1 + Math.Sqrt(Math.Max(0, 1 - sin2Max)));
     }
 
+    // A point uniform by area on a disk, triangle or sphere light (seen from inside); quads are sampled in SampleArea.
+    [MethodImpl(MethodImplOptions.NoInlining)]
     private static (Vec3d Point, Vec3d Normal) SamplePoint(in Primitive prim, double u1, double u2)
     {
         switch (prim.Kind)
         {
-            case PrimitiveKind.Quad:
-                return (prim.A + prim.B * u1 + prim.C * u2, prim.Normal);
             case PrimitiveKind.Disk:
             {
                 (double x, double y) = Warp.ConcentricDisk(u1, u2);

@@ -28,17 +28,30 @@ public readonly record struct Rgb(double R, double G, double B)
     public static Rgb operator *(double s, Rgb a) => new(a.R * s, a.G * s, a.B * s);
 
     /// <summary>Division by a scalar.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static Rgb operator /(Rgb a, double s) => a * (1.0 / s);
 
     /// <summary>True when all channels are zero.</summary>
-    public bool IsBlack => R == 0 && G == 0 && B == 0;
+    public bool IsBlack
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => R == 0 && G == 0 && B == 0;
+    }
 
     /// <summary>The largest channel.</summary>
-    public double Max => Math.Max(R, Math.Max(G, B));
+    public double Max
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => Math.Max(R, Math.Max(G, B));
+    }
 
     /// <summary>The mean of the channels.</summary>
     public double Average => (R + G + B) / 3;
 
     /// <summary>True when every channel is finite.</summary>
-    public bool IsFinite => double.IsFinite(R) && double.IsFinite(G) && double.IsFinite(B);
+    public bool IsFinite
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => double.IsFinite(R) && double.IsFinite(G) && double.IsFinite(B);
+    }
 }

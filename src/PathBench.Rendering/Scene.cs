@@ -14,8 +14,8 @@ public sealed class Scene
     private Scene(Bvh bvh, Material[] materials, Vec3d[] shadingNormals, LightSet lights, Camera camera, Rgb environment)
     {
         Bvh = bvh;
-        Materials = materials;
-        ShadingNormals = shadingNormals;
+        MaterialTable = materials;
+        ShadingNormalTable = shadingNormals;
         Lights = lights;
         Camera = camera;
         Environment = environment;
@@ -25,10 +25,16 @@ public sealed class Scene
     public Bvh Bvh { get; }
 
     /// <summary>Materials by index.</summary>
-    public IReadOnlyList<Material> Materials { get; }
+    public IReadOnlyList<Material> Materials => MaterialTable;
 
     /// <summary>Per-vertex shading normals of mesh triangles, three per triangle that has them.</summary>
-    public IReadOnlyList<Vec3d> ShadingNormals { get; }
+    public IReadOnlyList<Vec3d> ShadingNormals => ShadingNormalTable;
+
+    /// <summary>The materials as the array they are held in: the path tracer indexes it per vertex, without an interface call.</summary>
+    internal Material[] MaterialTable { get; }
+
+    /// <summary>The shading normals as the array they are held in (see <see cref="MaterialTable"/>).</summary>
+    internal Vec3d[] ShadingNormalTable { get; }
 
     /// <summary>The lights.</summary>
     public LightSet Lights { get; }

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Materials;
 using PathBench.Sampling.Generators;
@@ -106,8 +107,51 @@ public readonly struct SampleStream : ISampleStream
 /// (power heuristic, Veach &amp; Guibas 1995, "Optimally combining sampling techniques for
 /// Monte Carlo rendering", SIGGRAPH), Russian roulette after the third vertex.
 /// </summary>
-public sealed class PathTracer(Scene scene, PathTracerOptions options)
+/// <remarks>
+/// Tuned for issue 12 from <see cref="ReferencePathTracer"/>, which it must match bit for bit
+/// (tested sample by sample): the loop is split into methods small enough that the JIT inlines the
+/// vector and colour arithmetic in each (one method of ~10 kB ran out of inlining budget and called
+/// even <see cref="Vec3d"/>'s constructor); the scene's tables are read as arrays, not through
+/// interfaces; and a vertex skips the coordinates it cannot use (the lobe choice of a material with
+/// one lobe, the light choice of a scene with one light), which only spares the sampler work:
+/// every value used is the same one.
+/// </remarks>
+public sealed class PathTracer
 {
+    private readonly Bvh _bvh;
+    private readonly Material[] _materials;
+    private readonly Vec3d[] _shadingNormals;
+    private readonly LightSet _lights;
+    private readonly Rgb _environment;
+    private readonly double _environmentPdf;
+    private readonly LightStrategy _strategy;
+    private readonly HemisphereStrategy _hemisphere;
+    private readonly int _maxDepth;
+    private readonly bool _roulette;
+    private readonly bool _sampleLights;
+
+    // Whether the light choice can change which light is sampled: not with one area light and no environment.
+    private readonly bool _lightChoiceMatters;
+
+    /// <summary>A tracer of <paramref name="scene"/> with <paramref name="options"/>; immutable, so threads share it.</summary>
+    public PathTracer(Scene scene, PathTracerOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(scene);
+        ArgumentNullException.ThrowIfNull(options);
+        _bvh = scene.Bvh;
+        _materials = scene.MaterialTable;
+        _shadingNormals = scene.ShadingNormalTable;
+        _lights = scene.Lights;
+        _environment = scene.Environment;
+        _environmentPdf = _lights.EnvironmentPdf;
+        _strategy = options.Lights;
+        _hemisphere = options.Hemisphere;
+        _maxDepth = options.MaxDepth;
+        _roulette = options.RussianRoulette;
+        _sampleLights = options.Lights != LightStrategy.Bsdf && !_lights.IsEmpty;
+        _lightChoiceMatters = _lights.AreaLightCount != 1 || _lights.EnvironmentProbability != 0;
+    }
+
     /// <summary>Radiance along the camera ray of one sample; <paramref name="rays"/> counts every ray traced.</summary>
     /// <remarks>Generic over the stream so the JIT compiles one copy per stream type and inlines its calls.</remarks>
     public Rgb Radiance<TStream>(Ray ray, TStream stream, ref long rays)
@@ -118,115 +162,161 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
         bool afterDelta = true; // camera rays see emission directly, like rays leaving a delta bounce
         double previousPdf = 0;
         Vec3d previousPoint = ray.Origin;
-        LightSet lights = scene.Lights;
-        bool sampleLights = options.Lights != LightStrategy.Bsdf && !lights.IsEmpty;
         for (int depth = 0; ; depth++)
         {
             rays++;
-            if (!scene.Bvh.Intersect(ray, out SurfaceHit hit))
+            if (!_bvh.Intersect(ray, out SurfaceHit hit))
             {
-                if (!scene.Environment.IsBlack)
+                if (!_environment.IsBlack)
                 {
-                    l += beta * scene.Environment * EmissionWeight(afterDelta, sampleLights, previousPdf, lights.EnvironmentPdf);
+                    l += beta * _environment * EmissionWeight(afterDelta, previousPdf, _environmentPdf);
                 }
 
                 break;
             }
 
-            ref readonly Primitive prim = ref scene.Bvh.Primitives[hit.Primitive];
-            Material m = scene.Materials[prim.Material];
+            Material m = _materials[_bvh.Primitives[hit.Primitive].Material];
             Vec3d wo = -ray.Direction;
             if (m.IsEmissive)
             {
-                Rgb le = m.Emitted(hit.GeometricNormal, wo);
-                if (!le.IsBlack)
-                {
-                    // The light pdf matters only to the MIS weight: not looked up otherwise.
-                    double lightPdf = options.Lights == LightStrategy.Mis && sampleLights && !afterDelta
-                        ? lights.Pdf(hit.Primitive, previousPoint, hit.Point, hit.GeometricNormal) : 0;
-                    l += beta * le * EmissionWeight(afterDelta, sampleLights, previousPdf, lightPdf);
-                }
+                AddEmission(ref l, beta, m, hit, wo, afterDelta, previousPdf, previousPoint);
             }
 
-            if (depth >= options.MaxDepth)
+            if (depth >= _maxDepth)
             {
                 break;
             }
 
-            // A dielectric tells entering from leaving by its normal: the geometric one, since an
-            // interpolated normal can put the viewer on the wrong side near silhouettes.
-            Vec3d ns = m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : ShadingNormal(prim, hit);
-            var frame = new ShadingFrame(ns);
-            Vec3d woLocal = frame.ToLocal(wo);
-            Rgb albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
+            var vertex = new Vertex(this, m, hit, wo);
             int v = DimensionLayout.Vertex(depth);
-
-            if (sampleLights && !m.IsDelta)
+            if (_sampleLights && !m.IsDelta)
             {
                 (double lu, double lv) = stream.Get2D(v + DimensionLayout.LightPosition);
-                LightSample ls = lights.Sample(hit.Point, stream.Get(v + DimensionLayout.LightChoice), lu, lv);
-                if (ls.Pdf > 0 && !ls.Radiance.IsBlack)
-                {
-                    Vec3d wiLocal = frame.ToLocal(ls.Direction);
-                    (Rgb f, double bsdfPdf) = Bsdf.Evaluate(m, albedo, woLocal, wiLocal, options.Hemisphere);
-                    // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
-                    bool sameSide = Vec3d.Dot(hit.GeometricNormal, ls.Direction) * Vec3d.Dot(hit.GeometricNormal, wo) > 0;
-                    if (!f.IsBlack && sameSide)
-                    {
-                        rays++;
-                        var shadow = new Ray(RayOffset.Offset(hit.Point, hit.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
-                        double tMax = double.IsPositiveInfinity(ls.Distance)
-                            ? double.PositiveInfinity
-                            : RayOffset.ShadowLimit(hit.Point, hit.Point + ls.Direction * ls.Distance, ls.Distance);
-                        if (!scene.Bvh.Occluded(shadow, tMax))
-                        {
-                            double w = options.Lights == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
-                            l += beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
-                        }
-                    }
-                }
+                double choice = _lightChoiceMatters ? stream.Get(v + DimensionLayout.LightChoice) : 0;
+                AddDirectLight(ref l, ref rays, beta, vertex, choice, lu, lv);
             }
 
             (double u1, double u2) = stream.Get2D(v + DimensionLayout.Direction);
-            BsdfSample bs = Bsdf.Sample(m, albedo, woLocal, u1, u2, stream.Get(v + DimensionLayout.Lobe), options.Hemisphere);
-            if (bs.Weight.IsBlack)
+            // Only the dielectric chooses between lobes.
+            double lobe = m.Kind == MaterialKind.Dielectric ? stream.Get(v + DimensionLayout.Lobe) : 0;
+            if (!Scatter(ref vertex, u1, u2, lobe, ref beta, ref ray))
             {
                 break;
             }
 
-            Vec3d wi = frame.ToWorld(bs.Direction);
-            // A shading-normal direction that crosses the geometric surface the wrong way
-            // would leak light through it; such samples end the path (common practice).
-            bool reflect = bs.Direction.Z * woLocal.Z > 0;
-            if ((Vec3d.Dot(hit.GeometricNormal, wi) * Vec3d.Dot(hit.GeometricNormal, wo) > 0) != reflect)
-            {
-                break;
-            }
-
-            beta *= bs.Weight;
-            afterDelta = bs.IsDelta;
-            previousPdf = bs.Pdf;
+            afterDelta = vertex.Sampled.IsDelta;
+            previousPdf = vertex.Sampled.Pdf;
             previousPoint = hit.Point;
-            ray = new Ray(RayOffset.Offset(hit.Point, hit.GeometricNormal, wi), wi, double.PositiveInfinity);
-
-            if (options.RussianRoulette && depth >= 3)
+            if (_roulette && depth >= 3 && !SurvivesRoulette(ref beta, stream, v))
             {
-                // Survive with probability q = min(1, max throughput), at least 5 %: unbiased
-                // because survivors are divided by q (Arvo & Kirk 1990, "Particle transport and image synthesis").
-                double q = Math.Clamp(beta.Max, 0.05, 1.0);
-                if (q < 1)
-                {
-                    if (stream.Get(v + DimensionLayout.Roulette) >= q)
-                    {
-                        break;
-                    }
-
-                    beta /= q;
-                }
+                break;
             }
         }
 
         return l;
+    }
+
+    /// <summary>What one path vertex needs for light sampling and scattering, computed once.</summary>
+    private struct Vertex
+    {
+        public readonly Material Material;
+        public readonly Vec3d Point;
+        public readonly Vec3d GeometricNormal;
+        public readonly Vec3d Wo;
+        public readonly ShadingFrame Frame;
+        public readonly Vec3d WoLocal;
+        public readonly Rgb Albedo;
+
+        // n_g · wo: the sign tells which side of the surface the path arrived from.
+        public readonly double CosWo;
+        public BsdfSample Sampled;
+
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public Vertex(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
+        {
+            Material = m;
+            Point = hit.Point;
+            GeometricNormal = hit.GeometricNormal;
+            Wo = wo;
+            // A dielectric tells entering from leaving by its normal: the geometric one, since an
+            // interpolated normal can put the viewer on the wrong side near silhouettes.
+            Frame = new ShadingFrame(m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : tracer.ShadingNormal(hit));
+            WoLocal = Frame.ToLocal(wo);
+            Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
+            CosWo = Vec3d.Dot(hit.GeometricNormal, wo);
+            Sampled = default;
+        }
+    }
+
+    /// <summary>Emission found by the path (a camera ray or a BSDF-sampled one), weighted against light sampling.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void AddEmission(ref Rgb l, Rgb beta, Material m, in SurfaceHit hit, Vec3d wo, bool afterDelta, double previousPdf, Vec3d previousPoint)
+    {
+        Rgb le = m.Emitted(hit.GeometricNormal, wo);
+        if (!le.IsBlack)
+        {
+            // The light pdf matters only to the MIS weight: not looked up otherwise.
+            double lightPdf = _strategy == LightStrategy.Mis && _sampleLights && !afterDelta
+                ? _lights.Pdf(hit.Primitive, previousPoint, hit.Point, hit.GeometricNormal) : 0;
+            l += beta * le * EmissionWeight(afterDelta, previousPdf, lightPdf);
+        }
+    }
+
+    /// <summary>Next-event estimation at a vertex: one light sample and its shadow ray.</summary>
+    /// <remarks>Not inlined: the loop stays small enough that the JIT inlines the arithmetic in both.</remarks>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void AddDirectLight(ref Rgb l, ref long rays, Rgb beta, in Vertex vertex, double choice, double lu, double lv)
+    {
+        LightSample ls = _lights.Sample(vertex.Point, choice, lu, lv);
+        if (!(ls.Pdf > 0) || ls.Radiance.IsBlack
+            // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
+            || !(Vec3d.Dot(vertex.GeometricNormal, ls.Direction) * vertex.CosWo > 0))
+        {
+            return;
+        }
+
+        Vec3d wiLocal = vertex.Frame.ToLocal(ls.Direction);
+        (Rgb f, double bsdfPdf) = Bsdf.Evaluate(vertex.Material, vertex.Albedo, vertex.WoLocal, wiLocal, _hemisphere);
+        if (f.IsBlack)
+        {
+            return;
+        }
+
+        rays++;
+        var shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
+        double tMax = double.IsPositiveInfinity(ls.Distance)
+            ? double.PositiveInfinity
+            : RayOffset.ShadowLimit(vertex.Point, vertex.Point + ls.Direction * ls.Distance, ls.Distance);
+        if (!_bvh.Occluded(shadow, tMax))
+        {
+            double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
+            l += beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
+        }
+    }
+
+    /// <summary>Samples the BSDF at a vertex; on success multiplies the throughput and sets the next ray, else the path ends.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private bool Scatter(ref Vertex vertex, double u1, double u2, double lobe, ref Rgb beta, ref Ray ray)
+    {
+        BsdfSample bs = Bsdf.Sample(vertex.Material, vertex.Albedo, vertex.WoLocal, u1, u2, lobe, _hemisphere);
+        if (bs.Weight.IsBlack)
+        {
+            return false;
+        }
+
+        Vec3d wi = vertex.Frame.ToWorld(bs.Direction);
+        // A shading-normal direction that crosses the geometric surface the wrong way
+        // would leak light through it; such samples end the path (common practice).
+        bool reflect = bs.Direction.Z * vertex.WoLocal.Z > 0;
+        if ((Vec3d.Dot(vertex.GeometricNormal, wi) * vertex.CosWo > 0) != reflect)
+        {
+            return false;
+        }
+
+        beta *= bs.Weight;
+        vertex.Sampled = bs;
+        ray = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, wi), wi, double.PositiveInfinity);
+        return true;
     }
 
     /// <summary>
@@ -234,26 +324,54 @@ public sealed class PathTracer(Scene scene, PathTracerOptions options)
     /// have found it (camera rays, after a delta bounce, or no light sampling), 0 under pure
     /// next-event estimation (light sampling counts it instead), else the MIS weight.
     /// </summary>
-    private double EmissionWeight(bool afterDelta, bool sampleLights, double bsdfPdf, double lightPdf) =>
-        afterDelta || !sampleLights ? 1.0
-        : options.Lights == LightStrategy.Nee ? 0.0
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private double EmissionWeight(bool afterDelta, double bsdfPdf, double lightPdf) =>
+        afterDelta || !_sampleLights ? 1.0
+        : _strategy == LightStrategy.Nee ? 0.0
         : PowerHeuristic(bsdfPdf, lightPdf);
 
-    private Vec3d ShadingNormal(in Primitive prim, in SurfaceHit hit)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private Vec3d ShadingNormal(in SurfaceHit hit)
     {
-        if (prim.ShadingNormals < 0)
-        {
-            return hit.GeometricNormal;
-        }
+        ref readonly Primitive prim = ref _bvh.Primitives[hit.Primitive];
+        return prim.ShadingNormals < 0 ? hit.GeometricNormal : InterpolatedNormal(prim, hit, _shadingNormals);
+    }
 
+    /// <summary>A mesh triangle's shading normal at a hit, interpolated from its vertices' normals and turned to the geometric normal's side.</summary>
+    internal static Vec3d InterpolatedNormal(in Primitive prim, in SurfaceHit hit, ReadOnlySpan<Vec3d> normals)
+    {
         (double b1, double b2) = prim.Barycentric(hit.Point);
-        IReadOnlyList<Vec3d> n = scene.ShadingNormals;
-        Vec3d s = (n[prim.ShadingNormals] * (1 - b1 - b2) + n[prim.ShadingNormals + 1] * b1 + n[prim.ShadingNormals + 2] * b2).Normalized();
+        int i = prim.ShadingNormals;
+        Vec3d s = (normals[i] * (1 - b1 - b2) + normals[i + 1] * b1 + normals[i + 2] * b2).Normalized();
         // Keep the shading normal on the geometric normal's side so the frame's orientation matches the geometry's.
         return Vec3d.Dot(s, hit.GeometricNormal) < 0 ? -s : s;
     }
 
+    /// <summary>
+    /// Russian roulette at the vertex whose dimensions start at <paramref name="v"/>: survive with
+    /// probability q = min(1, max throughput), at least 5 %, dividing the survivor's throughput by q,
+    /// which keeps the estimate unbiased (Arvo &amp; Kirk 1990, "Particle transport and image synthesis").
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static bool SurvivesRoulette<TStream>(ref Rgb beta, TStream stream, int v)
+        where TStream : struct, ISampleStream
+    {
+        double q = Math.Clamp(beta.Max, 0.05, 1.0);
+        if (q < 1)
+        {
+            if (stream.Get(v + DimensionLayout.Roulette) >= q)
+            {
+                return false;
+            }
+
+            beta /= q;
+        }
+
+        return true;
+    }
+
     /// <summary>The power heuristic with β = 2: w = a² / (a² + b²).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static double PowerHeuristic(double a, double b)
     {
         double a2 = a * a, b2 = b * b;

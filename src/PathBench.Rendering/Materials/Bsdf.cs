@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Sampling;
 using PathBench.Sampling.Warps;
 
@@ -33,7 +34,14 @@ public static class Bsdf
             return (albedo * (1 / Math.PI), pdf);
         }
 
-        // GGX conductor, reflection only. Flip to the upper hemisphere (two-sided reflection).
+        return EvaluateConductor(m, wo, wi);
+    }
+
+    // GGX conductor, reflection only: kept out of the diffuse path's inlined code.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static (Rgb F, double Pdf) EvaluateConductor(Material m, Vec3d wo, Vec3d wi)
+    {
+        // Flip to the upper hemisphere (two-sided reflection).
         if (wo.Z < 0)
         {
             wo = -wo;
@@ -73,38 +81,47 @@ public static class Bsdf
                 }
 
                 double pdf = hemisphere == HemisphereStrategy.Cosine ? wi.Z / Math.PI : 0.5 / Math.PI;
-                // f·cos/pdf: albedo for cosine sampling, 2·albedo·cos for uniform.
-                Rgb weight = albedo * (wi.Z / Math.PI / pdf);
+                // f·cos/pdf: albedo for cosine sampling, 2·albedo·cos for uniform. For cosine
+                // sampling the factor is x / x with x = pdf, exactly 1 in IEEE 754 for any finite
+                // positive x, so the weight is the albedo itself (the same bits, two divisions fewer).
+                Rgb weight = hemisphere == HemisphereStrategy.Cosine && pdf > 0 && double.IsFinite(pdf)
+                    ? albedo
+                    : albedo * (wi.Z / Math.PI / pdf);
                 return new BsdfSample(new Vec3d(wi.X, wi.Y, wi.Z * side), weight, pdf, false);
             }
 
             case MaterialKind.Conductor:
-            {
-                Vec3d o = new(wo.X, wo.Y, wo.Z * side);
-                if (m.Alpha == 0)
-                {
-                    Rgb mirror = Ggx.Schlick(m.F0, o.Z);
-                    return new BsdfSample(new Vec3d(-wo.X, -wo.Y, wo.Z), mirror, 0, true);
-                }
-
-                Vec3d h = Ggx.SampleVisibleNormal(o, m.Alpha, u1, u2);
-                double oh = Vec3d.Dot(o, h);
-                Vec3d wi = h * (2 * oh) - o;
-                if (wi.Z <= 0)
-                {
-                    return BsdfSample.None;
-                }
-
-                double lo = Ggx.Lambda(o, m.Alpha), li = Ggx.Lambda(wi, m.Alpha);
-                // Weight f·cos/pdf = F · G2/G1(wo) for VNDF sampling (Heitz 2018, §2).
-                Rgb weight = Ggx.Schlick(m.F0, oh) * ((1 + lo) / (1 + lo + li));
-                double pdf = Ggx.D(h, m.Alpha) / (1 + lo) / (4 * o.Z);
-                return new BsdfSample(new Vec3d(wi.X, wi.Y, wi.Z * side), weight, pdf, false);
-            }
+                return SampleConductor(m, wo, side, u1, u2);
 
             default:
                 return SampleDielectric(m.Ior, wo, u3);
         }
+    }
+
+    // GGX conductor: kept out of the diffuse path's inlined code.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static BsdfSample SampleConductor(Material m, Vec3d wo, double side, double u1, double u2)
+    {
+        Vec3d o = new(wo.X, wo.Y, wo.Z * side);
+        if (m.Alpha == 0)
+        {
+            Rgb mirror = Ggx.Schlick(m.F0, o.Z);
+            return new BsdfSample(new Vec3d(-wo.X, -wo.Y, wo.Z), mirror, 0, true);
+        }
+
+        Vec3d h = Ggx.SampleVisibleNormal(o, m.Alpha, u1, u2);
+        double oh = Vec3d.Dot(o, h);
+        Vec3d wi = h * (2 * oh) - o;
+        if (wi.Z <= 0)
+        {
+            return BsdfSample.None;
+        }
+
+        double lo = Ggx.Lambda(o, m.Alpha), li = Ggx.Lambda(wi, m.Alpha);
+        // Weight f·cos/pdf = F · G2/G1(wo) for VNDF sampling (Heitz 2018, §2).
+        Rgb weight = Ggx.Schlick(m.F0, oh) * ((1 + lo) / (1 + lo + li));
+        double pdf = Ggx.D(h, m.Alpha) / (1 + lo) / (4 * o.Z);
+        return new BsdfSample(new Vec3d(wi.X, wi.Y, wi.Z * side), weight, pdf, false);
     }
 
     private static BsdfSample SampleDielectric(double ior, Vec3d wo, double u)

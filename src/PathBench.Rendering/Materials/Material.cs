@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Rendering.Scenes;
 using PathBench.Sampling.Warps;
 
@@ -69,10 +70,18 @@ public sealed class Material
     public double Ior { get; private init; }
 
     /// <summary>True when every scattered direction is a delta (mirror, smooth dielectric): no light sampling there.</summary>
-    public bool IsDelta => Kind == MaterialKind.Dielectric || (Kind == MaterialKind.Conductor && Alpha == 0);
+    public bool IsDelta
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => Kind == MaterialKind.Dielectric || (Kind == MaterialKind.Conductor && Alpha == 0);
+    }
 
     /// <summary>True when the surface emits.</summary>
-    public bool IsEmissive => !Emission.IsBlack;
+    public bool IsEmissive
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => !Emission.IsBlack;
+    }
 
     /// <summary>Builds the runtime material from its scene description.</summary>
     public static Material From(MaterialDescription d)
@@ -116,5 +125,6 @@ public sealed class Material
     }
 
     /// <summary>Radiance emitted from a surface with geometric normal <paramref name="n"/> towards <paramref name="w"/>.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public Rgb Emitted(Vec3d n, Vec3d w) => IsEmissive && (TwoSided || Vec3d.Dot(n, w) > 0) ? Emission : Rgb.Black;
 }

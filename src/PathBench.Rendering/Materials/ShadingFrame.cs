@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Sampling.Warps;
 
 namespace PathBench.Rendering.Materials;
@@ -13,6 +14,7 @@ public readonly struct ShadingFrame
     public readonly Vec3d T, B, N;
 
     /// <summary>The frame around unit normal <paramref name="n"/>.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public ShadingFrame(Vec3d n)
     {
         double sign = n.Z >= 0 ? 1.0 : -1.0;
@@ -24,8 +26,10 @@ public readonly struct ShadingFrame
     }
 
     /// <summary>World direction to local (x along T, z along N).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public Vec3d ToLocal(Vec3d w) => new(Vec3d.Dot(w, T), Vec3d.Dot(w, B), Vec3d.Dot(w, N));
 
     /// <summary>Local direction to world.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public Vec3d ToWorld(Vec3d w) => T * w.X + B * w.Y + N * w.Z;
 }

@@ -81,6 +81,42 @@ public sealed class BsdfTests
         }
     }
 
+    [Fact]
+    public void Cosine_sampled_diffuse_weight_has_the_bits_of_the_general_formula()
+    {
+        // Issue 12 returns the albedo itself for cosine sampling instead of albedo · (cos/π / pdf):
+        // with pdf = cos/π the factor is x / x, exactly 1 in IEEE 754 (IEEE 754-2019 §4.3: a correctly
+        // rounded quotient of equal finite nonzero values). Checked against the formula over a 257 × 257
+        // grid of the square, edges included, and albedos down to the smallest subnormal.
+        Rgb[] albedos = [new(0.75, 0.73, 0.68), new(double.Epsilon, 1e-300, 1), new(0.1, 0, 3)];
+        foreach (Rgb albedo in albedos)
+        {
+            Material m = Material.Diffuse("d", albedo);
+            foreach (Vec3d wo in new[] { new Vec3d(0.3, 0.4, Math.Sqrt(0.75)), new Vec3d(0.6, 0, -0.8) })
+            {
+                for (int i = 0; i <= 256; i++)
+                {
+                    for (int j = 0; j <= 256; j++)
+                    {
+                        double u = Math.Min(i / 256.0, 1 - Math.Pow(2, -53)), v = Math.Min(j / 256.0, 1 - Math.Pow(2, -53));
+                        BsdfSample s = Bsdf.Sample(m, albedo, wo, u, v, 0.5, HemisphereStrategy.Cosine);
+                        if (s.Pdf == 0)
+                        {
+                            Assert.True(s.Weight.IsBlack);
+                            continue;
+                        }
+
+                        double cos = Math.Abs(s.Direction.Z);
+                        Rgb formula = albedo * (cos / Math.PI / s.Pdf);
+                        Assert.Equal(BitConverter.DoubleToInt64Bits(formula.R), BitConverter.DoubleToInt64Bits(s.Weight.R));
+                        Assert.Equal(BitConverter.DoubleToInt64Bits(formula.G), BitConverter.DoubleToInt64Bits(s.Weight.G));
+                        Assert.Equal(BitConverter.DoubleToInt64Bits(formula.B), BitConverter.DoubleToInt64Bits(s.Weight.B));
+                    }
+                }
+            }
+        }
+    }
+
     [Theory]
     [InlineData(1.0, 1.5, 0.04)]   // normal incidence: ((n−1)/(n+1))² = 0.04 (Born & Wolf §1.5)
     [InlineData(1.0, 1.333, 0.0204)] // water, ((0.333)/(2.333))² = 0.02037

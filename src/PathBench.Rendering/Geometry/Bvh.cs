@@ -73,8 +73,9 @@ public sealed class Bvh
             throw new ArgumentException($"a BVH takes at most {MaxPrimitives - 1} primitives, not {primitives.Length}", nameof(primitives));
         }
 
-        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads);
         int n = primitives.Length;
+        byte[] leafSizes = new byte[n];
+        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads, leafSizes);
         var options = new ParallelOptions { MaxDegreeOfParallelism = threads <= 0 ? Environment.ProcessorCount : threads };
         const int Chunk = 16384;
         bool[] triangle = GC.AllocateUninitializedArray<bool>(n);
@@ -86,31 +87,37 @@ public sealed class Bvh
             }
         });
 
-        var collapsed = new Collapser(binary, order, triangle);
-        collapsed.Collapse(0);
-        _nodeCount = collapsed.Count;
-
-        // The primitives in leaf order and their hit records, a run of whole leaves per task.
+        // The collapse (sequential) runs beside the primitives' reorder into leaf order and their
+        // hit records (a run of positions per task; each leaf is written by the task its first
+        // position falls in). Neither reads what the other writes.
         _primitives = GC.AllocateUninitializedArray<Primitive>(n);
         _records = GC.AllocateUninitializedArray<double>((RecordDoubles * n) + Lanes, pinned: true); // pinned: the walk prefetches by address
         _records.AsSpan(RecordDoubles * n).Clear();
-        int[] leaves = collapsed.Leaves;
-        int leafCount = collapsed.LeafCount;
-        const int LeafChunk = 4096;
-        Parallel.For(0, (leafCount + LeafChunk - 1) / LeafChunk, options, c =>
-        {
-            for (int l = c * LeafChunk, end = Math.Min(leafCount, (c + 1) * LeafChunk); l < end; l++)
+        var collapsed = new Collapser(binary, order, triangle);
+        Parallel.Invoke(
+            options,
+            () => collapsed.Collapse(0),
+            () => Parallel.For(0, (n + Chunk - 1) / Chunk, options, c =>
             {
-                int link = ~leaves[l];
-                int start = link >> 3, count = (link & 3) + 1;
-                for (int i = start; i < start + count; i++)
+                for (int start = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); start < end; start++)
                 {
-                    _primitives[i] = primitives[order[i]];
-                }
+                    int count = leafSizes[start];
+                    if (count == 0)
+                    {
+                        continue;
+                    }
 
-                WriteRecords(start, count, (link & 4) != 0);
-            }
-        });
+                    bool triangles = true;
+                    for (int i = start; i < start + count; i++)
+                    {
+                        _primitives[i] = primitives[order[i]];
+                        triangles &= triangle[order[i]];
+                    }
+
+                    WriteRecords(start, count, triangles);
+                }
+            }));
+        _nodeCount = collapsed.Count;
 
         PrimitiveOrder = order;
         // Pinned (never moved), so the alignment found here holds for the array's life.
@@ -144,11 +151,6 @@ public sealed class Bvh
         public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
 
         public int Count { get; private set; }
-
-        /// <summary>The leaf links, in leaf order (the first <see cref="LeafCount"/>).</summary>
-        public int[] Leaves { get; private set; } = new int[64];
-
-        public int LeafCount { get; private set; }
 
         /// <summary>
         /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
@@ -235,7 +237,7 @@ public sealed class Bvh
             return node;
         }
 
-        /// <summary>The link of the leaf [start, start + count), noted in <see cref="Leaves"/>: its start, whether all its primitives are triangles, its size.</summary>
+        /// <summary>The link of the leaf [start, start + count): its start, whether all its primitives are triangles, its size.</summary>
         private int Leaf(int start, int count)
         {
             bool triangles = true;
@@ -244,16 +246,7 @@ public sealed class Bvh
                 triangles &= triangle[order[i]];
             }
 
-            int link = ~((start << 3) | (triangles ? 4 : 0) | (count - 1));
-            if (LeafCount == Leaves.Length)
-            {
-                int[] grown = new int[Leaves.Length * 2];
-                Leaves.CopyTo(grown, 0);
-                Leaves = grown;
-            }
-
-            Leaves[LeafCount++] = link;
-            return link;
+            return ~((start << 3) | (triangles ? 4 : 0) | (count - 1));
         }
     }
 

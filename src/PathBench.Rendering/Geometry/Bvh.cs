@@ -484,51 +484,65 @@ public sealed class Bvh
         Span<double> near = stackalloc double[Lanes];
         // Node indices come from the build and are in range; the walk reads nodes without bounds checks.
         ref float nodes = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_nodes), _first);
-        stackRef[0] = 0;
-        stackNear[0] = 0;
-        int sp = 1;
-        while (sp > 0)
+        int sp = 0;
+        int r = 0; // the root is always a node
+        while (true)
         {
-            sp--;
-            if (stackNear[sp] > query.TMax)
-            {
-                continue;
-            }
-
-            int r = stackRef[sp];
             if (r < 0)
             {
                 if (query.Leaf(~r >> 3, (~r & 3) + 1, (~r & 4) != 0))
                 {
                     return;
                 }
-
-                continue;
             }
-
-            ref float node = ref Unsafe.Add(ref nodes, NodeFloats * r);
-            int mask = Vectorised
-                ? TestVector(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near)
-                : TestScalar(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near);
-            int first = sp;
-            for (; mask != 0; mask &= mask - 1)
+            else
             {
-                int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
-                // Insertion into the pushed run, kept in decreasing near distance so the nearest is on top.
-                double t = near[lane];
-                int j = sp++;
-                while (j > first && stackNear[j - 1] < t)
+                ref float node = ref Unsafe.Add(ref nodes, NodeFloats * r);
+                int mask = Vectorised
+                    ? TestVector(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near)
+                    : TestScalar(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near);
+                if (mask != 0 && (mask & (mask - 1)) == 0)
                 {
-                    stackRef[j] = stackRef[j - 1];
-                    stackNear[j] = stackNear[j - 1];
-                    j--;
+                    // One child hit: visited next without a trip through the stack (pushed and
+                    // popped at once it would pass the pop's test, its near end being within TMax).
+                    r = Unsafe.As<float, int>(ref Unsafe.Add(ref node, ChildOffset + System.Numerics.BitOperations.TrailingZeroCount(mask)));
+                    continue;
                 }
 
-                int child = Unsafe.As<float, int>(ref Unsafe.Add(ref node, ChildOffset + lane));
-                stackRef[j] = child;
-                stackNear[j] = t;
-                Prefetch(ref nodes, child);
+                int first = sp;
+                for (; mask != 0; mask &= mask - 1)
+                {
+                    int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
+                    // Insertion into the pushed run, kept in decreasing near distance so the nearest is on top.
+                    double t = near[lane];
+                    int j = sp++;
+                    while (j > first && stackNear[j - 1] < t)
+                    {
+                        stackRef[j] = stackRef[j - 1];
+                        stackNear[j] = stackNear[j - 1];
+                        j--;
+                    }
+
+                    int child = Unsafe.As<float, int>(ref Unsafe.Add(ref node, ChildOffset + lane));
+                    stackRef[j] = child;
+                    stackNear[j] = t;
+                    Prefetch(ref nodes, child);
+                }
             }
+
+            // Pop the nearest pending child that starts within the query's current far end.
+            do
+            {
+                if (sp == 0)
+                {
+                    return;
+                }
+
+                sp--;
+            }
+            while (stackNear[sp] > query.TMax);
+
+            r = stackRef[sp];
         }
     }
 

@@ -401,7 +401,7 @@ public sealed class Bvh
     /// <summary>
     /// A ray set up for the watertight triangle test (Woop, Benthin &amp; Wald 2013) of four hit
     /// records at once: the shear of <see cref="RayShear"/> and the origin's components in its
-    /// axis order, broadcast to four lanes.
+    /// axis order, kept as scalars and broadcast to four lanes where the test uses them.
     /// </summary>
     private readonly struct TriangleFrame
     {

@@ -62,7 +62,7 @@ public sealed record BenchReport(
     /// <summary>Node (and index) bytes per primitive: the hierarchy alone.</summary>
     public double BvhBytesPerTriangle => (double)BvhNodeBytes / Primitives;
 
-    /// <summary>Hierarchy plus the primitive records the traversal reads.</summary>
+    /// <summary>Hierarchy plus the primitive records the traversal reads (the primitives and the BVH's triangle hit records).</summary>
     public double TotalBytesPerTriangle => (double)(BvhNodeBytes + PrimitiveBytes) / Primitives;
 }
 
@@ -126,7 +126,7 @@ public static class ThroughputBench
             shares.Add(Share(small, g, r, sizes.ShareSpp, sizes.Repeats));
         }
 
-        return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, (long)prims.Length * Unsafe.SizeOf<Primitive>(), p, b, render, shares)
+        return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, ((long)prims.Length * Unsafe.SizeOf<Primitive>()) + bvh.HitRecordBytes, p, b, render, shares)
         {
             LightSetBytes = scene.Lights.Bytes,
         };

@@ -31,6 +31,9 @@ internal static class BinnedSah
     // Nodes with at least this many primitives hand one child to another thread (below it a task costs more than it saves).
     private const int ParallelGrain = 8192;
 
+    // Nodes with at least this many primitives bin into two sets of bins (see BestSplit).
+    private const int DualBinsFrom = 256;
+
     /// <summary>
     /// A node of the binary tree in 32 bytes (the build writes up to 2n − 1 of them): bounds in
     /// single precision, rounded outward, with the links in the fourth lanes.
@@ -117,7 +120,11 @@ internal static class BinnedSah
     /// <paramref name="threads"/> threads; <c>Order</c> maps leaf positions to input indices.
     /// Node 0 is the root; the array has 2n − 1 slots, some of them unused.
     /// </summary>
-    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0)
+    /// <param name="primitives">The primitives.</param>
+    /// <param name="maxLeaf">Most primitives in a leaf (at most 255).</param>
+    /// <param name="threads">Threads to build on (0: all cores).</param>
+    /// <param name="leafSizes">When given (length n, zeroed): each leaf's size is written at its first position.</param>
+    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0, byte[]? leafSizes = null)
     {
         if (primitives.Length == 0)
         {
@@ -149,7 +156,7 @@ internal static class BinnedSah
         }
 
         var nodes = GC.AllocateUninitializedArray<Node>((2 * n) - 1);
-        new Builder(items, nodes, maxLeaf, threads > 1 ? options : null).Build(0, n, 0, 0, root);
+        new Builder(items, nodes, maxLeaf, threads > 1 ? options : null, leafSizes).Build(0, n, 0, 0, root);
         var order = new int[n];
         for (int i = 0; i < n; i++)
         {
@@ -184,7 +191,7 @@ internal static class BinnedSah
         return p.GetElement(0) + p.GetElement(1) + p.GetElement(2);
     }
 
-    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel)
+    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel, byte[]? leafSizes)
     {
         /// <summary>Builds the subtree over items [start, end) into <paramref name="slot"/> and the slots after it.</summary>
         public void Build(int start, int end, int slot, int depth, RangeBounds bounds)
@@ -210,6 +217,11 @@ internal static class BinnedSah
             if (axis < 0 && (count <= maxLeaf || depth >= MaxDepth - 1))
             {
                 nodes[slot] = Node.Leaf(bounds.Lo, bounds.Hi, start, count);
+                if (leafSizes is not null)
+                {
+                    leafSizes[start] = (byte)count;
+                }
+
                 return;
             }
 
@@ -250,12 +262,19 @@ internal static class BinnedSah
         [SkipLocalsInit] // the bins are filled below; the sweep arrays are written before they are read
         private (int Axis, int Split) BestSplit(int start, int end, int bins, in RangeBounds bounds, Vector128<float> scale, ref float bestCost)
         {
-            Span<Vector128<float>> binLo = stackalloc Vector128<float>[3 * Bins];
-            Span<Vector128<float>> binHi = stackalloc Vector128<float>[3 * Bins];
-            Span<int> binCount = stackalloc int[3 * Bins];
-            binLo = binLo[..(3 * bins)];
-            binHi = binHi[..(3 * bins)];
-            binCount = binCount[..(3 * bins)];
+            // Two sets of bins, one for even and one for odd positions, merged after the pass:
+            // neighbouring items (often in the same bin) then update different memory, so their
+            // read-modify-writes need not wait for each other. Min, max and counts are exact, so the
+            // merged bins are the ones a single set would hold, whatever the split of the items.
+            // Small nodes (most of them) take one set: clearing and merging a second would cost more than it saves.
+            Span<Vector128<float>> binLo = stackalloc Vector128<float>[2 * 3 * Bins];
+            Span<Vector128<float>> binHi = stackalloc Vector128<float>[2 * 3 * Bins];
+            Span<int> binCount = stackalloc int[2 * 3 * Bins];
+            int set = 3 * bins;
+            int sets = end - start >= DualBinsFrom ? 2 : 1;
+            binLo = binLo[..(sets * set)];
+            binHi = binHi[..(sets * set)];
+            binCount = binCount[..(sets * set)];
             binLo.Fill(RangeBounds.Empty.Lo);
             binHi.Fill(RangeBounds.Empty.Hi);
             binCount.Clear();
@@ -264,19 +283,24 @@ internal static class BinnedSah
             ref Vector128<float> lo0 = ref MemoryMarshal.GetReference(binLo);
             ref Vector128<float> hi0 = ref MemoryMarshal.GetReference(binHi);
             ref int count0 = ref MemoryMarshal.GetReference(binCount);
-            for (int i = start; i < end; i++)
+            Vector128<int> axisOffset = Vector128.Create(0, bins, 2 * bins, 0);
+            int i = start;
+            for (; sets == 2 && i + 1 < end; i += 2)
             {
-                ref readonly Item item = ref items[i];
-                Vector128<int> b = BinOf(item, cLo, scale, bins) + Vector128.Create(0, bins, 2 * bins, 0);
-                for (int a = 0; a < 3; a++)
-                {
-                    int k = b.GetElement(a);
-                    Unsafe.Add(ref count0, k)++;
-                    ref Vector128<float> lo = ref Unsafe.Add(ref lo0, k);
-                    ref Vector128<float> hi = ref Unsafe.Add(ref hi0, k);
-                    lo = Vector128.Min(lo, item.Lo);
-                    hi = Vector128.Max(hi, item.Hi);
-                }
+                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
+                AddToBins(items[i + 1], BinOf(items[i + 1], cLo, scale, bins) + axisOffset + Vector128.Create(set), ref lo0, ref hi0, ref count0);
+            }
+
+            for (; i < end; i++)
+            {
+                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
+            }
+
+            for (int k = 0; sets == 2 && k < set; k++)
+            {
+                binLo[k] = Vector128.Min(binLo[k], binLo[set + k]);
+                binHi[k] = Vector128.Max(binHi[k], binHi[set + k]);
+                binCount[k] += binCount[set + k];
             }
 
             float parentArea = HalfArea(bounds.Lo, bounds.Hi);
@@ -327,6 +351,21 @@ internal static class BinnedSah
             }
 
             return (axis, split);
+        }
+
+        /// <summary>Adds an item to its bin on each axis (<paramref name="b"/>: the three bin indices into the flat bin arrays).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void AddToBins(in Item item, Vector128<int> b, ref Vector128<float> lo0, ref Vector128<float> hi0, ref int count0)
+        {
+            for (int a = 0; a < 3; a++)
+            {
+                int k = b.GetElement(a);
+                Unsafe.Add(ref count0, k)++;
+                ref Vector128<float> lo = ref Unsafe.Add(ref lo0, k);
+                ref Vector128<float> hi = ref Unsafe.Add(ref hi0, k);
+                lo = Vector128.Min(lo, item.Lo);
+                hi = Vector128.Max(hi, item.Hi);
+            }
         }
 
         /// <summary>

@@ -340,6 +340,15 @@ public readonly struct RayShear
         Sy = d[_ky] * Sz;
     }
 
+    /// <summary>The axis that becomes x (0, 1, 2).</summary>
+    internal int Kx => _kx;
+
+    /// <summary>The axis that becomes y.</summary>
+    internal int Ky => _ky;
+
+    /// <summary>The axis along the ray (the direction's largest component), which becomes z.</summary>
+    internal int Kz => _kz;
+
     /// <summary>Component kx of <paramref name="p"/>.</summary>
     public double X(Vec3d p) => p[_kx];
 

@@ -78,13 +78,13 @@ public sealed class SceneLimitTests
     [Fact]
     public void A_mesh_is_held_to_the_memory_budget_while_it_is_read()
     {
-        // 3 vertex entries (64 bytes each) and 100 one-triangle faces (1024 bytes each): a budget of
-        // 192 + 50 · 1024 bytes takes 50 faces; the 51st, on line 3 + 51, is refused before it is stored.
+        // 3 vertex entries (64 bytes each) and 100 one-triangle faces (1280 bytes each): a budget of
+        // 192 + 50 · 1280 bytes takes 50 faces; the 51st, on line 3 + 51, is refused before it is stored.
         string obj = "v 0 0 0\nv 1 0 0\nv 0 1 0\n" + string.Concat(Enumerable.Repeat("f 1 2 3\n", 100));
-        MemoryBudgetException e = WithBudget(192 + (50 * 1024), () => Assert.Throws<MemoryBudgetException>(() => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)));
-        Assert.StartsWith("m.obj:54:1: reading the scene's meshes up to here (1024 bytes a triangle, 64 a vertex entry) needs about 51.2 KiB, above the memory budget of 50.2 KiB;", e.Message);
+        MemoryBudgetException e = WithBudget(192 + (50 * 1280), () => Assert.Throws<MemoryBudgetException>(() => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)));
+        Assert.StartsWith("m.obj:54:1: reading the scene's meshes up to here (1280 bytes a triangle, 64 a vertex entry) needs about 63.9 KiB, above the memory budget of 62.7 KiB;", e.Message);
         Assert.Contains("--max-memory", e.Message);
-        Assert.Equal(100, WithBudget(192 + (100 * 1024), () => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)).TriangleCount);
+        Assert.Equal(100, WithBudget(192 + (100 * 1280), () => ReadObj(obj, ObjReader.MaxTriangles, ObjReader.MaxVertices)).TriangleCount);
     }
 
     [Fact]
@@ -95,7 +95,7 @@ public sealed class SceneLimitTests
         string scene = Head + "shapes:\n  - { type: mesh, file: tile.obj, material: wall }\n  - { type: mesh, file: tile.obj, material: wall }\n";
         MemoryBudgetException e = WithBudget(150 * 1024, () => Assert.Throws<MemoryBudgetException>(() => SceneLoader.Parse(scene, "room.yaml", folder.Path)));
         // The second shape is on line 5; column 25 is the value of 'file'.
-        Assert.StartsWith("room.yaml:5:25: building the scene's 200 mesh triangles (1024 bytes a triangle) needs about 200 KiB, above the memory budget of 150 KiB;", e.Message);
+        Assert.StartsWith("room.yaml:5:25: building the scene's 200 mesh triangles (1280 bytes a triangle) needs about 250 KiB, above the memory budget of 150 KiB;", e.Message);
     }
 
     private static T WithBudget<T>(long bytes, Func<T> body)

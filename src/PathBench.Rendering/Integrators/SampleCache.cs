@@ -45,6 +45,7 @@ public sealed class SampleCache
 
     private readonly PointSampler _sampler;
     private readonly int _limit;
+    private readonly bool _pairsShareWork;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -59,6 +60,7 @@ public sealed class SampleCache
         ArgumentNullException.ThrowIfNull(sampler);
         _sampler = sampler;
         _limit = sampler.MaxDimensions;
+        _pairsShareWork = sampler.PairsShareWork;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -121,6 +123,14 @@ public sealed class SampleCache
     private void Fill(int slot, int dimension)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(dimension);
+        if (_pairsShareWork && (dimension | 1) < _limit)
+        {
+            // The generator makes the even-aligned pair for either coordinate (a path asks for both the lobe and the
+            // light choice, the two singles of a vertex's pair): made once, as Sample2D, the same bits as the singles.
+            Fill2D(slot, dimension & ~1);
+            return;
+        }
+
         Reserve(dimension + 1);
         uint first = _first + (uint)slot;
         Span<double> row = _values.AsSpan(dimension * BlockSize + slot, Run(slot, dimension));

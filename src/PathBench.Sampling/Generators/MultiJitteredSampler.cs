@@ -35,8 +35,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
 
     /// <inheritdoc/>
     /// <remarks>
-    /// The sub-stratum shuffles are one permutation of the columns and one of the rows per pixel and pair:
-    /// tabled as they are met (grids up to 64 × 64), so each is computed once per batch.
+    /// Eight points at a time where the machine has the vectors (<see cref="Points8"/>); otherwise the sub-stratum
+    /// shuffles, one permutation of the columns and one of the rows per pixel and pair, are tabled as they are met
+    /// (grids up to 64 × 64), so each is computed once per batch.
     /// </remarks>
     protected override void SamplePairBatch(ulong pixel, uint firstIndex, int pair, Span<double> xs, Span<double> ys)
     {
@@ -44,20 +45,17 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
         uint p = PairSeed(pixel, pair);
-        int vectored = Vector256.IsHardwareAccelerated ? xs.Length & ~7 : 0;
-        for (int at = 0; at < vectored; at += 8)
+        if (Lanes.Accelerated && Lanes.Inside(firstIndex, xs.Length, Count))
         {
-            Points8(pixel, pair, p, firstIndex + (uint)at, xs.Slice(at, 8), ys.Slice(at, 8));
-        }
+            for (int at = 0; at < xs.Length; at += 8)
+            {
+                int run = Math.Min(8, xs.Length - at);
+                Points8(pixel, pair, p, Lanes.Run(firstIndex + (uint)at, run), xs.Slice(at, run), ys.Slice(at, run));
+            }
 
-        if (vectored == xs.Length)
-        {
             return;
         }
 
-        firstIndex += (uint)vectored;
-        xs = xs[vectored..];
-        ys = ys[vectored..];
         if (m > MaxTabled || n > MaxTabled)
         {
             base.SamplePairBatch(pixel, firstIndex, pair, xs, ys);
@@ -89,28 +87,22 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Eight consecutive points of a pair: the index shuffle and the column and row shuffles each run as one
-    // eight-lane permutation (KenslerPermutation.Permute8, the same integers as the scalar form).
-    private void Points8(ulong pixel, int pair, uint p, uint first, Span<double> xs, Span<double> ys)
+    // Point for eight indices at once (KenslerPermutation.Permute8 for the index, column and row shuffles,
+    // SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and row): the same integers and the same
+    // IEEE-754 operations in the same order per lane as the scalar form; only the first xs.Length lanes are stored.
+    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, Span<double> xs, Span<double> ys)
     {
-        uint m = (uint)_grid.Columns;
-        Vector256<uint> lane = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-        Vector256<uint> s = KenslerPermutation.Permute8(Vector256.Create(first) + lane, (uint)Count, p * 0x51633e2du);
-        Span<uint> columns = stackalloc uint[8];
-        Span<uint> rows = stackalloc uint[8];
-        for (int k = 0; k < 8; k++)
-        {
-            uint sk = s.GetElement(k);
-            columns[k] = sk % m;
-            rows[k] = sk / m;
-        }
-
-        Vector256<uint> sx = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)columns), m, p * 0x68bc21ebu);
-        Vector256<uint> sy = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)rows), (uint)_grid.Rows, p * 0x02e5be93u);
-        for (int k = 0; k < 8; k++)
-        {
-            (xs[k], ys[k]) = Point(pixel, pair, s.GetElement(k), sx.GetElement(k), sy.GetElement(k));
-        }
+        double m = _grid.Columns;
+        double n = _grid.Rows;
+        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
+        (Vector512<double> row, Vector512<double> column) = Lanes.DivRem(Lanes.ToDouble(s), m);
+        Vector512<double> sx = Lanes.ToDouble(KenslerPermutation.Permute8(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu));
+        Vector512<double> sy = Lanes.ToDouble(KenslerPermutation.Permute8(Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u));
+        Vector512<double> jx = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair);
+        Vector512<double> jy = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1);
+        Vector512<double> vm = Vector512.Create(m), vn = Vector512.Create(n);
+        Lanes.Store(Lanes.Clamp((column + (sy + jx) / vn) / vm), xs);
+        Lanes.Store(Lanes.Clamp((row + (sx + jy) / vm) / vn), ys);
     }
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);

@@ -49,6 +49,14 @@ public abstract class PointSampler
         (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
 
     /// <summary>
+    /// Whether a single coordinate of an even-aligned pair (2k, 2k+1) costs about as much as the pair: the
+    /// generator makes the pair's shared work (a cell, a point of a 2-D pattern) for either coordinate, and
+    /// <see cref="Sample2D"/>(2k) is (<see cref="Sample"/>(2k), <see cref="Sample"/>(2k+1)) bit for bit. A caller
+    /// that will want both coordinates may then ask for the pair once instead of two singles.
+    /// </summary>
+    public virtual bool PairsShareWork => false;
+
+    /// <summary>
     /// Dimensions <paramref name="dimension"/> and <paramref name="dimension"/>+1 of the
     /// consecutive points <paramref name="firstIndex"/>, <paramref name="firstIndex"/>+1, …, one per
     /// element of <paramref name="xs"/>: the same values as <see cref="Sample2D"/>, for callers
@@ -123,6 +131,9 @@ public abstract class PointSampler
 /// </summary>
 public abstract class PairedPointSampler(SamplerSpec spec) : PointSampler(spec)
 {
+    /// <inheritdoc/>
+    public sealed override bool PairsShareWork => true;
+
     /// <inheritdoc/>
     public sealed override double Sample(ulong pixel, uint index, int dimension)
     {

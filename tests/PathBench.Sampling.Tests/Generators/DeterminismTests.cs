@@ -141,8 +141,9 @@ public sealed class BatchTests
     /// <summary>
     /// The renderer takes its coordinates from the batch methods (single dimensions from SampleBatch,
     /// pairs from Sample2DBatch) where it used to call Sample and Sample2D: each must give the same bits,
-    /// at even and odd dimensions, batches of 1 to 16 points (the AVX2 path from 8), and batches that
-    /// start anywhere in the sequence.
+    /// at even and odd dimensions, batches of 1 to 16 points (the AVX2 path from 8; the eight-lane paths of the
+    /// Kensler-permuted sets for any length, their unused lanes padded), and batches that start anywhere in the
+    /// sequence, up to its last point.
     /// </summary>
     [Theory]
     [MemberData(nameof(Catalog))]
@@ -155,7 +156,7 @@ public sealed class BatchTests
         PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, count, 21), dims);
         var xs = new double[16];
         var ys = new double[16];
-        foreach ((int px, uint first, int n) in new[] { (0, 0u, 16), (5, 3u, 13), (9, 24u, 16), (2, 31u, 9), (4, 39u, 1), (6, 16u, 8) })
+        foreach ((int px, uint first, int n) in new[] { (0, 0u, 16), (5, 3u, 13), (9, 24u, 16), (2, 31u, 9), (4, 39u, 1), (6, 16u, 8), (1, 36u, 4), (3, 17u, 7), (8, 30u, 2) })
         {
             ulong key = s.PixelKey(px, px + 1);
             for (int d = 0; d + 1 < dims; d++)

@@ -1,0 +1,75 @@
+using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// Eight points of a batch at once, for the generators built on Kensler permutations and jitter hashes
+/// (jittered, Latin hypercube, multi-jittered): index lanes for a run of up to eight consecutive points,
+/// exact conversions between the lanes' integers and doubles, the clamp below 1, and the store of the
+/// lanes a run uses. Each step is one IEEE-754 operation per lane, the same as the scalar form's, so
+/// the lanes keep the scalar bits.
+/// </summary>
+internal static class Lanes
+{
+    /// <summary>Whether the eight-lane forms run on hardware (512-bit doubles and 64-bit lanes, 256-bit 32-bit lanes); otherwise the callers keep their scalar loops.</summary>
+    public static bool Accelerated => Vector512.IsHardwareAccelerated && Vector256.IsHardwareAccelerated;
+
+    /// <summary>
+    /// Indices <paramref name="first"/>, <paramref name="first"/>+1, …, <paramref name="first"/>+<paramref name="n"/>−1 in the
+    /// first <paramref name="n"/> lanes (1 ≤ n ≤ 8) and the last of them repeated in the rest: every lane a valid index, so a
+    /// permutation's cycle walk ends in every lane; only the first n lanes are stored.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<uint> Run(uint first, int n) =>
+        Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
+
+    /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> ToDouble(Vector256<uint> v) => Vector512.ConvertToDouble(Vector512.WidenLower(v.ToVector512Unsafe()));
+
+    /// <summary>Lanes of whole numbers in [0, 2^32) back to integers (exact).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<uint> ToUInt32(Vector512<double> v)
+    {
+        Vector512<ulong> wide = Vector512.ConvertToUInt64(v);
+        return Vector512.Narrow(wide, wide).GetLower();
+    }
+
+    /// <summary>
+    /// Quotient and remainder of lanes of 32-bit integers by <paramref name="divisor"/>, as doubles: ⌊v / d⌋ of the correctly rounded
+    /// quotient is the integer quotient (v = q·d + r with r ≤ d − 1 puts v / d at least 1/d below q + 1, far more than half an ulp
+    /// for v &lt; 2^32), and v − q·d is exact in integers below 2^53.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector512<double> Quotient, Vector512<double> Remainder) DivRem(Vector512<double> v, double divisor)
+    {
+        Vector512<double> d = Vector512.Create(divisor);
+        Vector512<double> q = Vector512.Floor(v / d);
+        return (q, v - q * d);
+    }
+
+    /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Clamp(Vector512<double> x) =>
+        Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
+
+    /// <summary>The first <c>destination.Length</c> (at most eight) lanes into <paramref name="destination"/>.</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static void Store(Vector512<double> v, Span<double> destination)
+    {
+        if (destination.Length == 8)
+        {
+            v.CopyTo(destination);
+            return;
+        }
+
+        Span<double> lanes = stackalloc double[8];
+        v.CopyTo(lanes);
+        lanes[..destination.Length].CopyTo(destination);
+    }
+
+    /// <summary>Whether the run [<paramref name="first"/>, <paramref name="first"/> + <paramref name="n"/>) lies in a set of <paramref name="count"/> points (outside it the scalar form throws, and the lanes must not cycle-walk).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static bool Inside(uint first, int n, int count) => (ulong)first + (ulong)n <= (ulong)count;
+}

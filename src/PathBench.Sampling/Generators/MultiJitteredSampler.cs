@@ -87,17 +87,21 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Point for eight indices at once (KenslerPermutation.Permute8 for the index, column and row shuffles,
-    // SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and row): the same integers and the same
-    // IEEE-754 operations in the same order per lane as the scalar form; only the first xs.Length lanes are stored.
+    // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, Permute8Pair for the column
+    // and row shuffles walked together, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and row): the
+    // same integers and the same IEEE-754 operations in the same order per lane as the scalar form; only the first
+    // xs.Length lanes are stored.
     private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, Span<double> xs, Span<double> ys)
     {
         double m = _grid.Columns;
         double n = _grid.Rows;
         Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
         (Vector512<double> row, Vector512<double> column) = Lanes.DivRem(Lanes.ToDouble(s), m);
-        Vector512<double> sx = Lanes.ToDouble(KenslerPermutation.Permute8(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu));
-        Vector512<double> sy = Lanes.ToDouble(KenslerPermutation.Permute8(Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u));
+        (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = _grid.Columns > 1 && _grid.Rows > 1
+            ? KenslerPermutation.Permute8Pair(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu, Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u)
+            : (KenslerPermutation.Permute8(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu), KenslerPermutation.Permute8(Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u));
+        Vector512<double> sx = Lanes.ToDouble(columnShuffle);
+        Vector512<double> sy = Lanes.ToDouble(rowShuffle);
         Vector512<double> jx = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair);
         Vector512<double> jy = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1);
         Vector512<double> vm = Vector512.Create(m), vn = Vector512.Create(n);

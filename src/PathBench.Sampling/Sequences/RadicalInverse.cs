@@ -1,6 +1,4 @@
 using System.Runtime.CompilerServices;
-using System.Runtime.Intrinsics;
-using PathBench.Sampling.Generators;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Sequences;
@@ -92,62 +90,45 @@ public static class RadicalInverse
         int digits = zeroTail.Length - 1;
         uint ub = (uint)b;
         double invBase = 1.0 / b;
-        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table.
+        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table, and only where
+        // a digit can repeat: a run whose last index is below b has one distinct digit per point (the common case of a
+        // large base), so the table's fill would be pure cost there.
         const int TableEntries = 512;
-        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries;
+        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries && (ulong)firstIndex + (ulong)xs.Length > (ulong)b;
         Span<byte> table = tabled ? stackalloc byte[TableEntries] : default;
         table.Fill(0xFF);
-        // The lowest digit's permutation, the bulk of the work in the large bases (one Kensler permutation per point),
-        // runs on eight lanes: π_0 of each lane's lowest digit (Lanes.DivRem gives the digit, exactly).
-        bool lanes = Lanes.Accelerated && xs.Length > 1;
-        Span<uint> lowest = stackalloc uint[8];
-        for (int at = 0; at < xs.Length; at += 8)
+        for (int i = 0; i < xs.Length; i++)
         {
-            int run = Math.Min(8, xs.Length - at);
-            if (lanes)
+            uint index = firstIndex + (uint)i;
+            double weight = invBase;
+            double sum = 0;
+            int k = 0;
+            for (; index != 0; k++)
             {
-                Vector256<uint> indices = Lanes.Run(firstIndex + (uint)at, run);
-                (_, Vector512<double> digit0) = Lanes.DivRem(Lanes.ToDouble(indices), b);
-                KenslerPermutation.Permute8(Lanes.ToUInt32(digit0), ub, seeds[0]).CopyTo(lowest);
-            }
-
-            for (int i = 0; i < run; i++)
-            {
-                uint index = firstIndex + (uint)(at + i);
-                double weight = invBase;
-                double sum = 0;
-                int k = 0;
-                for (; index != 0; k++)
+                uint next = index / ub;
+                uint digit = index - next * ub;
+                uint permuted;
+                if (tabled)
                 {
-                    uint next = index / ub;
-                    uint digit = index - next * ub;
-                    uint permuted;
-                    if (k == 0 && lanes)
-                    {
-                        permuted = lowest[i];
-                    }
-                    else if (tabled)
-                    {
-                        int slot = k * b + (int)digit;
-                        permuted = table[slot];
-                        if (permuted == 0xFF)
-                        {
-                            permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
-                            table[slot] = (byte)permuted;
-                        }
-                    }
-                    else
+                    int slot = k * b + (int)digit;
+                    permuted = table[slot];
+                    if (permuted == 0xFF)
                     {
                         permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
+                        table[slot] = (byte)permuted;
                     }
-
-                    sum += permuted * weight;
-                    weight *= invBase;
-                    index = next;
+                }
+                else
+                {
+                    permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
                 }
 
-                xs[at + i] = UnitInterval.Clamp(sum + zeroTail[k]);
+                sum += permuted * weight;
+                weight *= invBase;
+                index = next;
             }
+
+            xs[i] = UnitInterval.Clamp(sum + zeroTail[k]);
         }
     }
 

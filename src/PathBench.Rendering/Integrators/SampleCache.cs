@@ -29,7 +29,10 @@ public interface ISampleStream
 /// request is a load. Each value is the one <see cref="SampleStream"/> gives (the same method of the
 /// sampler computes it: <c>Sample</c> for single dimensions, <c>Sample2D</c> for pairs; past the
 /// generator's dimension limit the same padding hash), so images keep their bits; the cost is
-/// that a dimension is made for some later samples that end their paths before using it.
+/// that a dimension is made for some later samples that end their paths before using it. For a generator whose
+/// single coordinates cost as much as their even-aligned pair (<see cref="PointSampler.PairsShareWork"/>: the
+/// jittered and the pair-wise 2-D sets), a single dimension is made with its pair partner through
+/// <c>Sample2DBatch</c>: the vertex's lobe and light choice are such a pair, made once instead of twice.
 /// </summary>
 /// <remarks>One per worker thread, reused for every block: nothing is allocated per sample or per pixel.</remarks>
 public sealed class SampleCache

@@ -139,12 +139,8 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         if (dimension >= TabledDimensions)
         {
             uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            if (Walked(dimension) && OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new OwenSobolBatch.IndexMap(false, 0, 0), new OwenSobolBatch.Scramble(seed), default, xs, default) == xs.Length)
-            {
-                return;
-            }
-
-            for (int i = 0; i < xs.Length; i++)
+            int vectored = Walked(dimension) ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new OwenSobolBatch.IndexMap(false, 0, 0), new OwenSobolBatch.Scramble(seed), default, xs, default) : 0;
+            for (int i = vectored; i < xs.Length; i++)
             {
                 xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
             }
@@ -156,12 +152,8 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
         uint block = _blocks[entry];
-        if (Walked(dimension) && OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new(false, 0, block), Scramble(pixelSeed, dimension), default, xs, default) == xs.Length)
-        {
-            return;
-        }
-
-        for (int i = 0; i < xs.Length; i++)
+        int done = Walked(dimension) ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new(false, 0, block), Scramble(pixelSeed, dimension), default, xs, default) : 0;
+        for (int i = done; i < xs.Length; i++)
         {
             xs[i] = Tabled(BitReversal.Reverse((firstIndex + (uint)i) ^ block), dimension, pixelSeed);
         }
@@ -181,14 +173,11 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint block = _blocks[entry];
-        if (Walked(dimension + 1)
-            && OwenSobolBatch.Run(_matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1), firstIndex, new(false, 0, block), Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys) == xs.Length)
-        {
-            return;
-        }
-
-        // The scalar form (without AVX2): the reference the eight-lane one is tested against.
-        for (int i = 0; i < xs.Length; i++)
+        int done = Walked(dimension + 1)
+            ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1), firstIndex, new(false, 0, block), Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
+            : 0;
+        // The scalar tail (and the whole batch without AVX2): the reference the eight-lane form is tested against.
+        for (int i = done; i < xs.Length; i++)
         {
             uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);
             xs[i] = Tabled(reversedIndex, dimension, sx);

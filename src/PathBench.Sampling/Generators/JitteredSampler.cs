@@ -81,7 +81,7 @@ public sealed class JitteredSampler : PointSampler
         {
             int n = Math.Min(8, xs.Length - at);
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-            Vector512<double> cell = Lanes.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
+            Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
             Lanes.Store(Coordinates8(pixel, index, dimension, cell), xs.Slice(at, n));
             if (!ys.IsEmpty)
             {
@@ -90,14 +90,14 @@ public sealed class JitteredSampler : PointSampler
         }
     }
 
-    // Coordinate on eight lanes (cells as doubles): the cell's column or row by Lanes.DivRem, the same integers as % and /.
-    private Vector512<double> Coordinates8(ulong pixel, Vector256<uint> index, int dimension, Vector512<double> cell)
+    // Coordinate on eight lanes: the cell's column or row by Lanes.DivRem, the same integers as % and /; the division by Lanes.Over.
+    private Vector512<double> Coordinates8(ulong pixel, Vector256<uint> index, int dimension, Vector256<uint> cell)
     {
         Vector512<double> jitter = SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension);
-        (Vector512<double> row, Vector512<double> column) = Lanes.DivRem(cell, _grid.Columns);
+        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(cell, _grid.Columns);
         Vector512<double> x = (dimension & 1) == 0
-            ? (column + jitter) / Vector512.Create((double)_grid.Columns)
-            : (row + jitter) / Vector512.Create((double)_grid.Rows);
+            ? Lanes.Over(Lanes.ToDouble(column) + jitter, _grid.Columns)
+            : Lanes.Over(Lanes.ToDouble(row) + jitter, _grid.Rows);
         return Lanes.Clamp(x);
     }
 

@@ -1,3 +1,4 @@
+using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 
@@ -48,6 +49,31 @@ internal static class Lanes
         Vector512<double> q = Vector512.Floor(v / d);
         return (q, v - q * d);
     }
+
+    /// <summary>
+    /// Integer quotient and remainder of each lane by <paramref name="divisor"/> (≥ 1): a shift and a mask for a power
+    /// of two, otherwise <see cref="DivRem(Vector512{double}, double)"/> through exact doubles.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Quotient, Vector256<uint> Remainder) DivRem(Vector256<uint> v, int divisor)
+    {
+        if (BitOperations.IsPow2(divisor))
+        {
+            return (v >>> BitOperations.Log2((uint)divisor), v & Vector256.Create((uint)divisor - 1));
+        }
+
+        (Vector512<double> q, Vector512<double> r) = DivRem(ToDouble(v), divisor);
+        return (ToUInt32(q), ToUInt32(r));
+    }
+
+    /// <summary>
+    /// x / <paramref name="divisor"/> per lane, as the scalar division: by a power of two it is the multiplication by its
+    /// reciprocal, which gives the same double (both scale the significand exactly; these values stay far from the
+    /// subnormal and overflow ranges) at a fraction of a vector division's cost.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Over(Vector512<double> x, int divisor) =>
+        BitOperations.IsPow2(divisor) ? x * Vector512.Create(1.0 / divisor) : x / Vector512.Create((double)divisor);
 
     /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

@@ -28,13 +28,12 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         {
             // Eight points at a time: the stratum permutation on eight lanes, the jitter hash on eight 64-bit lanes,
             // the same operations per lane as below.
-            Vector512<double> count = Vector512.Create((double)Count);
             for (int at = 0; at < xs.Length; at += 8)
             {
                 int n = Math.Min(8, xs.Length - at);
                 Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
                 Vector512<double> stratum = Lanes.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
-                Lanes.Store(Lanes.Clamp((stratum + SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension)) / count), xs.Slice(at, n));
+                Lanes.Store(Lanes.Clamp(Lanes.Over(stratum + SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension), Count)), xs.Slice(at, n));
             }
 
             return;

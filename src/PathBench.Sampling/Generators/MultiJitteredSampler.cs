@@ -1,4 +1,5 @@
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -47,10 +48,14 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint p = PairSeed(pixel, pair);
         if (Lanes.Accelerated && Lanes.Inside(firstIndex, xs.Length, Count))
         {
+            // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
+            // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
+            bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
+            (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
             for (int at = 0; at < xs.Length; at += 8)
             {
                 int run = Math.Min(8, xs.Length - at);
-                Points8(pixel, pair, p, Lanes.Run(firstIndex + (uint)at, run), xs.Slice(at, run), ys.Slice(at, run));
+                Points8(pixel, pair, p, Lanes.Run(firstIndex + (uint)at, run), tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
             }
 
             return;
@@ -87,26 +92,34 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, Permute8Pair for the column
-    // and row shuffles walked together, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and row): the
-    // same integers and the same IEEE-754 operations in the same order per lane as the scalar form; only the first
-    // xs.Length lanes are stored.
-    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, Span<double> xs, Span<double> ys)
+    // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, the column and row shuffles
+    // from the batch's tables or by Permute8Pair, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and
+    // row, Lanes.Over for the divisions): the same integers and the same IEEE-754 results in the same order per lane as
+    // the scalar form; only the first xs.Length lanes are stored.
+    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
     {
-        double m = _grid.Columns;
-        double n = _grid.Rows;
         Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
-        (Vector512<double> row, Vector512<double> column) = Lanes.DivRem(Lanes.ToDouble(s), m);
-        (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = _grid.Columns > 1 && _grid.Rows > 1
-            ? KenslerPermutation.Permute8Pair(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu, Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u)
-            : (KenslerPermutation.Permute8(Lanes.ToUInt32(column), (uint)_grid.Columns, p * 0x68bc21ebu), KenslerPermutation.Permute8(Lanes.ToUInt32(row), (uint)_grid.Rows, p * 0x02e5be93u));
+        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(s, _grid.Columns);
+        (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
+            ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
+            : Shuffles(column, row, p);
         Vector512<double> sx = Lanes.ToDouble(columnShuffle);
         Vector512<double> sy = Lanes.ToDouble(rowShuffle);
         Vector512<double> jx = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair);
         Vector512<double> jy = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1);
-        Vector512<double> vm = Vector512.Create(m), vn = Vector512.Create(n);
-        Lanes.Store(Lanes.Clamp((column + (sy + jx) / vn) / vm), xs);
-        Lanes.Store(Lanes.Clamp((row + (sx + jy) / vm) / vn), ys);
+        int m = _grid.Columns, n = _grid.Rows;
+        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(column) + Lanes.Over(sy + jx, n), m)), xs);
+        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(row) + Lanes.Over(sx + jy, m), n)), ys);
+    }
+
+    // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked
+    // together where both lengths exceed 1 (a length of 1 maps everything to 0).
+    private (Vector256<uint> Columns, Vector256<uint> Rows) Shuffles(Vector256<uint> column, Vector256<uint> row, uint p)
+    {
+        uint m = (uint)_grid.Columns, n = (uint)_grid.Rows;
+        return m > 1 && n > 1
+            ? KenslerPermutation.Permute8Pair(column, m, p * 0x68bc21ebu, row, n, p * 0x02e5be93u)
+            : (KenslerPermutation.Permute8(column, m, p * 0x68bc21ebu), KenslerPermutation.Permute8(row, n, p * 0x02e5be93u));
     }
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);

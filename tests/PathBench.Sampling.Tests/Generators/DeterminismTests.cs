@@ -121,6 +121,48 @@ public sealed class BatchTests
         }
     }
 
+    /// <summary>
+    /// The eight-lane forms of the sets built on Kensler permutations at other counts than the catalog test's 40 (a 5 × 8
+    /// grid): powers of two (divisions by shifts and reciprocals: 16 is 4 × 4, 256 is 16 × 16, past the 8 × 8 tabled
+    /// shuffles), a prime (a 1 × 7 grid, the length-1 shuffle) and a single point.
+    /// </summary>
+    [Theory]
+    [InlineData("multi-jittered", 16)]
+    [InlineData("multi-jittered", 256)]
+    [InlineData("multi-jittered", 7)]
+    [InlineData("multi-jittered", 1)]
+    [InlineData("jittered", 16)]
+    [InlineData("jittered", 7)]
+    [InlineData("latin-hypercube", 16)]
+    [InlineData("latin-hypercube", 7)]
+    public void Kensler_sets_batches_equal_their_points_at_other_counts(string generator, int count)
+    {
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, count, 5), 12);
+        var xs = new double[count];
+        var ys = new double[count];
+        for (int first = 0; first < count; first += 1 + first % 5)
+        {
+            int n = Math.Min(count - first, 1 + (first * 3 % 17));
+            ulong key = s.PixelKey(first, 2);
+            for (int d = 0; d < 10; d++)
+            {
+                s.SampleBatch(key, (uint)first, d, xs.AsSpan(0, n));
+                s.Sample2DBatch(key, (uint)first, d, xs.AsSpan(0, n), ys.AsSpan(0, n));
+                for (int i = 0; i < n; i++)
+                {
+                    (double a, double b) = s.Sample2D(key, (uint)(first + i), d);
+                    Assert.True(a == xs[i] && b == ys[i], $"{generator} n={count} dimensions {d}, {d + 1} point {first + i}");
+                }
+
+                s.SampleBatch(key, (uint)first, d, xs.AsSpan(0, n));
+                for (int i = 0; i < n; i++)
+                {
+                    Assert.True(s.Sample(key, (uint)(first + i), d) == xs[i], $"{generator} n={count} dimension {d} point {first + i}");
+                }
+            }
+        }
+    }
+
     /// <summary>Every generator × randomization the catalog offers, as the renderer's sample cache uses them.</summary>
     public static TheoryData<string, string> Catalog()
     {

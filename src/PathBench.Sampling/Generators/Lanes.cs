@@ -90,9 +90,14 @@ internal static class Lanes
             return;
         }
 
+        // A run's last part-group: element by element (a span copy of a few doubles is a Memmove call, which
+        // measured as a visible share of a run of four).
         Span<double> lanes = stackalloc double[8];
         v.CopyTo(lanes);
-        lanes[..destination.Length].CopyTo(destination);
+        for (int k = 0; k < destination.Length; k++)
+        {
+            destination[k] = lanes[k];
+        }
     }
 
     /// <summary>Whether the run [<paramref name="first"/>, <paramref name="first"/> + <paramref name="n"/>) lies in a set of <paramref name="count"/> points (outside it the scalar form throws, and the lanes must not cycle-walk).</summary>

@@ -76,28 +76,48 @@ internal static class OwenSobolBatch
         }
 
         ReadOnlySpan<uint> runX = tableX.Slice(first, xs.Length), runY = tableY.Slice(first, ys.Length);
-        Span<uint> laneX = stackalloc uint[8], laneY = stackalloc uint[8];
+        uint* laneX = stackalloc uint[8];
+        uint* laneY = stackalloc uint[8];
         double* restX = stackalloc double[8];
         double* restY = stackalloc double[8];
         Vector256<uint> sx = Vector256.Create(seedX), sy = Vector256.Create(seedY);
+        fixed (uint* tx = runX, ty = runY)
         fixed (double* px = xs, py = ys)
         {
             for (int i = 0; i < xs.Length; i += 8)
             {
+                // A whole group loads straight from the tables; a run's last part-group through lanes filled element by
+                // element (a span copy of a few words is a Memmove call, a visible share of a run of four).
                 int n = Math.Min(8, xs.Length - i);
-                laneX.Clear();
-                laneY.Clear();
-                runX.Slice(i, n).CopyTo(laneX);
-                runY.Slice(i, n).CopyTo(laneY);
-                Vector256<uint> x = Vector256.Create((ReadOnlySpan<uint>)laneX), y = Vector256.Create((ReadOnlySpan<uint>)laneY);
+                Vector256<uint> x, y;
+                if (n == 8)
+                {
+                    x = Vector256.Load(tx + i);
+                    y = Vector256.Load(ty + i);
+                }
+                else
+                {
+                    for (int k = 0; k < 8; k++)
+                    {
+                        laneX[k] = k < n ? tx[i + k] : 0;
+                        laneY[k] = k < n ? ty[i + k] : 0;
+                    }
+
+                    x = Vector256.Load(laneX);
+                    y = Vector256.Load(laneY);
+                }
+
                 x = Reverse(LaineKarras(Reverse(x), sx));
                 y = Reverse(LaineKarras(Reverse(y), sy));
                 Store(x, n == 8 ? px + i : restX);
                 Store(y, n == 8 ? py + i : restY);
                 if (n < 8)
                 {
-                    new ReadOnlySpan<double>(restX, n).CopyTo(xs[i..]);
-                    new ReadOnlySpan<double>(restY, n).CopyTo(ys[i..]);
+                    for (int k = 0; k < n; k++)
+                    {
+                        px[i + k] = restX[k];
+                        py[i + k] = restY[k];
+                    }
                 }
             }
         }

@@ -31,7 +31,7 @@ public sealed class JitteredSampler : PointSampler
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = PairSeed(pixel, dimension);
-        if (Lanes.Accelerated && Lanes.Inside(firstIndex, xs.Length, Count))
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             Batch8(pixel, firstIndex, dimension, seed, xs, default);
             return;
@@ -56,7 +56,7 @@ public sealed class JitteredSampler : PointSampler
         // An even-aligned pair shares its cell: one permutation per point for both coordinates.
         RequireSameLength(xs, ys);
         uint seed = PairSeed(pixel, dimension);
-        if (Lanes.Accelerated && Lanes.Inside(firstIndex, xs.Length, Count))
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             Batch8(pixel, firstIndex, dimension, seed, xs, ys);
             return;
@@ -74,18 +74,36 @@ public sealed class JitteredSampler : PointSampler
     private static uint PairSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1));
 
     // Eight points at a time: the cell permutation on eight lanes, then dimension's coordinates into xs and, when ys is
-    // not empty (an even-aligned pair), the next dimension's from the same cells into ys.
+    // not empty (an even-aligned pair), the next dimension's from the same cells into ys; on eight lanes of doubles
+    // (Wide) or one lane at a time by the scalar Coordinate (Narrow).
     private void Batch8(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
     {
+        bool wide = Width == LaneWidth.Wide;
         for (int at = 0; at < xs.Length; at += 8)
         {
             int n = Math.Min(8, xs.Length - at);
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
-            Lanes.Store(Coordinates8(pixel, index, dimension, cell), xs.Slice(at, n));
-            if (!ys.IsEmpty)
+            if (wide)
             {
-                Lanes.Store(Coordinates8(pixel, index, dimension + 1, cell), ys.Slice(at, n));
+                Lanes.Store(Coordinates8(pixel, index, dimension, cell), xs.Slice(at, n));
+                if (!ys.IsEmpty)
+                {
+                    Lanes.Store(Coordinates8(pixel, index, dimension + 1, cell), ys.Slice(at, n));
+                }
+
+                continue;
+            }
+
+            for (int k = 0; k < n; k++)
+            {
+                uint i = firstIndex + (uint)(at + k);
+                uint c = cell.GetElement(k);
+                xs[at + k] = Coordinate(pixel, i, dimension, c);
+                if (!ys.IsEmpty)
+                {
+                    ys[at + k] = Coordinate(pixel, i, dimension + 1, c);
+                }
             }
         }
     }

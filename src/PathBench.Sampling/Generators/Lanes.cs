@@ -13,8 +13,14 @@ namespace PathBench.Sampling.Generators;
 /// </summary>
 internal static class Lanes
 {
-    /// <summary>Whether the eight-lane forms run on hardware (512-bit doubles and 64-bit lanes, 256-bit 32-bit lanes); otherwise the callers keep their scalar loops.</summary>
-    public static bool Accelerated => Vector512.IsHardwareAccelerated && Vector256.IsHardwareAccelerated;
+    /// <summary>
+    /// The widest form this machine runs on hardware: <see cref="LaneWidth.Wide"/> with 512-bit vectors (AVX-512),
+    /// <see cref="LaneWidth.Narrow"/> with 256-bit ones only (AVX2), else <see cref="LaneWidth.Scalar"/>.
+    /// </summary>
+    public static LaneWidth Best { get; } =
+        Vector512.IsHardwareAccelerated && Vector256.IsHardwareAccelerated ? LaneWidth.Wide
+        : Vector256.IsHardwareAccelerated ? LaneWidth.Narrow
+        : LaneWidth.Scalar;
 
     /// <summary>
     /// Indices <paramref name="first"/>, <paramref name="first"/>+1, …, <paramref name="first"/>+<paramref name="n"/>−1 in the
@@ -103,4 +109,23 @@ internal static class Lanes
     /// <summary>Whether the run [<paramref name="first"/>, <paramref name="first"/> + <paramref name="n"/>) lies in a set of <paramref name="count"/> points (outside it the scalar form throws, and the lanes must not cycle-walk).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static bool Inside(uint first, int n, int count) => (ulong)first + (ulong)n <= (ulong)count;
+}
+
+/// <summary>
+/// How the sets built on Kensler permutations make a batch (<see cref="PointSampler.Width"/>); every form gives the
+/// scalar form's bits.
+/// </summary>
+internal enum LaneWidth
+{
+    /// <summary>One point at a time.</summary>
+    Scalar,
+
+    /// <summary>
+    /// The permutations on eight 32-bit lanes of 256 bits (AVX2), the jitter hashes and the coordinates' doubles one
+    /// lane at a time as the scalar form.
+    /// </summary>
+    Narrow,
+
+    /// <summary>Everything on eight lanes: the permutations on 256 bits, the 64-bit hashes and the doubles on 512 bits (AVX-512).</summary>
+    Wide,
 }

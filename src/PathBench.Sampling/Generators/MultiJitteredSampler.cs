@@ -46,16 +46,25 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
         uint p = PairSeed(pixel, pair);
-        if (Lanes.Accelerated && Lanes.Inside(firstIndex, xs.Length, Count))
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
             // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
+            bool wide = Width == LaneWidth.Wide;
             (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
             for (int at = 0; at < xs.Length; at += 8)
             {
                 int run = Math.Min(8, xs.Length - at);
-                Points8(pixel, pair, p, Lanes.Run(firstIndex + (uint)at, run), tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, run);
+                if (wide)
+                {
+                    Points8(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                }
+                else
+                {
+                    Points8Narrow(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                }
             }
 
             return;
@@ -110,6 +119,27 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         int m = _grid.Columns, n = _grid.Rows;
         Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(column) + Lanes.Over(sy + jx, n), m)), xs);
         Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(row) + Lanes.Over(sx + jy, m), n)), ys);
+    }
+
+    // Points8's permutations on 256-bit lanes only (AVX2): the index shuffle and the column and row shuffles on eight
+    // lanes (tabled or by Permute8Pair), column, row and the point's doubles per lane by the scalar Point.
+    private void Points8Narrow(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    {
+        uint m = (uint)_grid.Columns;
+        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
+        Vector256<uint> column = Vector256.Create(
+            s.GetElement(0) % m, s.GetElement(1) % m, s.GetElement(2) % m, s.GetElement(3) % m,
+            s.GetElement(4) % m, s.GetElement(5) % m, s.GetElement(6) % m, s.GetElement(7) % m);
+        Vector256<uint> row = Vector256.Create(
+            s.GetElement(0) / m, s.GetElement(1) / m, s.GetElement(2) / m, s.GetElement(3) / m,
+            s.GetElement(4) / m, s.GetElement(5) / m, s.GetElement(6) / m, s.GetElement(7) / m);
+        (Vector256<uint> sx, Vector256<uint> sy) = tabled
+            ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
+            : Shuffles(column, row, p);
+        for (int k = 0; k < xs.Length; k++)
+        {
+            (xs[k], ys[k]) = Point(pixel, pair, s.GetElement(k), sx.GetElement(k), sy.GetElement(k));
+        }
     }
 
     // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked

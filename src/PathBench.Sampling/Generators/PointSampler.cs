@@ -21,6 +21,13 @@ public abstract class PointSampler
         Spec = spec;
     }
 
+    /// <summary>
+    /// The lane form of the batches of the sets built on Kensler permutations (jittered, Latin hypercube,
+    /// multi-jittered): the machine's widest by default. Tests set it, before the sampler's first use, to run the
+    /// narrower forms on a machine that has the wider; every form gives the same bits.
+    /// </summary>
+    internal LaneWidth Width { get; set; } = Lanes.Best;
+
     /// <summary>What this sampler was built from.</summary>
     public SamplerSpec Spec { get; }
 

@@ -122,22 +122,37 @@ public sealed class BatchTests
     }
 
     /// <summary>
-    /// The eight-lane forms of the sets built on Kensler permutations at other counts than the catalog test's 40 (a 5 × 8
-    /// grid): powers of two (divisions by shifts and reciprocals: 16 is 4 × 4, 256 is 16 × 16, past the 8 × 8 tabled
-    /// shuffles), a prime (a 1 × 7 grid, the length-1 shuffle) and a single point.
+    /// The batch forms of the sets built on Kensler permutations, each lane width (<see cref="LaneWidth"/>: the
+    /// AVX-512 form, the AVX2 form and one point at a time, all run on this machine whatever it has: a width
+    /// without the hardware runs in software, with the same bits), at the catalog test's 40 (a 5 × 8 grid), powers
+    /// of two (divisions by shifts and reciprocals: 16 is 4 × 4, 256 is 16 × 16, past the 8 × 8 tabled shuffles), a
+    /// prime (a 1 × 7 grid, the length-1 shuffle) and a single point.
     /// </summary>
     [Theory]
     [InlineData("multi-jittered", 16)]
     [InlineData("multi-jittered", 256)]
+    [InlineData("multi-jittered", 40)]
     [InlineData("multi-jittered", 7)]
     [InlineData("multi-jittered", 1)]
     [InlineData("jittered", 16)]
+    [InlineData("jittered", 40)]
     [InlineData("jittered", 7)]
     [InlineData("latin-hypercube", 16)]
+    [InlineData("latin-hypercube", 40)]
     [InlineData("latin-hypercube", 7)]
-    public void Kensler_sets_batches_equal_their_points_at_other_counts(string generator, int count)
+    public void Kensler_sets_batches_equal_their_points_at_every_lane_width(string generator, int count)
     {
-        PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, count, 5), 12);
+        foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow, LaneWidth.Scalar })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, count, 5), 12);
+            s.Width = width;
+            BatchesEqualPoints(s, generator + " " + width);
+        }
+    }
+
+    private static void BatchesEqualPoints(PointSampler s, string generator)
+    {
+        int count = s.Count;
         var xs = new double[count];
         var ys = new double[count];
         for (int first = 0; first < count; first += 1 + first % 5)

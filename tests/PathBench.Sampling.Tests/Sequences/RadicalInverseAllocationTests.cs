@@ -38,6 +38,76 @@ public sealed class RadicalInverseAllocationTests
         }
     }
 
+    [Fact]
+    public void Tails_made_ahead_for_the_next_dimensions_give_the_one_at_a_time_bits()
+    {
+        // A batch's first miss makes the zero tails of the next RadicalInverse dimensions too (their permutations share
+        // vector lanes). Reference: Sample, one point at a time, on a thread of its own whose cache never filled ahead;
+        // the batches run on another fresh thread, the dimensions in orders that start fills anywhere: ascending,
+        // descending, by threes, across the 256th dimension (where cache slots are shared), revisited after another
+        // pixel evicted them, and two pixels interleaved.
+        var sampler = SamplerCatalog.Create(new SamplerSpec("halton", Randomization.DigitPermutation, false, 16, 11), 300);
+        int[] order = [.. Enumerable.Range(0, 40), .. Enumerable.Range(0, 40).Reverse(), .. Enumerable.Range(0, 100).Select(d => d * 3 % 290), .. Enumerable.Range(250, 12), .. Enumerable.Range(0, 20)];
+        ulong[] keys = [sampler.PixelKey(0, 0), sampler.PixelKey(5, 3)];
+        double[,,] expected = OnFreshThread(() =>
+        {
+            var values = new double[keys.Length, 300, 16];
+            for (int p = 0; p < keys.Length; p++)
+            {
+                for (int d = 0; d < 300; d++)
+                {
+                    for (uint i = 0; i < 16; i++)
+                    {
+                        values[p, d, i] = sampler.Sample(keys[p], i, d);
+                    }
+                }
+            }
+
+            return values;
+        });
+        string? mismatch = OnFreshThread(() =>
+        {
+            var xs = new double[16];
+            // Each pixel's dimensions in the orders above, then the two pixels interleaved dimension by dimension.
+            (int Pixel, int Dimension)[] visits = [.. order.Select(d => (0, d)), .. order.Select(d => (1, d)), .. Enumerable.Range(0, 60).Select(k => (k & 1, k >> 1))];
+            foreach ((int p, int d) in visits)
+            {
+                uint first = (uint)(d % 5);
+                sampler.SampleBatch(keys[p], first, d, xs.AsSpan(0, 16 - (int)first));
+                for (int i = 0; i < 16 - (int)first; i++)
+                {
+                    if (BitConverter.DoubleToInt64Bits(xs[i]) != BitConverter.DoubleToInt64Bits(expected[p, d, first + i]))
+                    {
+                        return $"pixel {p} dimension {d} point {first + i}: {xs[i]:R} vs {expected[p, d, first + i]:R}";
+                    }
+                }
+            }
+
+            return null;
+        });
+        Assert.Null(mismatch);
+    }
+
+    private static T OnFreshThread<T>(Func<T> work)
+    {
+        T result = default!;
+        Exception? failure = null;
+        var thread = new Thread(() =>
+        {
+            try
+            {
+                result = work();
+            }
+            catch (Exception e)
+            {
+                failure = e;
+            }
+        });
+        thread.Start();
+        thread.Join();
+        return failure is null ? result : throw new InvalidOperationException("the worker thread failed", failure);
+    }
+
     private static double Sweep(PointSampler sampler)
     {
         double sum = 0;

@@ -35,7 +35,7 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
         switch (Spec.Randomize)
         {
             case Randomization.DigitPermutation:
-                RadicalInverse.PermutedBatchOfDimension(firstIndex, dimension, pixel ^ Salts.DigitPermutation, xs);
+                RadicalInverse.PermutedBatch(firstIndex, b, SampleHash.Combine(pixel ^ Salts.DigitPermutation, (ulong)dimension), xs);
                 return;
             case Randomization.CranleyPatterson:
                 double offset = PointRandomizations.RotationOffset(pixel, dimension);

@@ -109,57 +109,6 @@ public static class KenslerPermutation
         return w | (w >> 16);
     }
 
-    // MaskBelow per lane.
-    [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector256<uint> MaskBelow(Vector256<uint> l)
-    {
-        Vector256<uint> w = l - Vector256<uint>.One;
-        w |= w >>> 1;
-        w |= w >>> 2;
-        w |= w >>> 4;
-        w |= w >>> 8;
-        return w | (w >>> 16);
-    }
-
-    /// <summary>
-    /// <see cref="Permute"/>(0, lengths[k], seeds[k]) for every k into <paramref name="images"/>: <see cref="PermuteZeros(uint, ReadOnlySpan{uint}, Span{uint})"/> with
-    /// a length per seed, so that the zeros of many short permutations (the digit positions of several bases) fill the
-    /// lanes together; sixteen at a time as two 256-bit vectors walked together, then a group of eight, the rest one at
-    /// a time. The same integers as the scalar form.
-    /// </summary>
-    /// <exception cref="ArgumentException">The spans differ in length, or a length is 0.</exception>
-    public static void PermuteZeros(ReadOnlySpan<uint> lengths, ReadOnlySpan<uint> seeds, Span<uint> images)
-    {
-        if (images.Length != seeds.Length || lengths.Length != seeds.Length)
-        {
-            throw new ArgumentException("one length and one image per seed", nameof(images));
-        }
-
-        if (lengths.Contains(0u))
-        {
-            throw new ArgumentException("a permutation's length is at least 1", nameof(lengths));
-        }
-
-        int done = 0;
-        if (Vector256.IsHardwareAccelerated)
-        {
-            for (; done + 16 <= seeds.Length; done += 16)
-            {
-                Vector256<uint> a = Vector256<uint>.Zero, b = Vector256<uint>.Zero;
-                Vector256<uint> la = Vector256.Create(lengths.Slice(done, 8)), lb = Vector256.Create(lengths.Slice(done + 8, 8));
-                Vector256<uint> pa = Vector256.Create(seeds.Slice(done, 8)), pb = Vector256.Create(seeds.Slice(done + 8, 8));
-                Walk(ref a, la, pa, ref b, lb, pb);
-                OffsetBySeed(a, la, pa).CopyTo(images.Slice(done, 8));
-                OffsetBySeed(b, lb, pb).CopyTo(images.Slice(done + 8, 8));
-            }
-        }
-
-        for (; done < seeds.Length; done++)
-        {
-            images[done] = Permute(0, lengths[done], seeds[done]);
-        }
-    }
-
     /// <summary>
     /// <see cref="Permute"/>(i + k, l, p) for k = 0 … <c>images.Length</c> − 1 into <paramref name="images"/>: one seed,
     /// consecutive indices, eight lanes at a time on 256-bit vectors where the machine has them (each lane
@@ -214,11 +163,9 @@ public static class KenslerPermutation
     // subtracted once where the true sum reaches l, that is where the 32-bit sum is at least l or has wrapped past
     // 2^32 (then it is below q).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector256<uint> AddReduced(Vector256<uint> i, uint l, Vector256<uint> q) => AddReduced(i, Vector256.Create(l), q);
-
-    [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector256<uint> AddReduced(Vector256<uint> i, Vector256<uint> limit, Vector256<uint> q)
+    private static Vector256<uint> AddReduced(Vector256<uint> i, uint l, Vector256<uint> q)
     {
+        Vector256<uint> limit = Vector256.Create(l);
         Vector256<uint> sum = i + q;
         Vector256<uint> over = Vector256.GreaterThanOrEqual(sum, limit) | Vector256.LessThan(sum, q);
         return sum - (over & limit);
@@ -227,15 +174,12 @@ public static class KenslerPermutation
     // The same with a seed per lane: q = p % l per lane, by doubles on 512-bit lanes where the machine has them
     // (⌊p / l⌋ of the correctly rounded quotient is the integer quotient for p < 2^32; p − ⌊p / l⌋·l is exact), else by
     // one 64-bit remainder per lane, as the scalar form.
-    private static Vector256<uint> OffsetBySeed(Vector256<uint> i, uint l, Vector256<uint> p) => OffsetBySeed(i, Vector256.Create(l), p);
-
-    // The same with a length per lane.
-    private static Vector256<uint> OffsetBySeed(Vector256<uint> i, Vector256<uint> l, Vector256<uint> p)
+    private static Vector256<uint> OffsetBySeed(Vector256<uint> i, uint l, Vector256<uint> p)
     {
         if (Vector512.IsHardwareAccelerated)
         {
             Vector512<double> pd = Vector512.ConvertToDouble(Vector512.WidenLower(p.ToVector512()));
-            Vector512<double> ld = Vector512.ConvertToDouble(Vector512.WidenLower(l.ToVector512()));
+            Vector512<double> ld = Vector512.Create((double)l);
             Vector512<ulong> q = Vector512.ConvertToUInt64(pd - Vector512.Floor(pd / ld) * ld);
             return AddReduced(i, l, Vector512.Narrow(q, q).GetLower());
         }
@@ -244,7 +188,7 @@ public static class KenslerPermutation
         i.CopyTo(lanes);
         for (int k = 0; k < 8; k++)
         {
-            lanes[k] = (uint)(((ulong)lanes[k] + p.GetElement(k)) % l.GetElement(k));
+            lanes[k] = (uint)(((ulong)lanes[k] + p.GetElement(k)) % l);
         }
 
         return Vector256.Create((ReadOnlySpan<uint>)lanes);
@@ -295,14 +239,10 @@ public static class KenslerPermutation
 
     // Walk8 of two independent sets of lanes (la, lb > 1) in one loop, until both have left their walks.
     [MethodImpl(InliningOptions.HotPath)]
-    private static void Walk(ref Vector256<uint> a, uint la, Vector256<uint> pa, ref Vector256<uint> b, uint lb, Vector256<uint> pb) =>
-        Walk(ref a, Vector256.Create(la), pa, ref b, Vector256.Create(lb), pb);
-
-    // The same with a length per lane (every lane's length at least 1).
-    [MethodImpl(InliningOptions.HotPath)]
-    private static void Walk(ref Vector256<uint> a, Vector256<uint> limitA, Vector256<uint> pa, ref Vector256<uint> b, Vector256<uint> limitB, Vector256<uint> pb)
+    private static void Walk(ref Vector256<uint> a, uint la, Vector256<uint> pa, ref Vector256<uint> b, uint lb, Vector256<uint> pb)
     {
-        Vector256<uint> maskA = MaskBelow(limitA), maskB = MaskBelow(limitB);
+        Vector256<uint> maskA = Vector256.Create(MaskBelow(la)), limitA = Vector256.Create(la);
+        Vector256<uint> maskB = Vector256.Create(MaskBelow(lb)), limitB = Vector256.Create(lb);
         Vector256<uint> pa16 = pa >>> 16, pa8 = pa >>> 8, pa23 = pa >>> 23, pa27 = (pa >>> 27) | Vector256<uint>.One;
         Vector256<uint> pb16 = pb >>> 16, pb8 = pb >>> 8, pb23 = pb >>> 23, pb27 = (pb >>> 27) | Vector256<uint>.One;
         Vector256<uint> walkingA = Vector256<uint>.AllBitsSet, walkingB = Vector256<uint>.AllBitsSet;

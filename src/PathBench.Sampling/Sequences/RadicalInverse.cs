@@ -132,24 +132,6 @@ public static class RadicalInverse
         }
     }
 
-    /// <summary>
-    /// <see cref="PermutedBatch"/> of dimension <paramref name="dimension"/> (base Primes[dimension]) under the key
-    /// Combine(<paramref name="dimensionsKey"/>, dimension), bit for bit: where this thread does not hold the dimension's
-    /// zero tails yet, it makes those of the next few dimensions under the same <paramref name="dimensionsKey"/> with
-    /// them (a pixel's paths reach its dimensions in order), their permutations sharing the vector lanes.
-    /// </summary>
-    public static void PermutedBatchOfDimension(uint firstIndex, int dimension, ulong dimensionsKey, Span<double> xs)
-    {
-        int b = Primes[dimension];
-        ulong key = SampleHash.Combine(dimensionsKey, (ulong)dimension);
-        if (b != 2 && !ZeroTails.Held(key, b))
-        {
-            ZeroTails.FillAhead(dimensionsKey, dimension);
-        }
-
-        PermutedBatch(firstIndex, b, key, xs);
-    }
-
     /// <summary>The same value as <see cref="Permuted"/>, digit by digit with no cache: the reference it is tested against.</summary>
     internal static double PermutedDirect(uint index, int b, ulong key)
     {
@@ -213,109 +195,36 @@ public static class RadicalInverse
         /// <summary>The zero tails of (key, b), and in <paramref name="seeds"/> the permutation seed of each digit position, (uint)Combine(key, k).</summary>
         public static ReadOnlySpan<double> For(ulong key, int b, out ReadOnlySpan<uint> seeds)
         {
-            int slot = SlotOfBase[b];
-            int digits = DigitsOfBase[b];
-            seeds = Tables().Seeds.AsSpan(slot * Stride, digits);
-            Span<double> tail = t_tails.AsSpan(slot * Stride, digits + 1);
-            if (Holds(slot, key, b))
-            {
-                return tail;
-            }
-
-            // Every position's image of 0 at once (eight lanes at a time): the bulk of a (pixel, dimension)'s cost.
-            Span<uint> slotSeeds = t_seeds.AsSpan(slot * Stride, digits);
-            SampleHash.CombineLow32Run(key, slotSeeds);
-            Span<uint> zeros = stackalloc uint[digits];
-            KenslerPermutation.PermuteZeros((uint)b, slotSeeds, zeros);
-            Complete(slot, key, b, zeros);
-            return tail;
-        }
-
-        /// <summary>
-        /// The zero tails of the dimensions <paramref name="dimension"/> … <paramref name="dimension"/> + <see cref="Ahead"/> − 1
-        /// (those of the first <see cref="Slots"/> that are not base 2 and not held already), each keyed
-        /// Combine(<paramref name="dimensionsKey"/>, d) as <see cref="PermutedBatchOfDimension"/> keys them: their digit positions'
-        /// zeros permuted together, lanes filled across the bases (a base from 29 on has 4–7 positions, too few for a
-        /// vector of its own). The same tails as <see cref="For"/> would compute one at a time.
-        /// </summary>
-        public static void FillAhead(ulong dimensionsKey, int dimension)
-        {
-            uint[] allSeeds = Tables().Seeds;
-            Span<uint> lengths = stackalloc uint[Ahead * Stride];
-            Span<uint> seeds = stackalloc uint[Ahead * Stride];
-            Span<int> dims = stackalloc int[Ahead];
-            Span<ulong> dimKeys = stackalloc ulong[Ahead];
-            int count = 0, filled = 0;
-            int end = Math.Min(Math.Min(dimension + Ahead, Slots), PrimeCount);
-            for (int d = dimension; d < end; d++)
-            {
-                int b = Primes[d];
-                ulong key = SampleHash.Combine(dimensionsKey, (ulong)d);
-                if (b == 2 || Holds(SlotOfBase[b], key, b))
-                {
-                    continue;
-                }
-
-                int digits = DigitsOfBase[b];
-                Span<uint> slotSeeds = allSeeds.AsSpan(SlotOfBase[b] * Stride, digits);
-                SampleHash.CombineLow32Run(key, slotSeeds);
-                slotSeeds.CopyTo(seeds.Slice(filled, digits));
-                lengths.Slice(filled, digits).Fill((uint)b);
-                dimKeys[count] = key;
-                dims[count++] = d;
-                filled += digits;
-            }
-
-            Span<uint> zeros = stackalloc uint[filled];
-            KenslerPermutation.PermuteZeros(lengths[..filled], seeds[..filled], zeros);
-            int at = 0;
-            for (int i = 0; i < count; i++)
-            {
-                int b = Primes[dims[i]];
-                int digits = DigitsOfBase[b];
-                Complete(SlotOfBase[b], dimKeys[i], b, zeros.Slice(at, digits));
-                at += digits;
-            }
-        }
-
-        /// <summary>How many dimensions <see cref="FillAhead"/> fills: past a path's last dimension they are made for nothing.</summary>
-        public const int Ahead = 8;
-
-        // The per-thread tables, made on the thread's first use.
-        private static (ulong[] Keys, uint[] Seeds) Tables()
-        {
             t_keys ??= new ulong[Slots];
             t_bases ??= new int[Slots];
             t_tails ??= new double[Slots * Stride];
             t_seeds ??= new uint[Slots * Stride];
-            return (t_keys, t_seeds);
-        }
-
-        private static bool Holds(int slot, ulong key, int b) => t_keys![slot] == key && t_bases![slot] == b;
-
-        /// <summary>Whether this thread holds the zero tails of (key, b).</summary>
-        public static bool Held(ulong key, int b)
-        {
-            Tables();
-            return Holds(SlotOfBase[b], key, b);
-        }
-
-        // The slot's tails from its positions' permuted zeros, summed from the deepest position up, and its key.
-        private static void Complete(int slot, ulong key, int b, ReadOnlySpan<uint> zeros)
-        {
-            int digits = zeros.Length;
+            int slot = SlotOfBase[b];
+            int digits = DigitsOfBase[b];
             Span<double> tail = t_tails.AsSpan(slot * Stride, digits + 1);
+            Span<uint> slotSeeds = t_seeds.AsSpan(slot * Stride, digits);
+            seeds = slotSeeds;
+            if (t_keys[slot] == key && t_bases[slot] == b)
+            {
+                return tail;
+            }
+
             double[]? powers = InversePowers(b);
             double acc = Shared(key) * (powers is null ? PortableMath.InversePower(b, digits) : powers[digits]);
             tail[digits] = acc;
+            // Every position's image of 0 at once (eight lanes at a time): the bulk of a (pixel, dimension)'s cost.
+            SampleHash.CombineLow32Run(key, slotSeeds);
+            Span<uint> zeros = stackalloc uint[digits];
+            KenslerPermutation.PermuteZeros((uint)b, slotSeeds, zeros);
             for (int k = digits - 1; k >= 0; k--)
             {
                 acc += zeros[k] * (powers is null ? PortableMath.InversePower(b, k + 1) : powers[k + 1]);
                 tail[k] = acc;
             }
 
-            t_keys![slot] = key;
-            t_bases![slot] = b;
+            t_keys[slot] = key;
+            t_bases[slot] = b;
+            return tail;
         }
 
         // PortableMath.InversePower(b, k) for k = 0 … digits of each base among the first Slots primes,

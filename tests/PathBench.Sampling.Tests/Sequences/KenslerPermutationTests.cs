@@ -61,36 +61,6 @@ public sealed class KenslerPermutationTests
     }
 
     [Fact]
-    public void Zeros_of_mixed_lengths_equal_the_scalar_permutation()
-    {
-        // PermuteZeros with a length per seed (sixteen lanes of mixed lengths walked together, scalar tail) against
-        // Permute one seed at a time, for 1 to 53 seeds: the Halton bases' lengths as the zero tails mix them (3, 5, …,
-        // 337), lengths 1 and 2, and ones with long cycle walks beside short ones in the same vector.
-        uint[] pool = { 3, 5, 7, 11, 29, 31, 37, 337, 1, 2, 33, 65537, 0x80000001u, 0xfffffffbu, 4, 257 };
-        var lengths = new uint[53];
-        var seeds = new uint[53];
-        for (int k = 0; k < seeds.Length; k++)
-        {
-            ulong h = SampleHash.Combine(0x5EED, (ulong)k);
-            lengths[k] = pool[(int)(h >> 60)];
-            seeds[k] = (uint)h;
-        }
-
-        for (int n = 0; n <= seeds.Length; n++)
-        {
-            var images = new uint[n];
-            KenslerPermutation.PermuteZeros(lengths.AsSpan(0, n), seeds.AsSpan(0, n), images);
-            for (int k = 0; k < n; k++)
-            {
-                Assert.True(KenslerPermutation.Permute(0, lengths[k], seeds[k]) == images[k], $"n={n} seed {k} length {lengths[k]}");
-            }
-        }
-
-        Assert.Throws<ArgumentException>(() => KenslerPermutation.PermuteZeros(new uint[] { 3, 0 }, new uint[2], new uint[2]));
-        Assert.Throws<ArgumentException>(() => KenslerPermutation.PermuteZeros(new uint[] { 3 }, new uint[2], new uint[2]));
-    }
-
-    [Fact]
     public void Vector_runs_equal_the_scalar_permutation()
     {
         // PermuteRun (eight lanes with Vector256 cycle-walking under a mask, scalar tail) against Permute index by

@@ -227,6 +227,17 @@ public static class ThroughputBench
     /// into a buffer, and timed. The frame itself is timed without the recorder. The coordinates' reads
     /// from the cache (a compare and a load each, inline in the path tracer) count as the tracer's time.
     /// </summary>
+    /// <remarks>
+    /// What the replay counts: every batch the cache asked for, with its whole cost (the virtual call, the
+    /// dimension's seeds, tables and per-key caches such as Halton's zero tails, which see the same keys in
+    /// the same order as in the frame, and the padding hash past a generator's dimension limit), including
+    /// the coordinates made for samples whose paths ended before using them and the second coordinate of a
+    /// pair the cache made whole for a pair-sharing generator (<see cref="PointSampler.PairsShareWork"/>):
+    /// all of it is work the frame did. What it does not count: the cache's own bookkeeping (stamps, run
+    /// ends) and its reads. One bias, not measured: the replay runs the batches back to back, so the
+    /// sampler's tables and code stay in the processor's caches, where in the frame they share them with the
+    /// tracer's data; on the small furnished room that data is small.
+    /// </remarks>
     private static SamplerShare Share(Scene scene, string generator, string randomize, int spp, int repeats)
     {
         PointSampler sampler = CreateSampler(generator, randomize, spp);

@@ -29,7 +29,10 @@ public interface ISampleStream
 /// request is a load. Each value is the one <see cref="SampleStream"/> gives (the same method of the
 /// sampler computes it: <c>Sample</c> for single dimensions, <c>Sample2D</c> for pairs; past the
 /// generator's dimension limit the same padding hash), so images keep their bits; the cost is
-/// that a dimension is made for some later samples that end their paths before using it.
+/// that a dimension is made for some later samples that end their paths before using it. For a generator whose
+/// single coordinates cost as much as their even-aligned pair (<see cref="PointSampler.PairsShareWork"/>: the
+/// jittered and the pair-wise 2-D sets), a single dimension is made with its pair partner through
+/// <c>Sample2DBatch</c>: the vertex's lobe and light choice are such a pair, made once instead of twice.
 /// </summary>
 /// <remarks>One per worker thread, reused for every block: nothing is allocated per sample or per pixel.</remarks>
 public sealed class SampleCache
@@ -45,6 +48,7 @@ public sealed class SampleCache
 
     private readonly PointSampler _sampler;
     private readonly int _limit;
+    private readonly bool _pairsShareWork;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -59,6 +63,7 @@ public sealed class SampleCache
         ArgumentNullException.ThrowIfNull(sampler);
         _sampler = sampler;
         _limit = sampler.MaxDimensions;
+        _pairsShareWork = sampler.PairsShareWork;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -121,6 +126,14 @@ public sealed class SampleCache
     private void Fill(int slot, int dimension)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(dimension);
+        if (_pairsShareWork && (dimension | 1) < _limit)
+        {
+            // The generator makes the even-aligned pair for either coordinate (a path asks for both the lobe and the
+            // light choice, the two singles of a vertex's pair): made once, as Sample2D, the same bits as the singles.
+            Fill2D(slot, dimension & ~1);
+            return;
+        }
+
         Reserve(dimension + 1);
         uint first = _first + (uint)slot;
         Span<double> row = _values.AsSpan(dimension * BlockSize + slot, Run(slot, dimension));

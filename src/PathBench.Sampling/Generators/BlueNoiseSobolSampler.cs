@@ -139,7 +139,8 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         if (dimension >= TabledDimensions)
         {
             uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            for (int i = 0; i < xs.Length; i++)
+            int vectored = Walked(dimension) ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new OwenSobolBatch.IndexMap(false, 0, 0), new OwenSobolBatch.Scramble(seed), default, xs, default) : 0;
+            for (int i = vectored; i < xs.Length; i++)
             {
                 xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
             }
@@ -151,7 +152,8 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
         uint block = _blocks[entry];
-        for (int i = 0; i < xs.Length; i++)
+        int done = Walked(dimension) ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, new(false, 0, block), Scramble(pixelSeed, dimension), default, xs, default) : 0;
+        for (int i = done; i < xs.Length; i++)
         {
             xs[i] = Tabled(BitReversal.Reverse((firstIndex + (uint)i) ^ block), dimension, pixelSeed);
         }
@@ -171,13 +173,24 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint block = _blocks[entry];
-        for (int i = 0; i < xs.Length; i++)
+        int done = Walked(dimension + 1)
+            ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1), firstIndex, new(false, 0, block), Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
+            : 0;
+        // The scalar tail (and the whole batch without AVX2): the reference the eight-lane form is tested against.
+        for (int i = done; i < xs.Length; i++)
         {
             uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);
             xs[i] = Tabled(reversedIndex, dimension, sx);
             ys[i] = Tabled(reversedIndex, dimension + 1, sy);
         }
     }
+
+    // Whether the eight-lane form can walk this dimension's byte tables.
+    private bool Walked(int dimension) => dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions);
+
+    // A tabled dimension's scramble for the eight-lane form: the pixel's seed, then the common one when the sampler has it.
+    private OwenSobolBatch.Scramble Scramble(uint pixelSeed, int dimension) =>
+        _scrambleCommon ? new(pixelSeed, true, _common[dimension]) : new(pixelSeed);
 
     private double Tabled(uint reversedIndex, int dimension, uint pixelSeed) =>
         ToUnit(ScrambledReversed(_matrices, reversedIndex, dimension, pixelSeed, _scrambleCommon ? _common[dimension] : null));

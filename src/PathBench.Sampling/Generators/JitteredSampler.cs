@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -19,6 +20,10 @@ public sealed class JitteredSampler : PointSampler
     public override int MaxDimensions => int.MaxValue;
 
     /// <inheritdoc/>
+    /// <remarks>Both coordinates of an even-aligned pair come from one cell, the permutation of the point's index.</remarks>
+    public override bool PairsShareWork => true;
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
         Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
@@ -26,6 +31,12 @@ public sealed class JitteredSampler : PointSampler
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = PairSeed(pixel, dimension);
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
+        {
+            Batch8(pixel, firstIndex, dimension, seed, xs, default);
+            return;
+        }
+
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;
@@ -45,6 +56,12 @@ public sealed class JitteredSampler : PointSampler
         // An even-aligned pair shares its cell: one permutation per point for both coordinates.
         RequireSameLength(xs, ys);
         uint seed = PairSeed(pixel, dimension);
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
+        {
+            Batch8(pixel, firstIndex, dimension, seed, xs, ys);
+            return;
+        }
+
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;
@@ -55,6 +72,52 @@ public sealed class JitteredSampler : PointSampler
     }
 
     private static uint PairSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1));
+
+    // Eight points at a time: the cell permutation on eight lanes, then dimension's coordinates into xs and, when ys is
+    // not empty (an even-aligned pair), the next dimension's from the same cells into ys; on eight lanes of doubles
+    // (Wide) or one lane at a time by the scalar Coordinate (Narrow).
+    private void Batch8(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+    {
+        bool wide = Width == LaneWidth.Wide;
+        for (int at = 0; at < xs.Length; at += 8)
+        {
+            int n = Math.Min(8, xs.Length - at);
+            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
+            Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
+            if (wide)
+            {
+                Lanes.Store(Coordinates8(pixel, index, dimension, cell), xs.Slice(at, n));
+                if (!ys.IsEmpty)
+                {
+                    Lanes.Store(Coordinates8(pixel, index, dimension + 1, cell), ys.Slice(at, n));
+                }
+
+                continue;
+            }
+
+            for (int k = 0; k < n; k++)
+            {
+                uint i = firstIndex + (uint)(at + k);
+                uint c = cell.GetElement(k);
+                xs[at + k] = Coordinate(pixel, i, dimension, c);
+                if (!ys.IsEmpty)
+                {
+                    ys[at + k] = Coordinate(pixel, i, dimension + 1, c);
+                }
+            }
+        }
+    }
+
+    // Coordinate on eight lanes: the cell's column or row by Lanes.DivRem, the same integers as % and /; the division by Lanes.Over.
+    private Vector512<double> Coordinates8(ulong pixel, Vector256<uint> index, int dimension, Vector256<uint> cell)
+    {
+        Vector512<double> jitter = SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension);
+        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(cell, _grid.Columns);
+        Vector512<double> x = (dimension & 1) == 0
+            ? Lanes.Over(Lanes.ToDouble(column) + jitter, _grid.Columns)
+            : Lanes.Over(Lanes.ToDouble(row) + jitter, _grid.Rows);
+        return Lanes.Clamp(x);
+    }
 
     private double Coordinate(ulong pixel, uint index, int dimension, uint cell)
     {

@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -16,20 +17,48 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
-        return UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
+        return Coordinate(pixel, index, dimension, stratum);
     }
 
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
+        {
+            // Eight points at a time: the stratum permutation on eight lanes, then (Wide) the jitter hash on eight 64-bit
+            // lanes and the doubles on eight lanes, the same operations per lane as below, or (Narrow) the rest per lane.
+            bool wide = Width == LaneWidth.Wide;
+            for (int at = 0; at < xs.Length; at += 8)
+            {
+                int n = Math.Min(8, xs.Length - at);
+                Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
+                Vector256<uint> strata = KenslerPermutation.Permute8(index, (uint)Count, seed);
+                if (wide)
+                {
+                    Vector512<double> stratum = Lanes.ToDouble(strata);
+                    Lanes.Store(Lanes.Clamp(Lanes.Over(stratum + SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension), Count)), xs.Slice(at, n));
+                    continue;
+                }
+
+                for (int k = 0; k < n; k++)
+                {
+                    xs[at + k] = Coordinate(pixel, firstIndex + (uint)(at + k), dimension, strata.GetElement(k));
+                }
+            }
+
+            return;
+        }
+
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;
-            uint stratum = KenslerPermutation.Permute(index, (uint)Count, seed);
-            xs[i] = UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
+            xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
         }
     }
+
+    private double Coordinate(ulong pixel, uint index, int dimension, uint stratum) =>
+        UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
 
     /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>

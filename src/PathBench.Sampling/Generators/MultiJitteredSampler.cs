@@ -1,4 +1,5 @@
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -35,8 +36,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
 
     /// <inheritdoc/>
     /// <remarks>
-    /// The sub-stratum shuffles are one permutation of the columns and one of the rows per pixel and pair:
-    /// tabled as they are met (grids up to 64 × 64), so each is computed once per batch.
+    /// Eight points at a time where the machine has the vectors (<see cref="Points8"/>); otherwise the sub-stratum
+    /// shuffles, one permutation of the columns and one of the rows per pixel and pair, are tabled as they are met
+    /// (grids up to 64 × 64), so each is computed once per batch.
     /// </remarks>
     protected override void SamplePairBatch(ulong pixel, uint firstIndex, int pair, Span<double> xs, Span<double> ys)
     {
@@ -44,20 +46,30 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
         uint p = PairSeed(pixel, pair);
-        int vectored = Vector256.IsHardwareAccelerated ? xs.Length & ~7 : 0;
-        for (int at = 0; at < vectored; at += 8)
+        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
-            Points8(pixel, pair, p, firstIndex + (uint)at, xs.Slice(at, 8), ys.Slice(at, 8));
-        }
+            // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
+            // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
+            bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
+            bool wide = Width == LaneWidth.Wide;
+            (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
+            for (int at = 0; at < xs.Length; at += 8)
+            {
+                int run = Math.Min(8, xs.Length - at);
+                Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, run);
+                if (wide)
+                {
+                    Points8(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                }
+                else
+                {
+                    Points8Narrow(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                }
+            }
 
-        if (vectored == xs.Length)
-        {
             return;
         }
 
-        firstIndex += (uint)vectored;
-        xs = xs[vectored..];
-        ys = ys[vectored..];
         if (m > MaxTabled || n > MaxTabled)
         {
             base.SamplePairBatch(pixel, firstIndex, pair, xs, ys);
@@ -89,28 +101,55 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Eight consecutive points of a pair: the index shuffle and the column and row shuffles each run as one
-    // eight-lane permutation (KenslerPermutation.Permute8, the same integers as the scalar form).
-    private void Points8(ulong pixel, int pair, uint p, uint first, Span<double> xs, Span<double> ys)
+    // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, the column and row shuffles
+    // from the batch's tables or by Permute8Pair, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and
+    // row, Lanes.Over for the divisions): the same integers and the same IEEE-754 results in the same order per lane as
+    // the scalar form; only the first xs.Length lanes are stored.
+    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    {
+        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
+        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(s, _grid.Columns);
+        (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
+            ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
+            : Shuffles(column, row, p);
+        Vector512<double> sx = Lanes.ToDouble(columnShuffle);
+        Vector512<double> sy = Lanes.ToDouble(rowShuffle);
+        Vector512<double> jx = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair);
+        Vector512<double> jy = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1);
+        int m = _grid.Columns, n = _grid.Rows;
+        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(column) + Lanes.Over(sy + jx, n), m)), xs);
+        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(row) + Lanes.Over(sx + jy, m), n)), ys);
+    }
+
+    // Points8's permutations on 256-bit lanes only (AVX2): the index shuffle and the column and row shuffles on eight
+    // lanes (tabled or by Permute8Pair), column, row and the point's doubles per lane by the scalar Point.
+    private void Points8Narrow(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
     {
         uint m = (uint)_grid.Columns;
-        Vector256<uint> lane = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-        Vector256<uint> s = KenslerPermutation.Permute8(Vector256.Create(first) + lane, (uint)Count, p * 0x51633e2du);
-        Span<uint> columns = stackalloc uint[8];
-        Span<uint> rows = stackalloc uint[8];
-        for (int k = 0; k < 8; k++)
-        {
-            uint sk = s.GetElement(k);
-            columns[k] = sk % m;
-            rows[k] = sk / m;
-        }
-
-        Vector256<uint> sx = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)columns), m, p * 0x68bc21ebu);
-        Vector256<uint> sy = KenslerPermutation.Permute8(Vector256.Create((ReadOnlySpan<uint>)rows), (uint)_grid.Rows, p * 0x02e5be93u);
-        for (int k = 0; k < 8; k++)
+        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
+        Vector256<uint> column = Vector256.Create(
+            s.GetElement(0) % m, s.GetElement(1) % m, s.GetElement(2) % m, s.GetElement(3) % m,
+            s.GetElement(4) % m, s.GetElement(5) % m, s.GetElement(6) % m, s.GetElement(7) % m);
+        Vector256<uint> row = Vector256.Create(
+            s.GetElement(0) / m, s.GetElement(1) / m, s.GetElement(2) / m, s.GetElement(3) / m,
+            s.GetElement(4) / m, s.GetElement(5) / m, s.GetElement(6) / m, s.GetElement(7) / m);
+        (Vector256<uint> sx, Vector256<uint> sy) = tabled
+            ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
+            : Shuffles(column, row, p);
+        for (int k = 0; k < xs.Length; k++)
         {
             (xs[k], ys[k]) = Point(pixel, pair, s.GetElement(k), sx.GetElement(k), sy.GetElement(k));
         }
+    }
+
+    // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked
+    // together where both lengths exceed 1 (a length of 1 maps everything to 0).
+    private (Vector256<uint> Columns, Vector256<uint> Rows) Shuffles(Vector256<uint> column, Vector256<uint> row, uint p)
+    {
+        uint m = (uint)_grid.Columns, n = (uint)_grid.Rows;
+        return m > 1 && n > 1
+            ? KenslerPermutation.Permute8Pair(column, m, p * 0x68bc21ebu, row, n, p * 0x02e5be93u)
+            : (KenslerPermutation.Permute8(column, m, p * 0x68bc21ebu), KenslerPermutation.Permute8(row, n, p * 0x02e5be93u));
     }
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);

@@ -21,6 +21,13 @@ public abstract class PointSampler
         Spec = spec;
     }
 
+    /// <summary>
+    /// The lane form of the batches of the sets built on Kensler permutations (jittered, Latin hypercube,
+    /// multi-jittered): the machine's widest by default. Tests set it, before the sampler's first use, to run the
+    /// narrower forms on a machine that has the wider; every form gives the same bits.
+    /// </summary>
+    internal LaneWidth Width { get; set; } = Lanes.Best;
+
     /// <summary>What this sampler was built from.</summary>
     public SamplerSpec Spec { get; }
 
@@ -47,6 +54,14 @@ public abstract class PointSampler
     /// </summary>
     public virtual (double X, double Y) Sample2D(ulong pixel, uint index, int dimension) =>
         (Sample(pixel, index, dimension), Sample(pixel, index, dimension + 1));
+
+    /// <summary>
+    /// Whether a single coordinate of an even-aligned pair (2k, 2k+1) costs about as much as the pair: the
+    /// generator makes the pair's shared work (a cell, a point of a 2-D pattern) for either coordinate, and
+    /// <see cref="Sample2D"/>(2k) is (<see cref="Sample"/>(2k), <see cref="Sample"/>(2k+1)) bit for bit. A caller
+    /// that will want both coordinates may then ask for the pair once instead of two singles.
+    /// </summary>
+    public virtual bool PairsShareWork => false;
 
     /// <summary>
     /// Dimensions <paramref name="dimension"/> and <paramref name="dimension"/>+1 of the
@@ -123,6 +138,9 @@ public abstract class PointSampler
 /// </summary>
 public abstract class PairedPointSampler(SamplerSpec spec) : PointSampler(spec)
 {
+    /// <inheritdoc/>
+    public sealed override bool PairsShareWork => true;
+
     /// <inheritdoc/>
     public sealed override double Sample(ulong pixel, uint index, int dimension)
     {

@@ -103,6 +103,14 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
         // The pair's table and seeds, once per batch.
         ulong seeds = SampleHash.Combine(pixel ^ Salts.PmjPair, (ulong)pair);
         ProgressiveMultiJittered s = Rotated(pixel, pair);
+        // Owen scrambling on eight lanes (a digital shift is one xor: the eight-lane form measured slower than the loop).
+        if (Spec.Randomize == Randomization.Owen && (ulong)firstIndex + (ulong)xs.Length <= (ulong)MaxPoints
+            && OwenSobolBatch.TableRun(s.X, s.Y, (int)firstIndex, (uint)seeds, (uint)(seeds >> 32), xs, ys))
+        {
+            return;
+        }
+
+        // The scalar form (the digital shift, no AVX2, or a run reaching past the tables, which throws): the reference the eight-lane one is tested against.
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;

@@ -84,16 +84,17 @@ public static class RadicalInverse
 
         // Positions at and above the index's length hold permuted zeros, the same for every
         // point of this (pixel, dimension): their sum comes from a per-thread cache, computed
-        // once per key. The cache changes no value, only the time (tested against PermutedDirect).
-        ReadOnlySpan<double> zeroTail = ZeroTails.For(key, b);
+        // once per key, with the positions' permutation seeds. The cache changes no value, only
+        // the time (tested against PermutedDirect).
+        ReadOnlySpan<double> zeroTail = ZeroTails.For(key, b, out ReadOnlySpan<uint> seeds);
         int digits = zeroTail.Length - 1;
         uint ub = (uint)b;
         double invBase = 1.0 / b;
-        Span<uint> seeds = stackalloc uint[digits];
-        int seeded = 0;
-        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table.
+        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table, and only where
+        // a digit can repeat: a run whose last index is below b has one distinct digit per point (the common case of a
+        // large base), so the table's fill would be pure cost there.
         const int TableEntries = 512;
-        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries;
+        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries && (ulong)firstIndex + (ulong)xs.Length > (ulong)b;
         Span<byte> table = tabled ? stackalloc byte[TableEntries] : default;
         table.Fill(0xFF);
         for (int i = 0; i < xs.Length; i++)
@@ -106,20 +107,15 @@ public static class RadicalInverse
             {
                 uint next = index / ub;
                 uint digit = index - next * ub;
-                for (; seeded <= k; seeded++)
-                {
-                    seeds[seeded] = (uint)SampleHash.Combine(key, (ulong)seeded);
-                }
-
                 uint permuted;
                 if (tabled)
                 {
-                    int at = k * b + (int)digit;
-                    permuted = table[at];
+                    int slot = k * b + (int)digit;
+                    permuted = table[slot];
                     if (permuted == 0xFF)
                     {
                         permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
-                        table[at] = (byte)permuted;
+                        table[slot] = (byte)permuted;
                     }
                 }
                 else
@@ -191,16 +187,23 @@ public static class RadicalInverse
         [ThreadStatic]
         private static double[]? t_tails;
 
+        [ThreadStatic]
+        private static uint[]? t_seeds;
+
         public static double Shared(ulong key) => SampleHash.ToUnit(SampleHash.Combine(key, TailSalt));
 
-        public static ReadOnlySpan<double> For(ulong key, int b)
+        /// <summary>The zero tails of (key, b), and in <paramref name="seeds"/> the permutation seed of each digit position, (uint)Combine(key, k).</summary>
+        public static ReadOnlySpan<double> For(ulong key, int b, out ReadOnlySpan<uint> seeds)
         {
             t_keys ??= new ulong[Slots];
             t_bases ??= new int[Slots];
             t_tails ??= new double[Slots * Stride];
+            t_seeds ??= new uint[Slots * Stride];
             int slot = SlotOfBase[b];
             int digits = DigitsOfBase[b];
             Span<double> tail = t_tails.AsSpan(slot * Stride, digits + 1);
+            Span<uint> slotSeeds = t_seeds.AsSpan(slot * Stride, digits);
+            seeds = slotSeeds;
             if (t_keys[slot] == key && t_bases[slot] == b)
             {
                 return tail;
@@ -210,14 +213,9 @@ public static class RadicalInverse
             double acc = Shared(key) * (powers is null ? PortableMath.InversePower(b, digits) : powers[digits]);
             tail[digits] = acc;
             // Every position's image of 0 at once (eight lanes at a time): the bulk of a (pixel, dimension)'s cost.
-            Span<uint> seeds = stackalloc uint[digits];
-            for (int k = 0; k < digits; k++)
-            {
-                seeds[k] = (uint)SampleHash.Combine(key, (ulong)k);
-            }
-
+            SampleHash.CombineLow32Run(key, slotSeeds);
             Span<uint> zeros = stackalloc uint[digits];
-            KenslerPermutation.PermuteZeros((uint)b, seeds, zeros);
+            KenslerPermutation.PermuteZeros((uint)b, slotSeeds, zeros);
             for (int k = digits - 1; k >= 0; k--)
             {
                 acc += zeros[k] * (powers is null ? PortableMath.InversePower(b, k + 1) : powers[k + 1]);

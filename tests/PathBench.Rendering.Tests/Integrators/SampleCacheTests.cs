@@ -62,6 +62,32 @@ public sealed class SampleCacheTests
     }
 
     [Theory]
+    [InlineData("multi-jittered", true)]
+    [InlineData("jittered", true)]
+    [InlineData("pmj02", true)]
+    [InlineData("latin-hypercube", false)]
+    [InlineData("random", false)]
+    public void A_single_of_a_pair_sharing_generator_is_made_with_its_partner(string generator, bool shares)
+    {
+        // The light choice (odd) and then the lobe (even) of one vertex: a pair-sharing generator's cache asks once,
+        // for the pair; any other asks for each single. Values as the stream gives them either way (test above).
+        PointSampler s = Create(generator, "none", 16, 40);
+        Assert.Equal(shares, s.PairsShareWork);
+        var calls = new List<SampleBatchCall>();
+        var cache = new SampleCache(s, 40) { Recorder = calls };
+        ulong key = s.PixelKey(1, 2);
+        cache.BeginBlock(key, 0, 16);
+        int v = DimensionLayout.Vertex(1);
+        var direct = new SampleStream(s, key, 0);
+        Assert.Equal(direct.Get(v + DimensionLayout.LightChoice), cache.Stream(0).Get(v + DimensionLayout.LightChoice));
+        Assert.Equal(direct.Get(v + DimensionLayout.Lobe), cache.Stream(0).Get(v + DimensionLayout.Lobe));
+        SampleBatchCall[] expected = shares
+            ? [new(key, 0, 16, v + DimensionLayout.Lobe, true)]
+            : [new(key, 0, 16, v + DimensionLayout.LightChoice, false), new(key, 0, 16, v + DimensionLayout.Lobe, false)];
+        Assert.Equal(expected, calls);
+    }
+
+    [Theory]
     [MemberData(nameof(Catalog))]
     public void Path_tracing_through_the_cache_allocates_nothing_per_sample(string generator, string randomize)
     {

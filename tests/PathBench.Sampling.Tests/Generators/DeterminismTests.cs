@@ -121,6 +121,63 @@ public sealed class BatchTests
         }
     }
 
+    /// <summary>
+    /// The batch forms of the sets built on Kensler permutations, each lane width (<see cref="LaneWidth"/>: the
+    /// AVX-512 form, the AVX2 form and one point at a time, all run on this machine whatever it has: a width
+    /// without the hardware runs in software, with the same bits), at the catalog test's 40 (a 5 × 8 grid), powers
+    /// of two (divisions by shifts and reciprocals: 16 is 4 × 4, 256 is 16 × 16, past the 8 × 8 tabled shuffles), a
+    /// prime (a 1 × 7 grid, the length-1 shuffle) and a single point.
+    /// </summary>
+    [Theory]
+    [InlineData("multi-jittered", 16)]
+    [InlineData("multi-jittered", 256)]
+    [InlineData("multi-jittered", 40)]
+    [InlineData("multi-jittered", 7)]
+    [InlineData("multi-jittered", 1)]
+    [InlineData("jittered", 16)]
+    [InlineData("jittered", 40)]
+    [InlineData("jittered", 7)]
+    [InlineData("latin-hypercube", 16)]
+    [InlineData("latin-hypercube", 40)]
+    [InlineData("latin-hypercube", 7)]
+    public void Kensler_sets_batches_equal_their_points_at_every_lane_width(string generator, int count)
+    {
+        foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow, LaneWidth.Scalar })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, count, 5), 12);
+            s.Width = width;
+            BatchesEqualPoints(s, generator + " " + width);
+        }
+    }
+
+    private static void BatchesEqualPoints(PointSampler s, string generator)
+    {
+        int count = s.Count;
+        var xs = new double[count];
+        var ys = new double[count];
+        for (int first = 0; first < count; first += 1 + first % 5)
+        {
+            int n = Math.Min(count - first, 1 + (first * 3 % 17));
+            ulong key = s.PixelKey(first, 2);
+            for (int d = 0; d < 10; d++)
+            {
+                s.SampleBatch(key, (uint)first, d, xs.AsSpan(0, n));
+                s.Sample2DBatch(key, (uint)first, d, xs.AsSpan(0, n), ys.AsSpan(0, n));
+                for (int i = 0; i < n; i++)
+                {
+                    (double a, double b) = s.Sample2D(key, (uint)(first + i), d);
+                    Assert.True(a == xs[i] && b == ys[i], $"{generator} n={count} dimensions {d}, {d + 1} point {first + i}");
+                }
+
+                s.SampleBatch(key, (uint)first, d, xs.AsSpan(0, n));
+                for (int i = 0; i < n; i++)
+                {
+                    Assert.True(s.Sample(key, (uint)(first + i), d) == xs[i], $"{generator} n={count} dimension {d} point {first + i}");
+                }
+            }
+        }
+    }
+
     /// <summary>Every generator × randomization the catalog offers, as the renderer's sample cache uses them.</summary>
     public static TheoryData<string, string> Catalog()
     {
@@ -141,8 +198,9 @@ public sealed class BatchTests
     /// <summary>
     /// The renderer takes its coordinates from the batch methods (single dimensions from SampleBatch,
     /// pairs from Sample2DBatch) where it used to call Sample and Sample2D: each must give the same bits,
-    /// at even and odd dimensions, batches of 1 to 16 points (the AVX2 path from 8), and batches that
-    /// start anywhere in the sequence.
+    /// at even and odd dimensions, batches of 1 to 16 points (the AVX2 path from 8; the eight-lane paths of the
+    /// Kensler-permuted sets for any length, their unused lanes padded), and batches that start anywhere in the
+    /// sequence, up to its last point.
     /// </summary>
     [Theory]
     [MemberData(nameof(Catalog))]
@@ -155,7 +213,7 @@ public sealed class BatchTests
         PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, count, 21), dims);
         var xs = new double[16];
         var ys = new double[16];
-        foreach ((int px, uint first, int n) in new[] { (0, 0u, 16), (5, 3u, 13), (9, 24u, 16), (2, 31u, 9), (4, 39u, 1), (6, 16u, 8) })
+        foreach ((int px, uint first, int n) in new[] { (0, 0u, 16), (5, 3u, 13), (9, 24u, 16), (2, 31u, 9), (4, 39u, 1), (6, 16u, 8), (1, 36u, 4), (3, 17u, 7), (8, 30u, 2) })
         {
             ulong key = s.PixelKey(px, px + 1);
             for (int d = 0; d + 1 < dims; d++)

@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Tests.Sequences;
@@ -36,9 +37,10 @@ public sealed class KenslerPermutationTests
     [Fact]
     public void Vector_images_of_zero_equal_the_scalar_permutation()
     {
-        // PermuteZeros (eight lanes with Vector256, scalar tail) against Permute one seed at a time:
+        // PermuteZeros (sixteen lanes as two Vector256 walked together, a padded group of eight, scalar tail) against
+        // Permute one seed at a time, for 1 to 37 seeds:
         // lengths with long cycle walks (just above a power of two), primes and powers of two; seeds from a fixed hash.
-        foreach (uint l in new uint[] { 2, 3, 5, 17, 33, 65, 127, 257, 383, 1024, 7919, 65537 })
+        foreach (uint l in new uint[] { 2, 3, 5, 17, 33, 65, 127, 257, 383, 1024, 7919, 65537, 0x80000001u, 0xfffffffbu })
         {
             var seeds = new uint[37];
             for (int k = 0; k < seeds.Length; k++)
@@ -46,11 +48,14 @@ public sealed class KenslerPermutationTests
                 seeds[k] = (uint)SampleHash.Combine(l, (ulong)k);
             }
 
-            var images = new uint[seeds.Length];
-            KenslerPermutation.PermuteZeros(l, seeds, images);
-            for (int k = 0; k < seeds.Length; k++)
+            for (int n = 1; n <= seeds.Length; n++)
             {
-                Assert.Equal(KenslerPermutation.Permute(0, l, seeds[k]), images[k]);
+                var images = new uint[n];
+                KenslerPermutation.PermuteZeros(l, seeds.AsSpan(0, n), images);
+                for (int k = 0; k < n; k++)
+                {
+                    Assert.Equal(KenslerPermutation.Permute(0, l, seeds[k]), images[k]);
+                }
             }
         }
     }
@@ -77,6 +82,36 @@ public sealed class KenslerPermutationTests
                 for (int k = 0; k < count; k++)
                 {
                     Assert.Equal(KenslerPermutation.Permute(first + (uint)k, l, seed), images[k]);
+                }
+            }
+        }
+    }
+
+    [Fact]
+    public void Paired_vector_permutations_equal_the_scalar_permutation()
+    {
+        // Permute8Pair (two sets of eight lanes walked together, each with its own length and seed) against Permute
+        // lane by lane: 500 trials per pair of lengths, indices and seeds from a fixed hash (seed written here: 0x5eed).
+        (uint, uint)[] lengths = { (2, 2), (4, 4), (3, 5), (5, 8), (17, 2), (64, 65), (1025, 7), (0x80000001u, 3), (0xfffffffbu, 0x80000000u) };
+        foreach ((uint la, uint lb) in lengths)
+        {
+            for (int trial = 0; trial < 500; trial++)
+            {
+                var a = new uint[8];
+                var b = new uint[8];
+                for (int k = 0; k < 8; k++)
+                {
+                    ulong h = SampleHash.Combine(0x5eed ^ la ^ ((ulong)lb << 32), (ulong)(trial * 8 + k));
+                    a[k] = (uint)(h % la);
+                    b[k] = (uint)((h >> 32) % lb);
+                }
+
+                uint pa = (uint)SampleHash.Combine(la, (ulong)trial), pb = (uint)SampleHash.Combine(lb, (ulong)trial + 1);
+                (Vector256<uint> ia, Vector256<uint> ib) = KenslerPermutation.Permute8Pair(Vector256.Create(a), la, pa, Vector256.Create(b), lb, pb);
+                for (int k = 0; k < 8; k++)
+                {
+                    Assert.Equal(KenslerPermutation.Permute(a[k], la, pa), ia.GetElement(k));
+                    Assert.Equal(KenslerPermutation.Permute(b[k], lb, pb), ib.GetElement(k));
                 }
             }
         }

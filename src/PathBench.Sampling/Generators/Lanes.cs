@@ -1,0 +1,131 @@
+using System.Numerics;
+using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// Eight points of a batch at once, for the generators built on Kensler permutations and jitter hashes
+/// (jittered, Latin hypercube, multi-jittered): index lanes for a run of up to eight consecutive points,
+/// exact conversions between the lanes' integers and doubles, the clamp below 1, and the store of the
+/// lanes a run uses. Each step is one IEEE-754 operation per lane, the same as the scalar form's, so
+/// the lanes keep the scalar bits.
+/// </summary>
+internal static class Lanes
+{
+    /// <summary>
+    /// The widest form this machine runs on hardware: <see cref="LaneWidth.Wide"/> with 512-bit vectors (AVX-512),
+    /// <see cref="LaneWidth.Narrow"/> with 256-bit ones only (AVX2), else <see cref="LaneWidth.Scalar"/>.
+    /// </summary>
+    public static LaneWidth Best { get; } =
+        Vector512.IsHardwareAccelerated && Vector256.IsHardwareAccelerated ? LaneWidth.Wide
+        : Vector256.IsHardwareAccelerated ? LaneWidth.Narrow
+        : LaneWidth.Scalar;
+
+    /// <summary>
+    /// Indices <paramref name="first"/>, <paramref name="first"/>+1, …, <paramref name="first"/>+<paramref name="n"/>−1 in the
+    /// first <paramref name="n"/> lanes (1 ≤ n ≤ 8) and the last of them repeated in the rest: every lane a valid index, so a
+    /// permutation's cycle walk ends in every lane; only the first n lanes are stored.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<uint> Run(uint first, int n) =>
+        Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
+
+    /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> ToDouble(Vector256<uint> v) => Vector512.ConvertToDouble(Vector512.WidenLower(v.ToVector512Unsafe()));
+
+    /// <summary>Lanes of whole numbers in [0, 2^32) back to integers (exact).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<uint> ToUInt32(Vector512<double> v)
+    {
+        Vector512<ulong> wide = Vector512.ConvertToUInt64(v);
+        return Vector512.Narrow(wide, wide).GetLower();
+    }
+
+    /// <summary>
+    /// Quotient and remainder of lanes of 32-bit integers by <paramref name="divisor"/>, as doubles: ⌊v / d⌋ of the correctly rounded
+    /// quotient is the integer quotient (v = q·d + r with r ≤ d − 1 puts v / d at least 1/d below q + 1, far more than half an ulp
+    /// for v &lt; 2^32), and v − q·d is exact in integers below 2^53.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector512<double> Quotient, Vector512<double> Remainder) DivRem(Vector512<double> v, double divisor)
+    {
+        Vector512<double> d = Vector512.Create(divisor);
+        Vector512<double> q = Vector512.Floor(v / d);
+        return (q, v - q * d);
+    }
+
+    /// <summary>
+    /// Integer quotient and remainder of each lane by <paramref name="divisor"/> (≥ 1): a shift and a mask for a power
+    /// of two, otherwise <see cref="DivRem(Vector512{double}, double)"/> through exact doubles.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Quotient, Vector256<uint> Remainder) DivRem(Vector256<uint> v, int divisor)
+    {
+        if (BitOperations.IsPow2(divisor))
+        {
+            return (v >>> BitOperations.Log2((uint)divisor), v & Vector256.Create((uint)divisor - 1));
+        }
+
+        (Vector512<double> q, Vector512<double> r) = DivRem(ToDouble(v), divisor);
+        return (ToUInt32(q), ToUInt32(r));
+    }
+
+    /// <summary>
+    /// x / <paramref name="divisor"/> per lane, as the scalar division: by a power of two it is the multiplication by its
+    /// reciprocal, which gives the same double (both scale the significand exactly; these values stay far from the
+    /// subnormal and overflow ranges) at a fraction of a vector division's cost.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Over(Vector512<double> x, int divisor) =>
+        BitOperations.IsPow2(divisor) ? x * Vector512.Create(1.0 / divisor) : x / Vector512.Create((double)divisor);
+
+    /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Clamp(Vector512<double> x) =>
+        Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
+
+    /// <summary>The first <c>destination.Length</c> (at most eight) lanes into <paramref name="destination"/>.</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static void Store(Vector512<double> v, Span<double> destination)
+    {
+        if (destination.Length == 8)
+        {
+            v.CopyTo(destination);
+            return;
+        }
+
+        // A run's last part-group: element by element (a span copy of a few doubles is a Memmove call, which
+        // measured as a visible share of a run of four).
+        Span<double> lanes = stackalloc double[8];
+        v.CopyTo(lanes);
+        for (int k = 0; k < destination.Length; k++)
+        {
+            destination[k] = lanes[k];
+        }
+    }
+
+    /// <summary>Whether the run [<paramref name="first"/>, <paramref name="first"/> + <paramref name="n"/>) lies in a set of <paramref name="count"/> points (outside it the scalar form throws, and the lanes must not cycle-walk).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static bool Inside(uint first, int n, int count) => (ulong)first + (ulong)n <= (ulong)count;
+}
+
+/// <summary>
+/// How the sets built on Kensler permutations make a batch (<see cref="PointSampler.Width"/>); every form gives the
+/// scalar form's bits.
+/// </summary>
+internal enum LaneWidth
+{
+    /// <summary>One point at a time.</summary>
+    Scalar,
+
+    /// <summary>
+    /// The permutations on eight 32-bit lanes of 256 bits (AVX2), the jitter hashes and the coordinates' doubles one
+    /// lane at a time as the scalar form.
+    /// </summary>
+    Narrow,
+
+    /// <summary>Everything on eight lanes: the permutations on 256 bits, the 64-bit hashes and the doubles on 512 bits (AVX-512).</summary>
+    Wide,
+}

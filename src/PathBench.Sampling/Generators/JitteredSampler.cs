@@ -28,21 +28,8 @@ public sealed class JitteredSampler : PointSampler
         Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
     /// <inheritdoc/>
-    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
-    {
-        uint seed = PairSeed(pixel, dimension);
-        if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
-        {
-            Batch8(pixel, firstIndex, dimension, seed, xs, default);
-            return;
-        }
-
-        for (int i = 0; i < xs.Length; i++)
-        {
-            uint index = firstIndex + (uint)i;
-            xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
-        }
-    }
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
+        Fill(pixel, firstIndex, dimension, xs, default);
 
     /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
@@ -55,6 +42,13 @@ public sealed class JitteredSampler : PointSampler
 
         // An even-aligned pair shares its cell: one permutation per point for both coordinates.
         RequireSameLength(xs, ys);
+        Fill(pixel, firstIndex, dimension, xs, ys);
+    }
+
+    // Dimension's coordinates into xs and, when ys is not empty (an even-aligned pair), the next dimension's from the
+    // same cells into ys: eight points at a time where the run allows, else one permutation per point.
+    private void Fill(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
         uint seed = PairSeed(pixel, dimension);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
@@ -67,7 +61,10 @@ public sealed class JitteredSampler : PointSampler
             uint index = firstIndex + (uint)i;
             uint cell = KenslerPermutation.Permute(index, (uint)Count, seed);
             xs[i] = Coordinate(pixel, index, dimension, cell);
-            ys[i] = Coordinate(pixel, index, dimension + 1, cell);
+            if (!ys.IsEmpty)
+            {
+                ys[i] = Coordinate(pixel, index, dimension + 1, cell);
+            }
         }
     }
 

@@ -82,6 +82,7 @@ internal static class BenchCommand
             w.Number("render_mrays_per_core", r.Render.MraysPerCore);
             w.Number("render_mrays_total", r.Render.MraysTotal);
             w.Number("render_thread_scaling", r.Render.Scaling);
+            Use(w, "render", r.Render.Use);
             w.WriteStartArray("sampler_share");
             foreach (SamplerShare s in r.SamplerShares)
             {
@@ -110,6 +111,15 @@ internal static class BenchCommand
         w.Number(kind + "_mrays_per_core", t.MraysPerCore);
         w.Number(kind + "_mrays_total", t.MraysTotal);
         w.Number(kind + "_thread_scaling", t.Scaling);
+        Use(w, kind, t.Use);
+    }
+
+    private static void Use(Utf8JsonWriter w, string kind, ThreadUse u)
+    {
+        w.Number(kind + "_cpu_seconds_1_thread", u.CpuOne);
+        w.Number(kind + "_cpu_seconds", u.CpuAll);
+        w.Number(kind + "_cpu_time_ratio", u.CpuRatio);
+        w.Number(kind + "_busy_fraction", u.Busy);
     }
 
     private static void WriteTable(TextWriter o, BenchReport r)
@@ -118,13 +128,16 @@ internal static class BenchCommand
         o.WriteLine(string.Create(inv, $"{r.Scene}: {r.Primitives} primitives ({r.Triangles} triangles), {r.Threads} threads for the totals"));
         o.WriteLine(string.Create(inv, $"  BVH build          {r.BvhBuildSeconds,8:F3} s   {r.BvhTrianglesPerSecond / 1e6,8:F2} M primitives/s   {r.BvhBytesPerTriangle:F1} B/primitive (nodes), {r.TotalBytesPerTriangle:F1} with primitives"));
         o.WriteLine(string.Create(inv, $"  light set          {r.LightSetBytes / 1e6,8:F2} MB"));
-        o.WriteLine(string.Create(inv, $"  primary rays       {r.Primary.MraysPerCore,8:F2} Mrays/s per core   {r.Primary.MraysTotal,8:F2} total   scaling {r.Primary.Scaling:F2}x"));
-        o.WriteLine(string.Create(inv, $"  incoherent rays    {r.Incoherent.MraysPerCore,8:F2} Mrays/s per core   {r.Incoherent.MraysTotal,8:F2} total   scaling {r.Incoherent.Scaling:F2}x"));
-        o.WriteLine(string.Create(inv, $"  full render        {r.Render.SamplesPerSecondOneThread / 1e6,8:F3} Msamples/s per core {r.Render.SamplesPerSecond / 1e6,8:F3} total   scaling {r.Render.Scaling:F2}x   {r.Render.MraysPerCore:F2} / {r.Render.MraysTotal:F2} Mrays/s"));
+        o.WriteLine(string.Create(inv, $"  primary rays       {r.Primary.MraysPerCore,8:F2} Mrays/s per core   {r.Primary.MraysTotal,8:F2} total   scaling {r.Primary.Scaling:F2}x{UseText(r.Primary.Use)}"));
+        o.WriteLine(string.Create(inv, $"  incoherent rays    {r.Incoherent.MraysPerCore,8:F2} Mrays/s per core   {r.Incoherent.MraysTotal,8:F2} total   scaling {r.Incoherent.Scaling:F2}x{UseText(r.Incoherent.Use)}"));
+        o.WriteLine(string.Create(inv, $"  full render        {r.Render.SamplesPerSecondOneThread / 1e6,8:F3} Msamples/s per core {r.Render.SamplesPerSecond / 1e6,8:F3} total   scaling {r.Render.Scaling:F2}x   {r.Render.MraysPerCore:F2} / {r.Render.MraysTotal:F2} Mrays/s{UseText(r.Render.Use)}"));
         o.WriteLine("  sampler share of a one-thread frame:");
         foreach (SamplerShare s in r.SamplerShares)
         {
             o.WriteLine(string.Create(inv, $"    {s.Generator + "/" + s.Randomize,-36} {100 * s.Fraction,6:F1} %"));
         }
     }
+
+    private static string UseText(ThreadUse u) =>
+        string.Create(CultureInfo.InvariantCulture, $"   (CPU time {u.CpuRatio:F2}x one thread's, busy {100 * u.Busy:F0} %)");
 }

@@ -17,6 +17,35 @@ public sealed record RayThroughput(long Rays, double MraysPerCore, double MraysT
 {
     /// <summary>Total over one thread.</summary>
     public double Scaling => MraysTotal / MraysPerCore;
+
+    /// <summary>Where the all-threads run lost against perfect scaling.</summary>
+    public ThreadUse Use { get; init; } = ThreadUse.Unmeasured;
+}
+
+/// <summary>
+/// Why a run on <paramref name="Threads"/> threads is not <paramref name="Threads"/> times as fast as on
+/// one, from the process's CPU time (<see cref="Environment.CpuUsage"/>, every thread of the process,
+/// the runtime's own included) over the fastest run of each: scaling = threads × <see cref="Busy"/> ×
+/// (<paramref name="CpuOne"/> / <paramref name="WallOne"/>) / <see cref="CpuRatio"/>. A
+/// <see cref="CpuRatio"/> above 1 means the same work took more processor time when the threads ran
+/// together (they slowed each other: shared caches, memory, the host of a virtual machine); a
+/// <see cref="Busy"/> below 1 means processors sat idle (waiting, unbalanced work, serial parts).
+/// </summary>
+/// <param name="Threads">Threads of the all-threads run.</param>
+/// <param name="WallOne">Wall seconds on one thread.</param>
+/// <param name="CpuOne">CPU seconds of the process during that run.</param>
+/// <param name="WallAll">Wall seconds on all threads.</param>
+/// <param name="CpuAll">CPU seconds of the process during that run.</param>
+public sealed record ThreadUse(int Threads, double WallOne, double CpuOne, double WallAll, double CpuAll)
+{
+    /// <summary>No measurement (every figure NaN).</summary>
+    public static ThreadUse Unmeasured { get; } = new(1, double.NaN, double.NaN, double.NaN, double.NaN);
+
+    /// <summary>CPU seconds on all threads over CPU seconds on one: 1 when the threads did not slow each other.</summary>
+    public double CpuRatio => CpuAll / CpuOne;
+
+    /// <summary>CPU seconds over threads × wall seconds of the all-threads run: 1 when no thread waited.</summary>
+    public double Busy => CpuAll / (Threads * WallAll);
 }
 
 /// <summary>A full render's speed: samples (camera paths) and rays per second, one thread and all.</summary>
@@ -24,6 +53,9 @@ public sealed record RenderThroughput(long Samples, long Rays, double SamplesPer
 {
     /// <summary>All threads over one thread.</summary>
     public double Scaling => SamplesPerSecond / SamplesPerSecondOneThread;
+
+    /// <summary>Where the all-threads run lost against perfect scaling.</summary>
+    public ThreadUse Use { get; init; } = ThreadUse.Unmeasured;
 }
 
 /// <summary>The share of a one-thread frame spent making sample points, for one generator × randomization.</summary>
@@ -113,10 +145,13 @@ public static class ThroughputBench
         log?.Invoke($"{sceneName}: full renders, 1 and {threads} threads");
         PointSampler sampler = CreateSampler("sobol", "owen", sizes.Spp);
         long rays = 0;
-        double one = Best(sizes.Repeats, () => rays = Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, 1)).Rays);
-        double all = Best(sizes.Repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, threads)));
+        Timing one = Timed(sizes.Repeats, () => rays = Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, 1)).Rays);
+        Timing all = Timed(sizes.Repeats, () => Renderer.Render(new RenderJob(scene, sampler, Options, 0, sizes.Spp, threads)));
         long samples = (long)sizes.Width * sizes.Height * sizes.Spp;
-        var render = new RenderThroughput(samples, rays, samples / one, samples / all, rays / one / 1e6, rays / all / 1e6);
+        var render = new RenderThroughput(samples, rays, samples / one.Wall, samples / all.Wall, rays / one.Wall / 1e6, rays / all.Wall / 1e6)
+        {
+            Use = new ThreadUse(threads, one.Wall, one.Cpu, all.Wall, all.Cpu),
+        };
 
         var shares = new List<SamplerShare>();
         Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4);
@@ -196,9 +231,12 @@ public static class ThroughputBench
 
     private static RayThroughput Rays(Bvh bvh, Ray[] rays, int threads, int repeats)
     {
-        double one = Best(repeats, () => Trace(bvh, rays, 1));
-        double all = Best(repeats, () => Trace(bvh, rays, threads));
-        return new RayThroughput(rays.Length, rays.Length / one / 1e6, rays.Length / all / 1e6);
+        Timing one = Timed(repeats, () => Trace(bvh, rays, 1));
+        Timing all = Timed(repeats, () => Trace(bvh, rays, threads));
+        return new RayThroughput(rays.Length, rays.Length / one.Wall / 1e6, rays.Length / all.Wall / 1e6)
+        {
+            Use = new ThreadUse(threads, one.Wall, one.Cpu, all.Wall, all.Cpu),
+        };
     }
 
     /// <summary>Closest-hit queries for every ray, split into contiguous chunks per thread; the hit count is returned so no query is optimised away.</summary>
@@ -284,18 +322,30 @@ public static class ThroughputBench
         return sum;
     }
 
-    private static double Best(int repeats, Action run)
+    private static double Best(int repeats, Action run) => Timed(repeats, run).Wall;
+
+    private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
+
+    /// <summary>The fastest of <paramref name="repeats"/> runs: its wall seconds and the process's CPU seconds during it.</summary>
+    private static Timing Timed(int repeats, Action run)
     {
-        double best = double.PositiveInfinity;
+        var best = new Timing(double.PositiveInfinity, double.NaN);
         for (int i = 0; i < Math.Max(1, repeats); i++)
         {
+            TimeSpan cpu = Environment.CpuUsage.TotalTime;
             long start = Stopwatch.GetTimestamp();
             run();
-            best = Math.Min(best, Stopwatch.GetElapsedTime(start).TotalSeconds);
+            double wall = Stopwatch.GetElapsedTime(start).TotalSeconds;
+            if (wall < best.Wall)
+            {
+                best = new Timing(wall, (Environment.CpuUsage.TotalTime - cpu).TotalSeconds);
+            }
         }
 
         return best;
     }
 
-    private static double Best<T>(int repeats, Func<T> run) => Best(repeats, () => { GC.KeepAlive(run()); });
+    private static Timing Timed<T>(int repeats, Func<T> run) => Timed(repeats, () => { GC.KeepAlive(run()); });
+
+    private readonly record struct Timing(double Wall, double Cpu);
 }

@@ -21,4 +21,33 @@ public sealed class ThroughputBenchTests
             Assert.True(s.FrameSeconds > 0 && s.SamplerSeconds > 0);
         });
     }
+
+    [Fact]
+    public void Thread_use_is_measured_for_every_all_threads_figure()
+    {
+        // The figures themselves vary with the machine and are never asserted; what is checked is that
+        // each all-threads figure carries the process CPU time of its runs (not the NaN of no measurement),
+        // and that the two ratios follow their definitions on that data.
+        BenchReport report = ThroughputBench.Run("furnished-room", 2, new BenchSizes(16, 12, 2, 8, 4, 1), samplerShares: false);
+        foreach ((string what, ThreadUse use) in new[] { ("primary", report.Primary.Use), ("incoherent", report.Incoherent.Use), ("render", report.Render.Use) })
+        {
+            Assert.True(use.Threads == 2, what);
+            Assert.True(use.WallOne > 0 && use.WallAll > 0 && use.CpuOne >= 0 && use.CpuAll >= 0, $"{what}: {use}");
+            Assert.Equal(use.CpuAll / use.CpuOne, use.CpuRatio);
+            Assert.Equal(use.CpuAll / (2 * use.WallAll), use.Busy);
+        }
+    }
+
+    [Fact]
+    public void Thread_use_ratios_on_a_worked_example()
+    {
+        // Worked example (by hand): one thread 10 s wall and 10 s CPU; two threads 5.5 s wall and
+        // 10.5 s CPU. The pair did 5 % more CPU work (ratio 1.05) and kept the two processors busy
+        // 10.5 / 11 = 95.45 % of the time; scaling 10 / 5.5 = 1.818 = 2 × 0.9545 × 1 / 1.05.
+        var use = new ThreadUse(2, 10, 10, 5.5, 10.5);
+        Assert.Equal(1.05, use.CpuRatio, 12);
+        Assert.Equal(10.5 / 11, use.Busy, 12);
+        Assert.Equal(10 / 5.5, 2 * use.Busy * (use.CpuOne / use.WallOne) / use.CpuRatio, 12);
+        Assert.True(double.IsNaN(ThreadUse.Unmeasured.CpuRatio));
+    }
 }

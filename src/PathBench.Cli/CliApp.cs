@@ -56,24 +56,57 @@ public static class CliApp
 
             return parse.Invoke(new InvocationConfiguration { Output = stdout, Error = stderr, EnableDefaultExceptionHandler = false });
         }
-        catch (CliUsageException e)
+        catch (Exception caught) when (caught is not OutOfMemoryException)
         {
-            stderr.WriteLine($"pathbench: error: {e.Message}");
-            return UsageExitCode;
-        }
-        catch (Exception e) when (e is SamplerSpecException or SceneException or ImageFileException or AccumulationFileException or MemoryBudgetException or OutputPathException)
-        {
-            // The libraries' bad-input exceptions already carry the one line to print
-            // (file, position, what was wrong); mapped to exit 2 here, once, for every command.
-            stderr.WriteLine($"pathbench: error: {e.Message}");
-            return UsageExitCode;
-        }
-        catch (Exception e) when (e is not OutOfMemoryException)
-        {
+            // A worker thread's exception arrives wrapped by its parallel loop: the one inside is what happened.
+            Exception e = Unwrap(caught);
+            switch (e)
+            {
+                case CliUsageException:
+                case SamplerSpecException or SceneException or ImageFileException or AccumulationFileException or MemoryBudgetException or OutputPathException:
+                    // The libraries' bad-input exceptions already carry the one line to print
+                    // (file, position, what was wrong); mapped to exit 2 here, once, for every command.
+                    stderr.WriteLine($"pathbench: error: {e.Message.ReplaceLineEndings(" ")}");
+                    return UsageExitCode;
+                case OutOfMemoryException:
+                    throw;
+            }
+
+            string what = $"{e.GetType().Name}: {e.Message.ReplaceLineEndings(" ")}";
+            if (GeneratorPlugins.Culprit(e) is { } plugin)
+            {
+                // Thrown in a plug-in's code (or in what it called): the plug-in and its method are
+                // the place to look, not PathBench. Exit 1: the command did not complete.
+                stderr.WriteLine($"pathbench: error: plug-in {plugin.Path}: {plugin.Method} threw {what}");
+                return InternalErrorExitCode;
+            }
+
             // A bug or an input no check foresaw: say so in one line (the type names the place
             // to look) and exit 1; nothing is written as if it had worked.
-            stderr.WriteLine($"pathbench: internal error: {e.GetType().Name}: {e.Message.ReplaceLineEndings(" ")}");
+            stderr.WriteLine($"pathbench: internal error: {what}");
             return InternalErrorExitCode;
+        }
+    }
+
+    /// <summary>
+    /// The exception inside the wrappers of parallel loops and reflection calls. When several workers
+    /// failed, the first one's (the others usually failed the same way; one line says one thing).
+    /// </summary>
+    internal static Exception Unwrap(Exception e)
+    {
+        while (true)
+        {
+            switch (e)
+            {
+                case AggregateException a when a.InnerExceptions.Count > 0:
+                    e = a.InnerExceptions[0];
+                    break;
+                case System.Reflection.TargetInvocationException { InnerException: { } inner }:
+                    e = inner;
+                    break;
+                default:
+                    return e;
+            }
         }
     }
 

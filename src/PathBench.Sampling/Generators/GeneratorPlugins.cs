@@ -96,6 +96,30 @@ public static class GeneratorPlugins
         return all;
     }
 
+    /// <summary>
+    /// The plug-in whose code threw <paramref name="e"/> (or an exception it wraps): the first frame of
+    /// its stack trace, from the throw outwards, that belongs to a loaded plug-in's assembly (so an exception a plug-in's call into
+    /// the framework threw is the plug-in's too); null when no plug-in code is on it.
+    /// </summary>
+    public static (string Path, string Method)? Culprit(Exception e)
+    {
+        ArgumentNullException.ThrowIfNull(e);
+        // The exception and then what it wraps: a caller that rethrew with a message of its own keeps the plug-in's frames in its inner exception.
+        for (Exception? x = e; x is not null; x = x.InnerException)
+        {
+            foreach (System.Diagnostics.StackFrame frame in new System.Diagnostics.StackTrace(x, false).GetFrames())
+            {
+                MethodBase? method = frame.GetMethod();
+                if (method?.DeclaringType is { } type && AssemblyLoadContext.GetLoadContext(type.Assembly) is PluginLoadContext context)
+                {
+                    return (context.PluginPath, $"{type.FullName}.{method.Name}");
+                }
+            }
+        }
+
+        return null;
+    }
+
     private static string OneLine(Exception e) => $"{e.GetType().Name}: {e.Message.ReplaceLineEndings(" ")}";
 
     /// <summary>
@@ -107,6 +131,9 @@ public static class GeneratorPlugins
     private sealed class PluginLoadContext(string pluginPath) : AssemblyLoadContext("pathbench-plugin " + Path.GetFileName(pluginPath), isCollectible: false)
     {
         private readonly AssemblyDependencyResolver _resolver = new(pluginPath);
+
+        /// <summary>The plug-in's full path.</summary>
+        public string PluginPath => pluginPath;
 
         protected override Assembly? Load(AssemblyName assemblyName)
         {

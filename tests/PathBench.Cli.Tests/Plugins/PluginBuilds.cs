@@ -29,6 +29,7 @@ public sealed class PluginBuilds : IDisposable
         string built = Path.Combine(Build(_dir.File("misbehaving/Misbehaving.csproj"), "misbehaving-out"), "Misbehaving.dll");
         Throwing = CopyWithMode(built, "throw");
         Clashing = CopyWithMode(built, "clash");
+        ThrowingWhileSampling = CopyWithMode(built, "sample-throw");
 
         _dir.Write("dependency/Invented.Constants.csproj", DependencyProject);
         _dir.Write("dependency/Constants.cs", DependencySource);
@@ -45,6 +46,9 @@ public sealed class PluginBuilds : IDisposable
 
     /// <summary>A plug-in whose constructor throws.</summary>
     public string Throwing { get; }
+
+    /// <summary>A plug-in whose generator 'half' throws from its fourth point on (index 3).</summary>
+    public string ThrowingWhileSampling { get; }
 
     /// <summary>A plug-in that names its generator 'sobol'.</summary>
     public string Clashing { get; }
@@ -177,15 +181,16 @@ public sealed class PluginBuilds : IDisposable
 
             public IEnumerable<GeneratorInfo> Generators =>
             [
-                new GeneratorInfo(_mode == "clash" ? "sobol" : "half", "test only", false, 2, [Randomization.None], Randomization.None, "test only", s => new Half(s)),
+                new GeneratorInfo(_mode == "clash" ? "sobol" : "half", "test only", false, 2, [Randomization.None], Randomization.None, "test only", s => new Half(s, _mode)),
             ];
         }
 
-        public sealed class Half(SamplerSpec spec) : PointSampler(spec)
+        public sealed class Half(SamplerSpec spec, string mode) : PointSampler(spec)
         {
             public override int MaxDimensions => 2;
 
-            public override double Sample(ulong pixel, uint index, int dimension) => 0.5;
+            public override double Sample(ulong pixel, uint index, int dimension) =>
+                mode == "sample-throw" && index >= 3 ? throw new InvalidOperationException("the invented table holds 3 points") : 0.5;
         }
         """;
 }

@@ -192,6 +192,32 @@ public sealed class PluginTests(PluginBuilds builds) : IClassFixture<PluginBuild
         Assert.Contains(expected, err, StringComparison.Ordinal);
     }
 
+    /// <summary>
+    /// A plug-in generator that throws while points are being made (here from its fourth point on):
+    /// one line naming the plug-in's path and the method that threw, exit code 1, on a worker thread
+    /// (render, which writes no image or sidecar) as on the main one (points, whose list is a stream:
+    /// the points made before the failure are out, and no more).
+    /// </summary>
+    [Theory]
+    [InlineData("render")]
+    [InlineData("points")]
+    public void A_plugin_that_throws_while_sampling_is_named_and_nothing_is_written(string command)
+    {
+        using var dir = new TempFolder();
+        dir.Write("s.yaml", Scene);
+        string plugin = builds.ThrowingWhileSampling;
+        string[] args = command == "render"
+            ? ["--plugin", plugin, "render", dir.File("s.yaml"), "--generator", "half", "--spp", "8", "--threads", "2", "--out", dir.File("out.pfm")]
+            : ["--plugin", plugin, "points", "--generator", "half", "--count", "8"];
+        (int code, string output, string err) = Run(args);
+        Assert.Equal(1, code);
+        Assert.Equal(command == "render" ? "" : "0.5,0.5\n0.5,0.5\n0.5,0.5\n", output.ReplaceLineEndings("\n"));
+        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        Assert.Equal($"pathbench: error: plug-in {plugin}: Misbehaving.Half.Sample threw InvalidOperationException: the invented table holds 3 points\n", err.ReplaceLineEndings("\n"));
+        Assert.False(File.Exists(dir.File("out.pfm")));
+        Assert.False(File.Exists(dir.File("out.json")));
+    }
+
     // Newton's iteration on integers from above: decreases to floor(√v) and stops there (common practice).
     private static BigInteger IntegerSqrt(BigInteger v)
     {

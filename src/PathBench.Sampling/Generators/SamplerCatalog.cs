@@ -354,7 +354,8 @@ public static class SamplerCatalog
 
         try
         {
-            return g.Create(spec) ?? throw new SamplerSpecException($"{g.Origin}: generator '{g.Name}' built no sampler (null)");
+            PointSampler sampler = g.Create(spec) ?? throw new SamplerSpecException($"{g.Origin}: generator '{g.Name}' built no sampler (null)");
+            return new PluginSampler(sampler, g);
         }
         catch (Exception e) when (e is not SamplerSpecException and not OutOfMemoryException)
         {

@@ -30,6 +30,7 @@ public sealed class PluginBuilds : IDisposable
         Throwing = CopyWithMode(built, "throw");
         Clashing = CopyWithMode(built, "clash");
         ThrowingWhileSampling = CopyWithMode(built, "sample-throw");
+        OutOfRange = CopyWithMode(built, "out-of-range");
 
         _dir.Write("dependency/Invented.Constants.csproj", DependencyProject);
         _dir.Write("dependency/Constants.cs", DependencySource);
@@ -49,6 +50,9 @@ public sealed class PluginBuilds : IDisposable
 
     /// <summary>A plug-in whose generator 'half' throws from its fourth point on (index 3).</summary>
     public string ThrowingWhileSampling { get; }
+
+    /// <summary>A plug-in whose generator 'half' returns 1, outside [0, 1), from its fourth point on (index 3).</summary>
+    public string OutOfRange { get; }
 
     /// <summary>A plug-in that names its generator 'sobol'.</summary>
     public string Clashing { get; }
@@ -190,7 +194,10 @@ public sealed class PluginBuilds : IDisposable
             public override int MaxDimensions => 2;
 
             public override double Sample(ulong pixel, uint index, int dimension) =>
-                mode == "sample-throw" && index >= 3 ? throw new InvalidOperationException("the invented table holds 3 points") : 0.5;
+                index < 3 ? 0.5
+                : mode == "sample-throw" ? throw new InvalidOperationException("the invented table holds 3 points")
+                : mode == "out-of-range" ? 1.0
+                : 0.5;
         }
         """;
 }

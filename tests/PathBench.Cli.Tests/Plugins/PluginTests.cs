@@ -204,18 +204,48 @@ public sealed class PluginTests(PluginBuilds builds) : IClassFixture<PluginBuild
     public void A_plugin_that_throws_while_sampling_is_named_and_nothing_is_written(string command)
     {
         using var dir = new TempFolder();
-        dir.Write("s.yaml", Scene);
         string plugin = builds.ThrowingWhileSampling;
-        string[] args = command == "render"
-            ? ["--plugin", plugin, "render", dir.File("s.yaml"), "--generator", "half", "--spp", "8", "--threads", "2", "--out", dir.File("out.pfm")]
-            : ["--plugin", plugin, "points", "--generator", "half", "--count", "8"];
-        (int code, string output, string err) = Run(args);
+        (int code, string output, string err) = RunHalf(plugin, command, dir);
         Assert.Equal(1, code);
         Assert.Equal(command == "render" ? "" : "0.5,0.5\n0.5,0.5\n0.5,0.5\n", output.ReplaceLineEndings("\n"));
         Assert.Single(err.TrimEnd('\n').Split('\n'));
         Assert.Equal($"pathbench: error: plug-in {plugin}: Misbehaving.Half.Sample threw InvalidOperationException: the invented table holds 3 points\n", err.ReplaceLineEndings("\n"));
         Assert.False(File.Exists(dir.File("out.pfm")));
         Assert.False(File.Exists(dir.File("out.json")));
+    }
+
+    /// <summary>
+    /// A plug-in generator that returns a coordinate outside [0, 1) (here 1, from its fourth point on) is
+    /// stopped at the first such value, before it can bias an image: one line naming the plug-in, the
+    /// generator, the value and where it came from, exit code 2, no image or sidecar.
+    /// </summary>
+    [Theory]
+    [InlineData("render")]
+    [InlineData("points")]
+    public void A_plugin_coordinate_outside_the_unit_interval_is_refused(string command)
+    {
+        using var dir = new TempFolder();
+        string plugin = builds.OutOfRange;
+        (int code, string output, string err) = RunHalf(plugin, command, dir);
+        Assert.Equal(2, code);
+        Assert.Equal(command == "render" ? "" : "0.5,0.5\n0.5,0.5\n0.5,0.5\n", output.ReplaceLineEndings("\n"));
+        Assert.Single(err.TrimEnd('\n').Split('\n'));
+        // The first value asked for at point 3 is the film position's first coordinate (dimension 0); the
+        // pixel is whichever a worker reached first, so its key is matched by form only.
+        Assert.Matches(
+            $"^pathbench: error: plug-in {System.Text.RegularExpressions.Regex.Escape(plugin)}: generator 'half' returned 1 for dimension 0 of point 3 \\(pixel key 0x[0-9a-f]{{16}}\\); every coordinate must lie in \\[0, 1\\)\n$",
+            err.ReplaceLineEndings("\n"));
+        Assert.False(File.Exists(dir.File("out.pfm")));
+        Assert.False(File.Exists(dir.File("out.json")));
+    }
+
+    // The misbehaving plug-in's 'half' generator, 8 points: a 2-thread render of the test scene into dir/out.pfm, or a point list.
+    private static (int Code, string Output, string Err) RunHalf(string plugin, string command, TempFolder dir)
+    {
+        dir.Write("s.yaml", Scene);
+        return Run(command == "render"
+            ? ["--plugin", plugin, "render", dir.File("s.yaml"), "--generator", "half", "--spp", "8", "--threads", "2", "--out", dir.File("out.pfm")]
+            : ["--plugin", plugin, "points", "--generator", "half", "--count", "8"]);
     }
 
     // Newton's iteration on integers from above: decreases to floor(√v) and stops there (common practice).

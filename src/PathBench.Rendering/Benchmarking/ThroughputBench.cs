@@ -234,7 +234,7 @@ public static class ThroughputBench
     /// </summary>
     /// <remarks>
     /// What the replay counts: every batch the cache asked for, with its whole cost (the virtual call, the
-    /// dimension's seeds, tables and per-key caches such as Halton's zero tails, which see the same keys in
+    /// dimension's seeds, tables and any per-thread caches, which see the same keys in
     /// the same order as in the frame, and the padding hash past a generator's dimension limit), including
     /// the coordinates made for samples whose paths ended before using them and the second coordinate of a
     /// pair the cache made whole for a pair-sharing generator (<see cref="PointSampler.PairsShareWork"/>):

@@ -61,8 +61,9 @@ public static class RadicalInverse
     /// 1964 gives them) on a table of b values, for larger b by drawing uniform values and redrawing those already
     /// taken, up to digit <see cref="DrawnDigits"/> − 1; the digits from <see cref="DrawnDigits"/> on (large bases only)
     /// are mapped by the hashed permutation σ_k of 0..b−1−<see cref="DrawnDigits"/> (Kensler 2013) onto the values the
-    /// drawn digits left, in increasing order. Each draw takes its own 64-bit hash of (Combine(key, k), draw number)
-    /// into a range of m values by ⌊h·m / 2^64⌋ (within m·2^−64 of uniform); the joint distribution of the zeros
+    /// drawn digits left, in increasing order. Each draw takes its own 64-bit hash h of (Combine(key, k), draw number)
+    /// into a range of m values by ⌊u·m⌋ with u the top 53 bits of h scaled by 2^−53 (each value's probability within
+    /// 2^−53·m of 1/m; the same doubles in the vector and scalar forms); the joint distribution of the zeros
     /// z_0 … z_{L−1} a 32-bit index can reach is within b^L·2^−64 &lt; b·2^−32 of uniform (total variation), and the
     /// part below the index's digits is uniform to 2^−64.
     /// </para>
@@ -116,7 +117,8 @@ public static class RadicalInverse
     /// (one per element of <paramref name="xs"/>, wrapping past 2^32 − 1 as the index arithmetic does), bit for bit.
     /// Per run of at most <see cref="RunLength"/> indices: the zero digits and the fractions below each length come
     /// from one chain of multiplies; each digit position's permutation is evaluated once for every digit the run
-    /// meets there (a contiguous range modulo b), all positions' evaluations together in vector lanes
+    /// meets there (a contiguous range modulo b): the drawn images sixteen hashes at a time, the taken values of a
+    /// large base kept in one vector, and the σ walks of all positions together in vector lanes
     /// (<see cref="KenslerPermutation.PermuteEach"/>); the indices' digits advance as an odometer (no division per
     /// index), and each point is a sum of table entries in the reference's order.
     /// </summary>

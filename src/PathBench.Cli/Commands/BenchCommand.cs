@@ -14,11 +14,17 @@ internal static class BenchCommand
         var threads = new Option<int>("--threads") { Description = "Threads for the all-threads figures (one-thread figures are always measured)", DefaultValueFactory = _ => Environment.ProcessorCount };
         var json = new Option<bool>("--json") { Description = "Write JSON instead of a table" };
         var noShare = new Option<bool>("--no-sampler-share") { Description = "Skip the sampler-share frames (every generator × randomization; the longest part)" };
+        var shareOf = new Option<string[]>("--share-of")
+        {
+            Description = "Measure the sampler share of these only: GENERATOR or GENERATOR/RANDOMIZE (repeatable; default: every combination)",
+            AllowMultipleArgumentsPerToken = false,
+        };
         var command = new Command("bench", "Measure BVH build, ray throughput (primary and incoherent), render speed, thread scaling and each sampler's share of a frame");
         command.Options.Add(scene);
         command.Options.Add(threads);
         command.Options.Add(json);
         command.Options.Add(noShare);
+        command.Options.Add(shareOf);
         command.SetAction(parse =>
         {
             int t = parse.GetValue(threads);
@@ -30,11 +36,12 @@ internal static class BenchCommand
                 throw new CliUsageException($"--scene: unknown benchmark scene '{name}'; known: {string.Join(", ", BenchScenes.Names)}");
             }
 
+            IReadOnlyList<(string Generator, string Randomize)> shares = parse.GetValue(noShare) ? [] : ShareCombinations(parse.GetValue(shareOf) ?? []);
             bool asJson = parse.GetValue(json);
             var reports = new List<BenchReport>();
             foreach (string s in name is null ? BenchScenes.Names : [name])
             {
-                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default, !parse.GetValue(noShare), line => io.Error.WriteLine("bench: " + line)));
+                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default, shares, line => io.Error.WriteLine("bench: " + line)));
             }
 
             if (asJson)
@@ -52,6 +59,33 @@ internal static class BenchCommand
             return 0;
         });
         return command;
+    }
+
+    /// <summary>The combinations <c>--share-of</c> selects (all when none is given); an unknown name is a usage error.</summary>
+    private static List<(string Generator, string Randomize)> ShareCombinations(string[] selected)
+    {
+        var all = ThroughputBench.Combinations().ToList();
+        if (selected.Length == 0)
+        {
+            return all;
+        }
+
+        var chosen = new List<(string Generator, string Randomize)>();
+        foreach (string item in selected)
+        {
+            int slash = item.IndexOf('/', StringComparison.Ordinal);
+            string g = slash < 0 ? item : item[..slash];
+            string? r = slash < 0 ? null : item[(slash + 1)..];
+            var matches = all.Where(c => c.Generator == g && (r is null || c.Randomize == r)).ToList();
+            if (matches.Count == 0)
+            {
+                throw new CliUsageException($"--share-of: no generator/randomization '{item}'; known: {string.Join(", ", all.Select(c => c.Generator + "/" + c.Randomize))}");
+            }
+
+            chosen.AddRange(matches.Where(m => !chosen.Contains(m)));
+        }
+
+        return chosen;
     }
 
     private static void WriteJson(Utf8JsonWriter w, IReadOnlyList<BenchReport> reports)

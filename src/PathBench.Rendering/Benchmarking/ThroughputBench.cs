@@ -123,8 +123,13 @@ public static class ThroughputBench
     public static PathTracerOptions Options { get; } = new(HemisphereStrategy.Cosine, LightStrategy.Mis, 8, true);
 
     /// <summary>Runs every measurement on <paramref name="sceneName"/> (the sampler shares only when <paramref name="samplerShares"/>); <paramref name="log"/> hears what is being measured.</summary>
-    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, bool samplerShares, Action<string>? log = null)
+    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, bool samplerShares, Action<string>? log = null) =>
+        Run(sceneName, threads, sizes, samplerShares ? Combinations().ToList() : [], log);
+
+    /// <summary>As above, with the sampler shares of <paramref name="shareOf"/> only (generator, randomization pairs; empty: none).</summary>
+    public static BenchReport Run(string sceneName, int threads, BenchSizes sizes, IReadOnlyList<(string Generator, string Randomize)> shareOf, Action<string>? log = null)
     {
+        ArgumentNullException.ThrowIfNull(shareOf);
         ArgumentNullException.ThrowIfNull(sizes);
         threads = Math.Max(1, threads);
         log?.Invoke($"{sceneName}: generating the scene");
@@ -155,7 +160,7 @@ public static class ThroughputBench
 
         var shares = new List<SamplerShare>();
         Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4);
-        foreach ((string g, string r) in samplerShares ? Combinations() : [])
+        foreach ((string g, string r) in shareOf)
         {
             log?.Invoke($"{sceneName}: sampler share of {g}/{r}");
             shares.Add(Share(small, g, r, sizes.ShareSpp, sizes.Repeats));
@@ -267,7 +272,7 @@ public static class ThroughputBench
     /// </summary>
     /// <remarks>
     /// What the replay counts: every batch the cache asked for, with its whole cost (the virtual call, the
-    /// dimension's seeds, tables and per-key caches such as Halton's zero tails, which see the same keys in
+    /// dimension's seeds, tables and any per-thread caches, which see the same keys in
     /// the same order as in the frame, and the padding hash past a generator's dimension limit), including
     /// the coordinates made for samples whose paths ended before using them and the second coordinate of a
     /// pair the cache made whole for a pair-sharing generator (<see cref="PointSampler.PairsShareWork"/>):

@@ -56,27 +56,35 @@ public static class KenslerPermutation
     }
 
     /// <summary>
-    /// The image of 0 under the permutations of [0, <paramref name="l"/>) chosen by each of <paramref name="seeds"/>,
-    /// into <paramref name="images"/>: <see cref="Permute"/>(0, l, seed) for every seed, sixteen at a time as two 256-bit
-    /// vectors walked together where the machine has them (the same integer steps per lane; a lane that has left the
-    /// cycle walk keeps its value while the others walk on; the two vectors' chains are independent, so they overlap
-    /// in the pipeline), then a group of eight as one vector, the rest (fewer than eight) one at a time: a vector walk
-    /// lasts as long as its slowest lane and each of its steps is a 10-cycle vector multiply against a 3-cycle scalar
-    /// one, while independent scalar walks overlap, so a part-empty vector measured slower than the scalar form.
+    /// <see cref="Permute"/>(inputs[k], l, seeds[k]) for every k into <paramref name="images"/>: one length, an input
+    /// and a seed per lane (the digits of several digit positions, each position with its own permutation), sixteen
+    /// at a time as two 256-bit vectors walked together where the machine has them (the same integer steps per lane;
+    /// a lane that has left the cycle walk keeps its value while the others walk on; the two vectors' chains are
+    /// independent, so they overlap in the pipeline), then a group of eight as one vector, the rest (fewer than
+    /// eight) one at a time: a vector walk lasts as long as its slowest lane and each of its steps is a 10-cycle
+    /// vector multiply against a 3-cycle scalar one, while independent scalar walks overlap, so a part-empty vector
+    /// measured slower than the scalar form.
     /// </summary>
-    public static void PermuteZeros(uint l, ReadOnlySpan<uint> seeds, Span<uint> images)
+    /// <exception cref="ArgumentOutOfRangeException">An input is not below <paramref name="l"/>.</exception>
+    public static void PermuteEach(uint l, ReadOnlySpan<uint> inputs, ReadOnlySpan<uint> seeds, Span<uint> images)
     {
-        if (images.Length != seeds.Length)
+        if (images.Length != seeds.Length || inputs.Length != seeds.Length)
         {
-            throw new ArgumentException("one image per seed", nameof(images));
+            throw new ArgumentException("one input and one image per seed", nameof(images));
         }
 
         int done = 0;
         if (Vector256.IsHardwareAccelerated && l > 1)
         {
+            Vector256<uint> limit = Vector256.Create(l);
             for (; done + 16 <= seeds.Length; done += 16)
             {
-                Vector256<uint> a = Vector256<uint>.Zero, b = Vector256<uint>.Zero;
+                Vector256<uint> a = Vector256.Create(inputs.Slice(done, 8)), b = Vector256.Create(inputs.Slice(done + 8, 8));
+                if (!Vector256.LessThanAll(a, limit) || !Vector256.LessThanAll(b, limit))
+                {
+                    break;
+                }
+
                 Vector256<uint> pa = Vector256.Create(seeds.Slice(done, 8)), pb = Vector256.Create(seeds.Slice(done + 8, 8));
                 Walk(ref a, l, pa, ref b, l, pb);
                 OffsetBySeed(a, l, pa).CopyTo(images.Slice(done, 8));
@@ -85,15 +93,20 @@ public static class KenslerPermutation
 
             if (done + 8 <= seeds.Length)
             {
-                Vector256<uint> p = Vector256.Create(seeds.Slice(done, 8));
-                OffsetBySeed(Walk8(Vector256<uint>.Zero, l, p), l, p).CopyTo(images.Slice(done, 8));
-                done += 8;
+                Vector256<uint> i = Vector256.Create(inputs.Slice(done, 8));
+                if (Vector256.LessThanAll(i, limit))
+                {
+                    Vector256<uint> p = Vector256.Create(seeds.Slice(done, 8));
+                    OffsetBySeed(Walk8(i, l, p), l, p).CopyTo(images.Slice(done, 8));
+                    done += 8;
+                }
             }
         }
 
+        // The rest, and from a lane out of range on (Permute throws there).
         for (; done < seeds.Length; done++)
         {
-            images[done] = Permute(0, l, seeds[done]);
+            images[done] = Permute(inputs[done], l, seeds[done]);
         }
     }
 

@@ -1,4 +1,5 @@
 using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Sequences;
@@ -44,29 +45,82 @@ public static class RadicalInverse
     }
 
     /// <summary>
-    /// The radical inverse with digit position k mapped through its own permutation π_k
-    /// chosen by hashing (<paramref name="key"/>, k). The zeros above the index's leading digit
-    /// go through their positions' permutations too: π_k(0) at position k is tied to π_k(d) of
-    /// every longer index, and that tie is what keeps the first b^m points one per b^−m stratum.
-    /// So every position below <see cref="DigitsFor"/>(b) (the most digits a 32-bit index has) is
-    /// permuted; the positions beyond are zeros for every index, so together they are one
-    /// uniform number on [0, b^−K) shared by all points, drawn from one hash: exact in
-    /// distribution for the whole point set.
+    /// The radical inverse with digit position k mapped through its own random permutation π_k of 0..b−1
+    /// (Braaten &amp; Weller 1979's digit permutations, drawn at random as in Owen's random digit permutations),
+    /// each π_k drawn from hashes of (<paramref name="key"/>, k). The zeros above the index's leading digit go through
+    /// their positions' permutations too: π_k(0) at position k is tied to π_k(d) of every longer index, and that tie
+    /// is what keeps the first b^m points one per b^−m stratum.
+    /// <para>
+    /// How π_k is drawn: as an ordering of the values 0..b−1 drawn one digit at a time, each image uniform among the
+    /// values not yet taken (sampling without replacement, which gives every permutation the same probability). The
+    /// image of 0, z_k, comes for all positions at once as the base-b digits of one 64-bit uniform hash U of the key
+    /// (z_k = ⌊U_k·b / 2^64⌋, U_{k+1} = U_k·b mod 2^64, exact integer steps), so the permuted zeros of an index with
+    /// L digits sum, with everything below the last digit position, to the fraction U_L / 2^64 scaled by b^−L: one
+    /// multiply per position and no permutation evaluated for the zeros. The images of digits 1, 2, … are drawn only
+    /// as far as a digit asks: for b ≤ <see cref="FullTableBase"/> by Fisher &amp; Yates (1938) steps (as Durstenfeld
+    /// 1964 gives them) on a table of b values, for larger b by drawing uniform values and redrawing those already
+    /// taken, up to digit <see cref="DrawnDigits"/> − 1; the digits from <see cref="DrawnDigits"/> on (large bases only)
+    /// are mapped by the hashed permutation σ_k of 0..b−1−<see cref="DrawnDigits"/> (Kensler 2013) onto the values the
+    /// drawn digits left, in increasing order. Each draw takes its own 64-bit hash h of (Combine(key, k), draw number)
+    /// into a range of m values by ⌊u·m⌋ with u the top 53 bits of h scaled by 2^−53 (each value's probability within
+    /// 2^−53·m of 1/m; the same doubles in the vector and scalar forms); the joint distribution of the zeros
+    /// z_0 … z_{L−1} a 32-bit index can reach is within b^L·2^−64 &lt; b·2^−32 of uniform (total variation), and the
+    /// part below the index's digits is uniform to 2^−64.
+    /// </para>
+    /// This one-point form is the plain reference that <see cref="PermutedBatch"/> is tested against.
     /// </summary>
-    [MethodImpl(InliningOptions.HotPath)]
     public static double Permuted(uint index, int b, ulong key)
     {
-        Span<double> one = stackalloc double[1];
-        PermutedBatch(index, b, key, one);
-        return one[0];
+        if (b == 2)
+        {
+            return Base2(index, SampleHash.Mix64(key));
+        }
+
+        uint ub = (uint)b;
+        ulong u = ZeroDigits(key);
+        Span<uint> storage = stackalloc uint[DigitMap.StorageLength];
+        Span<uint> sorted = stackalloc uint[DrawnDigits];
+        double invBase = 1.0 / b;
+        double weight = invBase;
+        double sum = 0;
+        int k = 0;
+        for (; index != 0; k++)
+        {
+            uint next = index / ub;
+            uint digit = index - next * ub;
+            uint zero = (uint)Math.BigMul(u, ub, out u);
+            uint permuted = zero;
+            if (digit != 0)
+            {
+                var map = new DigitMap(ub, SampleHash.Combine(key, (ulong)k), zero, storage);
+                if (map.Drawn(digit))
+                {
+                    permuted = map.Image(digit);
+                }
+                else
+                {
+                    map.SortedDrawn(sorted);
+                    permuted = DigitMap.Remaining(KenslerPermutation.Permute(digit - DrawnDigits, ub - DrawnDigits, map.Seed), sorted);
+                }
+            }
+
+            sum += permuted * weight;
+            weight *= invBase;
+            index = next;
+        }
+
+        return UnitInterval.Clamp(sum + Below(u, b, k));
     }
 
     /// <summary>
     /// <see cref="Permuted"/> of the consecutive indices <paramref name="firstIndex"/>, <paramref name="firstIndex"/>+1, …
-    /// (one per element of <paramref name="xs"/>), bit for bit: the digit positions' permutation seeds are hashed
-    /// once per batch, the zero tail looked up once, and for bases small enough a table of the permuted digits per
-    /// position and digit is filled as they are met, so the upper digits, which consecutive indices share, are
-    /// permuted once per batch rather than once per point.
+    /// (one per element of <paramref name="xs"/>, wrapping past 2^32 − 1 as the index arithmetic does), bit for bit.
+    /// Per run of at most <see cref="RunLength"/> indices: the zero digits and the fractions below each length come
+    /// from one chain of multiplies; each digit position's permutation is evaluated once for every digit the run
+    /// meets there (a contiguous range modulo b): the drawn images sixteen hashes at a time, the taken values of a
+    /// large base kept in one vector, and the σ walks of all positions together in vector lanes
+    /// (<see cref="KenslerPermutation.PermuteEach"/>); the indices' digits advance as an odometer (no division per
+    /// index), and each point is a sum of table entries in the reference's order.
     /// </summary>
     public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs)
     {
@@ -75,210 +129,405 @@ public static class RadicalInverse
             ulong shift = SampleHash.Mix64(key);
             for (int i = 0; i < xs.Length; i++)
             {
-                ulong bits = ((ulong)BitReversal.Reverse(firstIndex + (uint)i) << 32) ^ shift;
-                xs[i] = (bits >> 11) * (1.0 / 9007199254740992.0);
+                xs[i] = Base2(firstIndex + (uint)i, shift);
             }
 
             return;
         }
 
-        // Positions at and above the index's length hold permuted zeros, the same for every
-        // point of this (pixel, dimension): their sum comes from a per-thread cache, computed
-        // once per key, with the positions' permutation seeds. The cache changes no value, only
-        // the time (tested against PermutedDirect).
-        ReadOnlySpan<double> zeroTail = ZeroTails.For(key, b, out ReadOnlySpan<uint> seeds);
-        int digits = zeroTail.Length - 1;
-        uint ub = (uint)b;
-        double invBase = 1.0 / b;
-        // Permuted digit per (position, digit), 0xFF until met; only where it fits a small stack table, and only where
-        // a digit can repeat: a run whose last index is below b has one distinct digit per point (the common case of a
-        // large base), so the table's fill would be pure cost there.
-        const int TableEntries = 512;
-        bool tabled = xs.Length > 1 && b < 0xFF && digits * b <= TableEntries && (ulong)firstIndex + (ulong)xs.Length > (ulong)b;
-        Span<byte> table = tabled ? stackalloc byte[TableEntries] : default;
-        table.Fill(0xFF);
-        for (int i = 0; i < xs.Length; i++)
+        while (xs.Length > 0)
         {
-            uint index = firstIndex + (uint)i;
+            // A run stops at RunLength points and where the index would wrap past 2^32 − 1.
+            int n = (int)Math.Min((ulong)Math.Min(xs.Length, RunLength), (ulong)uint.MaxValue - firstIndex + 1);
+            PermutedRun(firstIndex, (uint)b, key, xs[..n]);
+            firstIndex += (uint)n;
+            xs = xs[n..];
+        }
+    }
+
+    /// <summary>Points per run of <see cref="PermutedBatch"/>: bounds its stack tables.</summary>
+    internal const int RunLength = 64;
+
+    // Most digit positions of a 32-bit index in an odd base (base 3), and table slots of a run: position k meets at
+    // most min(b, ⌊(RunLength − 1) / b^k⌋ + 2) digits, at most 1.5·63 + 2·21 in all.
+    private const int MaxDigits = 21;
+    private const int MaxSlots = 160;
+
+    [SkipLocalsInit] // every table entry read is written first
+    private static void PermutedRun(uint first, uint b, ulong key, Span<double> xs)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+
+        // Each position's digit of the first index and how many digits the run meets there (from the first and last
+        // indices' prefixes ⌊i / b^k⌋), and the two indices' lengths.
+        Span<uint> digits = stackalloc uint[MaxDigits + 1];
+        Span<uint> counts = stackalloc uint[MaxDigits];
+        int length = 0, lengthOfLast = 0;
+        for (uint low = first, high = last; high != 0; lengthOfLast++)
+        {
+            uint lowNext = low / b, highNext = high / b;
+            digits[lengthOfLast] = low - (lowNext * b);
+            counts[lengthOfLast] = Math.Min(high - low + 1, b);
+            length = low != 0 ? lengthOfLast + 1 : length;
+            low = lowNext;
+            high = highNext;
+        }
+
+        // Fractions below each length and the zero digits, from the one chain.
+        Span<double> below = stackalloc double[MaxDigits + 1];
+        Span<uint> table = stackalloc uint[MaxSlots];
+        Span<int> start = stackalloc int[MaxDigits];
+        Span<uint> offset = stackalloc uint[MaxDigits];
+        Span<uint> inputs = stackalloc uint[MaxSlots];
+        Span<uint> seeds = stackalloc uint[MaxSlots];
+        Span<int> slots = stackalloc int[MaxSlots];
+        Span<int> positionOf = stackalloc int[MaxSlots];
+        Span<uint> storage = stackalloc uint[DigitMap.StorageLength];
+        Span<uint> sorted = stackalloc uint[MaxDigitsAboveTable * DrawnDigits];
+        ulong u = ZeroDigits(key);
+        int walks = 0;
+        int used = 0;
+        for (int k = 0; k < lengthOfLast; k++)
+        {
+            below[k] = Below(u, (int)b, k);
+            uint zero = (uint)Math.BigMul(u, b, out u);
+            uint from = digits[k];
+            int count = (int)counts[k];
+            var map = new DigitMap(b, SampleHash.Combine(key, (ulong)k), zero, storage);
+            start[k] = used;
+            offset[k] = 0;
+            bool walked = false;
+            map.DrawTo(Math.Min(from + (uint)count - 1 >= b ? b - 1 : from + (uint)count - 1, DrawnDigits - 1));
+            for (int j = 0; j < count; j++, used++)
+            {
+                uint digit = from + (uint)j;
+                digit = digit >= b ? digit - b : digit;
+                if (map.Drawn(digit))
+                {
+                    table[used] = map.Image(digit);
+                    continue;
+                }
+
+                // σ_k of the digits past the drawn ones, mapped onto the values left once the walks are done.
+                walked = true;
+                inputs[walks] = digit - DrawnDigits;
+                seeds[walks] = map.Seed;
+                positionOf[walks] = k;
+                slots[walks++] = used;
+            }
+
+            if (walked)
+            {
+                map.SortedDrawn(sorted.Slice(k * DrawnDigits, DrawnDigits));
+            }
+        }
+
+        below[lengthOfLast] = Below(u, (int)b, lengthOfLast);
+        if (walks > 0)
+        {
+            Span<uint> images = stackalloc uint[MaxSlots];
+            KenslerPermutation.PermuteEach(b - DrawnDigits, inputs[..walks], seeds[..walks], images[..walks]);
+            for (int w = 0; w < walks; w++)
+            {
+                table[slots[w]] = DigitMap.Remaining(images[w], sorted.Slice(positionOf[w] * DrawnDigits, DrawnDigits));
+            }
+        }
+
+        // The first index's digits are each position's first table slot (offset 0); the odometer moves them.
+        double invBase = 1.0 / b;
+        if (lengthOfLast <= 1)
+        {
+            // Every index below b (the common case of a large base): one digit each, index 0 none.
+            for (int i = 0; i < xs.Length; i++)
+            {
+                xs[i] = first + (uint)i == 0 ? UnitInterval.Clamp(below[0]) : UnitInterval.Clamp((table[i] * invBase) + below[1]);
+            }
+
+            return;
+        }
+
+        for (int i = 0; ; i++)
+        {
             double weight = invBase;
             double sum = 0;
-            int k = 0;
-            for (; index != 0; k++)
+            for (int k = 0; k < length; k++)
             {
-                uint next = index / ub;
-                uint digit = index - next * ub;
-                uint permuted;
-                if (tabled)
-                {
-                    int slot = k * b + (int)digit;
-                    permuted = table[slot];
-                    if (permuted == 0xFF)
-                    {
-                        permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
-                        table[slot] = (byte)permuted;
-                    }
-                }
-                else
-                {
-                    permuted = KenslerPermutation.Permute(digit, ub, seeds[k]);
-                }
-
-                sum += permuted * weight;
+                sum += table[start[k] + (int)offset[k]] * weight;
                 weight *= invBase;
-                index = next;
             }
 
-            xs[i] = UnitInterval.Clamp(sum + zeroTail[k]);
+            xs[i] = UnitInterval.Clamp(sum + below[length]);
+            if (i + 1 == xs.Length)
+            {
+                return;
+            }
+
+            // Next index: add one to the lowest digit, carrying.
+            for (int k = 0; ; k++)
+            {
+                // A position that meets every digit (count b) comes back to its first slot.
+                offset[k] = offset[k] + 1 == counts[k] ? 0 : offset[k] + 1;
+                length = Math.Max(length, k + 1);
+                if (++digits[k] < b)
+                {
+                    break;
+                }
+
+                digits[k] = 0;
+            }
         }
     }
 
-    /// <summary>The same value as <see cref="Permuted"/>, digit by digit with no cache: the reference it is tested against.</summary>
-    internal static double PermutedDirect(uint index, int b, ulong key)
-    {
-        if (b == 2)
-        {
-            return Permuted(index, b, key);
-        }
+    // The 64-bit hash whose base-b digits are the positions' images of 0.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static ulong ZeroDigits(ulong key) => SampleHash.Combine(key, TailSalt);
 
-        uint ub = (uint)b;
-        double invBase = 1.0 / b;
-        double weight = invBase;
-        double sum = 0;
-        int digits = DigitsFor(b);
-        for (int k = 0; k < digits; k++)
-        {
-            uint next = index / ub;
-            uint digit = index - next * ub;
-            sum += KenslerPermutation.Permute(digit, ub, (uint)SampleHash.Combine(key, (ulong)k)) * weight;
-            weight *= invBase;
-            index = next;
-        }
+    /// <summary>Bases up to this many draw their whole digit permutation on a table (Fisher–Yates); larger ones draw the first <see cref="DrawnDigits"/> images.</summary>
+    internal const int FullTableBase = 64;
 
-        return UnitInterval.Clamp(sum + ZeroTails.Shared(key) * weight * b);
-    }
+    /// <summary>Digits whose images a base above <see cref="FullTableBase"/> draws one by one; σ maps the rest.</summary>
+    internal const int DrawnDigits = 16;
+
+    // Digit positions of a 32-bit index in the smallest base above FullTableBase (67): the positions that can walk σ.
+    private const int MaxDigitsAboveTable = 6;
 
     /// <summary>
-    /// Per key, tail[len] = Σ_{k=len}^{K−1} π_k(0)·b^−(k+1) plus the shared uniform tail below
-    /// b^−K, summed from the deepest position up. Always computed the same way from the key, so a
-    /// cache hit and a miss give the same bits; against <see cref="PermutedDirect"/>, which adds in
-    /// another order, values agree to rounding (a few 1e-17).
+    /// One digit position's permutation π_k (see <see cref="Permuted"/>), drawn lazily on caller-provided storage: for
+    /// b ≤ <see cref="FullTableBase"/> a table of b values in Fisher–Yates order (images 0 … drawn − 1 final), for
+    /// larger b the images of digits 0 … drawn − 1 (at most <see cref="DrawnDigits"/>).
     /// </summary>
-    private static class ZeroTails
+    private ref struct DigitMap
     {
-        // One slot per base among the first 256 primes (a path's dimensions), so the
-        // dimensions of one pixel never evict each other; bases further out share slots.
-        private const int Slots = 256;
+        private const int Chunk = 16;
+        private static readonly uint[] Identity = Enumerable.Range(0, FullTableBase).Select(i => (uint)i).ToArray();
+        private readonly Span<uint> _values;
+        private readonly Span<uint> _draws;
+        private readonly uint _b;
+        private readonly ulong _positionKey;
+        private int _drawn;
+        private ulong _attempt;
+        private ulong _chunkStart;
+        private ulong _chunkEnd;
 
-        // Base 3 has the most digits of any odd base (21): every slot holds that many plus one.
-        private static readonly int Stride = DigitsFor(3) + 1;
-
-        // Slot of each base: its index among the primes, modulo Slots; and its digit count.
-        private static readonly int[] SlotOfBase = BuildSlots();
-        private static readonly int[] DigitsOfBase = BuildDigits();
-
-        // Flat per-thread tables, filled in place: a miss recomputes a slot without allocating
-        // (one array per miss cost about 111 B per sample when slots thrashed).
-        [ThreadStatic]
-        private static ulong[]? t_keys;
-
-        [ThreadStatic]
-        private static int[]? t_bases;
-
-        [ThreadStatic]
-        private static double[]? t_tails;
-
-        [ThreadStatic]
-        private static uint[]? t_seeds;
-
-        public static double Shared(ulong key) => SampleHash.ToUnit(SampleHash.Combine(key, TailSalt));
-
-        /// <summary>The zero tails of (key, b), and in <paramref name="seeds"/> the permutation seed of each digit position, (uint)Combine(key, k).</summary>
-        public static ReadOnlySpan<double> For(ulong key, int b, out ReadOnlySpan<uint> seeds)
+        /// <summary>Storage: <see cref="StorageLength"/> values, written before they are read.</summary>
+        public DigitMap(uint b, ulong positionKey, uint zero, Span<uint> storage)
         {
-            t_keys ??= new ulong[Slots];
-            t_bases ??= new int[Slots];
-            t_tails ??= new double[Slots * Stride];
-            t_seeds ??= new uint[Slots * Stride];
-            int slot = SlotOfBase[b];
-            int digits = DigitsOfBase[b];
-            Span<double> tail = t_tails.AsSpan(slot * Stride, digits + 1);
-            Span<uint> slotSeeds = t_seeds.AsSpan(slot * Stride, digits);
-            seeds = slotSeeds;
-            if (t_keys[slot] == key && t_bases[slot] == b)
+            _b = b;
+            _positionKey = positionKey;
+            _draws = storage.Slice(FullTableBase, Chunk);
+            _chunkEnd = 0;
+            if (b <= FullTableBase)
             {
-                return tail;
+                _values = storage[..(int)b];
+                Identity.AsSpan(0, (int)b).CopyTo(_values);
+
+                // The first Fisher–Yates step takes z into place 0; the later ones use draws 1, 2, …
+                _values[(int)zero] = 0;
+                _attempt = 1;
+            }
+            else
+            {
+                _values = storage[..DrawnDigits];
             }
 
-            double[]? powers = InversePowers(b);
-            double acc = Shared(key) * (powers is null ? PortableMath.InversePower(b, digits) : powers[digits]);
-            tail[digits] = acc;
-            // Every position's image of 0 at once (eight lanes at a time): the bulk of a (pixel, dimension)'s cost.
-            SampleHash.CombineLow32Run(key, slotSeeds);
-            Span<uint> zeros = stackalloc uint[digits];
-            KenslerPermutation.PermuteZeros((uint)b, slotSeeds, zeros);
-            for (int k = digits - 1; k >= 0; k--)
-            {
-                acc += zeros[k] * (powers is null ? PortableMath.InversePower(b, k + 1) : powers[k + 1]);
-                tail[k] = acc;
-            }
-
-            t_keys[slot] = key;
-            t_bases[slot] = b;
-            return tail;
+            _values[0] = zero;
+            _drawn = 1;
         }
 
-        // PortableMath.InversePower(b, k) for k = 0 … digits of each base among the first Slots primes,
-        // made once: the tail of every (pixel, dimension) needs them all, and each costs a loop of k steps.
-        private static readonly double[][] PowersOfBase = BuildPowers();
+        public const int StorageLength = FullTableBase + Chunk;
 
-        // Null for the bases past the first Slots primes, which compute them as they go.
-        private static double[]? InversePowers(int b) => Primes[SlotOfBase[b]] == b ? PowersOfBase[SlotOfBase[b]] : null;
+        /// <summary>The seed of σ_k: the low 32 bits of the position's key.</summary>
+        public readonly uint Seed => (uint)_positionKey;
 
-        private static double[] Powers(int b, int digits)
+        /// <summary>Whether <paramref name="digit"/>'s image is drawn (rather than mapped by σ).</summary>
+        public readonly bool Drawn(uint digit) => _b <= FullTableBase || digit < DrawnDigits;
+
+        /// <summary>The image of a drawn digit, drawing up to it.</summary>
+        public uint Image(uint digit)
         {
-            var powers = new double[digits + 1];
-            for (int k = 0; k <= digits; k++)
+            while (_drawn <= digit)
             {
-                powers[k] = PortableMath.InversePower(b, k);
+                Draw();
             }
 
-            return powers;
+            return _values[(int)digit];
         }
 
-        private static double[][] BuildPowers()
+        /// <summary>All <see cref="DrawnDigits"/> drawn images, in increasing order, into <paramref name="sorted"/> (large bases).</summary>
+        public void SortedDrawn(Span<uint> sorted)
         {
-            var powers = new double[Slots][];
-            for (int i = 0; i < Slots; i++)
+            Image(DrawnDigits - 1);
+            _values.CopyTo(sorted);
+            sorted.Sort();
+        }
+
+        /// <summary>The <paramref name="rank"/>-th smallest value (from 0) that is not among <paramref name="sorted"/>.</summary>
+        public static uint Remaining(uint rank, ReadOnlySpan<uint> sorted)
+        {
+            uint v = rank;
+            foreach (uint taken in sorted)
             {
-                powers[i] = Powers(Primes[i], DigitsFor(Primes[i]));
+                v += taken <= v ? 1u : 0u;
             }
 
-            return powers;
+            return v;
         }
 
-        private static int[] BuildSlots()
+        private void Draw()
         {
-            ReadOnlySpan<int> primes = Primes;
-            var slots = new int[primes[^1] + 1];
-            for (int i = 0; i < primes.Length; i++)
+            int j = _drawn++;
+            if (_b <= FullTableBase)
             {
-                slots[primes[i]] = i % Slots;
+                // Fisher–Yates: place j takes a uniform one of the b − j values not yet placed (draw j).
+                int r = j + (int)Next();
+                (_values[j], _values[r]) = (_values[r], _values[j]);
+                return;
             }
 
-            return slots;
-        }
-
-        private static int[] BuildDigits()
-        {
-            ReadOnlySpan<int> primes = Primes;
-            var digits = new int[primes[^1] + 1];
-            foreach (int p in primes)
+            // A uniform value, redrawn while it is taken: uniform among those left. The taken ones as one vector (the
+            // places not yet drawn hold b, which no draw equals) where the machine has it.
+            if (Vector512.IsHardwareAccelerated)
             {
-                digits[p] = DigitsFor(p);
+                Span<uint> padded = stackalloc uint[DrawnDigits];
+                padded.Fill(_b);
+                _values[..j].CopyTo(padded);
+                Vector512<uint> taken = Vector512.Create((ReadOnlySpan<uint>)padded);
+                uint w;
+                do
+                {
+                    w = Next();
+                }
+                while (Vector512.EqualsAny(taken, Vector512.Create(w)));
+
+                _values[j] = w;
+                return;
             }
 
-            return digits;
+            uint v;
+            do
+            {
+                v = Next();
+            }
+            while (_values[..j].Contains(v));
+
+            _values[j] = v;
         }
+
+        /// <summary>The images of digits up to <paramref name="digit"/> (a large base's drawn ones) drawn at once: <see cref="Draw"/>'s values, the taken set kept in a register.</summary>
+        public void DrawTo(uint digit)
+        {
+            if (_b <= FullTableBase || !Vector512.IsHardwareAccelerated || _drawn > digit)
+            {
+                Image(digit);
+                return;
+            }
+
+            Span<uint> padded = stackalloc uint[DrawnDigits];
+            padded.Fill(_b);
+            _values[.._drawn].CopyTo(padded);
+            Vector512<uint> taken = Vector512.Create((ReadOnlySpan<uint>)padded);
+            Vector512<uint> lanes = Vector512.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u, 8u, 9u, 10u, 11u, 12u, 13u, 14u, 15u);
+            while (_drawn <= digit)
+            {
+                uint w = Next();
+                if (!Vector512.EqualsAny(taken, Vector512.Create(w)))
+                {
+                    taken = Vector512.ConditionalSelect(Vector512.Equals(lanes, Vector512.Create((uint)_drawn)), Vector512.Create(w), taken);
+                    _values[_drawn++] = w;
+                }
+            }
+        }
+
+        // Draw number _attempt (then the next): ⌊unit(h)·m⌋ with h = Combine(position key, draw number), unit(h) its top
+        // 53 bits scaled by 2^−53, and m = b − draw number on the Fisher–Yates table, b otherwise. Made sixteen at a time.
+        private uint Next()
+        {
+            if (_attempt >= _chunkEnd)
+            {
+                _chunkStart = _attempt;
+                _chunkEnd = _attempt + Chunk;
+                Fill(_positionKey, _b, _b <= FullTableBase, _chunkStart, _draws);
+            }
+
+            return _draws[(int)(_attempt++ - _chunkStart)];
+        }
+
+        private static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws)
+        {
+            int k = 0;
+            if (Vector512.IsHardwareAccelerated)
+            {
+                Vector512<ulong> lane = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL);
+                Vector512<ulong> vb = Vector512.Create((ulong)b);
+                for (; k + 8 <= draws.Length; k += 8)
+                {
+                    Vector512<ulong> n = Vector512.Create(first + (ulong)k) + lane;
+                    Vector512<ulong> m = table ? Vector512.ConditionalSelect(Vector512.LessThan(n, vb), vb - n, Vector512<ulong>.One) : vb;
+                    Vector512<ulong> h = SampleHash.Combine8(positionKey, n);
+                    Vector512<double> x = Vector512.ConvertToDouble(h >>> 11) * Vector512.Create(1.0 / 9007199254740992.0) * Vector512.ConvertToDouble(m);
+                    Vector512<ulong> v = Vector512.Min(Vector512.ConvertToUInt64(Vector512.Floor(x)), m - Vector512<ulong>.One);
+                    Vector512.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 8));
+                }
+            }
+
+            for (; k < draws.Length; k++)
+            {
+                ulong n = first + (ulong)k;
+                ulong m = table ? (n < b ? b - n : 1) : b;
+                double x = (SampleHash.Combine(positionKey, n) >> 11) * (1.0 / 9007199254740992.0) * m;
+                draws[k] = (uint)Math.Min((ulong)Math.Floor(x), m - 1);
+            }
+        }
+    }
+
+    // The fraction u / 2^64 (its top 53 bits, exactly) scaled by b^−length: the permuted zeros above an index of that
+    // many digits and everything below them.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static double Below(ulong u, int b, int length) => (u >> 11) * (1.0 / 9007199254740992.0) * InversePower(b, length);
+
+    // The base-2 form: a permutation of {0, 1} per position is an xor with a random bit, so the digits of all 32
+    // positions (and the 21 bits below them) are one xor with a 64-bit hash.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static double Base2(uint index, ulong shift) => ((((ulong)BitReversal.Reverse(index) << 32) ^ shift) >> 11) * (1.0 / 9007199254740992.0);
+
+    // PortableMath.InversePower(b, k) for k = 0 … digits of each base among the first PowerBases primes, made once;
+    // computed for the others.
+    private const int PowerBases = 256;
+    private static readonly double[][] PowersOfBase = BuildPowers();
+    private static readonly int[] PowerSlot = BuildPowerSlots();
+
+    private static double InversePower(int b, int k)
+    {
+        int slot = PowerSlot[b];
+        return slot >= 0 ? PowersOfBase[slot][k] : PortableMath.InversePower(b, k);
+    }
+
+    private static double[][] BuildPowers()
+    {
+        var powers = new double[PowerBases][];
+        for (int i = 0; i < PowerBases; i++)
+        {
+            int b = PrimeTable[i];
+            powers[i] = new double[DigitsFor(b) + 1];
+            for (int k = 0; k < powers[i].Length; k++)
+            {
+                powers[i][k] = PortableMath.InversePower(b, k);
+            }
+        }
+
+        return powers;
+    }
+
+    private static int[] BuildPowerSlots()
+    {
+        var slots = new int[PrimeTable[^1] + 1];
+        Array.Fill(slots, -1);
+        for (int i = 0; i < PowerBases; i++)
+        {
+            slots[PrimeTable[i]] = i;
+        }
+
+        return slots;
     }
 
     /// <summary>The number of base-<paramref name="b"/> digits of the largest 32-bit index: ⌈32 / log₂ b⌉.</summary>

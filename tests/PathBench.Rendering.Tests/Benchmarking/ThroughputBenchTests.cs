@@ -50,4 +50,14 @@ public sealed class ThroughputBenchTests
         Assert.Equal(10 / 5.5, 2 * use.Busy * (use.CpuOne / use.WallOne) / use.CpuRatio, 12);
         Assert.True(double.IsNaN(ThreadUse.Unmeasured.CpuRatio));
     }
+
+    [Fact]
+    public void Sampler_shares_of_a_selection_are_those_only_in_its_order()
+    {
+        // `pathbench bench --share-of`: the named combinations and nothing else (tiny sizes, as above).
+        (string, string)[] chosen = [("halton", "digit-permutation"), ("random", "none")];
+        BenchReport report = ThroughputBench.Run("furnished-room", 1, new BenchSizes(8, 6, 1, 8, 4, 1), chosen);
+        Assert.Equal(chosen, report.SamplerShares.Select(s => (s.Generator, s.Randomize)).ToArray());
+        Assert.Empty(ThroughputBench.Run("furnished-room", 1, new BenchSizes(8, 6, 1, 8, 4, 1), Array.Empty<(string, string)>()).SamplerShares);
+    }
 }

@@ -201,24 +201,3 @@ public sealed class DigitPermutationStratificationTests
         }
     }
 }
-
-public sealed class PermutedRadicalInverseCacheTests
-{
-    [Fact]
-    public void Cached_zero_tails_give_the_digit_by_digit_values()
-    {
-        // The cache is a speed-up only; the reference permutes every digit position in turn.
-        foreach (int b in new[] { 3, 5, 7, 31, 8161 })
-        {
-            for (ulong key = 1; key < 40; key++)
-            {
-                foreach (uint i in new uint[] { 0, 1, 2, 7, 100, 4095, 123456, uint.MaxValue })
-                {
-                    double cached = PathBench.Sampling.Sequences.RadicalInverse.Permuted(i, b, key * 0x9E3779B97F4A7C15UL);
-                    double direct = PathBench.Sampling.Sequences.RadicalInverse.PermutedDirect(i, b, key * 0x9E3779B97F4A7C15UL);
-                    Assert.True(Math.Abs(cached - direct) <= 4e-16, $"b={b}, key={key}, i={i}: {cached} vs {direct}");
-                }
-            }
-        }
-    }
-}

@@ -35,29 +35,44 @@ public sealed class KenslerPermutationTests
     }
 
     [Fact]
-    public void Vector_images_of_zero_equal_the_scalar_permutation()
+    public void Vector_lanes_of_their_own_seeds_equal_the_scalar_permutation()
     {
-        // PermuteZeros (sixteen lanes as two Vector256 walked together, a padded group of eight, scalar tail) against
-        // Permute one seed at a time, for 1 to 37 seeds:
-        // lengths with long cycle walks (just above a power of two), primes and powers of two; seeds from a fixed hash.
+        // PermuteEach (sixteen lanes as two Vector256 walked together, a group of eight, scalar tail) against
+        // Permute one lane at a time, for 1 to 37 lanes, each with its own input and seed: lengths with long cycle walks
+        // (just above a power of two), primes and powers of two; inputs and seeds from a fixed hash. The reference is the
+        // scalar listing (Kensler 2013, "Correlated Multi-Jittered Sampling").
         foreach (uint l in new uint[] { 2, 3, 5, 17, 33, 65, 127, 257, 383, 1024, 7919, 65537, 0x80000001u, 0xfffffffbu })
         {
             var seeds = new uint[37];
+            var inputs = new uint[37];
             for (int k = 0; k < seeds.Length; k++)
             {
-                seeds[k] = (uint)SampleHash.Combine(l, (ulong)k);
+                ulong h = SampleHash.Combine(l, (ulong)k);
+                seeds[k] = (uint)h;
+                inputs[k] = k % 3 == 0 ? 0 : (uint)((h >> 32) % l);
             }
 
             for (int n = 1; n <= seeds.Length; n++)
             {
                 var images = new uint[n];
-                KenslerPermutation.PermuteZeros(l, seeds.AsSpan(0, n), images);
+                KenslerPermutation.PermuteEach(l, inputs.AsSpan(0, n), seeds.AsSpan(0, n), images);
                 for (int k = 0; k < n; k++)
                 {
-                    Assert.Equal(KenslerPermutation.Permute(0, l, seeds[k]), images[k]);
+                    Assert.Equal(KenslerPermutation.Permute(inputs[k], l, seeds[k]), images[k]);
                 }
             }
         }
+    }
+
+    [Fact]
+    public void Lanes_out_of_range_are_refused_as_the_scalar_form_refuses_them()
+    {
+        // From an input at or above l the cycle walk need not end: the lane forms must throw like Permute, not loop.
+        var images = new uint[16];
+        var seeds = new uint[16];
+        var inputs = new uint[16];
+        inputs[11] = 17;
+        Assert.Throws<ArgumentOutOfRangeException>(() => KenslerPermutation.PermuteEach(17, inputs, seeds, images));
     }
 
     [Fact]

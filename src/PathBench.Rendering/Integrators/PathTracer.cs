@@ -133,6 +133,9 @@ public sealed class PathTracer
     // Whether the light choice can change which light is sampled: not with one area light and no environment.
     private readonly bool _lightChoiceMatters;
 
+    // One area light and no environment: sampled without the choice (LightSet.SampleOnlyLight).
+    private readonly bool _onlyOneLight;
+
     /// <summary>A tracer of <paramref name="scene"/> with <paramref name="options"/>; immutable, so threads share it.</summary>
     public PathTracer(Scene scene, PathTracerOptions options)
     {
@@ -150,6 +153,7 @@ public sealed class PathTracer
         _roulette = options.RussianRoulette;
         _sampleLights = options.Lights != LightStrategy.Bsdf && !_lights.IsEmpty;
         _lightChoiceMatters = _lights.AreaLightCount != 1 || _lights.EnvironmentProbability != 0;
+        _onlyOneLight = _lights.HasOnlyOneLight;
     }
 
     /// <summary>Radiance along the camera ray of one sample; <paramref name="rays"/> counts every ray traced.</summary>
@@ -162,6 +166,8 @@ public sealed class PathTracer
         bool afterDelta = true; // camera rays see emission directly, like rays leaving a delta bounce
         double previousPdf = 0;
         Vec3d previousPoint = ray.Origin;
+        // Set in place at each vertex: one struct for the whole path, not a new one copied in per vertex.
+        Vertex vertex = default;
         for (int depth = 0; ; depth++)
         {
             rays++;
@@ -187,7 +193,7 @@ public sealed class PathTracer
                 break;
             }
 
-            var vertex = new Vertex(this, m, hit, wo);
+            vertex.Set(this, m, hit, wo);
             int v = DimensionLayout.Vertex(depth);
             if (_sampleLights && !m.IsDelta)
             {
@@ -199,13 +205,11 @@ public sealed class PathTracer
             (double u1, double u2) = stream.Get2D(v + DimensionLayout.Direction);
             // Only the dielectric chooses between lobes.
             double lobe = m.Kind == MaterialKind.Dielectric ? stream.Get(v + DimensionLayout.Lobe) : 0;
-            if (!Scatter(ref vertex, u1, u2, lobe, ref beta, ref ray))
+            if (!Scatter(vertex, u1, u2, lobe, ref beta, ref ray, out afterDelta, out previousPdf))
             {
                 break;
             }
 
-            afterDelta = vertex.Sampled.IsDelta;
-            previousPdf = vertex.Sampled.Pdf;
             previousPoint = hit.Point;
             if (_roulette && depth >= 3 && !SurvivesRoulette(ref beta, stream, v))
             {
@@ -217,34 +221,34 @@ public sealed class PathTracer
     }
 
     /// <summary>What one path vertex needs for light sampling and scattering, computed once.</summary>
+    /// <remarks>
+    /// Mutable and set in place (<see cref="Set"/>): built by a constructor, the JIT made it in a
+    /// temporary and copied all of it (rep movsq) at every vertex.
+    /// </remarks>
     private struct Vertex
     {
-        public readonly Material Material;
-        public readonly Vec3d Point;
-        public readonly Vec3d GeometricNormal;
-        public readonly Vec3d Wo;
-        public readonly ShadingFrame Frame;
-        public readonly Vec3d WoLocal;
-        public readonly Rgb Albedo;
+        public Material Material;
+        public Vec3d Point;
+        public Vec3d GeometricNormal;
+        public ShadingFrame Frame;
+        public Vec3d WoLocal;
+        public Rgb Albedo;
 
         // n_g · wo: the sign tells which side of the surface the path arrived from.
-        public readonly double CosWo;
-        public BsdfSample Sampled;
+        public double CosWo;
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public Vertex(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
+        public void Set(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
         {
             Material = m;
             Point = hit.Point;
             GeometricNormal = hit.GeometricNormal;
-            Wo = wo;
             // A dielectric tells entering from leaving by its normal: the geometric one, since an
             // interpolated normal can put the viewer on the wrong side near silhouettes.
             Frame = new ShadingFrame(m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : tracer.ShadingNormal(hit));
             WoLocal = Frame.ToLocal(wo);
             Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
             CosWo = Vec3d.Dot(hit.GeometricNormal, wo);
-            Sampled = default;
         }
     }
 
@@ -267,7 +271,7 @@ public sealed class PathTracer
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void AddDirectLight(ref Rgb l, ref long rays, Rgb beta, in Vertex vertex, double choice, double lu, double lv)
     {
-        LightSample ls = _lights.Sample(vertex.Point, choice, lu, lv);
+        LightSample ls = _onlyOneLight ? _lights.SampleOnlyLight(vertex.Point, lu, lv) : _lights.Sample(vertex.Point, choice, lu, lv);
         if (!(ls.Pdf > 0) || ls.Radiance.IsBlack
             // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
             || !(Vec3d.Dot(vertex.GeometricNormal, ls.Direction) * vertex.CosWo > 0))
@@ -294,10 +298,15 @@ public sealed class PathTracer
         }
     }
 
-    /// <summary>Samples the BSDF at a vertex; on success multiplies the throughput and sets the next ray, else the path ends.</summary>
+    /// <summary>
+    /// Samples the BSDF at a vertex; on success multiplies the throughput, sets the next ray and
+    /// gives whether the sample was a delta and its pdf, else the path ends.
+    /// </summary>
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private bool Scatter(ref Vertex vertex, double u1, double u2, double lobe, ref Rgb beta, ref Ray ray)
+    private bool Scatter(in Vertex vertex, double u1, double u2, double lobe, ref Rgb beta, ref Ray ray, out bool delta, out double pdf)
     {
+        Unsafe.SkipInit(out delta);
+        Unsafe.SkipInit(out pdf);
         BsdfSample bs = Bsdf.Sample(vertex.Material, vertex.Albedo, vertex.WoLocal, u1, u2, lobe, _hemisphere);
         if (bs.Weight.IsBlack)
         {
@@ -314,7 +323,8 @@ public sealed class PathTracer
         }
 
         beta *= bs.Weight;
-        vertex.Sampled = bs;
+        delta = bs.IsDelta;
+        pdf = bs.Pdf;
         ray = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, wi), wi, double.PositiveInfinity);
         return true;
     }

@@ -168,6 +168,7 @@ public sealed class PathTracer
         Vec3d previousPoint = ray.Origin;
         // Set in place at each vertex: one struct for the whole path, not a new one copied in per vertex.
         Vertex vertex = default;
+        DirectLight direct = default;
         for (int depth = 0; ; depth++)
         {
             rays++;
@@ -195,17 +196,30 @@ public sealed class PathTracer
 
             vertex.Set(this, m, hit, wo);
             int v = DimensionLayout.Vertex(depth);
+            bool lightTest = false;
             if (_sampleLights && !m.IsDelta)
             {
                 (double lu, double lv) = stream.Get2D(v + DimensionLayout.LightPosition);
                 double choice = _lightChoiceMatters ? stream.Get(v + DimensionLayout.LightChoice) : 0;
-                AddDirectLight(ref l, ref rays, beta, vertex, choice, lu, lv);
+                lightTest = SampleDirectLight(beta, vertex, choice, lu, lv, out direct);
             }
 
+            // The next direction is sampled before the shadow ray is traced: the two computations
+            // are independent, and done one after the other with nothing between them the processor
+            // overlaps their arithmetic (light sample, concentric map, sine) instead of waiting out
+            // each chain of divisions and roots in turn. The estimate is the same: the light's
+            // contribution was computed with the throughput before this scattering.
             (double u1, double u2) = stream.Get2D(v + DimensionLayout.Direction);
             // Only the dielectric chooses between lobes.
             double lobe = m.Kind == MaterialKind.Dielectric ? stream.Get(v + DimensionLayout.Lobe) : 0;
-            if (!Scatter(vertex, u1, u2, lobe, ref beta, ref ray, out afterDelta, out previousPdf))
+            bool scattered = Scatter(vertex, u1, u2, lobe, ref beta, ref ray, out afterDelta, out previousPdf);
+            if (lightTest)
+            {
+                rays++;
+                AddIfVisible(ref l, direct);
+            }
+
+            if (!scattered)
             {
                 break;
             }
@@ -266,35 +280,55 @@ public sealed class PathTracer
         }
     }
 
-    /// <summary>Next-event estimation at a vertex: one light sample and its shadow ray.</summary>
+    /// <summary>A light sample's shadow ray and what it adds to the estimate when nothing blocks it.</summary>
+    private struct DirectLight
+    {
+        public Ray Shadow;
+        public double TMax;
+        public Rgb Contribution;
+    }
+
+    /// <summary>
+    /// Next-event estimation at a vertex, up to its shadow ray: one light sample, and when it can
+    /// contribute (true), the shadow ray to test and the contribution (throughput
+    /// <paramref name="beta"/> times f·L·|cos|·w/pdf) to add if the ray is unblocked.
+    /// </summary>
     /// <remarks>Not inlined: the loop stays small enough that the JIT inlines the arithmetic in both.</remarks>
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void AddDirectLight(ref Rgb l, ref long rays, Rgb beta, in Vertex vertex, double choice, double lu, double lv)
+    private bool SampleDirectLight(Rgb beta, in Vertex vertex, double choice, double lu, double lv, out DirectLight direct)
     {
+        Unsafe.SkipInit(out direct);
         LightSample ls = _onlyOneLight ? _lights.SampleOnlyLight(vertex.Point, lu, lv) : _lights.Sample(vertex.Point, choice, lu, lv);
         if (!(ls.Pdf > 0) || ls.Radiance.IsBlack
             // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
             || !(Vec3d.Dot(vertex.GeometricNormal, ls.Direction) * vertex.CosWo > 0))
         {
-            return;
+            return false;
         }
 
         Vec3d wiLocal = vertex.Frame.ToLocal(ls.Direction);
         (Rgb f, double bsdfPdf) = Bsdf.Evaluate(vertex.Material, vertex.Albedo, vertex.WoLocal, wiLocal, _hemisphere);
         if (f.IsBlack)
         {
-            return;
+            return false;
         }
 
-        rays++;
-        var shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
-        double tMax = double.IsPositiveInfinity(ls.Distance)
+        direct.Shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
+        direct.TMax = double.IsPositiveInfinity(ls.Distance)
             ? double.PositiveInfinity
             : RayOffset.ShadowLimit(vertex.Point, vertex.Point + ls.Direction * ls.Distance, ls.Distance);
-        if (!_bvh.Occluded(shadow, tMax))
+        double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
+        direct.Contribution = beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
+        return true;
+    }
+
+    /// <summary>Adds a light sample's contribution when its shadow ray reaches the light.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void AddIfVisible(ref Rgb l, in DirectLight direct)
+    {
+        if (!_bvh.Occluded(direct.Shadow, direct.TMax))
         {
-            double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
-            l += beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
+            l += direct.Contribution;
         }
     }
 

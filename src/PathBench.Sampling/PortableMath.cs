@@ -58,7 +58,54 @@ public static class PortableMath
         }
 
         double k = Math.Round(x * TwoOverPi, MidpointRounding.ToEven);
-        double r = ((x - (k * P1)) - (k * P2)) - (k * P3);
+        (double s, double c) = Kernel(((x - (k * P1)) - (k * P2)) - (k * P3));
+
+        // The quadrant: k mod 4, taken on the double so arguments past 2^63 stay defined.
+        double q = k - (4.0 * Math.Floor(k * 0.25));
+        return q switch
+        {
+            0.0 => (s, c),
+            1.0 => (c, -s),
+            2.0 => (-s, -c),
+            _ => (-c, s),
+        };
+    }
+
+    /// <summary>
+    /// <see cref="SinCos"/> of an <paramref name="x"/> the caller knows to lie in [−fl(π/4), fl(π/4)]:
+    /// the same bits, without the reduction. There x·fl(2/π) rounds to at most 0.5 in magnitude, so
+    /// <see cref="SinCos"/> takes k = ±0, whose reduced argument is x itself (x − (±0) is x, except
+    /// −0 − (−0) = +0, and the kernel gives (+0, 1) for both zeros) and whose quadrant is 0.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static (double Sin, double Cos) SinCosQuarter(double x)
+    {
+        System.Diagnostics.Debug.Assert(Math.Abs(x) <= Math.PI / 4, "SinCosQuarter needs |x| <= fl(pi/4)");
+        return Kernel(x);
+    }
+
+    /// <summary>
+    /// <see cref="SinCos"/> for an <paramref name="x"/> expected in [π/4, 3π/4] (the same bits for
+    /// any x): where x·fl(2/π) lies strictly between 0.5 and 1.5, k is 1, so k·P1, k·P2 and k·P3 are
+    /// the constants themselves and the quadrant is 1; elsewhere (and for NaN) the general path.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static (double Sin, double Cos) SinCosNearHalfPi(double x)
+    {
+        double t = x * TwoOverPi;
+        if (t > 0.5 && t < 1.5)
+        {
+            (double s, double c) = Kernel(((x - P1) - P2) - P3);
+            return (c, -s);
+        }
+
+        return SinCos(x);
+    }
+
+    // The Taylor polynomials on the reduced argument r, |r| ≤ π/4 (see the type's remarks).
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (double Sin, double Cos) Kernel(double r)
+    {
         double z = r * r;
         // Horner's rule in z = r², innermost (smallest) term first; the leading r and 1 − z/2 added last.
         double ps = -F15 + (z * F17);
@@ -77,16 +124,7 @@ public static class PortableMath
         pc = -F6 + (z * pc);
         pc = F4 + (z * pc);
         double c = (1.0 - (0.5 * z)) + (z * z * pc);
-
-        // The quadrant: k mod 4, taken on the double so arguments past 2^63 stay defined.
-        double q = k - (4.0 * Math.Floor(k * 0.25));
-        return q switch
-        {
-            0.0 => (s, c),
-            1.0 => (c, -s),
-            2.0 => (-s, -c),
-            _ => (-c, s),
-        };
+        return (s, c);
     }
 
     /// <summary>Sine of <paramref name="x"/> radians.</summary>

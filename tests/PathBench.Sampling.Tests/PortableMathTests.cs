@@ -78,6 +78,43 @@ public sealed class PortableMathTests
         Assert.Equal(PortableMath.Cos(0.7), PortableMath.Cos(-0.7));
     }
 
+    /// <summary>
+    /// The shortcuts for arguments near 0 and near π/2 give <see cref="PortableMath.SinCos"/>'s bits
+    /// (which the tests above check against published values and the platform's library): 100 000
+    /// seeded arguments in each range, the ends of the ranges (±fl(π/4), fl(π/4) and fl(3π/4) where
+    /// the general path's quotient rounds to 0.5 and 1.5), both zeros, and outside the range (where
+    /// the near-π/2 form must fall back to the general path). The arguments are the concentric map's
+    /// (Shirley &amp; Chiu 1997), its only callers, and arbitrary ones.
+    /// </summary>
+    [Fact]
+    public void Range_shortcuts_give_the_general_bits()
+    {
+        var random = new Random(17);
+        var quarter = new List<double> { 0.0, -0.0, Math.PI / 4, -Math.PI / 4, Math.BitDecrement(Math.PI / 4), 1e-300, -5e-324 };
+        var half = new List<double> { Math.PI / 4, Math.PI / 2, 3 * Math.PI / 4, Math.BitIncrement(Math.PI / 4), Math.BitDecrement(3 * Math.PI / 4), 0.0, 3.0, -1.0, 1e6 };
+        for (int i = 0; i < 100_000; i++)
+        {
+            double q = (2 * random.NextDouble()) - 1;
+            quarter.Add(Math.PI / 4 * q);
+            half.Add(Math.PI / 2 - (Math.PI / 4 * q));
+            quarter.Add((random.NextDouble() - 0.5) * (Math.PI / 2));
+        }
+
+        foreach (double x in quarter)
+        {
+            Assert.True(SameBits(PortableMath.SinCos(x), PortableMath.SinCosQuarter(x)), $"near 0: {x:R}");
+        }
+
+        foreach (double x in half)
+        {
+            Assert.True(SameBits(PortableMath.SinCos(x), PortableMath.SinCosNearHalfPi(x)), $"near π/2: {x:R}");
+        }
+    }
+
+    private static bool SameBits((double Sin, double Cos) a, (double Sin, double Cos) b) =>
+        BitConverter.DoubleToInt64Bits(a.Sin) == BitConverter.DoubleToInt64Bits(b.Sin)
+        && BitConverter.DoubleToInt64Bits(a.Cos) == BitConverter.DoubleToInt64Bits(b.Cos);
+
     /// <summary>b^−k is the correctly rounded 1 / b^k while b^k is exact (IEEE-754 division rounds correctly), and within 2 ulp of the platform's pow beyond.</summary>
     [Theory]
     [InlineData(2)]

@@ -133,6 +133,9 @@ public sealed class PathTracer
     // Whether the light choice can change which light is sampled: not with one area light and no environment.
     private readonly bool _lightChoiceMatters;
 
+    // One area light and no environment: sampled without the choice (LightSet.SampleOnlyLight).
+    private readonly bool _onlyOneLight;
+
     /// <summary>A tracer of <paramref name="scene"/> with <paramref name="options"/>; immutable, so threads share it.</summary>
     public PathTracer(Scene scene, PathTracerOptions options)
     {
@@ -150,6 +153,7 @@ public sealed class PathTracer
         _roulette = options.RussianRoulette;
         _sampleLights = options.Lights != LightStrategy.Bsdf && !_lights.IsEmpty;
         _lightChoiceMatters = _lights.AreaLightCount != 1 || _lights.EnvironmentProbability != 0;
+        _onlyOneLight = _lights.HasOnlyOneLight;
     }
 
     /// <summary>Radiance along the camera ray of one sample; <paramref name="rays"/> counts every ray traced.</summary>
@@ -162,6 +166,9 @@ public sealed class PathTracer
         bool afterDelta = true; // camera rays see emission directly, like rays leaving a delta bounce
         double previousPdf = 0;
         Vec3d previousPoint = ray.Origin;
+        // Set in place at each vertex: one struct for the whole path, not a new one copied in per vertex.
+        Vertex vertex = default;
+        DirectLight direct = default;
         for (int depth = 0; ; depth++)
         {
             rays++;
@@ -187,25 +194,36 @@ public sealed class PathTracer
                 break;
             }
 
-            var vertex = new Vertex(this, m, hit, wo);
+            vertex.Set(this, m, hit, wo);
             int v = DimensionLayout.Vertex(depth);
+            bool lightTest = false;
             if (_sampleLights && !m.IsDelta)
             {
                 (double lu, double lv) = stream.Get2D(v + DimensionLayout.LightPosition);
                 double choice = _lightChoiceMatters ? stream.Get(v + DimensionLayout.LightChoice) : 0;
-                AddDirectLight(ref l, ref rays, beta, vertex, choice, lu, lv);
+                lightTest = SampleDirectLight(beta, vertex, choice, lu, lv, out direct);
             }
 
+            // The next direction is sampled before the shadow ray is traced: the two computations
+            // are independent, and done one after the other with nothing between them the processor
+            // overlaps their arithmetic (light sample, concentric map, sine) instead of waiting out
+            // each chain of divisions and roots in turn. The estimate is the same: the light's
+            // contribution was computed with the throughput before this scattering.
             (double u1, double u2) = stream.Get2D(v + DimensionLayout.Direction);
             // Only the dielectric chooses between lobes.
             double lobe = m.Kind == MaterialKind.Dielectric ? stream.Get(v + DimensionLayout.Lobe) : 0;
-            if (!Scatter(ref vertex, u1, u2, lobe, ref beta, ref ray))
+            bool scattered = Scatter(vertex, u1, u2, lobe, ref beta, ref ray, out afterDelta, out previousPdf);
+            if (lightTest)
+            {
+                rays++;
+                AddIfVisible(ref l, direct);
+            }
+
+            if (!scattered)
             {
                 break;
             }
 
-            afterDelta = vertex.Sampled.IsDelta;
-            previousPdf = vertex.Sampled.Pdf;
             previousPoint = hit.Point;
             if (_roulette && depth >= 3 && !SurvivesRoulette(ref beta, stream, v))
             {
@@ -217,34 +235,34 @@ public sealed class PathTracer
     }
 
     /// <summary>What one path vertex needs for light sampling and scattering, computed once.</summary>
+    /// <remarks>
+    /// Mutable and set in place (<see cref="Set"/>): built by a constructor, the JIT made it in a
+    /// temporary and copied all of it (rep movsq) at every vertex.
+    /// </remarks>
     private struct Vertex
     {
-        public readonly Material Material;
-        public readonly Vec3d Point;
-        public readonly Vec3d GeometricNormal;
-        public readonly Vec3d Wo;
-        public readonly ShadingFrame Frame;
-        public readonly Vec3d WoLocal;
-        public readonly Rgb Albedo;
+        public Material Material;
+        public Vec3d Point;
+        public Vec3d GeometricNormal;
+        public ShadingFrame Frame;
+        public Vec3d WoLocal;
+        public Rgb Albedo;
 
         // n_g · wo: the sign tells which side of the surface the path arrived from.
-        public readonly double CosWo;
-        public BsdfSample Sampled;
+        public double CosWo;
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public Vertex(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
+        public void Set(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
         {
             Material = m;
             Point = hit.Point;
             GeometricNormal = hit.GeometricNormal;
-            Wo = wo;
             // A dielectric tells entering from leaving by its normal: the geometric one, since an
             // interpolated normal can put the viewer on the wrong side near silhouettes.
             Frame = new ShadingFrame(m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : tracer.ShadingNormal(hit));
             WoLocal = Frame.ToLocal(wo);
             Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
             CosWo = Vec3d.Dot(hit.GeometricNormal, wo);
-            Sampled = default;
         }
     }
 
@@ -262,42 +280,67 @@ public sealed class PathTracer
         }
     }
 
-    /// <summary>Next-event estimation at a vertex: one light sample and its shadow ray.</summary>
+    /// <summary>A light sample's shadow ray and what it adds to the estimate when nothing blocks it.</summary>
+    private struct DirectLight
+    {
+        public Ray Shadow;
+        public double TMax;
+        public Rgb Contribution;
+    }
+
+    /// <summary>
+    /// Next-event estimation at a vertex, up to its shadow ray: one light sample, and when it can
+    /// contribute (true), the shadow ray to test and the contribution (throughput
+    /// <paramref name="beta"/> times f·L·|cos|·w/pdf) to add if the ray is unblocked.
+    /// </summary>
     /// <remarks>Not inlined: the loop stays small enough that the JIT inlines the arithmetic in both.</remarks>
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void AddDirectLight(ref Rgb l, ref long rays, Rgb beta, in Vertex vertex, double choice, double lu, double lv)
+    private bool SampleDirectLight(Rgb beta, in Vertex vertex, double choice, double lu, double lv, out DirectLight direct)
     {
-        LightSample ls = _lights.Sample(vertex.Point, choice, lu, lv);
+        Unsafe.SkipInit(out direct);
+        LightSample ls = _onlyOneLight ? _lights.SampleOnlyLight(vertex.Point, lu, lv) : _lights.Sample(vertex.Point, choice, lu, lv);
         if (!(ls.Pdf > 0) || ls.Radiance.IsBlack
             // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
             || !(Vec3d.Dot(vertex.GeometricNormal, ls.Direction) * vertex.CosWo > 0))
         {
-            return;
+            return false;
         }
 
         Vec3d wiLocal = vertex.Frame.ToLocal(ls.Direction);
         (Rgb f, double bsdfPdf) = Bsdf.Evaluate(vertex.Material, vertex.Albedo, vertex.WoLocal, wiLocal, _hemisphere);
         if (f.IsBlack)
         {
-            return;
+            return false;
         }
 
-        rays++;
-        var shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
-        double tMax = double.IsPositiveInfinity(ls.Distance)
+        direct.Shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
+        direct.TMax = double.IsPositiveInfinity(ls.Distance)
             ? double.PositiveInfinity
             : RayOffset.ShadowLimit(vertex.Point, vertex.Point + ls.Direction * ls.Distance, ls.Distance);
-        if (!_bvh.Occluded(shadow, tMax))
+        double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
+        direct.Contribution = beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
+        return true;
+    }
+
+    /// <summary>Adds a light sample's contribution when its shadow ray reaches the light.</summary>
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void AddIfVisible(ref Rgb l, in DirectLight direct)
+    {
+        if (!_bvh.Occluded(direct.Shadow, direct.TMax))
         {
-            double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
-            l += beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
+            l += direct.Contribution;
         }
     }
 
-    /// <summary>Samples the BSDF at a vertex; on success multiplies the throughput and sets the next ray, else the path ends.</summary>
+    /// <summary>
+    /// Samples the BSDF at a vertex; on success multiplies the throughput, sets the next ray and
+    /// gives whether the sample was a delta and its pdf, else the path ends.
+    /// </summary>
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private bool Scatter(ref Vertex vertex, double u1, double u2, double lobe, ref Rgb beta, ref Ray ray)
+    private bool Scatter(in Vertex vertex, double u1, double u2, double lobe, ref Rgb beta, ref Ray ray, out bool delta, out double pdf)
     {
+        Unsafe.SkipInit(out delta);
+        Unsafe.SkipInit(out pdf);
         BsdfSample bs = Bsdf.Sample(vertex.Material, vertex.Albedo, vertex.WoLocal, u1, u2, lobe, _hemisphere);
         if (bs.Weight.IsBlack)
         {
@@ -314,7 +357,8 @@ public sealed class PathTracer
         }
 
         beta *= bs.Weight;
-        vertex.Sampled = bs;
+        delta = bs.IsDelta;
+        pdf = bs.Pdf;
         ray = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, wi), wi, double.PositiveInfinity);
         return true;
     }

@@ -66,20 +66,18 @@ public static class Warp
             return (0.0, 0.0);
         }
 
-        double r, phi;
+        // φ lies within π/4 of 0 in the first case and of π/2 in the second: PortableMath's
+        // shortcuts for those ranges skip the general reduction and give SinCos's bits.
         if (Math.Abs(a) > Math.Abs(b))
         {
-            r = a;
-            phi = Math.PI / 4 * (b / a);
+            (double s, double c) = PortableMath.SinCosQuarter(Math.PI / 4 * (b / a));
+            return (a * c, a * s);
         }
         else
         {
-            r = b;
-            phi = Math.PI / 2 - Math.PI / 4 * (a / b);
+            (double s, double c) = PortableMath.SinCosNearHalfPi(Math.PI / 2 - Math.PI / 4 * (a / b));
+            return (b * c, b * s);
         }
-
-        (double s, double c) = PortableMath.SinCos(phi);
-        return (r * c, r * s);
     }
 
     /// <summary>The density of <see cref="ConcentricDisk"/> per unit area: 1 / π inside the disk.</summary>

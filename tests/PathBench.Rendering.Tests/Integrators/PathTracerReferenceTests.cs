@@ -11,8 +11,9 @@ namespace PathBench.Rendering.Tests.Integrators;
 /// from (issue 12): the same arithmetic, so every sample's radiance must have the same bits and every
 /// path the same ray count, for every light strategy and hemisphere strategy, on scenes that reach each
 /// branch: the demo scenes (quad, sphere and environment lights, checker albedo, GGX, the smooth
-/// dielectric, mesh shading normals), the box of <see cref="DeterminismTests"/>, and the box with a
-/// second lamp (a light choice among several area lights).
+/// dielectric, mesh shading normals), the box of <see cref="DeterminismTests"/>, the box with a
+/// second lamp (a light choice among several area lights), and the box with its lamp a disk or a
+/// triangle and no environment (a single light of those shapes).
 /// </summary>
 public sealed class PathTracerReferenceTests
 {
@@ -20,7 +21,7 @@ public sealed class PathTracerReferenceTests
     {
         get
         {
-            var data = new TheoryData<string> { "box", "two-lamp box" };
+            var data = new TheoryData<string> { "box", "two-lamp box", "disk-lamp box", "triangle-lamp box" };
             foreach (string file in Directory.GetFiles(RepositoryPaths.Scenes, "*.yaml").Where(f => !f.Contains(".study.", StringComparison.Ordinal) && !f.Contains(".batch.", StringComparison.Ordinal)).Order(StringComparer.Ordinal))
             {
                 data.Add(Path.GetFileName(file));
@@ -42,6 +43,19 @@ public sealed class PathTracerReferenceTests
             Scene box = DeterminismTests.Box();
             Primitive[] prims = [.. box.Bvh.Primitives.ToArray(), Primitive.Sphere(new(-0.5, 1.2, -0.4), 0.1, 1)];
             return Scene.Build(prims, box.Materials.ToArray(), [], box.Camera, box.Environment);
+        }
+
+        if (name is "disk-lamp box" or "triangle-lamp box")
+        {
+            // The box's lamp as a downward disk or triangle, and no environment: one light of each
+            // shape the demo scenes lack, sampled without the light choice (LightSet.SampleOnlyLight).
+            Scene box = DeterminismTests.Box();
+            Primitive[] prims = box.Bvh.Primitives.ToArray();
+            int lamp = Array.FindIndex(prims, p => p.Material == 1);
+            prims[lamp] = name == "disk-lamp box"
+                ? Primitive.Disk(new(0, 1.99, 0), new(0, -1, 0), 0.3, 1)
+                : Primitive.Triangle(new(-0.3, 1.99, -0.3), new(0.3, 1.99, -0.3), new(0, 1.99, 0.3), 1, -1);
+            return Scene.Build(prims, box.Materials.ToArray(), [], box.Camera, Rgb.Black);
         }
 
         return Scene.Build(SceneLoader.Load(Path.Combine(RepositoryPaths.Scenes, name)));

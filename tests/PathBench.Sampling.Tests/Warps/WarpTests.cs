@@ -58,6 +58,42 @@ public sealed class WarpTests
         }
     }
 
+    /// <summary>
+    /// The concentric map (Shirley &amp; Chiu 1997, eq. for the four wedges: r = a, φ = (π/4)(b/a) when
+    /// |a| &gt; |b|, else r = b, φ = π/2 − (π/4)(a/b)) gives the bits of that formula evaluated with
+    /// the general <see cref="PortableMath.SinCos"/>, which is what it computed before its range
+    /// shortcuts: 200 000 seeded points, the diagonals |a| = |b| and the centre lines.
+    /// </summary>
+    [Fact]
+    public void Concentric_map_keeps_the_general_sine_bits()
+    {
+        var random = new Random(23);
+        var points = new List<(double U, double V)> { (0.5, 0.5), (0.5, 0.0), (0.0, 0.5), (0.0, 0.0), (0.25, 0.75), (0.75, 0.75), (0.1, 0.9) };
+        for (int i = 0; i < 200_000; i++)
+        {
+            double u = random.NextDouble();
+            points.Add((u, random.NextDouble()));
+            points.Add((u, i % 2 == 0 ? u : 1 - u));
+        }
+
+        foreach ((double u, double v) in points)
+        {
+            double a = (2.0 * u) - 1.0, b = (2.0 * v) - 1.0;
+            (double X, double Y) expected = (0.0, 0.0);
+            if (a != 0.0 || b != 0.0)
+            {
+                bool first = Math.Abs(a) > Math.Abs(b);
+                double r = first ? a : b;
+                (double s, double c) = PortableMath.SinCos(first ? Math.PI / 4 * (b / a) : Math.PI / 2 - (Math.PI / 4 * (a / b)));
+                expected = (r * c, r * s);
+            }
+
+            (double x, double y) = Warp.ConcentricDisk(u, v);
+            Assert.True(BitConverter.DoubleToInt64Bits(x) == BitConverter.DoubleToInt64Bits(expected.X)
+                && BitConverter.DoubleToInt64Bits(y) == BitConverter.DoubleToInt64Bits(expected.Y), $"({u:R}, {v:R})");
+        }
+    }
+
     [Fact]
     public void Pooling_follows_the_rule_and_an_empty_expectation_with_hits_fails()
     {

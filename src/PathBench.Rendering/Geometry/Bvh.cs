@@ -7,23 +7,26 @@ using PathBench.Sampling.Warps;
 namespace PathBench.Rendering.Geometry;
 
 /// <summary>
-/// A four-wide bounding volume hierarchy over all primitives: the binary binned-SAH tree of
+/// An eight-wide bounding volume hierarchy over all primitives: the binary binned-SAH tree of
 /// <see cref="BinnedSah"/> (leaves of up to four primitives) collapsed so each node holds the
-/// boxes of up to four children side by side, and one query tests all four with
-/// <see cref="Vector256{T}"/> slab tests (a scalar loop where 256-bit vectors are not
-/// accelerated). A node is 128 bytes, aligned to 128 so it spans two cache lines: 24 floats of
-/// boxes (min x, max x, min y, max y, min z, max z, four lanes each), four child links (a
-/// node's index, or the complement of a leaf's first primitive × 8 + 4 when all its primitives
-/// are triangles + its size − 1) and padding. A triangles-only leaf is tested four triangles at a
-/// time from its hit records (nine coordinate planes side by side, 72 bytes a triangle, in leaf
-/// order), each lane with the scalar watertight test's arithmetic; the 128-byte primitives are
-/// read only for other leaves and for the final hit. Boxes are stored in single precision rounded outward (each float box
-/// contains the double box of its primitives) and widened to double, exactly, for the slab
-/// test, whose arithmetic is the double test's as before: a stored box can only be larger, so
-/// no hit is lost, and since the primitive tests are unchanged the closest hit is the same
-/// (only which of two primitives at exactly the same distance wins could depend on the visit
-/// order). Children are visited nearest first and skipped when they start beyond the best
-/// hit. The stack lives on the call stack, unzeroed: no allocation and no clearing per query.
+/// boxes of up to eight children side by side (the collapse of a binary tree into wide nodes of
+/// Wald, Benthin &amp; Boulos 2008, "Getting Rid of Packets", and Ernst &amp; Greiner 2008,
+/// "Multi Bounding Volume Hierarchies", both IEEE Symposium on Interactive Ray Tracing), and one
+/// query tests all eight with one <see cref="Vector256{T}"/> of floats per plane. A node is 256
+/// bytes, aligned to 256: 48 floats of boxes (min x, max x, min y, max y, min z, max z, eight
+/// lanes each), eight child links (a node's index, or the complement of a leaf's first primitive
+/// × 8 + 4 when all its primitives are triangles + its size − 1) and padding. Boxes are stored
+/// in single precision rounded outward (each float box contains the double box of its
+/// primitives). The slab test runs in single precision with error bounds that make it enter
+/// every box the double test on the same float box enters (<see cref="BoxRay"/>; rays outside
+/// its range take the double test), so no hit is lost, and since the primitive tests are
+/// unchanged the closest hit is the one the double walk finds (only which of two primitives at
+/// exactly the same distance wins could depend on the visit order). A triangles-only leaf is
+/// tested four triangles at a time from its hit records (nine coordinate planes side by side,
+/// 72 bytes a triangle, in leaf order), each lane with the scalar watertight test's arithmetic
+/// (Woop, Benthin &amp; Wald 2013); the 128-byte primitives are read only for other leaves and
+/// for the final hit. Children are visited nearest first and skipped when they start beyond the
+/// best hit. The stack lives on the call stack, unzeroed: no allocation and no clearing per query.
 /// </summary>
 public sealed class Bvh
 {
@@ -48,6 +51,7 @@ public sealed class Bvh
     // widening of the far end, and the largest origin coordinate and reciprocal it takes.
     private const double Widen = 1.0 / (1 << 20);                 // 2^-20, exact in both precisions
     private const float FarSlack = 1.0f / (1L << 39);             // 2^-39 ≈ 1.82e-12
+    private const float LimitSlack = 1.0f / (1L << 62) / (1L << 62) / (1L << 16); // 2^-140, above the subnormal products' error
     private const double SingleOriginLimit = 1e30;
     private const double SingleReciprocalLimit = 18446744073709551616.0; // 2^64
 
@@ -62,7 +66,7 @@ public sealed class Bvh
     // once, and touches the 128-byte primitives only for the final hit. Other leaves' slots are zero,
     // as are Lanes spare doubles at the end that a four-lane load of the last leaf may read.
     private readonly double[] _records;
-    private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 128-byte aligned
+    private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 256-byte aligned
     private readonly int _first;
     private readonly int _nodeCount;
 
@@ -135,7 +139,7 @@ public sealed class Bvh
         collapsed.Nodes.AsSpan(0, NodeFloats * _nodeCount).CopyTo(_nodes.AsSpan(_first));
     }
 
-    /// <summary>Whether queries use the 256-bit slab test (false: the scalar loop). Tests switch it to compare the two.</summary>
+    /// <summary>Whether queries use the 256-bit box and triangle tests (false: the scalar loops, same arithmetic). Tests switch it to compare the two.</summary>
     internal bool Vectorised { get; set; } = Vector256.IsHardwareAccelerated;
 
     /// <summary>The primitives in leaf order (hit indices refer to this array).</summary>
@@ -144,16 +148,16 @@ public sealed class Bvh
     /// <summary>For each position in <see cref="Primitives"/>, the index in the array given to the constructor.</summary>
     public IReadOnlyList<int> PrimitiveOrder { get; }
 
-    /// <summary>Number of (four-wide) nodes.</summary>
+    /// <summary>Number of (eight-wide) nodes.</summary>
     public int NodeCount => _nodeCount;
 
-    /// <summary>Bytes of the hierarchy a query walks besides the primitives: 128 per node (boxes, child links, padding).</summary>
+    /// <summary>Bytes of the hierarchy a query walks besides the primitives: 256 per node (boxes, child links, padding).</summary>
     public long NodeBytes => (long)_nodeCount * NodeAlign;
 
     /// <summary>Bytes of the triangle hit records the walk reads instead of the primitives (72 per primitive).</summary>
     public long HitRecordBytes => (long)_records.Length * sizeof(double);
 
-    /// <summary>The four-wide nodes of a binary tree, laid out depth first as they are made.</summary>
+    /// <summary>The eight-wide nodes of a binary tree, laid out depth first as they are made.</summary>
     private sealed class Collapser(BinnedSah.Node[] binary, int[] order, bool[] triangle)
     {
         public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
@@ -163,7 +167,7 @@ public sealed class Bvh
         /// <summary>
         /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
         /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
-        /// one first, until four children are gathered or only leaves remain.
+        /// one first, until eight children are gathered or only leaves remain.
         /// </summary>
         public int Collapse(int b)
         {
@@ -241,7 +245,7 @@ public sealed class Bvh
             }
 
             links.CopyTo(MemoryMarshal.Cast<float, int>(planes[ChildOffset..]));
-            planes[(ChildOffset + Lanes)..].Clear(); // padding to 128 bytes
+            planes[(ChildOffset + Lanes)..].Clear(); // padding to 256 bytes
             return node;
         }
 
@@ -507,8 +511,9 @@ public sealed class Bvh
     /// lose to the clamp at 0 either way; a negative far distance matters only above −10^-12
     /// (below, both tests reject), where the far slack covers the scaling;</item>
     /// <item>the double test accepts t0 ≤ t1 + (|t1| + 1)·10^-12; the single test accepts
-    /// t0 ≤ t1 + 2^-39, which with the far scaling is larger, and t0 ≤ float above tMax, + 2^-39.
-    /// Underflow to subnormals (absolute error ≤ 2^-149) is also inside those 2^-39.</item>
+    /// t0 ≤ t1 + 2^-39, which with the far scaling is larger, and t0 ≤ (the float above tMax) +
+    /// 2^-140. Underflow to subnormals (absolute error ≤ 2^-150 per product; a subtraction that
+    /// underflows is exact) is inside both slacks.</item>
     /// </list>
     /// The argument needs finite float origins and reciprocals, so the single form is taken only
     /// when every origin coordinate is within ±10^30 and every reciprocal within ±2^64 (a
@@ -551,9 +556,9 @@ public sealed class Bvh
                 : (down, up, (float)(inv * (1 - Widen)), (float)(inv * (1 + Widen)));
         }
 
-        /// <summary>The float above <paramref name="tMax"/> plus the far slack: the single test's limit on t0.</summary>
+        /// <summary>The float above <paramref name="tMax"/> plus 2^-140 (for subnormal distances): the single test's limit on t0.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public static float Limit(double tMax) => BinnedSah.Up(tMax) + FarSlack;
+        public static float Limit(double tMax) => BinnedSah.Up(tMax) + LimitSlack;
     }
 
     /// <summary>
@@ -800,6 +805,6 @@ public sealed class Bvh
     private static Vector256<double> Plane(ref float at, int plane)
     {
         Vector128<float> p = Vector128.LoadUnsafe(ref at, (nuint)(Lanes * plane));
-        return Vector256.Create(Vector128.WidenLower(p), Vector128.WidenUpper(p));
+        return Avx.IsSupported ? Avx.ConvertToVector256Double(p) : Vector256.Create(Vector128.WidenLower(p), Vector128.WidenUpper(p));
     }
 }

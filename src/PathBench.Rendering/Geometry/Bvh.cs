@@ -52,6 +52,7 @@ public sealed class Bvh
     private const double Widen = 1.0 / (1 << 20);                 // 2^-20, exact in both precisions
     private const float FarSlack = 1.0f / (1L << 39);             // 2^-39 ≈ 1.82e-12
     private const float LimitSlack = 1.0f / (1L << 62) / (1L << 62) / (1L << 16); // 2^-140, above the subnormal products' error
+    private const float OriginMargin = 1.0f / (1 << 22);          // 2^-22
     private const double SingleOriginLimit = 1e30;
     private const double SingleReciprocalLimit = 18446744073709551616.0; // 2^64
 
@@ -500,9 +501,9 @@ public sealed class Bvh
     /// Ray Traversal", JCGT 2(2)), here made to contain the double test (every box the double test
     /// enters, the single test enters too, so no hit is lost and the closest hit is unchanged):
     /// <list type="bullet">
-    /// <item>the origin is rounded per axis to the float on the far side along the ray for the
-    /// near planes and on the near side for the far planes, so plane − origin is, before rounding,
-    /// no larger (near) and no smaller (far) along the ray than the double difference;</item>
+    /// <item>the origin is replaced per axis by a float on the far side of it along the ray for
+    /// the near planes and one on the near side for the far planes, so plane − origin is, before
+    /// rounding, no larger (near) and no smaller (far) along the ray than the double difference;</item>
     /// <item>the reciprocals are scaled by 1 − 2^-20 (near) and 1 + 2^-20 (far) before rounding to
     /// float. Each single distance is the exact one times (1 + θ), |θ| ≤ 4·2^-24 (rounding of the
     /// reciprocal to double and to float, the subtraction, the product), and the double distance
@@ -530,35 +531,42 @@ public sealed class Bvh
         public readonly bool Single;
         public readonly float Onx, Ony, Onz, Ofx, Ofy, Ofz, Inx, Iny, Inz, Ifx, Ify, Ifz;
 
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public BoxRay(in Ray ray)
         {
             Origin = ray.Origin;
-            // A zero component would give 0·∞ = NaN when the origin lies on a slab plane; a huge
-            // finite reciprocal gives 0 there instead, which keeps the test conservative.
             Inv = new(Reciprocal(ray.Direction.X), Reciprocal(ray.Direction.Y), Reciprocal(ray.Direction.Z));
-            // Per axis, which plane (min 0 or max 1) the ray meets first.
             Nx = Inv.X < 0 ? 1 : 0;
             Ny = Inv.Y < 0 ? 1 : 0;
             Nz = Inv.Z < 0 ? 1 : 0;
-            Single = Fits(Origin.X, Inv.X) && Fits(Origin.Y, Inv.Y) && Fits(Origin.Z, Inv.Z);
+            Single = Fits(Origin.X, Inv.X) & Fits(Origin.Y, Inv.Y) & Fits(Origin.Z, Inv.Z);
             (Onx, Ofx, Inx, Ifx) = Axis(Origin.X, Inv.X);
             (Ony, Ofy, Iny, Ify) = Axis(Origin.Y, Inv.Y);
             (Onz, Ofz, Inz, Ifz) = Axis(Origin.Z, Inv.Z);
         }
 
-        private static bool Fits(double origin, double inv) => Math.Abs(origin) <= SingleOriginLimit && Math.Abs(inv) <= SingleReciprocalLimit;
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static bool Fits(double origin, double inv) => Math.Abs(origin) <= SingleOriginLimit & Math.Abs(inv) <= SingleReciprocalLimit;
 
+        /// <summary>
+        /// Floats beyond the origin coordinate along the ray (near planes) and behind it (far
+        /// planes): the nearest float f moved by |f|·2^-22 + 2^-140, more than f's rounding error
+        /// (at most |f|·2^-24, or 2^-150 where f is subnormal) and its own rounding; without branches.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private static (float Near, float Far, float InvNear, float InvFar) Axis(double origin, double inv)
         {
-            float up = BinnedSah.Up(origin), down = BinnedSah.Down(origin);
-            return inv >= 0
-                ? (up, down, (float)(inv * (1 - Widen)), (float)(inv * (1 + Widen)))
-                : (down, up, (float)(inv * (1 - Widen)), (float)(inv * (1 + Widen)));
+            float f = (float)origin;
+            float margin = MathF.CopySign((MathF.Abs(f) * OriginMargin) + LimitSlack, (float)inv);
+            return (f + margin, f - margin, (float)(inv * (1 - Widen)), (float)(inv * (1 + Widen)));
         }
 
-        /// <summary>The float above <paramref name="tMax"/> plus 2^-140 (for subnormal distances): the single test's limit on t0.</summary>
+        /// <summary>
+        /// A float at least <paramref name="tMax"/> (the nearest one times 1 + 2^-22 exceeds it by
+        /// more than both roundings; ∞ stays ∞) plus 2^-140 (for subnormal distances): the single test's limit on t0.
+        /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public static float Limit(double tMax) => BinnedSah.Up(tMax) + LimitSlack;
+        public static float Limit(double tMax) => ((float)tMax * (1 + OriginMargin)) + LimitSlack;
     }
 
     /// <summary>

@@ -9,7 +9,7 @@ namespace PathBench.Benchmarks;
 /// <summary>
 /// Nanoseconds per ray of the tracing kernels, single-threaded, on <c>pathbench bench</c>'s
 /// 1 032 192-triangle room: one watertight ray/triangle test (Woop, Benthin &amp; Wald 2013),
-/// and closest-hit and any-hit traversal of the four-wide BVH (256-bit slab tests, and its
+/// and closest-hit and any-hit traversal of the eight-wide BVH (256-bit single-precision slab tests, and its
 /// scalar fallback) against the binary reference tree. The rays are incoherent: uniform
 /// directions from points spread through the room (fixed hash, seed 21). Target (issue 12):
 /// 12 M incoherent rays/s per core, about 83 ns per closest-hit query.

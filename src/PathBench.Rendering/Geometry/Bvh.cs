@@ -7,23 +7,26 @@ using PathBench.Sampling.Warps;
 namespace PathBench.Rendering.Geometry;
 
 /// <summary>
-/// A four-wide bounding volume hierarchy over all primitives: the binary binned-SAH tree of
+/// An eight-wide bounding volume hierarchy over all primitives: the binary binned-SAH tree of
 /// <see cref="BinnedSah"/> (leaves of up to four primitives) collapsed so each node holds the
-/// boxes of up to four children side by side, and one query tests all four with
-/// <see cref="Vector256{T}"/> slab tests (a scalar loop where 256-bit vectors are not
-/// accelerated). A node is 128 bytes, aligned to 128 so it spans two cache lines: 24 floats of
-/// boxes (min x, max x, min y, max y, min z, max z, four lanes each), four child links (a
-/// node's index, or the complement of a leaf's first primitive × 8 + 4 when all its primitives
-/// are triangles + its size − 1) and padding. A triangles-only leaf is tested four triangles at a
-/// time from its hit records (nine coordinate planes side by side, 72 bytes a triangle, in leaf
-/// order), each lane with the scalar watertight test's arithmetic; the 128-byte primitives are
-/// read only for other leaves and for the final hit. Boxes are stored in single precision rounded outward (each float box
-/// contains the double box of its primitives) and widened to double, exactly, for the slab
-/// test, whose arithmetic is the double test's as before: a stored box can only be larger, so
-/// no hit is lost, and since the primitive tests are unchanged the closest hit is the same
-/// (only which of two primitives at exactly the same distance wins could depend on the visit
-/// order). Children are visited nearest first and skipped when they start beyond the best
-/// hit. The stack lives on the call stack, unzeroed: no allocation and no clearing per query.
+/// boxes of up to eight children side by side (the collapse of a binary tree into wide nodes of
+/// Wald, Benthin &amp; Boulos 2008, "Getting Rid of Packets", and Ernst &amp; Greiner 2008,
+/// "Multi Bounding Volume Hierarchies", both IEEE Symposium on Interactive Ray Tracing), and one
+/// query tests all eight with one <see cref="Vector256{T}"/> of floats per plane. A node is 256
+/// bytes, aligned to 256: 48 floats of boxes (min x, max x, min y, max y, min z, max z, eight
+/// lanes each), eight child links (a node's index, or the complement of a leaf's first primitive
+/// × 8 + 4 when all its primitives are triangles + its size − 1) and padding. Boxes are stored
+/// in single precision rounded outward (each float box contains the double box of its
+/// primitives). The slab test runs in single precision with error bounds that make it enter
+/// every box the double test on the same float box enters (<see cref="BoxRay"/>; rays outside
+/// its range take the double test), so no hit is lost, and since the primitive tests are
+/// unchanged the closest hit is the one the double walk finds (only which of two primitives at
+/// exactly the same distance wins could depend on the visit order). A triangles-only leaf is
+/// tested four triangles at a time from its hit records (nine coordinate planes side by side,
+/// 72 bytes a triangle, in leaf order), each lane with the scalar watertight test's arithmetic
+/// (Woop, Benthin &amp; Wald 2013); the 128-byte primitives are read only for other leaves and
+/// for the final hit. Children are visited nearest first and skipped when they start beyond the
+/// best hit. The stack lives on the call stack, unzeroed: no allocation and no clearing per query.
 /// </summary>
 public sealed class Bvh
 {
@@ -34,14 +37,24 @@ public sealed class Bvh
     public const int MaxPrimitives = 1 << 28;
 
     private const int MaxLeaf = 4;
-    private const int Lanes = 4;
-    private const int Planes = 6 * Lanes; // minX, maxX, minY, maxY, minZ, maxZ, four lanes each
+    private const int Lanes = 8;
+    private const int Planes = 6 * Lanes; // minX, maxX, minY, maxY, minZ, maxZ, eight lanes each
     private const int ChildOffset = Planes;
-    private const int NodeFloats = 32;    // 128 bytes
+    private const int NodeFloats = 64;    // 256 bytes: 192 of planes, 32 of links, 32 of padding
     private const int NodeAlign = NodeFloats * sizeof(float);
 
-    // Each level of the binary tree under a wide node adds at most three siblings to the stack.
-    private const int StackSize = 3 * MaxDepth + 4;
+    // A wide node's children lie at least one binary level below it, and a visit adds at most
+    // Lanes − 1 entries to the stack (pushes Lanes, pops one), so MaxDepth levels need this many.
+    private const int StackSize = ((Lanes - 1) * MaxDepth) + Lanes;
+
+    // The single-precision slab test (see BoxRay): relative widening of the distances, absolute
+    // widening of the far end, and the largest origin coordinate and reciprocal it takes.
+    private const double Widen = 1.0 / (1 << 20);                 // 2^-20, exact in both precisions
+    private const float FarSlack = 1.0f / (1L << 39);             // 2^-39 ≈ 1.82e-12
+    private const float LimitSlack = 1.0f / (1L << 62) / (1L << 62) / (1L << 16); // 2^-140, above the subnormal products' error
+    private const float OriginMargin = 1.0f / (1 << 22);          // 2^-22
+    private const double SingleOriginLimit = 1e30;
+    private const double SingleReciprocalLimit = 18446744073709551616.0; // 2^64
 
     // Doubles of a primitive's hit record: a triangle's nine vertex coordinates.
     private const int RecordDoubles = 9;
@@ -54,7 +67,7 @@ public sealed class Bvh
     // once, and touches the 128-byte primitives only for the final hit. Other leaves' slots are zero,
     // as are Lanes spare doubles at the end that a four-lane load of the last leaf may read.
     private readonly double[] _records;
-    private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 128-byte aligned
+    private readonly float[] _nodes;   // pinned; node k at _nodes[_first + NodeFloats·k ..], 256-byte aligned
     private readonly int _first;
     private readonly int _nodeCount;
 
@@ -127,7 +140,7 @@ public sealed class Bvh
         collapsed.Nodes.AsSpan(0, NodeFloats * _nodeCount).CopyTo(_nodes.AsSpan(_first));
     }
 
-    /// <summary>Whether queries use the 256-bit slab test (false: the scalar loop). Tests switch it to compare the two.</summary>
+    /// <summary>Whether queries use the 256-bit box and triangle tests (false: the scalar loops, same arithmetic). Tests switch it to compare the two.</summary>
     internal bool Vectorised { get; set; } = Vector256.IsHardwareAccelerated;
 
     /// <summary>The primitives in leaf order (hit indices refer to this array).</summary>
@@ -136,16 +149,16 @@ public sealed class Bvh
     /// <summary>For each position in <see cref="Primitives"/>, the index in the array given to the constructor.</summary>
     public IReadOnlyList<int> PrimitiveOrder { get; }
 
-    /// <summary>Number of (four-wide) nodes.</summary>
+    /// <summary>Number of (eight-wide) nodes.</summary>
     public int NodeCount => _nodeCount;
 
-    /// <summary>Bytes of the hierarchy a query walks besides the primitives: 128 per node (boxes, child links, padding).</summary>
+    /// <summary>Bytes of the hierarchy a query walks besides the primitives: 256 per node (boxes, child links, padding).</summary>
     public long NodeBytes => (long)_nodeCount * NodeAlign;
 
     /// <summary>Bytes of the triangle hit records the walk reads instead of the primitives (72 per primitive).</summary>
     public long HitRecordBytes => (long)_records.Length * sizeof(double);
 
-    /// <summary>The four-wide nodes of a binary tree, laid out depth first as they are made.</summary>
+    /// <summary>The eight-wide nodes of a binary tree, laid out depth first as they are made.</summary>
     private sealed class Collapser(BinnedSah.Node[] binary, int[] order, bool[] triangle)
     {
         public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
@@ -155,7 +168,7 @@ public sealed class Bvh
         /// <summary>
         /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
         /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
-        /// one first, until four children are gathered or only leaves remain.
+        /// one first, until eight children are gathered or only leaves remain.
         /// </summary>
         public int Collapse(int b)
         {
@@ -233,7 +246,7 @@ public sealed class Bvh
             }
 
             links.CopyTo(MemoryMarshal.Cast<float, int>(planes[ChildOffset..]));
-            planes[(ChildOffset + Lanes)..].Clear(); // padding to 128 bytes
+            planes[(ChildOffset + Lanes)..].Clear(); // padding to 256 bytes
             return node;
         }
 
@@ -465,23 +478,113 @@ public sealed class Bvh
         private static Vector256<double> Load(ref double records, int count, int plane) => Vector256.LoadUnsafe(ref records, (nuint)(count * plane));
     }
 
+    /// <summary>How a node's boxes are tested: the forms a query may take, named so tests can run each.</summary>
+    internal enum BoxTest
+    {
+        /// <summary>Single precision, eight lanes in one <see cref="Vector256{T}"/> (rays within <see cref="BoxRay.Single"/>'s range).</summary>
+        SingleVector,
+
+        /// <summary>The same single-precision operations, one lane at a time.</summary>
+        SingleScalar,
+
+        /// <summary>Double precision, four lanes per <see cref="Vector256{T}"/> (any ray).</summary>
+        DoubleVector,
+
+        /// <summary>The double-precision operations one lane at a time.</summary>
+        DoubleScalar,
+    }
+
+    /// <summary>
+    /// A ray prepared for slab tests (Kay &amp; Kajiya 1986, "Ray tracing complex scenes",
+    /// SIGGRAPH): its reciprocal direction and, per axis, which plane it meets first, in double
+    /// precision; and the single-precision form of the conservative test of Ize 2013 ("Robust BVH
+    /// Ray Traversal", JCGT 2(2)), here made to contain the double test (every box the double test
+    /// enters, the single test enters too, so no hit is lost and the closest hit is unchanged):
+    /// <list type="bullet">
+    /// <item>the origin is replaced per axis by a float on the far side of it along the ray for
+    /// the near planes and one on the near side for the far planes, so plane − origin is, before
+    /// rounding, no larger (near) and no smaller (far) along the ray than the double difference;</item>
+    /// <item>the reciprocals are scaled by 1 − 2^-20 (near) and 1 + 2^-20 (far) before rounding to
+    /// float. Each single distance is the exact one times (1 + θ), |θ| ≤ 4·2^-24 (rounding of the
+    /// reciprocal to double and to float, the subtraction, the product), and the double distance
+    /// is within 2·2^-53 of it, so a near distance ≥ 0 is at most the double one and a far
+    /// distance ≥ 0 at least the double one (Ize's γ bounds, with margin). Negative near distances
+    /// lose to the clamp at 0 either way; a negative far distance matters only above −10^-12
+    /// (below, both tests reject), where the far slack covers the scaling;</item>
+    /// <item>the double test accepts t0 ≤ t1 + (|t1| + 1)·10^-12; the single test accepts
+    /// t0 ≤ t1 + 2^-39, which with the far scaling is larger, and t0 ≤ (the float above tMax) +
+    /// 2^-140. Underflow to subnormals (absolute error ≤ 2^-150 per product; a subtraction that
+    /// underflows is exact) is inside both slacks.</item>
+    /// </list>
+    /// The argument needs finite float origins and reciprocals, so the single form is taken only
+    /// when every origin coordinate is within ±10^30 and every reciprocal within ±2^64 (a
+    /// direction component of 0 has the stand-in reciprocal 10^300, so axis-parallel rays take
+    /// the double form); then no operand is infinite except box planes (finite − ∞ = ∓∞, times a
+    /// non-zero reciprocal), no NaN arises, and an overflow to +∞ of a near distance happens only
+    /// where the double one is ≥ 3.4·10^38, beyond any far distance of the box the double test
+    /// could accept (an infinite far end of an infinite box compares equal).
+    /// </summary>
+    internal readonly struct BoxRay
+    {
+        public readonly Vec3d Origin, Inv;
+        public readonly int Nx, Ny, Nz;
+        public readonly bool Single;
+        public readonly float Onx, Ony, Onz, Ofx, Ofy, Ofz, Inx, Iny, Inz, Ifx, Ify, Ifz;
+
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public BoxRay(in Ray ray)
+        {
+            Origin = ray.Origin;
+            Inv = new(Reciprocal(ray.Direction.X), Reciprocal(ray.Direction.Y), Reciprocal(ray.Direction.Z));
+            Nx = Inv.X < 0 ? 1 : 0;
+            Ny = Inv.Y < 0 ? 1 : 0;
+            Nz = Inv.Z < 0 ? 1 : 0;
+            Single = Fits(Origin.X, Inv.X) & Fits(Origin.Y, Inv.Y) & Fits(Origin.Z, Inv.Z);
+            (Onx, Ofx, Inx, Ifx) = Axis(Origin.X, Inv.X);
+            (Ony, Ofy, Iny, Ify) = Axis(Origin.Y, Inv.Y);
+            (Onz, Ofz, Inz, Ifz) = Axis(Origin.Z, Inv.Z);
+        }
+
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static bool Fits(double origin, double inv) => Math.Abs(origin) <= SingleOriginLimit & Math.Abs(inv) <= SingleReciprocalLimit;
+
+        /// <summary>
+        /// Floats beyond the origin coordinate along the ray (near planes) and behind it (far
+        /// planes): the nearest float f moved by |f|·2^-22 + 2^-140, more than f's rounding error
+        /// (at most |f|·2^-24, or 2^-150 where f is subnormal) and its own rounding; without branches.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static (float Near, float Far, float InvNear, float InvFar) Axis(double origin, double inv)
+        {
+            float f = (float)origin;
+            float margin = MathF.CopySign((MathF.Abs(f) * OriginMargin) + LimitSlack, (float)inv);
+            return (f + margin, f - margin, (float)(inv * (1 - Widen)), (float)(inv * (1 + Widen)));
+        }
+
+        /// <summary>
+        /// A float at least <paramref name="tMax"/> (the nearest one times 1 + 2^-22 exceeds it by
+        /// more than both roundings; ∞ stays ∞) plus 2^-140 (for subnormal distances): the single test's limit on t0.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public static float Limit(double tMax) => ((float)tMax * (1 + OriginMargin)) + LimitSlack;
+    }
+
     /// <summary>
     /// The one traversal loop of both queries: pop the nearest pending child; a leaf goes to the
-    /// query, a node's four boxes are tested at once and the hit ones pushed farthest first.
+    /// query, a node's eight boxes are tested at once and the hit ones pushed farthest first.
     /// Pending children that start beyond the query's current far end are dropped when popped.
     /// </summary>
     [SkipLocalsInit]
     private void Walk<TQuery>(in Ray ray, ref TQuery query)
         where TQuery : struct, ILeafQuery
     {
-        // A zero component would give 0·∞ = NaN when the origin lies on a slab plane; a huge
-        // finite reciprocal gives 0 there instead, which keeps the test conservative.
-        Vec3d inv = new(Reciprocal(ray.Direction.X), Reciprocal(ray.Direction.Y), Reciprocal(ray.Direction.Z));
-        // Per axis, which plane (min 0 or max 1) the ray meets first.
-        int nx = inv.X < 0 ? 1 : 0, ny = inv.Y < 0 ? 1 : 0, nz = inv.Z < 0 ? 1 : 0;
+        var boxRay = new BoxRay(ray);
+        BoxTest form = boxRay.Single
+            ? (Vectorised ? BoxTest.SingleVector : BoxTest.SingleScalar)
+            : (Vectorised ? BoxTest.DoubleVector : BoxTest.DoubleScalar);
         Span<int> stackRef = stackalloc int[StackSize];
-        Span<double> stackNear = stackalloc double[StackSize];
-        Span<double> near = stackalloc double[Lanes];
+        Span<float> stackNear = stackalloc float[StackSize];
+        Span<float> near = stackalloc float[Lanes];
         // Node indices come from the build and are in range; the walk reads nodes without bounds checks.
         ref float nodes = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_nodes), _first);
         int sp = 0;
@@ -498,9 +601,9 @@ public sealed class Bvh
             else
             {
                 ref float node = ref Unsafe.Add(ref nodes, NodeFloats * r);
-                int mask = Vectorised
-                    ? TestVector(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near)
-                    : TestScalar(ref node, ray.Origin, inv, nx, ny, nz, query.TMax, near);
+                int mask = form == BoxTest.SingleVector
+                    ? TestSingleVector(ref node, boxRay, query.TMax, near)
+                    : Test(ref node, boxRay, query.TMax, near, form);
                 if (mask != 0 && (mask & (mask - 1)) == 0)
                 {
                     // One child hit: visited next without a trip through the stack (pushed and
@@ -514,7 +617,7 @@ public sealed class Bvh
                 {
                     int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
                     // Insertion into the pushed run, kept in decreasing near distance so the nearest is on top.
-                    double t = near[lane];
+                    float t = near[lane];
                     int j = sp++;
                     while (j > first && stackNear[j - 1] < t)
                     {
@@ -530,7 +633,8 @@ public sealed class Bvh
                 }
             }
 
-            // Pop the nearest pending child that starts within the query's current far end.
+            // Pop the nearest pending child that starts within the query's current far end (the
+            // stored near ends are at most the double ones, so no child the double test keeps is dropped).
             do
             {
                 if (sp == 0)
@@ -550,7 +654,7 @@ public sealed class Bvh
     private static double Reciprocal(double x) => x == 0 ? 1e300 : 1.0 / x;
 
     /// <summary>
-    /// Asks for a pushed child's memory ahead of its visit: a node's two cache lines, or a
+    /// Asks for a pushed child's memory ahead of its visit: a node's four cache lines, or a
     /// triangles-only leaf's first hit-record lines. The siblings of the child visited next then
     /// load while it is tested (a hint only: it changes no result). The record array is not pinned
     /// (a pinned 74 MB array per build made the bench's repeated builds wait on full collections);
@@ -570,6 +674,8 @@ public sealed class Bvh
             float* p = (float*)Unsafe.AsPointer(ref Unsafe.Add(ref nodes, NodeFloats * child));
             Sse.Prefetch0(p);
             Sse.Prefetch0(p + 16);
+            Sse.Prefetch0(p + 32);
+            Sse.Prefetch0(p + 48);
         }
         else if ((~child & 4) != 0)
         {
@@ -580,60 +686,133 @@ public sealed class Bvh
         }
     }
 
+    /// <summary>The lanes of node <paramref name="node"/> that <paramref name="form"/> enters for this ray before <paramref name="tMax"/> (tests).</summary>
+    internal int EnteredLanes(int node, in Ray ray, double tMax, BoxTest form)
+    {
+        Span<float> near = stackalloc float[Lanes];
+        ref float n = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_nodes), _first + (NodeFloats * node));
+        return form == BoxTest.SingleVector ? TestSingleVector(ref n, new BoxRay(ray), tMax, near) : Test(ref n, new BoxRay(ray), tMax, near, form);
+    }
+
+    /// <summary>Lane <paramref name="lane"/>'s box of node <paramref name="node"/> (inverted, min +∞ and max −∞, when empty) and whether it is a node (not a leaf) (tests).</summary>
+    internal (Vec3d Min, Vec3d Max, int Child) ChildBox(int node, int lane)
+    {
+        ReadOnlySpan<float> b = _nodes.AsSpan(_first + (NodeFloats * node), NodeFloats);
+        return (
+            new Vec3d(b[lane], b[(2 * Lanes) + lane], b[(4 * Lanes) + lane]),
+            new Vec3d(b[Lanes + lane], b[(3 * Lanes) + lane], b[(5 * Lanes) + lane]),
+            MemoryMarshal.Cast<float, int>(b[ChildOffset..])[lane]);
+    }
+
     /// <summary>
-    /// Slab tests (Kay &amp; Kajiya 1986, "Ray tracing complex scenes", SIGGRAPH) of the four
-    /// boxes of <paramref name="node"/>; returns the mask of lanes hit before
-    /// <paramref name="tMax"/> and writes their entry distances (clamped at 0) to
-    /// <paramref name="near"/>. The float planes are widened to double (exactly) and the test is
-    /// the double one. Native min/max: no operand is ever NaN here (finite reciprocals, infinite
-    /// planes only with non-zero factors), so the NaN and signed-zero handling of
-    /// <see cref="Math.Min(double, double)"/> buys nothing.
+    /// The single-precision slab tests of the eight boxes of <paramref name="node"/> (see
+    /// <see cref="BoxRay"/>); returns the mask of lanes entered and writes their entry distances
+    /// (clamped at 0; at most the double ones) to <paramref name="near"/>. Native min/max: no
+    /// operand is NaN for a ray of the single form.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static int TestVector(ref float node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
+    private static int TestSingleVector(ref float node, in BoxRay r, double tMax, Span<float> near)
     {
-        Vector256<double> ix = Vector256.Create(inv.X), iy = Vector256.Create(inv.Y), iz = Vector256.Create(inv.Z);
-        Vector256<double> ox = Vector256.Create(o.X), oy = Vector256.Create(o.Y), oz = Vector256.Create(o.Z);
-        Vector256<double> tnx = (Plane(ref node, nx) - ox) * ix;
-        Vector256<double> tfx = (Plane(ref node, 1 - nx) - ox) * ix;
-        Vector256<double> tny = (Plane(ref node, 2 + ny) - oy) * iy;
-        Vector256<double> tfy = (Plane(ref node, 3 - ny) - oy) * iy;
-        Vector256<double> tnz = (Plane(ref node, 4 + nz) - oz) * iz;
-        Vector256<double> tfz = (Plane(ref node, 5 - nz) - oz) * iz;
-        Vector256<double> t0 = Vector256.MaxNative(Vector256.MaxNative(tnx, tny), Vector256.MaxNative(tnz, Vector256<double>.Zero));
-        Vector256<double> t1 = Vector256.MinNative(Vector256.MinNative(tfx, tfy), tfz);
-        // Bounds are inflated by a relative 1e-12 against rounding on flat (zero-thickness) boxes.
+        Vector256<float> tnx = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * r.Nx)) - Vector256.Create(r.Onx)) * Vector256.Create(r.Inx);
+        Vector256<float> tfx = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * (1 - r.Nx))) - Vector256.Create(r.Ofx)) * Vector256.Create(r.Ifx);
+        Vector256<float> tny = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * (2 + r.Ny))) - Vector256.Create(r.Ony)) * Vector256.Create(r.Iny);
+        Vector256<float> tfy = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * (3 - r.Ny))) - Vector256.Create(r.Ofy)) * Vector256.Create(r.Ify);
+        Vector256<float> tnz = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * (4 + r.Nz))) - Vector256.Create(r.Onz)) * Vector256.Create(r.Inz);
+        Vector256<float> tfz = (Vector256.LoadUnsafe(ref node, (nuint)(Lanes * (5 - r.Nz))) - Vector256.Create(r.Ofz)) * Vector256.Create(r.Ifz);
+        Vector256<float> t0 = Vector256.MaxNative(Vector256.MaxNative(tnx, tny), Vector256.MaxNative(tnz, Vector256<float>.Zero));
+        Vector256<float> t1 = Vector256.MinNative(Vector256.MinNative(tfx, tfy), tfz);
+        Vector256<float> hit = Vector256.LessThanOrEqual(t0, t1 + Vector256.Create(FarSlack)) & Vector256.LessThanOrEqual(t0, Vector256.Create(BoxRay.Limit(tMax)));
+        t0.StoreUnsafe(ref MemoryMarshal.GetReference(near));
+        return (int)hit.ExtractMostSignificantBits();
+    }
+
+    /// <summary>The other forms: the single test one lane at a time (the same operations in the same order), and the double test.</summary>
+    private static int Test(ref float node, in BoxRay r, double tMax, Span<float> near, BoxTest form)
+    {
+        ReadOnlySpan<float> b = MemoryMarshal.CreateReadOnlySpan(ref node, Planes);
+        int mask = 0;
+        if (form == BoxTest.SingleScalar)
+        {
+            float limit = BoxRay.Limit(tMax);
+            for (int lane = 0; lane < Lanes; lane++)
+            {
+                float tnx = (b[(Lanes * r.Nx) + lane] - r.Onx) * r.Inx, tfx = (b[(Lanes * (1 - r.Nx)) + lane] - r.Ofx) * r.Ifx;
+                float tny = (b[(Lanes * (2 + r.Ny)) + lane] - r.Ony) * r.Iny, tfy = (b[(Lanes * (3 - r.Ny)) + lane] - r.Ofy) * r.Ify;
+                float tnz = (b[(Lanes * (4 + r.Nz)) + lane] - r.Onz) * r.Inz, tfz = (b[(Lanes * (5 - r.Nz)) + lane] - r.Ofz) * r.Ifz;
+                float t0 = MaxOf(MaxOf(tnx, tny), MaxOf(tnz, 0));
+                float t1 = MinOf(MinOf(tfx, tfy), tfz);
+                near[lane] = t0;
+                mask |= t0 <= t1 + FarSlack && t0 <= limit ? 1 << lane : 0;
+            }
+
+            return mask;
+        }
+
+        if (form == BoxTest.DoubleVector)
+        {
+            Span<double> t0 = stackalloc double[Lanes / 2];
+            for (int half = 0; half < 2; half++)
+            {
+                mask |= TestDoubleVector(ref node, half * Lanes / 2, r, tMax, t0) << (half * Lanes / 2);
+                for (int i = 0; i < Lanes / 2; i++)
+                {
+                    near[(half * Lanes / 2) + i] = BinnedSah.Down(t0[i]);
+                }
+            }
+
+            return mask;
+        }
+
+        Vec3d o = r.Origin, inv = r.Inv;
+        for (int lane = 0; lane < Lanes; lane++)
+        {
+            double tnx = (b[(Lanes * r.Nx) + lane] - o.X) * inv.X, tfx = (b[(Lanes * (1 - r.Nx)) + lane] - o.X) * inv.X;
+            double tny = (b[(Lanes * (2 + r.Ny)) + lane] - o.Y) * inv.Y, tfy = (b[(Lanes * (3 - r.Ny)) + lane] - o.Y) * inv.Y;
+            double tnz = (b[(Lanes * (4 + r.Nz)) + lane] - o.Z) * inv.Z, tfz = (b[(Lanes * (5 - r.Nz)) + lane] - o.Z) * inv.Z;
+            double t0 = Math.Max(Math.Max(tnx, tny), Math.Max(tnz, 0));
+            double t1 = Math.Min(Math.Min(tfx, tfy), tfz);
+            double slack = (Math.Abs(t1) + 1) * 1e-12;
+            near[lane] = BinnedSah.Down(t0);
+            mask |= t0 <= t1 + slack && t0 <= tMax ? 1 << lane : 0;
+        }
+
+        return mask;
+    }
+
+    // What MaxNative/MinNative do on x86 for operands that are not NaN (the second when equal).
+    private static float MaxOf(float a, float b) => a > b ? a : b;
+
+    private static float MinOf(float a, float b) => a < b ? a : b;
+
+    /// <summary>
+    /// The double slab tests of lanes [<paramref name="lane"/>, + 4) of <paramref name="node"/>,
+    /// the planes widened to double (exact); entry distances to <paramref name="near"/>. Bounds
+    /// are inflated by a relative 1e-12 against rounding on flat (zero-thickness) boxes.
+    /// </summary>
+    private static int TestDoubleVector(ref float node, int lane, in BoxRay r, double tMax, Span<double> near)
+    {
+        Vector256<double> ix = Vector256.Create(r.Inv.X), iy = Vector256.Create(r.Inv.Y), iz = Vector256.Create(r.Inv.Z);
+        Vector256<double> ox = Vector256.Create(r.Origin.X), oy = Vector256.Create(r.Origin.Y), oz = Vector256.Create(r.Origin.Z);
+        ref float at = ref Unsafe.Add(ref node, lane);
+        Vector256<double> tnx = (Plane(ref at, r.Nx) - ox) * ix;
+        Vector256<double> tfx = (Plane(ref at, 1 - r.Nx) - ox) * ix;
+        Vector256<double> tny = (Plane(ref at, 2 + r.Ny) - oy) * iy;
+        Vector256<double> tfy = (Plane(ref at, 3 - r.Ny) - oy) * iy;
+        Vector256<double> tnz = (Plane(ref at, 4 + r.Nz) - oz) * iz;
+        Vector256<double> tfz = (Plane(ref at, 5 - r.Nz) - oz) * iz;
+        Vector256<double> t0 = Vector256.Max(Vector256.Max(tnx, tny), Vector256.Max(tnz, Vector256<double>.Zero));
+        Vector256<double> t1 = Vector256.Min(Vector256.Min(tfx, tfy), tfz);
         Vector256<double> slack = (Vector256.Abs(t1) + Vector256<double>.One) * Vector256.Create(1e-12);
         Vector256<double> hit = Vector256.LessThanOrEqual(t0, t1 + slack) & Vector256.LessThanOrEqual(t0, Vector256.Create(tMax));
         t0.StoreUnsafe(ref MemoryMarshal.GetReference(near));
         return (int)hit.ExtractMostSignificantBits();
     }
 
-    /// <summary>One plane's four floats, widened to double (exact).</summary>
+    /// <summary>Four floats of one plane from <paramref name="at"/>, widened to double (exact).</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<double> Plane(ref float node, int plane)
+    private static Vector256<double> Plane(ref float at, int plane)
     {
-        Vector128<float> p = Vector128.LoadUnsafe(ref node, (nuint)(Lanes * plane));
+        Vector128<float> p = Vector128.LoadUnsafe(ref at, (nuint)(Lanes * plane));
         return Avx.IsSupported ? Avx.ConvertToVector256Double(p) : Vector256.Create(Vector128.WidenLower(p), Vector128.WidenUpper(p));
-    }
-
-    /// <summary>The same slab tests one lane at a time, for hardware without 256-bit vectors, with the same operations in the same order.</summary>
-    private static int TestScalar(ref float node, Vec3d o, Vec3d inv, int nx, int ny, int nz, double tMax, Span<double> near)
-    {
-        ReadOnlySpan<float> b = MemoryMarshal.CreateReadOnlySpan(ref node, Planes);
-        int mask = 0;
-        for (int lane = 0; lane < Lanes; lane++)
-        {
-            double tnx = (b[(Lanes * nx) + lane] - o.X) * inv.X, tfx = (b[(Lanes * (1 - nx)) + lane] - o.X) * inv.X;
-            double tny = (b[(Lanes * (2 + ny)) + lane] - o.Y) * inv.Y, tfy = (b[(Lanes * (3 - ny)) + lane] - o.Y) * inv.Y;
-            double tnz = (b[(Lanes * (4 + nz)) + lane] - o.Z) * inv.Z, tfz = (b[(Lanes * (5 - nz)) + lane] - o.Z) * inv.Z;
-            double t0 = Math.Max(Math.Max(tnx, tny), Math.Max(tnz, 0));
-            double t1 = Math.Min(Math.Min(tfx, tfy), tfz);
-            double slack = (Math.Abs(t1) + 1) * 1e-12;
-            near[lane] = t0;
-            mask |= t0 <= t1 + slack && t0 <= tMax ? 1 << lane : 0;
-        }
-
-        return mask;
     }
 }

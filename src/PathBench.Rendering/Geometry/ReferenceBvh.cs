@@ -95,12 +95,13 @@ public sealed class ReferenceBvh
 
     // A zero component would give 0·∞ = NaN in the slab test when the origin lies on a slab
     // plane; a huge finite reciprocal gives 0 there instead, which keeps the test conservative.
-    private static Vec3d InverseDirection(Vec3d d) => new(Reciprocal(d.X), Reciprocal(d.Y), Reciprocal(d.Z));
+    internal static Vec3d InverseDirection(Vec3d d) => new(Reciprocal(d.X), Reciprocal(d.Y), Reciprocal(d.Z));
 
     private static double Reciprocal(double x) => x == 0 ? 1e300 : 1.0 / x;
 
+    /// <summary>The reference slab test of one box (<paramref name="inv"/> from <see cref="InverseDirection"/>); tests hold the fast tests to it.</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static bool HitsBox(Vec3d min, Vec3d max, Vec3d origin, Vec3d inv, double tMax)
+    internal static bool HitsBox(Vec3d min, Vec3d max, Vec3d origin, Vec3d inv, double tMax)
     {
         // Slab test (Kay & Kajiya 1986, "Ray tracing complex scenes", SIGGRAPH).
         double tx1 = (min.X - origin.X) * inv.X, tx2 = (max.X - origin.X) * inv.X;

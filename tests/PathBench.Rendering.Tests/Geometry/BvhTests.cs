@@ -203,6 +203,188 @@ public sealed class BvhTests
         Assert.Equal(4000, aimed);
     }
 
+    [Theory]
+    [InlineData(1.0, false)]
+    [InlineData(1.0, true)]
+    [InlineData(1e-6, true)]
+    [InlineData(1e6, true)]
+    [InlineData(1e25, false)]
+    [InlineData(1e-30, false)]
+    [InlineData(1e-41, false)]
+    [InlineData(1e45, false)]
+    [InlineData(1e-200, false)]
+    public void Single_precision_box_test_enters_every_box_the_double_test_enters(double scale, bool shifted)
+    {
+        // The wide hierarchy tests boxes in single precision with the error bounds of Ize 2013
+        // ("Robust BVH Ray Traversal", JCGT 2(2)), widened so that it contains the double slab
+        // test (Kay & Kajiya 1986) of ReferenceBvh: every box the double test enters, each of the
+        // four forms enters too (the single forms may enter more). Checked box by box on every
+        // lane of every node, for random rays, rays from box corners, edges and faces (exact
+        // plane values), rays through mesh vertices, rays parallel or nearly parallel to a face,
+        // and tMax at the double test's own entry distance; scales from 1e-200 (every float box
+        // collapses to the smallest subnormals) through float's subnormal range (1e-41) to beyond
+        // float's range (1e45: infinite float planes, origins beyond 1e30 take the double form).
+        // Shifted: coordinates near 1e5 + fractions, so every box plane is rounded.
+        Vec3d offset = shifted ? new Vec3d(1e5 + (1.0 / 3), -2e4 - (1.0 / 7), 7.0 / 11) : default;
+        Vec3d Map(Vec3d v) => (v + offset) * scale;
+        var prims = new List<Primitive>();
+        foreach (Primitive t in BumpySphere(new Vec3d(0.3, -0.2, 0.1), 2.0, 24, 12))
+        {
+            prims.Add(Primitive.Triangle(Map(t.A), Map(t.B), Map(t.C), 0, -1));
+        }
+
+        for (uint i = 0; i < 200; i++)
+        {
+            var c = new Vec3d((U(21, i, 0) * 20) - 10, (U(21, i, 1) * 20) - 10, (U(21, i, 2) * 20) - 10);
+            prims.Add(i % 8 == 0
+                ? Primitive.Sphere(Map(c), (0.1 + U(21, i, 3)) * scale, 0)
+                : Primitive.Triangle(Map(c), Map(c + new Vec3d(1, U(21, i, 4), 0)), Map(c + new Vec3d(0, 1, U(21, i, 5))), 0, -1));
+        }
+
+        Primitive[] scene = prims.ToArray();
+        var bvh = new Bvh(scene);
+        var reference = new ReferenceBvh(scene);
+        Bvh.BoxTest[] forms = [Bvh.BoxTest.SingleVector, Bvh.BoxTest.SingleScalar, Bvh.BoxTest.DoubleVector, Bvh.BoxTest.DoubleScalar];
+        long entered = 0, extra = 0, singleEntered = 0;
+        uint r = 0;
+        for (int node = 0; node < bvh.NodeCount; node++)
+        {
+            for (int lane = 0; lane < 8; lane++)
+            {
+                (Vec3d lo, Vec3d hi, _) = bvh.ChildBox(node, lane);
+                if (!(lo.X <= hi.X))
+                {
+                    continue; // an empty lane (inverted box)
+                }
+
+                for (int k = 0; k < 12; k++, r++)
+                {
+                    Ray ray = BoxRay(lo, hi, scene, scale, offset, r);
+                    Vec3d inv = ReferenceBvh.InverseDirection(ray.Direction);
+                    double tMax = ray.TMax;
+                    bool single = new Bvh.BoxRay(ray).Single;
+                    int[] masks = forms.Select(f => bvh.EnteredLanes(node, ray, tMax, f)).ToArray();
+                    Assert.Equal(masks[2], masks[3]);                 // the double forms: the same operations
+                    Assert.Equal(masks[0], masks[1]);                 // the single forms: the same operations
+                    bool expected = ReferenceBvh.HitsBox(lo, hi, ray.Origin, inv, tMax);
+                    Assert.Equal(expected, (masks[2] >> lane & 1) != 0); // the double forms are the reference test
+                    // A walk takes the single forms only for rays within their range (BoxRay.Single).
+                    bool got = ((single ? masks[0] : masks[2]) >> lane & 1) != 0;
+                    Assert.True(!expected || got, $"node {node} lane {lane}, ray {r} ({ray.Origin} + t {ray.Direction}, tMax {tMax}): the single test misses a box [{lo}, {hi}] the double test enters");
+                    entered += expected ? 1 : 0;
+                    extra += got && !expected ? 1 : 0;
+                    singleEntered += single && expected ? 1 : 0;
+                }
+            }
+        }
+
+        // The test must see both outcomes and the single form; and the single test must stay a
+        // test (entering everything would pass the containment trivially): it may enter a few
+        // more boxes than the double one, only where a ray passes within its rounding of a box.
+        Assert.True(entered > 1000, $"only {entered} boxes entered");
+        Assert.True(scale > 1e40 || scale < 1e-40 || singleEntered > entered / 2, $"the single form took {singleEntered} of {entered} entries");
+        Assert.True(scale < 1e-40 || extra * 20 < entered, $"the single test entered {extra} boxes the double test does not, of {entered}");
+
+        // And whole queries: the same hits and occlusion as the binary reference, both traversal
+        // forms. Not at 1e-200, where the primitive tests' products underflow (the two hierarchies'
+        // leaf tests are not what this test is about).
+        foreach (bool vectorised in scale > 1e-100 ? new[] { true, false } : [])
+        {
+            bvh.Vectorised = vectorised;
+            for (uint q = 0; q < 3000; q++)
+            {
+                int node = (int)(U(22, q, 0) * bvh.NodeCount);
+                (Vec3d lo, Vec3d hi, _) = bvh.ChildBox(node, 0);
+                Ray ray = BoxRay(lo, hi, scene, scale, offset, q) with { TMax = double.PositiveInfinity };
+                bool a = bvh.Intersect(ray, out SurfaceHit h);
+                bool b = reference.Intersect(ray, out SurfaceHit g);
+                Assert.Equal(b, a);
+                if (a)
+                {
+                    Assert.Equal(g.T, h.T); // the primitive may differ only where two are hit at the same distance (a shared edge)
+                }
+
+                double limit = a ? h.T * (1 + (1e-9 * (q % 2))) : 10 * scale;
+                Assert.Equal(reference.Occluded(ray, limit), bvh.Occluded(ray, limit));
+            }
+        }
+    }
+
+    /// <summary>
+    /// Adversarial rays for a box: from a corner, an edge or a face of it (exact plane values),
+    /// through a mesh vertex, along or almost along a face, or random; with tMax infinite, random,
+    /// or the double test's own entry distance.
+    /// </summary>
+    private static Ray BoxRay(Vec3d lo, Vec3d hi, Primitive[] scene, double scale, Vec3d offset, uint r)
+    {
+        double Pick(double a, double b, int d)
+        {
+            double u = U(23, r, d);
+            return u < 0.35 ? a : u < 0.7 ? b : a + ((b - a) * U(24, r, d));
+        }
+
+        Vec3d onBox = new(Pick(lo.X, hi.X, 0), Pick(lo.Y, hi.Y, 1), Pick(lo.Z, hi.Z, 2));
+        Vec3d random = (offset + new Vec3d((U(25, r, 0) * 30) - 15, (U(25, r, 1) * 30) - 15, (U(25, r, 2) * 30) - 15)) * scale;
+        Vec3d direction = Warp.UniformSphere(U(25, r, 3), U(25, r, 4));
+        Vec3d origin;
+        switch (r % 6)
+        {
+            case 0: // from the box's surface (corner, edge or face), any direction
+                origin = onBox;
+                break;
+            case 1: // from far away, exactly at a corner, edge point or face point
+                origin = random;
+                direction = ScaledVector.Unit(onBox - origin);
+                break;
+            case 2: // through a mesh vertex
+                origin = random;
+                direction = ScaledVector.Unit(scene[(int)(U(25, r, 5) * scene.Length)].A - origin);
+                break;
+            case 3: // along a face: one component 0 (the double form) or almost (the single form)
+                origin = onBox;
+                int axis = (int)(r / 6 % 3);
+                double along = r / 18 % 2 == 0 ? 0 : Math.Pow(10, -4 - (15 * U(25, r, 6)));
+                direction = ScaledVector.Unit(axis switch
+                {
+                    0 => direction with { X = along },
+                    1 => direction with { Y = along },
+                    _ => direction with { Z = along },
+                });
+                break;
+            case 4: // from inside the box
+                origin = new Vec3d(lo.X + ((hi.X - lo.X) * U(25, r, 7)), lo.Y + ((hi.Y - lo.Y) * U(25, r, 8)), lo.Z + ((hi.Z - lo.Z) * U(25, r, 9)));
+                break;
+            default:
+                origin = random;
+                break;
+        }
+
+        if (double.IsInfinity(origin.X) || double.IsInfinity(origin.Y) || double.IsInfinity(origin.Z) || !(direction.LengthSquared > 0))
+        {
+            origin = random; // a box of infinite planes (beyond float's range) has no point to start from
+            direction = Warp.UniformSphere(U(25, r, 3), U(25, r, 4));
+        }
+
+        var ray = new Ray(origin, direction, double.PositiveInfinity);
+        double tMax = (r / 6 % 4) switch
+        {
+            0 => double.PositiveInfinity,
+            1 => 20 * scale * U(26, r, 0),
+            _ => EntryDistance(lo, hi, ray),
+        };
+        return ray with { TMax = tMax > 0 ? tMax : double.PositiveInfinity };
+    }
+
+    /// <summary>The double slab test's entry distance into [lo, hi] (Kay &amp; Kajiya 1986), computed as ReferenceBvh does.</summary>
+    private static double EntryDistance(Vec3d lo, Vec3d hi, Ray ray)
+    {
+        Vec3d inv = ReferenceBvh.InverseDirection(ray.Direction);
+        double tx1 = (lo.X - ray.Origin.X) * inv.X, tx2 = (hi.X - ray.Origin.X) * inv.X;
+        double ty1 = (lo.Y - ray.Origin.Y) * inv.Y, ty2 = (hi.Y - ray.Origin.Y) * inv.Y;
+        double tz1 = (lo.Z - ray.Origin.Z) * inv.Z, tz2 = (hi.Z - ray.Origin.Z) * inv.Z;
+        return Math.Max(Math.Max(Math.Min(tx1, tx2), Math.Min(ty1, ty2)), Math.Min(tz1, tz2));
+    }
+
     /// <summary>A closed mesh with shared vertices: a sphere whose radius ripples by ±8 %, slices × stacks cells (invented test geometry).</summary>
     private static Primitive[] BumpySphere(Vec3d centre, double radius, int slices, int stacks)
     {

@@ -72,6 +72,46 @@ public sealed class PermutedRadicalInverseTests
     }
 
     /// <summary>
+    /// Every digit position's map is a bijection of 0..b−1 (Braaten &amp; Weller 1979: a permutation per position), read
+    /// off the one-point reference: the indices h·b^(k+1) + d·b^k + r for d = 0 … b−1 (as far as 32 bits reach) differ
+    /// only in digit k, so their points must fall in b different intervals of width b^−(k+1). Every position up to the
+    /// top one of a 32-bit index, lower digits zero or not, a higher digit or none; bases at and past the Fisher–Yates
+    /// table's limit (61, 67), a large base's drawn digits and the rest mapped by Kensler's permutation onto the values
+    /// left (67 … 8161), and a base past the cached powers. Deterministic: fixed keys, no statistics.
+    /// </summary>
+    [Fact]
+    public void Every_digit_position_maps_its_digits_one_to_one()
+    {
+        var primes = RadicalInverse.Primes;
+        int[] bases = [3, 5, 31, 61, 67, 71, 127, primes[255], primes[256], primes[1023]];
+        foreach (int b in bases)
+        {
+            for (ulong keyNumber = 0; keyNumber < 4; keyNumber++)
+            {
+                ulong key = SampleHash.Mix64(keyNumber * 7919 + (ulong)b);
+                ulong power = 1; // b^k
+                for (int k = 0; k < RadicalInverse.DigitsFor(b); k++, power *= (ulong)b)
+                {
+                    foreach (ulong low in new ulong[] { 0, SampleHash.Mix64(keyNumber) % power })
+                    {
+                        foreach (ulong high in new ulong[] { 0, power * (ulong)b })
+                        {
+                            var seen = new HashSet<ulong>();
+                            for (ulong d = 0; d < (ulong)b && high + d * power + low <= uint.MaxValue; d++)
+                            {
+                                uint index = (uint)(high + d * power + low);
+                                double x = RadicalInverse.Permuted(index, b, key);
+                                ulong interval = (ulong)Math.Floor(x * power * b);
+                                Assert.True(seen.Add(interval), $"b={b} k={k} key={key:x} index={index}: interval {interval} twice");
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
     /// The construction's claim: the map of position 0 is a uniformly random permutation, so the ordered pair of the
     /// images of digits 0 and 1 (read off points 0 and 1 as the stratum of 1/b they fall in) is uniform over the
     /// b·(b − 1) ordered pairs of distinct digits, and the image of 0 of position 1 (point 1's second digit) is uniform

@@ -19,12 +19,18 @@ internal static class BenchCommand
             Description = "Measure the sampler share of these only: GENERATOR or GENERATOR/RANDOMIZE (repeatable; default: every combination)",
             AllowMultipleArgumentsPerToken = false,
         };
+        var slices = new Option<int>("--sphere-slices")
+        {
+            Description = $"Longitude slices of each of the tessellated room's 64 spheres (even, {BenchScenes.MinSphereSlices} to {BenchScenes.MaxSphereSlices}; latitude stacks are half as many; {BenchScenes.DefaultSphereSlices} gives 1 032 192 triangles): run it smaller or larger to see what the scene's size costs",
+            DefaultValueFactory = _ => BenchScenes.DefaultSphereSlices,
+        };
         var command = new Command("bench", "Measure BVH build, ray throughput (primary and incoherent), render speed, thread scaling and each sampler's share of a frame");
         command.Options.Add(scene);
         command.Options.Add(threads);
         command.Options.Add(json);
         command.Options.Add(noShare);
         command.Options.Add(shareOf);
+        command.Options.Add(slices);
         command.SetAction(parse =>
         {
             int t = parse.GetValue(threads);
@@ -36,12 +42,28 @@ internal static class BenchCommand
                 throw new CliUsageException($"--scene: unknown benchmark scene '{name}'; known: {string.Join(", ", BenchScenes.Names)}");
             }
 
+            int sphereSlices = parse.GetValue(slices);
+            if (parse.GetResult(slices) is { Implicit: false })
+            {
+                if (name == BenchScenes.FurnishedRoom)
+                {
+                    throw new CliUsageException($"--sphere-slices: the {BenchScenes.FurnishedRoom} scene has no tessellated spheres; use it with --scene {BenchScenes.TessellatedRoom} or without --scene");
+                }
+
+                SamplerOptions.RequireAtLeast("--sphere-slices", sphereSlices, BenchScenes.MinSphereSlices);
+                SamplerOptions.RequireAtMost("--sphere-slices", sphereSlices, BenchScenes.MaxSphereSlices, $"{BenchScenes.TessellatedTriangles(BenchScenes.MaxSphereSlices)} triangles");
+                if (sphereSlices % 2 != 0)
+                {
+                    throw new CliUsageException($"--sphere-slices: must be even (latitude stacks are half as many), got {sphereSlices}");
+                }
+            }
+
             IReadOnlyList<(string Generator, string Randomize)> shares = parse.GetValue(noShare) ? [] : ShareCombinations(parse.GetValue(shareOf) ?? []);
             bool asJson = parse.GetValue(json);
             var reports = new List<BenchReport>();
             foreach (string s in name is null ? BenchScenes.Names : [name])
             {
-                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default, shares, line => io.Error.WriteLine("bench: " + line)));
+                reports.Add(ThroughputBench.Run(s, t, BenchSizes.Default with { SphereSlices = sphereSlices }, shares, line => io.Error.WriteLine("bench: " + line)));
             }
 
             if (asJson)
@@ -101,6 +123,11 @@ internal static class BenchCommand
             w.WriteString("scene", r.Scene);
             w.WriteNumber("primitives", r.Primitives);
             w.WriteNumber("triangles", r.Triangles);
+            if (r.SphereSlices is int n)
+            {
+                w.WriteNumber("sphere_slices", n);
+            }
+
             w.WriteNumber("threads", r.Threads);
             w.Number("bvh_build_seconds", r.BvhBuildSeconds);
             w.Number("bvh_build_triangles_per_second", r.BvhTrianglesPerSecond);
@@ -159,7 +186,7 @@ internal static class BenchCommand
     private static void WriteTable(TextWriter o, BenchReport r)
     {
         var inv = CultureInfo.InvariantCulture;
-        o.WriteLine(string.Create(inv, $"{r.Scene}: {r.Primitives} primitives ({r.Triangles} triangles), {r.Threads} threads for the totals"));
+        o.WriteLine(string.Create(inv, $"{r.Scene}: {r.Primitives} primitives ({r.Triangles} triangles{(r.SphereSlices is int n ? $", {n} slices a sphere" : "")}), {r.Threads} threads for the totals"));
         o.WriteLine(string.Create(inv, $"  BVH build          {r.BvhBuildSeconds,8:F3} s   {r.BvhTrianglesPerSecond / 1e6,8:F2} M primitives/s   {r.BvhBytesPerTriangle:F1} B/primitive (nodes), {r.TotalBytesPerTriangle:F1} with primitives"));
         o.WriteLine(string.Create(inv, $"  light set          {r.LightSetBytes / 1e6,8:F2} MB"));
         o.WriteLine(string.Create(inv, $"  primary rays       {r.Primary.MraysPerCore,8:F2} Mrays/s per core   {r.Primary.MraysTotal,8:F2} total   scaling {r.Primary.Scaling:F2}x{UseText(r.Primary.Use)}"));

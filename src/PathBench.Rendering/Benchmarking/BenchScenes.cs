@@ -12,7 +12,7 @@ namespace PathBench.Rendering.Benchmarking;
 /// </summary>
 public static class BenchScenes
 {
-    /// <summary>The room with 64 bumpy tessellated spheres: 1 032 192 triangles.</summary>
+    /// <summary>The room with 64 bumpy tessellated spheres: 1 032 192 triangles at the default <see cref="DefaultSphereSlices"/>.</summary>
     public const string TessellatedRoom = "tessellated-room";
 
     /// <summary>The room with a handful of spheres, a table and a shelf: about twenty primitives, like the demo scenes.</summary>
@@ -21,12 +21,47 @@ public static class BenchScenes
     /// <summary>Every scene name, in the order <c>pathbench bench</c> runs them.</summary>
     public static IReadOnlyList<string> Names { get; } = [TessellatedRoom, FurnishedRoom];
 
-    // Tessellation of each sphere: longitude slices × latitude stacks.
-    private const int Slices = 128, Stacks = 64;
+    /// <summary>Longitude slices of each tessellated sphere by default (latitude stacks are half as many).</summary>
+    public const int DefaultSphereSlices = 128;
+
+    /// <summary>Fewest slices a tessellated sphere may have.</summary>
+    public const int MinSphereSlices = 4;
+
+    /// <summary>Most slices a tessellated sphere may have: 268 173 312 triangles, far past any memory budget, so the budget decides.</summary>
+    public const int MaxSphereSlices = 2048;
+
+    /// <summary>
+    /// Bytes one triangle of the tessellated room adds to the benchmark's peak memory (common
+    /// practice: measured, not derived, rounded up). Peak resident memory of <c>pathbench bench
+    /// --scene tessellated-room --no-sampler-share --threads 1</c> at 8, 64, 128 and 256 slices
+    /// (235, 669, 1898 and 6706 MB) grows by 1.58 to 1.63 KB a triangle: the primitive list, its
+    /// array and the copy the benchmark reads, the hierarchy and its hit records, the build's
+    /// temporary arrays, and the hierarchies the build timing makes before the collector frees them.
+    /// </summary>
+    public const long BytesPerTriangle = 1700;
+
+    /// <summary>Peak memory of the benchmark apart from its triangles: the runtime, the 320 × 240 × 8 primary and bounce rays, the films (235 MB measured with 3 072 triangles, rounded up).</summary>
+    public const long BaseBytes = 256L << 20;
+
+    /// <summary>Triangles of the tessellated room's 64 spheres with <paramref name="slices"/> slices each (the walls and panel not counted).</summary>
+    public static long TessellatedTriangles(int slices) => 64L * slices * (slices - 2);
+
+    /// <summary>Peak memory <c>pathbench bench</c> needs for <paramref name="name"/> (the tessellated room grows with <paramref name="sphereSlices"/>).</summary>
+    public static long EstimatedBytes(string name, int sphereSlices) =>
+        BaseBytes + (name == TessellatedRoom ? TessellatedTriangles(sphereSlices) * BytesPerTriangle : 0);
 
     /// <summary>Builds the named scene at the given resolution.</summary>
-    public static Scene Create(string name, int width, int height)
+    /// <param name="name">One of <see cref="Names"/>.</param>
+    /// <param name="width">Image width.</param>
+    /// <param name="height">Image height.</param>
+    /// <param name="sphereSlices">Longitude slices of each tessellated sphere (even, <see cref="MinSphereSlices"/> to <see cref="MaxSphereSlices"/>; latitude stacks are half as many); the tessellated room only.</param>
+    public static Scene Create(string name, int width, int height, int sphereSlices = DefaultSphereSlices)
     {
+        if (sphereSlices is < MinSphereSlices or > MaxSphereSlices || sphereSlices % 2 != 0)
+        {
+            throw new ArgumentOutOfRangeException(nameof(sphereSlices), sphereSlices, $"an even number from {MinSphereSlices} to {MaxSphereSlices}");
+        }
+
         Material[] materials =
         [
             Material.Diffuse("wall", new Rgb(0.75, 0.72, 0.68)),
@@ -34,7 +69,7 @@ public static class BenchScenes
             Material.Diffuse("clay", new Rgb(0.6, 0.45, 0.35)),
             Material.Diffuse("stone", Rgb.Grey(0.5)),
         ];
-        var prims = new List<Primitive>(name == TessellatedRoom ? 64 * 2 * Slices * (Stacks - 1) + 16 : 32);
+        var prims = new List<Primitive>(name == TessellatedRoom ? (int)TessellatedTriangles(sphereSlices) + 16 : 32);
         AddRoom(prims);
         switch (name)
         {
@@ -44,7 +79,7 @@ public static class BenchScenes
                     for (int i = 0; i < 8; i++)
                     {
                         var centre = new Vec3d(-3.15 + 0.9 * i, 0.38 + 0.25 * ((i + j) % 3), -3.15 + 0.9 * j);
-                        AddBumpySphere(prims, centre, 0.36, (i + j) % 2 == 0 ? 2 : 3, 3 + (i + 2 * j) % 5);
+                        AddBumpySphere(prims, centre, 0.36, (i + j) % 2 == 0 ? 2 : 3, 3 + (i + 2 * j) % 5, sphereSlices, sphereSlices / 2);
                     }
                 }
 
@@ -79,28 +114,34 @@ public static class BenchScenes
         prims.Add(Primitive.Quad(new(-1, 4.99, -1), new(2, 0, 0), new(0, 0, 2), 1));
     }
 
-    /// <summary>A sphere whose radius ripples by ±8 %, as a closed triangle mesh with shared vertices.</summary>
-    private static void AddBumpySphere(List<Primitive> prims, Vec3d centre, double radius, int material, int ripples)
+    /// <summary>A sphere whose radius ripples by ±8 %, as a closed triangle mesh whose neighbouring triangles share their vertices bit for bit.</summary>
+    private static void AddBumpySphere(List<Primitive> prims, Vec3d centre, double radius, int material, int ripples, int slices, int stacks)
     {
         Vec3d Vertex(int slice, int stack)
         {
-            double theta = Math.PI * stack / Stacks, phi = 2 * Math.PI * (slice % Slices) / Slices;
+            // The poles exactly (sin π is 1.2e-16, not 0), so every slice's pole triangle meets the same point.
+            if (stack == 0 || stack == stacks)
+            {
+                return centre + new Vec3d(0, stack == 0 ? radius : -radius, 0);
+            }
+
+            double theta = Math.PI * stack / stacks, phi = 2 * Math.PI * (slice % slices) / slices;
             double r = radius * (1 + 0.08 * Math.Sin(ripples * theta) * Math.Cos(ripples * phi));
             return centre + new Vec3d(Math.Sin(theta) * Math.Cos(phi), Math.Cos(theta), Math.Sin(theta) * Math.Sin(phi)) * r;
         }
 
-        for (int s = 0; s < Slices; s++)
+        for (int s = 0; s < slices; s++)
         {
             // One triangle per slice at each pole, two per cell between them (outward winding).
             prims.Add(Primitive.Triangle(Vertex(s, 0), Vertex(s + 1, 1), Vertex(s, 1), material, -1));
-            for (int k = 1; k < Stacks - 1; k++)
+            for (int k = 1; k < stacks - 1; k++)
             {
                 Vec3d a = Vertex(s, k), b = Vertex(s + 1, k), c = Vertex(s, k + 1), d = Vertex(s + 1, k + 1);
                 prims.Add(Primitive.Triangle(a, b, d, material, -1));
                 prims.Add(Primitive.Triangle(a, d, c, material, -1));
             }
 
-            prims.Add(Primitive.Triangle(Vertex(s, Stacks - 1), Vertex(s + 1, Stacks - 1), Vertex(s, Stacks), material, -1));
+            prims.Add(Primitive.Triangle(Vertex(s, stacks - 1), Vertex(s + 1, stacks - 1), Vertex(s, stacks), material, -1));
         }
     }
 }

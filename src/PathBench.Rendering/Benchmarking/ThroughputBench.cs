@@ -1,5 +1,7 @@
 using System.Diagnostics;
+using System.Globalization;
 using System.Runtime.CompilerServices;
+using PathBench.Io;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
@@ -88,6 +90,9 @@ public sealed record BenchReport(
     /// <summary>Bytes of the scene's light set (<see cref="LightSet"/>).</summary>
     public long LightSetBytes { get; init; }
 
+    /// <summary>Slices of each tessellated sphere (<see cref="BenchSizes.SphereSlices"/>); null for a scene without them.</summary>
+    public int? SphereSlices { get; init; }
+
     /// <summary>Primitives per second of BVH build.</summary>
     public double BvhTrianglesPerSecond => Primitives / BvhBuildSeconds;
 
@@ -109,6 +114,9 @@ public sealed record BenchSizes(int Width, int Height, int Spp, int ShareWidth, 
 {
     /// <summary>What <c>pathbench bench</c> runs.</summary>
     public static BenchSizes Default { get; } = new(320, 240, 8, 96, 16, 3);
+
+    /// <summary>Longitude slices of each of the tessellated room's spheres (<see cref="BenchScenes.Create"/>): the size ladder that separates a ray's own work from the memory it waits for.</summary>
+    public int SphereSlices { get; init; } = BenchScenes.DefaultSphereSlices;
 }
 
 /// <summary>
@@ -132,8 +140,12 @@ public static class ThroughputBench
         ArgumentNullException.ThrowIfNull(shareOf);
         ArgumentNullException.ThrowIfNull(sizes);
         threads = Math.Max(1, threads);
+        var inv = CultureInfo.InvariantCulture;
+        MemoryBudget.Current.Require(BenchScenes.EstimatedBytes(sceneName, sizes.SphereSlices), sceneName == BenchScenes.TessellatedRoom
+            ? string.Create(inv, $"the {sceneName} benchmark with {sizes.SphereSlices} slices a sphere ({BenchScenes.TessellatedTriangles(sizes.SphereSlices)} triangles, about {BenchScenes.BytesPerTriangle} bytes each at its peak, and {BenchScenes.BaseBytes >> 20} MiB of rays and films)")
+            : string.Create(inv, $"the {sceneName} benchmark ({BenchScenes.BaseBytes >> 20} MiB of rays and films)"));
         log?.Invoke($"{sceneName}: generating the scene");
-        Scene scene = BenchScenes.Create(sceneName, sizes.Width, sizes.Height);
+        Scene scene = BenchScenes.Create(sceneName, sizes.Width, sizes.Height, sizes.SphereSlices);
         Primitive[] prims = scene.Bvh.Primitives.ToArray();
         int triangles = prims.Count(p => p.Kind == PrimitiveKind.Triangle);
 
@@ -159,7 +171,7 @@ public static class ThroughputBench
         };
 
         var shares = new List<SamplerShare>();
-        Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4);
+        Scene small = BenchScenes.Create(sceneName, sizes.ShareWidth, sizes.ShareWidth * 3 / 4, sizes.SphereSlices);
         foreach ((string g, string r) in shareOf)
         {
             log?.Invoke($"{sceneName}: sampler share of {g}/{r}");
@@ -169,6 +181,7 @@ public static class ThroughputBench
         return new BenchReport(sceneName, prims.Length, triangles, threads, build, bvh.NodeBytes, ((long)prims.Length * Unsafe.SizeOf<Primitive>()) + bvh.HitRecordBytes, p, b, render, shares)
         {
             LightSetBytes = scene.Lights.Bytes,
+            SphereSlices = sceneName == BenchScenes.TessellatedRoom ? sizes.SphereSlices : null,
         };
     }
 

@@ -1,4 +1,6 @@
 using PathBench.Rendering.Benchmarking;
+using PathBench.Rendering.Geometry;
+using PathBench.Sampling.Warps;
 using PathBench.Sampling.Generators;
 
 namespace PathBench.Rendering.Tests.Benchmarking;
@@ -60,4 +62,42 @@ public sealed class ThroughputBenchTests
         Assert.Equal(chosen, report.SamplerShares.Select(s => (s.Generator, s.Randomize)).ToArray());
         Assert.Empty(ThroughputBench.Run("furnished-room", 1, new BenchSizes(8, 6, 1, 8, 4, 1), Array.Empty<(string, string)>()).SamplerShares);
     }
+
+    [Theory]
+    [InlineData(4)]
+    [InlineData(10)]
+    [InlineData(32)]
+    public void The_tessellated_spheres_are_closed_meshes_of_the_stated_size(int slices)
+    {
+        // Euler's polyhedron formula V − E + F = 2 for each closed surface of sphere topology, so 128 for
+        // the room's 64 spheres, with every edge shared by exactly two triangles (a closed, manifold mesh).
+        // Vertices are identified by their exact coordinates: the mesh repeats a shared vertex bit for bit.
+        Scene scene = BenchScenes.Create(BenchScenes.TessellatedRoom, 8, 6, slices);
+        var triangles = scene.Bvh.Primitives.ToArray().Where(p => p.Kind == PrimitiveKind.Triangle).ToList();
+        Assert.Equal(BenchScenes.TessellatedTriangles(slices), triangles.Count);
+        var ids = new Dictionary<Vec3d, int>();
+        var edges = new Dictionary<(int, int), int>();
+        foreach (Primitive t in triangles)
+        {
+            int[] v = [Id(t.A), Id(t.B), Id(t.C)];
+            for (int k = 0; k < 3; k++)
+            {
+                (int a, int b) = (v[k], v[(k + 1) % 3]);
+                var key = a < b ? (a, b) : (b, a);
+                edges[key] = edges.GetValueOrDefault(key) + 1;
+            }
+        }
+
+        Assert.All(edges, e => Assert.Equal(2, e.Value));
+        Assert.Equal(2 * 64, ids.Count - edges.Count + triangles.Count);
+
+        int Id(Vec3d p) => ids.TryGetValue(p, out int id) ? id : ids[p] = ids.Count;
+    }
+
+    [Theory]
+    [InlineData(3)]
+    [InlineData(2)]
+    [InlineData(2050)]
+    public void Sphere_slices_outside_the_range_or_odd_are_refused(int slices) =>
+        Assert.Throws<ArgumentOutOfRangeException>(() => BenchScenes.Create(BenchScenes.TessellatedRoom, 8, 6, slices));
 }

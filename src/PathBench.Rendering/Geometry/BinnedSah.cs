@@ -124,7 +124,8 @@ internal static class BinnedSah
     /// <param name="maxLeaf">Most primitives in a leaf (at most 255).</param>
     /// <param name="threads">Threads to build on (0: all cores).</param>
     /// <param name="leafSizes">When given (length n, zeroed): each leaf's size is written at its first position.</param>
-    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0, byte[]? leafSizes = null)
+    /// <param name="sharesLeaf">When given (length n, by input index): which primitives may share a leaf; the others get a leaf of their own.</param>
+    public static (Node[] Nodes, int[] Order) Build(Primitive[] primitives, int maxLeaf, int threads = 0, byte[]? leafSizes = null, bool[]? sharesLeaf = null)
     {
         if (primitives.Length == 0)
         {
@@ -156,7 +157,7 @@ internal static class BinnedSah
         }
 
         var nodes = GC.AllocateUninitializedArray<Node>((2 * n) - 1);
-        new Builder(items, nodes, maxLeaf, threads > 1 ? options : null, leafSizes).Build(0, n, 0, 0, root);
+        new Builder(items, nodes, maxLeaf, threads > 1 ? options : null, leafSizes, sharesLeaf).Build(0, n, 0, 0, root);
         var order = new int[n];
         for (int i = 0; i < n; i++)
         {
@@ -191,7 +192,7 @@ internal static class BinnedSah
         return p.GetElement(0) + p.GetElement(1) + p.GetElement(2);
     }
 
-    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel, byte[]? leafSizes)
+    private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel, byte[]? leafSizes, bool[]? sharesLeaf)
     {
         /// <summary>Builds the subtree over items [start, end) into <paramref name="slot"/> and the slots after it.</summary>
         public void Build(int start, int end, int slot, int depth, RangeBounds bounds)
@@ -207,14 +208,16 @@ internal static class BinnedSah
                 Vector128.Create(bins * (1 - 1e-6f)) / extent,
                 Vector128<float>.Zero);
             int axis = -1, split = -1;
-            // A leaf costs its intersections; up to maxLeaf primitives may stay together when no split is cheaper.
-            float bestCost = count <= maxLeaf ? IntersectionCost * count : float.PositiveInfinity;
+            // A leaf costs its intersections; up to maxLeaf primitives may stay together when no split
+            // is cheaper, except primitives that may not share a leaf, which get one of their own.
+            bool mayLeaf = count <= maxLeaf && (count == 1 || !AnyAlone(start, end));
+            float bestCost = mayLeaf ? IntersectionCost * count : float.PositiveInfinity;
             if (count > 1 && depth < MaxDepth - 1 && scale != Vector128<float>.Zero)
             {
                 (axis, split) = BestSplit(start, end, bins, bounds, scale, ref bestCost);
             }
 
-            if (axis < 0 && (count <= maxLeaf || depth >= MaxDepth - 1))
+            if (axis < 0 && (mayLeaf || depth >= MaxDepth - 1))
             {
                 nodes[slot] = Node.Leaf(bounds.Lo, bounds.Hi, start, count);
                 if (leafSizes is not null)
@@ -256,6 +259,25 @@ internal static class BinnedSah
                 Build(start, mid, slot + 1, depth + 1, left);
                 Build(mid, end, rightSlot, depth + 1, right);
             }
+        }
+
+        /// <summary>Whether any item in [<paramref name="start"/>, <paramref name="end"/>) may not share a leaf (asked only of ranges small enough to be one).</summary>
+        private bool AnyAlone(int start, int end)
+        {
+            if (sharesLeaf is null)
+            {
+                return false;
+            }
+
+            for (int i = start; i < end; i++)
+            {
+                if (!sharesLeaf[items[i].Index])
+                {
+                    return true;
+                }
+            }
+
+            return false;
         }
 
         /// <summary>Bins the range's centroids on all three axes in one pass and returns the cheapest split (axis −1 when none beats <paramref name="bestCost"/>).</summary>

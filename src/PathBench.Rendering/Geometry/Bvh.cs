@@ -8,7 +8,8 @@ namespace PathBench.Rendering.Geometry;
 
 /// <summary>
 /// An eight-wide bounding volume hierarchy over all primitives: the binary binned-SAH tree of
-/// <see cref="BinnedSah"/> (leaves of up to four primitives) collapsed so each node holds the
+/// <see cref="BinnedSah"/> (leaves of up to four triangles; any other primitive alone in its
+/// leaf, so the box test culls it before its scalar hit test) collapsed so each node holds the
 /// boxes of up to eight children side by side (the collapse of a binary tree into wide nodes of
 /// Wald, Benthin &amp; Boulos 2008, "Getting Rid of Packets", and Ernst &amp; Greiner 2008,
 /// "Multi Bounding Volume Hierarchies", both IEEE Symposium on Interactive Ray Tracing), and one
@@ -88,7 +89,6 @@ public sealed class Bvh
 
         int n = primitives.Length;
         byte[] leafSizes = new byte[n];
-        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads, leafSizes);
         var options = new ParallelOptions { MaxDegreeOfParallelism = threads <= 0 ? Environment.ProcessorCount : threads };
         const int Chunk = 16384;
         bool[] triangle = GC.AllocateUninitializedArray<bool>(n);
@@ -99,6 +99,11 @@ public sealed class Bvh
                 triangle[i] = primitives[i].Kind == PrimitiveKind.Triangle;
             }
         });
+
+        // Triangles share leaves (tested four at a time from their hit records); any other
+        // primitive gets a leaf of its own, so the node's eight-wide box test culls it before its
+        // scalar hit test runs.
+        (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads, leafSizes, triangle);
 
         // The collapse (sequential) runs beside the primitives' reorder into leaf order and their
         // hit records (a run of positions per task; each leaf is written by the task its first

@@ -413,6 +413,67 @@ public sealed class BvhTests
     }
 
     [Fact]
+    public void Only_triangles_share_leaves()
+    {
+        // Leaves hold up to four triangles (tested four at a time from their hit records); any
+        // other primitive is alone in its leaf, so the eight-wide box test culls it before its
+        // scalar test. The scene packs 600 triangles and 200 analytic shapes into one small cube,
+        // with pairs of equal bounds (a sphere on a triangle's box, two equal spheres), where no
+        // bin split separates them and the builder must halve the range. Every primitive must sit
+        // in exactly one leaf (common practice: the invariant of any BVH).
+        var prims = new List<Primitive>();
+        for (uint i = 0; i < 600; i++)
+        {
+            var c = new Vec3d(U(3, i, 0), U(3, i, 1), U(3, i, 2));
+            prims.Add(Primitive.Triangle(c, c + new Vec3d(0.05, U(3, i, 3) * 0.05, 0), c + new Vec3d(0, 0.05, U(3, i, 4) * 0.05), 0, -1));
+        }
+
+        for (uint i = 0; i < 200; i++)
+        {
+            var c = new Vec3d(U(4, i, 0), U(4, i, 1), U(4, i, 2));
+            prims.Add((i % 3) switch
+            {
+                0 => Primitive.Sphere(c, 0.02, 0),
+                1 => Primitive.Quad(c, new(0.04, 0, 0), new(0, 0, 0.04), 0),
+                _ => Primitive.Disk(c, new(0, 1, 0), 0.03, 0),
+            });
+        }
+
+        prims.Add(Primitive.Sphere(new(0.5, 0.5, 0.5), 0.1, 0));
+        prims.Add(Primitive.Sphere(new(0.5, 0.5, 0.5), 0.1, 0));
+        prims.Add(Primitive.Triangle(new(0.4, 0.4, 0.4), new(0.6, 0.6, 0.4), new(0.4, 0.6, 0.6), 0, -1));
+        prims.Add(Primitive.Sphere(new(0.5, 0.5, 0.5), 0.1, 0)); // the triangle's box and centroid's neighbour
+        var bvh = new Bvh([.. prims]);
+        var seen = new int[prims.Count];
+        int shared = 0;
+        for (int node = 0; node < bvh.NodeCount; node++)
+        {
+            for (int lane = 0; lane < 8; lane++)
+            {
+                (Vec3d min, _, int child) = bvh.ChildBox(node, lane);
+                if (double.IsPositiveInfinity(min.X) || child >= 0)
+                {
+                    continue; // an empty lane or a node
+                }
+
+                int start = ~child >> 3, count = (~child & 3) + 1;
+                bool triangles = (~child & 4) != 0;
+                for (int i = start; i < start + count; i++)
+                {
+                    seen[i]++;
+                    Assert.True(count == 1 || bvh.Primitives[i].Kind == PrimitiveKind.Triangle, $"a {bvh.Primitives[i].Kind} shares a leaf of {count}");
+                    Assert.Equal(triangles, count == 1 ? bvh.Primitives[i].Kind == PrimitiveKind.Triangle : true);
+                }
+
+                shared += count > 1 ? 1 : 0;
+            }
+        }
+
+        Assert.All(seen, s => Assert.Equal(1, s));
+        Assert.True(shared > 0, "some triangles share leaves (else the test shows nothing)");
+    }
+
+    [Fact]
     public void Build_is_the_same_tree_for_any_thread_count()
     {
         // Determinism (issue 12): the parallel build must give the same tree on 1, 2 or 3

@@ -36,11 +36,13 @@ public static class RayOffset
     /// that <paramref name="direction"/> points to. The offset scales with the coordinates'
     /// magnitude because double rounding error does (common practice).
     /// </summary>
-    public static Vec3d Offset(Vec3d p, Vec3d n, Vec3d direction)
-    {
-        double scale = Scale(p);
-        return Vec3d.Dot(n, direction) >= 0 ? p + n * scale : p - n * scale;
-    }
+    public static Vec3d Offset(Vec3d p, Vec3d n, Vec3d direction) => Offset(p, n, Vec3d.Dot(n, direction), Scale(p));
+
+    /// <summary>
+    /// <see cref="Offset(Vec3d, Vec3d, Vec3d)"/> given n · direction (<paramref name="cosine"/>) and
+    /// <see cref="Scale"/> of <paramref name="p"/>, for a caller that already has them: the same bits.
+    /// </summary>
+    public static Vec3d Offset(Vec3d p, Vec3d n, double cosine, double scale) => cosine >= 0 ? p + n * scale : p - n * scale;
 
     /// <summary>The offset distance used at <paramref name="p"/>: 1e-9 · (1 + max |coordinate|).</summary>
     public static double Scale(Vec3d p) => 1e-9 * (1 + Math.Max(Math.Abs(p.X), Math.Max(Math.Abs(p.Y), Math.Abs(p.Z))));
@@ -51,6 +53,9 @@ public static class RayOffset
     /// light's own surface by more than both points' offsets and their rounding, so the light does
     /// not shadow itself at any scale.
     /// </summary>
-    public static double ShadowLimit(Vec3d from, Vec3d to, double distance) =>
-        distance - 4 * (Scale(from) + Scale(to)) - 1e-9 * distance;
+    public static double ShadowLimit(Vec3d from, Vec3d to, double distance) => ShadowLimit(Scale(from), to, distance);
+
+    /// <summary><see cref="ShadowLimit(Vec3d, Vec3d, double)"/> given <see cref="Scale"/> of the ray's start (<paramref name="fromScale"/>): the same bits.</summary>
+    public static double ShadowLimit(double fromScale, Vec3d to, double distance) =>
+        distance - 4 * (fromScale + Scale(to)) - 1e-9 * distance;
 }

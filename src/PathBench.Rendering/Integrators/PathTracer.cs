@@ -251,6 +251,9 @@ public sealed class PathTracer
         // n_g · wo: the sign tells which side of the surface the path arrived from.
         public double CosWo;
 
+        // RayOffset.Scale(Point): both rays that leave the vertex and the shadow ray's limit use it.
+        public double OffsetScale;
+
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public void Set(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
         {
@@ -263,6 +266,7 @@ public sealed class PathTracer
             WoLocal = Frame.ToLocal(wo);
             Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
             CosWo = Vec3d.Dot(hit.GeometricNormal, wo);
+            OffsetScale = RayOffset.Scale(hit.Point);
         }
     }
 
@@ -299,9 +303,10 @@ public sealed class PathTracer
     {
         Unsafe.SkipInit(out direct);
         LightSample ls = _onlyOneLight ? _lights.SampleOnlyLight(vertex.Point, lu, lv) : _lights.Sample(vertex.Point, choice, lu, lv);
+        double cosGeometric = Vec3d.Dot(vertex.GeometricNormal, ls.Direction);
         if (!(ls.Pdf > 0) || ls.Radiance.IsBlack
             // Light arriving from below the geometric surface cannot reach a one-sided reflector's front.
-            || !(Vec3d.Dot(vertex.GeometricNormal, ls.Direction) * vertex.CosWo > 0))
+            || !(cosGeometric * vertex.CosWo > 0))
         {
             return false;
         }
@@ -313,10 +318,10 @@ public sealed class PathTracer
             return false;
         }
 
-        direct.Shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, ls.Direction), ls.Direction, double.PositiveInfinity);
+        direct.Shadow = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, cosGeometric, vertex.OffsetScale), ls.Direction, double.PositiveInfinity);
         direct.TMax = double.IsPositiveInfinity(ls.Distance)
             ? double.PositiveInfinity
-            : RayOffset.ShadowLimit(vertex.Point, vertex.Point + ls.Direction * ls.Distance, ls.Distance);
+            : RayOffset.ShadowLimit(vertex.OffsetScale, vertex.Point + ls.Direction * ls.Distance, ls.Distance);
         double w = _strategy == LightStrategy.Mis ? PowerHeuristic(ls.Pdf, bsdfPdf) : 1.0;
         direct.Contribution = beta * f * ls.Radiance * (Math.Abs(wiLocal.Z) * w / ls.Pdf);
         return true;
@@ -351,7 +356,8 @@ public sealed class PathTracer
         // A shading-normal direction that crosses the geometric surface the wrong way
         // would leak light through it; such samples end the path (common practice).
         bool reflect = bs.Direction.Z * vertex.WoLocal.Z > 0;
-        if ((Vec3d.Dot(vertex.GeometricNormal, wi) * vertex.CosWo > 0) != reflect)
+        double cosGeometric = Vec3d.Dot(vertex.GeometricNormal, wi);
+        if ((cosGeometric * vertex.CosWo > 0) != reflect)
         {
             return false;
         }
@@ -359,7 +365,7 @@ public sealed class PathTracer
         beta *= bs.Weight;
         delta = bs.IsDelta;
         pdf = bs.Pdf;
-        ray = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, wi), wi, double.PositiveInfinity);
+        ray = new Ray(RayOffset.Offset(vertex.Point, vertex.GeometricNormal, cosGeometric, vertex.OffsetScale), wi, double.PositiveInfinity);
         return true;
     }
 

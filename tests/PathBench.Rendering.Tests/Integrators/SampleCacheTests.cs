@@ -88,6 +88,32 @@ public sealed class SampleCacheTests
     }
 
     [Theory]
+    [InlineData("halton", "digit-permutation", true)]
+    [InlineData("halton", "none", false)]
+    [InlineData("sobol", "owen", false)]
+    public void A_deep_dimension_is_made_for_the_rest_of_the_block_when_whole_runs_cost_little_more(string generator, string randomize, bool whole)
+    {
+        // A vertex past the second asks in runs of DeepRun samples, unless the sampler says a batch costs about the same
+        // whatever its length (Halton's digit permutations draw a position's map per run): then the rest of the block.
+        PointSampler s = Create(generator, randomize, 16, 40);
+        Assert.Equal(whole, s.WholeRunsCostLittleMore);
+        var calls = new List<SampleBatchCall>();
+        var cache = new SampleCache(s, 40) { Recorder = calls };
+        ulong key = s.PixelKey(5, 6);
+        cache.BeginBlock(key, 0, 16);
+        int roulette = DimensionLayout.Vertex(4) + DimensionLayout.Roulette;
+        for (int j = 2; j < 16; j++)
+        {
+            Assert.Equal(new SampleStream(s, key, (uint)j).Get(roulette), cache.Stream(j).Get(roulette));
+        }
+
+        SampleBatchCall[] expected = whole
+            ? [new(key, 2, 14, roulette, false)]
+            : [new(key, 2, 4, roulette, false), new(key, 6, 4, roulette, false), new(key, 10, 4, roulette, false), new(key, 14, 2, roulette, false)];
+        Assert.Equal(expected, calls);
+    }
+
+    [Theory]
     [MemberData(nameof(Catalog))]
     public void Path_tracing_through_the_cache_allocates_nothing_per_sample(string generator, string randomize)
     {

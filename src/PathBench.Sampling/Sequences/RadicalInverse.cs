@@ -125,7 +125,9 @@ public static class RadicalInverse
     /// meets there (a contiguous range modulo b): the drawn images sixteen hashes at a time, the taken values of a
     /// large base kept in one vector, and the σ walks of all positions together in vector lanes
     /// (<see cref="KenslerPermutation.PermuteEach"/>); the indices' digits advance as an odometer (no division per
-    /// index), and each point is a sum of table entries in the reference's order.
+    /// index), and each point is a sum of table entries in the reference's order. Runs of at most <see cref="DrawnDigits"/>
+    /// indices that need no σ (what the renderer's cache asks for: a pixel's block of 16 samples) take the lean short
+    /// forms of <see cref="ShortRun"/> instead.
     /// </summary>
     public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs) =>
         PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes);

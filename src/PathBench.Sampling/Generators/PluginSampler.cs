@@ -25,6 +25,8 @@ internal sealed class PluginSampler : PointSampler
 
     public override bool WholeRunsCostLittleMore => _inner.WholeRunsCostLittleMore;
 
+    public override int PointsAtOnce => _inner.PointsAtOnce;
+
     public override ulong PixelKey(int x, int y) => _inner.PixelKey(x, y);
 
     public override double Sample(ulong pixel, uint index, int dimension) =>

@@ -90,14 +90,16 @@ public sealed class SampleCacheTests
     [Theory]
     [InlineData("halton", "digit-permutation", SampleCache.BlockSize)]
     [InlineData("halton", "none", SampleCache.DeepRun)]
-    [InlineData("sobol", "owen", SampleCache.DeepRun)]
+    [InlineData("sobol", "owen", 8)]
+    [InlineData("sobol", "digital-shift", SampleCache.DeepRun)]
+    [InlineData("pmj02", "owen", 8)]
     [InlineData("multi-jittered", "none", 8)]
     [InlineData("latin-hypercube", "none", 8)]
     public void A_deep_dimension_is_made_in_runs_the_sampler_makes_at_little_more_cost(string generator, string randomize, int run)
     {
         // A vertex past the second asks in runs of DeepRun samples, unless the sampler says a batch costs about the same
         // whatever its length (Halton's digit permutations draw a position's map per run: the rest of the block) or it
-        // makes more points at once (the eight-lane sets: eight, on a machine with the lane forms).
+        // makes more points at once (the eight-lane sets and the Owen-scrambled gathers: eight, on a machine with the lane forms).
         PointSampler s = Create(generator, randomize, 16, 40);
         Assert.Equal(run == SampleCache.BlockSize, s.WholeRunsCostLittleMore);
         Assert.True(run == SampleCache.BlockSize || run == Math.Max(s.PointsAtOnce, SampleCache.DeepRun));

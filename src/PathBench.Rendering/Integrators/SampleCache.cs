@@ -40,7 +40,7 @@ public sealed class SampleCache
     /// <summary>Samples per block: enough to amortise a dimension's seeds, few enough that deep dimensions reached by a few paths waste little.</summary>
     public const int BlockSize = 16;
 
-    /// <summary>Samples made at once for a dimension of the vertices from the third on (see the type's remarks).</summary>
+    /// <summary>Samples made at once for a dimension of the vertices from the third on (see the type's remarks), unless the sampler's batches cost little more for the whole block (<see cref="PointSampler.WholeRunsCostLittleMore"/>: then the rest of the block) or it makes more points at once (<see cref="PointSampler.PointsAtOnce"/>, up to the block: then that many).</summary>
     public const int DeepRun = 4;
 
     // Dimensions below this are made for the rest of the block at once.
@@ -49,6 +49,7 @@ public sealed class SampleCache
     private readonly PointSampler _sampler;
     private readonly int _limit;
     private readonly bool _pairsShareWork;
+    private readonly int _deepRun;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -64,6 +65,7 @@ public sealed class SampleCache
         _sampler = sampler;
         _limit = sampler.MaxDimensions;
         _pairsShareWork = sampler.PairsShareWork;
+        _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -154,7 +156,7 @@ public sealed class SampleCache
         _filledEnd[dimension] = slot + row.Length;
     }
 
-    private int Run(int slot, int dimension) => Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : DeepRun);
+    private int Run(int slot, int dimension) => Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : _deepRun);
 
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Fill2D(int slot, int dimension)

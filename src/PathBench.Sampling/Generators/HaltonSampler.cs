@@ -14,6 +14,11 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
     public override int MaxDimensions => RadicalInverse.PrimeCount;
 
     /// <inheritdoc/>
+    /// <remarks>With digit permutations: a run draws each digit position's permutation as far as its digits reach (in the
+    /// bases from 17 on, a pixel's first 16 indices are one digit each, and a run of 4 costs most of what 16 cost).</remarks>
+    public override bool WholeRunsCostLittleMore => Spec.Randomize == Randomization.DigitPermutation;
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         int b = RadicalInverse.Primes[dimension];

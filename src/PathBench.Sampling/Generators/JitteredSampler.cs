@@ -24,6 +24,10 @@ public sealed class JitteredSampler : PointSampler
     public override bool PairsShareWork => true;
 
     /// <inheritdoc/>
+    /// <remarks>Eight on the lane forms (any run of up to eight points is one eight-lane step).</remarks>
+    public override int PointsAtOnce => Width == LaneWidth.Scalar ? 1 : Lanes.Count;
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
         Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 

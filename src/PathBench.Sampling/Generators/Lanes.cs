@@ -13,6 +13,9 @@ namespace PathBench.Sampling.Generators;
 /// </summary>
 internal static class Lanes
 {
+    /// <summary>Points per eight-lane step.</summary>
+    public const int Count = 8;
+
     /// <summary>
     /// The widest form this machine runs on hardware: <see cref="LaneWidth.Wide"/> with 512-bit vectors (AVX-512),
     /// <see cref="LaneWidth.Narrow"/> with 256-bit ones only (AVX2), else <see cref="LaneWidth.Scalar"/>.

@@ -21,6 +21,10 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     }
 
     /// <inheritdoc/>
+    /// <remarks>Eight on the lane forms (any run of up to eight points is one eight-lane step).</remarks>
+    public override int PointsAtOnce => Width == LaneWidth.Scalar ? 1 : Lanes.Count;
+
+    /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);

@@ -23,6 +23,10 @@ internal sealed class PluginSampler : PointSampler
 
     public override bool PairsShareWork => _inner.PairsShareWork;
 
+    public override bool WholeRunsCostLittleMore => _inner.WholeRunsCostLittleMore;
+
+    public override int PointsAtOnce => _inner.PointsAtOnce;
+
     public override ulong PixelKey(int x, int y) => _inner.PixelKey(x, y);
 
     public override double Sample(ulong pixel, uint index, int dimension) =>

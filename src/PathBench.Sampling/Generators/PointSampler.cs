@@ -64,6 +64,21 @@ public abstract class PointSampler
     public virtual bool PairsShareWork => false;
 
     /// <summary>
+    /// Whether a batch costs about the same whatever its length: a dimension's per-pixel tables dominate and the points
+    /// themselves are a few operations (Halton with digit permutations draws a position's permutation for the run).
+    /// A caller that would make a dimension in short runs, for samples that may never ask for it, may then make the
+    /// rest of its block in one batch instead; the values are the same either way.
+    /// </summary>
+    public virtual bool WholeRunsCostLittleMore => false;
+
+    /// <summary>
+    /// How many consecutive points a batch makes for about the cost of one (its vector lanes: 8 for the sets built on
+    /// Kensler permutations, whose eight-lane forms pad a shorter run with copies of its last index); 1 when each point
+    /// costs its own. A caller that makes short runs may round them up to this many at no extra cost.
+    /// </summary>
+    public virtual int PointsAtOnce => 1;
+
+    /// <summary>
     /// Dimensions <paramref name="dimension"/> and <paramref name="dimension"/>+1 of the
     /// consecutive points <paramref name="firstIndex"/>, <paramref name="firstIndex"/>+1, …, one per
     /// element of <paramref name="xs"/>: the same values as <see cref="Sample2D"/>, for callers

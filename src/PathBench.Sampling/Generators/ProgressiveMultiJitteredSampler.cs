@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
 
@@ -68,6 +69,10 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
 
     /// <inheritdoc/>
     public override int MaxDimensions => int.MaxValue;
+
+    /// <inheritdoc/>
+    /// <remarks>Eight with Owen scrambling on AVX2 (the table entries are scrambled eight lanes at a time, a shorter run padded).</remarks>
+    public override int PointsAtOnce => Spec.Randomize == Randomization.Owen && Avx2.IsSupported ? 8 : 1;
 
     /// <summary>Sequence <paramref name="table"/> of a family, as built (for tests and tools).</summary>
     public static ProgressiveMultiJittered Sequence(PmjVariant variant, int table) => Tables[(int)variant][table].Value;

@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
 
@@ -20,6 +21,10 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
     /// <inheritdoc/>
     public override int MaxDimensions => _matrices.Dimensions;
+
+    /// <inheritdoc/>
+    /// <remarks>Eight with Owen scrambling on AVX2: whole groups of eight points are walked by gathers (shorter runs point by point).</remarks>
+    public override int PointsAtOnce => Spec.Randomize == Randomization.Owen && Avx2.IsSupported ? 8 : 1;
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)

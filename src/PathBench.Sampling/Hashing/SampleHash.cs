@@ -31,7 +31,10 @@ public static class SampleHash
     /// key1 ^ key2 = (v1 ^ v2)·M, probability 2^-64 for hashed keys).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static ulong Combine(ulong key, ulong value) => Mix64(key ^ (value * 0xD6E8FEB86659FD93UL));
+    public static ulong Combine(ulong key, ulong value) => Mix64(key ^ (value * ValueMultiplier));
+
+    /// <summary>The odd multiplier <see cref="Combine"/> spreads its value's bits with.</summary>
+    public const ulong ValueMultiplier = 0xD6E8FEB86659FD93UL;
 
     /// <summary>The upper 32 bits of <see cref="Combine"/>: a 32-bit seed.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
@@ -67,9 +70,17 @@ public static class SampleHash
 
     /// <summary><see cref="Combine"/>(key, value) per lane: the same 64-bit steps (callers check <see cref="Vector512.IsHardwareAccelerated"/>).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<ulong> Combine8(ulong key, Vector512<ulong> value)
+    public static Vector512<ulong> Combine8(ulong key, Vector512<ulong> value) =>
+        Combine8Premultiplied(key, value * Vector512.Create(ValueMultiplier));
+
+    /// <summary>
+    /// <see cref="Combine8"/> given each lane's value times <see cref="ValueMultiplier"/> (modulo 2^64) instead of the
+    /// value: for callers whose values are a run s + l, whose products are s·M + l·M with the l·M constant.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<ulong> Combine8Premultiplied(ulong key, Vector512<ulong> product)
     {
-        Vector512<ulong> x = Vector512.Create(key) ^ (value * Vector512.Create(0xD6E8FEB86659FD93UL));
+        Vector512<ulong> x = Vector512.Create(key) ^ product;
         x += Vector512.Create(Golden);
         x = (x ^ (x >>> 30)) * Vector512.Create(0xBF58476D1CE4E5B9UL);
         x = (x ^ (x >>> 27)) * Vector512.Create(0x94D049BB133111EBUL);

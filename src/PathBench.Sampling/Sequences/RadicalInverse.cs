@@ -1,5 +1,8 @@
+using System.Numerics;
 using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Sequences;
@@ -122,10 +125,27 @@ public static class RadicalInverse
     /// meets there (a contiguous range modulo b): the drawn images sixteen hashes at a time, the taken values of a
     /// large base kept in one vector, and the σ walks of all positions together in vector lanes
     /// (<see cref="KenslerPermutation.PermuteEach"/>); the indices' digits advance as an odometer (no division per
-    /// index), and each point is a sum of table entries in the reference's order.
+    /// index), and each point is a sum of table entries in the reference's order. Runs of at most <see cref="DrawnDigits"/>
+    /// indices that need no σ (what the renderer's cache asks for: a pixel's block of 16 samples) take the lean short
+    /// forms of <see cref="ShortRun"/> instead.
     /// </summary>
-    public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs)
+    public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs) =>
+        PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes);
+
+    /// <summary>
+    /// Whether this machine draws a large base's images sixteen at a time with conflict detection (AVX-512 CD; see
+    /// <see cref="ShortRun"/>); without it those runs take the general form, the same bits.
+    /// </summary>
+    internal static bool ConflictLanes { get; } = Vector512.IsHardwareAccelerated && Avx512CD.IsSupported;
+
+    /// <summary><see cref="PermutedBatch"/> with the conflict-detection form on or off (tests run both).</summary>
+    internal static void PermutedBatchForm(uint firstIndex, int b, ulong key, Span<double> xs, bool conflictLanes)
     {
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && ShortRun(firstIndex, (uint)b, key, xs, conflictLanes && ConflictLanes))
+        {
+            return;
+        }
+
         if (b == 2)
         {
             ulong shift = SampleHash.Mix64(key);
@@ -146,6 +166,233 @@ public static class RadicalInverse
             xs = xs[n..];
         }
     }
+
+    /// <summary>
+    /// A run of at most <see cref="DrawnDigits"/> indices whose digit maps are drawn images only (no σ), made by the
+    /// short forms; false when the run is not of that kind (the general form <see cref="PermutedRun"/> then makes it).
+    /// Runs whose indices all have one digit (first + n − 1 &lt; b, the common case of the bases from 17 on in a pixel's
+    /// first samples) need only position 0's map, the zero hash and the fractions below lengths 0 and 1: each point is
+    /// π_0(i)·b^−1 + the fraction below length 1 (for index 0, the fraction below length 0), made eight lanes at a time;
+    /// the images come from the Fisher–Yates table (b ≤ <see cref="FullTableBase"/>) or, above it, for digits below
+    /// <see cref="DrawnDigits"/>, with conflict detection (<see cref="ConflictImages"/>). Runs of several digits in a base
+    /// up to <see cref="FullTableBase"/> (bases 3 to 13 in a pixel's first 16 samples): <see cref="SmallBaseRun"/>.
+    /// The same arithmetic as <see cref="Permuted"/>.
+    /// </summary>
+    [SkipLocalsInit] // every image read is written first
+    private static bool ShortRun(uint first, uint b, ulong key, Span<double> xs, bool conflictLanes)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+        if (last < first || b == 2)
+        {
+            return false;
+        }
+
+        if (last >= b)
+        {
+            if (b > FullTableBase)
+            {
+                return false;
+            }
+
+            SmallBaseRun(first, last, b, key, xs);
+            return true;
+        }
+
+        if (b > FullTableBase && (last >= DrawnDigits || !conflictLanes))
+        {
+            return false;
+        }
+
+        ulong u = ZeroDigits(key);
+        double below0 = Below(u, (int)b, 0);
+        uint zero = (uint)Math.BigMul(u, b, out u);
+        double below1 = Below(u, (int)b, 1);
+        ulong positionKey = SampleHash.Combine(key, 0);
+        Span<uint> images = stackalloc uint[FullTableBase];
+        if (b <= FullTableBase)
+        {
+            FisherYates(b, positionKey, zero, last, images);
+        }
+        else
+        {
+            ConflictImages(b, positionKey, zero, last, images);
+        }
+
+        double invBase = 1.0 / b;
+        if (last < DrawnDigits && Vector512.IsHardwareAccelerated)
+        {
+            OneDigitLanes(first, images, invBase, below0, below1, xs);
+            return true;
+        }
+
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint index = first + (uint)i;
+            xs[i] = index == 0 ? UnitInterval.Clamp(below0) : UnitInterval.Clamp((images[(int)index] * invBase) + below1);
+        }
+
+        return true;
+    }
+
+    // The one-digit points of indices first … first + n − 1 (≤ 15) on eight 64-bit lanes: the image by a lane permute, then
+    // the scalar form's multiply, add and clamp per lane (no fused multiply-add), index 0 the fraction below length 0.
+    [SkipLocalsInit]
+    private static void OneDigitLanes(uint first, ReadOnlySpan<uint> images, double invBase, double below0, double below1, Span<double> xs)
+    {
+        Vector512<uint> index = Vector512.Create(first) + Vector512.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u, 8u, 9u, 10u, 11u, 12u, 13u, 14u, 15u);
+        index = Vector512.Min(index, Vector512.Create(first + (uint)(xs.Length - 1))); // lanes past the run repeat its last index
+        Vector512<uint> image = Avx512F.PermuteVar16x32(Vector512.LoadUnsafe(ref MemoryMarshal.GetReference(images)), index);
+        (Vector512<ulong> lowImages, Vector512<ulong> highImages) = Vector512.Widen(image);
+        Vector512<double> low = OneDigitPoints(lowImages, Vector512.Equals(Vector512.WidenLower(index), Vector512<ulong>.Zero), invBase, below0, below1);
+        Vector512<double> high = OneDigitPoints(highImages, Vector512.Equals(Vector512.WidenUpper(index), Vector512<ulong>.Zero), invBase, below0, below1);
+        if (xs.Length == 2 * Vector512<double>.Count)
+        {
+            low.StoreUnsafe(ref MemoryMarshal.GetReference(xs));
+            high.StoreUnsafe(ref MemoryMarshal.GetReference(xs), (nuint)Vector512<double>.Count);
+            return;
+        }
+
+        Span<double> all = stackalloc double[2 * Vector512<double>.Count];
+        low.StoreUnsafe(ref MemoryMarshal.GetReference(all));
+        high.StoreUnsafe(ref MemoryMarshal.GetReference(all), (nuint)Vector512<double>.Count);
+        all[..xs.Length].CopyTo(xs);
+    }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<double> OneDigitPoints(Vector512<ulong> image, Vector512<ulong> isZero, double invBase, double below0, double below1)
+    {
+        Vector512<double> x = (Vector512.ConvertToDouble(image) * Vector512.Create(invBase)) + Vector512.Create(below1);
+        x = Vector512.ConditionalSelect(isZero.AsDouble(), Vector512.Create(below0), x);
+        return Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512.Create(1.0)), x, Vector512.Create(UnitInterval.BelowOne));
+    }
+
+    /// <summary>
+    /// A run of indices with several digits in a base up to <see cref="FullTableBase"/> (no wrap past 2^32 − 1): each digit
+    /// position's Fisher–Yates table drawn up to the largest digit the run meets there (DigitMap's table and draws), the
+    /// zeros and the fractions below each length from the one chain, then the points by an odometer, each a sum in the
+    /// reference's order.
+    /// </summary>
+    [SkipLocalsInit] // every table entry read is written first
+    private static void SmallBaseRun(uint first, uint last, uint b, ulong key, Span<double> xs)
+    {
+        Span<uint> digits = stackalloc uint[MaxDigits + 1];
+        Span<double> below = stackalloc double[MaxDigits + 1];
+        Span<uint> tables = stackalloc uint[SmallBaseTables];
+        ulong u = ZeroDigits(key);
+        int length = 0, lengthOfLast = 0;
+        for (uint low = first, high = last; high != 0; lengthOfLast++)
+        {
+            uint lowNext = low / b, highNext = high / b;
+            uint from = low - (lowNext * b);
+            uint top = high - low >= b - 1 - from ? b - 1 : from + (high - low); // the largest digit the run meets here
+            digits[lengthOfLast] = from;
+            length = low != 0 ? lengthOfLast + 1 : length;
+            below[lengthOfLast] = Below(u, (int)b, lengthOfLast);
+            uint zero = (uint)Math.BigMul(u, b, out u);
+            FisherYates(b, SampleHash.Combine(key, (ulong)lengthOfLast), zero, top, tables.Slice(lengthOfLast * FullTableBase, FullTableBase));
+            low = lowNext;
+            high = highNext;
+        }
+
+        below[lengthOfLast] = Below(u, (int)b, lengthOfLast);
+        double invBase = 1.0 / b;
+        for (int i = 0; ; i++)
+        {
+            double weight = invBase;
+            double sum = 0;
+            for (int k = 0; k < length; k++)
+            {
+                sum += tables[(k * FullTableBase) + (int)digits[k]] * weight;
+                weight *= invBase;
+            }
+
+            xs[i] = UnitInterval.Clamp(sum + below[length]);
+            if (i + 1 == xs.Length)
+            {
+                return;
+            }
+
+            // Next index: add one to the lowest digit, carrying.
+            for (int k = 0; ; k++)
+            {
+                length = Math.Max(length, k + 1);
+                if (++digits[k] < b)
+                {
+                    break;
+                }
+
+                digits[k] = 0;
+            }
+        }
+    }
+
+    // Tables of SmallBaseRun: a short run's positions in a base up to FullTableBase, FullTableBase slots each (base 3: a
+    // 32-bit index's 21 positions).
+    private const int SmallBaseTables = MaxDigits * FullTableBase;
+
+    // A digit position's Fisher–Yates table (b ≤ FullTableBase) after the steps of digits 1 … top: DigitMap's table and draws.
+    [SkipLocalsInit] // the draws are written before they are read
+    private static void FisherYates(uint b, ulong positionKey, uint zero, uint top, Span<uint> table)
+    {
+        DigitMap.Identity.AsSpan(0, (int)b).CopyTo(table);
+        table[(int)zero] = 0;
+        table[0] = zero;
+        if (top == 0)
+        {
+            return;
+        }
+
+        Span<uint> draws = stackalloc uint[FullTableBase];
+        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + 7) & ~7u)]); // whole groups of eight: the vector form
+        for (int j = 1; j <= (int)top; j++)
+        {
+            int r = j + (int)draws[j - 1];
+            (table[j], table[r]) = (table[r], table[j]);
+        }
+    }
+
+    /// <summary>
+    /// The images of digits 1 … <paramref name="last"/> (≤ 15) of a base above <see cref="FullTableBase"/>, as
+    /// <see cref="DigitMap"/> draws them (draw n's value w_n; digit j's image is the j-th w_n, in order, that is neither
+    /// the image of 0 nor an earlier image, i.e. the j-th distinct value after z), sixteen lanes at a time: lane 0 … c − 1
+    /// hold z and the images so far, the other lanes the next draws; AVX-512 CD's conflict detection marks every lane
+    /// equal to an earlier one, and the lanes without a conflict, compressed to the front in order, are z and the images
+    /// after this round. Rounds repeat until c exceeds <paramref name="last"/>.
+    /// </summary>
+    private static void ConflictImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    {
+        Vector512<uint> lanes = Vector512.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u, 8u, 9u, 10u, 11u, 12u, 13u, 14u, 15u);
+        Vector512<double> scale = Vector512.Create(1.0 / 9007199254740992.0);
+        Vector512<double> m = Vector512.Create((double)b);
+        Vector512<ulong> top = Vector512.Create((ulong)b - 1);
+        Vector512<uint> kept = Vector512.Create(zero);
+        uint count = 1;
+        ulong next = 0; // the next draw number
+        while (count <= last)
+        {
+            // Lane l ≥ count takes draw next + l − count.
+            // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
+            Vector512<ulong> n = Vector512.Create(unchecked((next - count) * SampleHash.ValueMultiplier));
+            Vector512<ulong> w0 = Draw8(SampleHash.Combine8Premultiplied(positionKey, n + LaneProductsLow), scale, m, top);
+            Vector512<ulong> w1 = Draw8(SampleHash.Combine8Premultiplied(positionKey, n + LaneProductsHigh), scale, m, top);
+            Vector512<uint> v = Vector512.ConditionalSelect(Vector512.LessThan(lanes, Vector512.Create(count)), kept, Vector512.Narrow(w0, w1));
+            Vector512<uint> fresh = Vector512.Equals(Avx512CD.DetectConflicts(v), Vector512<uint>.Zero);
+            kept = Avx512F.Compress(Vector512<uint>.Zero, fresh, v);
+            next += 16 - count;
+            count = (uint)BitOperations.PopCount(fresh.ExtractMostSignificantBits());
+        }
+
+        kept.StoreUnsafe(ref MemoryMarshal.GetReference(images));
+    }
+
+    // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
+    private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;
+    private static readonly Vector512<ulong> LaneProductsHigh = Vector512.Create(8UL, 9UL, 10UL, 11UL, 12UL, 13UL, 14UL, 15UL) * SampleHash.ValueMultiplier;
+
+    // ⌊unit(h)·m⌋ capped at m − 1 per lane: DigitMap.Fill's draw.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<ulong> Draw8(Vector512<ulong> h, Vector512<double> scale, Vector512<double> m, Vector512<ulong> top) =>
+        Vector512.Min(Vector512.ConvertToUInt64(Vector512.Floor(Vector512.ConvertToDouble(h >>> 11) * scale * m)), top);
 
     /// <summary>Points per run of <see cref="PermutedBatch"/>: bounds its stack tables.</summary>
     internal const int RunLength = 64;
@@ -301,7 +548,7 @@ public static class RadicalInverse
     private ref struct DigitMap
     {
         private const int Chunk = 16;
-        private static readonly uint[] Identity = Enumerable.Range(0, FullTableBase).Select(i => (uint)i).ToArray();
+        public static readonly uint[] Identity = Enumerable.Range(0, FullTableBase).Select(i => (uint)i).ToArray();
         private readonly Span<uint> _values;
         private readonly Span<uint> _draws;
         private readonly uint _b;
@@ -454,7 +701,7 @@ public static class RadicalInverse
             return _draws[(int)(_attempt++ - _chunkStart)];
         }
 
-        private static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws)
+        public static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws)
         {
             int k = 0;
             if (Vector512.IsHardwareAccelerated)

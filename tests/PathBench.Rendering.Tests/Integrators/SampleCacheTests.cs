@@ -88,6 +88,43 @@ public sealed class SampleCacheTests
     }
 
     [Theory]
+    [InlineData("halton", "digit-permutation", SampleCache.BlockSize)]
+    [InlineData("halton", "none", SampleCache.DeepRun)]
+    [InlineData("sobol", "owen", 8)]
+    [InlineData("sobol", "digital-shift", SampleCache.DeepRun)]
+    [InlineData("pmj02", "owen", 8)]
+    [InlineData("multi-jittered", "none", 8)]
+    [InlineData("latin-hypercube", "none", 8)]
+    public void A_deep_dimension_is_made_in_runs_the_sampler_makes_at_little_more_cost(string generator, string randomize, int run)
+    {
+        // A vertex past the second asks in runs of DeepRun samples, unless the sampler says a batch costs about the same
+        // whatever its length (Halton's digit permutations draw a position's map per run: the rest of the block) or it
+        // makes more points at once (the eight-lane sets and the Owen-scrambled gathers: eight, on a machine with the lane forms).
+        PointSampler s = Create(generator, randomize, 16, 40);
+        Assert.Equal(run == SampleCache.BlockSize, s.WholeRunsCostLittleMore);
+        Assert.True(run == SampleCache.BlockSize || run == Math.Max(s.PointsAtOnce, SampleCache.DeepRun));
+        var calls = new List<SampleBatchCall>();
+        var cache = new SampleCache(s, 40) { Recorder = calls };
+        ulong key = s.PixelKey(5, 6);
+        cache.BeginBlock(key, 0, 16);
+        int roulette = DimensionLayout.Vertex(3) + DimensionLayout.Roulette;
+        for (int j = 2; j < 16; j++)
+        {
+            Assert.Equal(new SampleStream(s, key, (uint)j).Get(roulette), cache.Stream(j).Get(roulette));
+        }
+
+        // A pair-sharing generator makes the single with its partner (the test above), as one pair call.
+        int asked = s.PairsShareWork ? roulette & ~1 : roulette;
+        var expected = new List<SampleBatchCall>();
+        for (int slot = 2; slot < 16; slot += run)
+        {
+            expected.Add(new(key, (uint)slot, Math.Min(run, 16 - slot), asked, s.PairsShareWork));
+        }
+
+        Assert.Equal(expected, calls);
+    }
+
+    [Theory]
     [MemberData(nameof(Catalog))]
     public void Path_tracing_through_the_cache_allocates_nothing_per_sample(string generator, string randomize)
     {

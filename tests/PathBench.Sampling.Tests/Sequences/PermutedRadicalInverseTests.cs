@@ -11,14 +11,15 @@ public sealed class PermutedRadicalInverseTests
     /// The batch form against the one-point reference, bit for bit: small bases (many digit positions, runs that meet
     /// every digit and wrap a position's slots), bases above the run length, the largest base, a base past the cached
     /// powers; first indices at digit boundaries and near 2^32 (runs that wrap to index 0); counts across the
-    /// 64-point run length.
+    /// 64-point run length; the short runs (at most 16 indices: one digit, or several in a base up to 64) with the
+    /// conflict-detection lanes on (where the machine has AVX-512 CD) and off, so both forms are held to the reference.
     /// </summary>
     [Fact]
     public void Batch_equals_the_one_point_reference_exactly()
     {
-        int[] bases = [2, 3, 5, 7, 11, 13, 17, 31, 127, RadicalInverse.Primes[300], 8161];
-        uint[] firsts = [0, 1, 2, 5, 8, 15, 26, 80, 242, 243, 1000, 123456, 0xFFFFFFF0u, uint.MaxValue - 70, uint.MaxValue];
-        int[] counts = [1, 2, 4, 15, 16, 17, 63, 64, 65, 130, 300];
+        int[] bases = [2, 3, 5, 7, 11, 13, 17, 31, 61, 67, 73, 127, RadicalInverse.Primes[300], 8161];
+        uint[] firsts = [0, 1, 2, 3, 5, 8, 12, 15, 26, 50, 60, 80, 242, 243, 1000, 123456, 0xFFFFFFF0u, uint.MaxValue - 70, uint.MaxValue - 15, uint.MaxValue];
+        int[] counts = [1, 2, 3, 4, 7, 8, 9, 13, 15, 16, 17, 63, 64, 65, 130, 300];
         var xs = new double[300];
         foreach (int b in bases)
         {
@@ -30,12 +31,46 @@ public sealed class PermutedRadicalInverseTests
                     foreach (int n in counts)
                     {
                         Span<double> run = xs.AsSpan(0, n);
-                        RadicalInverse.PermutedBatch(first, b, key, run);
+                        foreach (bool conflictLanes in new[] { false, true })
+                        {
+                            RadicalInverse.PermutedBatchForm(first, b, key, run, conflictLanes);
+                            for (int i = 0; i < n; i++)
+                            {
+                                uint index = unchecked(first + (uint)i);
+                                double reference = RadicalInverse.Permuted(index, b, key);
+                                Assert.True(reference == run[i], $"b={b} key={key:x} first={first} n={n} index={index} conflict lanes {conflictLanes}: {run[i]:R} vs {reference:R}");
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
+    /// A pixel's first 16 indices in the bases just above the Fisher–Yates table (where draws are often redrawn, so the
+    /// conflict-detection form runs several rounds) and in the bases the cache meets from 17 on, over many keys: both
+    /// forms equal the one-point reference bit for bit, for the whole block and for runs starting inside it.
+    /// </summary>
+    [Fact]
+    public void Short_runs_equal_the_one_point_reference_over_many_keys()
+    {
+        int[] bases = [3, 11, 13, 17, 53, 61, 67, 71, 73, 109, 331];
+        var xs = new double[16];
+        foreach (int b in bases)
+        {
+            for (ulong k = 0; k < 1500; k++)
+            {
+                ulong key = SampleHash.Mix64(k + ((ulong)b << 20));
+                foreach ((uint first, int n) in new (uint, int)[] { (0, 16), (12, 4), (5, 11), (15, 1) })
+                {
+                    foreach (bool conflictLanes in new[] { false, true })
+                    {
+                        RadicalInverse.PermutedBatchForm(first, b, key, xs.AsSpan(0, n), conflictLanes);
                         for (int i = 0; i < n; i++)
                         {
-                            uint index = unchecked(first + (uint)i);
-                            double reference = RadicalInverse.Permuted(index, b, key);
-                            Assert.True(reference == run[i], $"b={b} key={key:x} first={first} n={n} index={index}: {run[i]:R} vs {reference:R}");
+                            double reference = RadicalInverse.Permuted(first + (uint)i, b, key);
+                            Assert.True(reference == xs[i], $"b={b} key={key:x} first={first} n={n} i={i} conflict lanes {conflictLanes}: {xs[i]:R} vs {reference:R}");
                         }
                     }
                 }

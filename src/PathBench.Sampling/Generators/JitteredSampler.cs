@@ -24,8 +24,8 @@ public sealed class JitteredSampler : PointSampler
     public override bool PairsShareWork => true;
 
     /// <inheritdoc/>
-    /// <remarks>Eight on the lane forms (any run of up to eight points is one eight-lane step).</remarks>
-    public override int PointsAtOnce => Width == LaneWidth.Scalar ? 1 : Lanes.Count;
+    /// <remarks>Eight on the lane forms (<see cref="Lanes.PointsAtOnce"/>).</remarks>
+    public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>

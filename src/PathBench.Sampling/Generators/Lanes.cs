@@ -17,6 +17,12 @@ internal static class Lanes
     public const int Count = 8;
 
     /// <summary>
+    /// <see cref="PointSampler.PointsAtOnce"/> of a sampler built on these lanes: a whole step on either lane form (any
+    /// run of up to eight points is one eight-lane step), one point at a time on the scalar form.
+    /// </summary>
+    public static int PointsAtOnce(LaneWidth width) => width == LaneWidth.Scalar ? 1 : Count;
+
+    /// <summary>
     /// The widest form this machine runs on hardware: <see cref="LaneWidth.Wide"/> with 512-bit vectors (AVX-512),
     /// <see cref="LaneWidth.Narrow"/> with 256-bit ones only (AVX2), else <see cref="LaneWidth.Scalar"/>.
     /// </summary>

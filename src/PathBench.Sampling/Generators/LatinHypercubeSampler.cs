@@ -21,8 +21,8 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     }
 
     /// <inheritdoc/>
-    /// <remarks>Eight on the lane forms (any run of up to eight points is one eight-lane step).</remarks>
-    public override int PointsAtOnce => Width == LaneWidth.Scalar ? 1 : Lanes.Count;
+    /// <remarks>Eight on the lane forms (<see cref="Lanes.PointsAtOnce"/>).</remarks>
+    public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)

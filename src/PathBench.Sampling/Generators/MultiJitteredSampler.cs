@@ -17,8 +17,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     private readonly StratumGrid _grid;
 
     /// <inheritdoc/>
-    /// <remarks>Eight on the lane forms (any run of up to eight points is one eight-lane step).</remarks>
-    public override int PointsAtOnce => Width == LaneWidth.Scalar ? 1 : Lanes.Count;
+    /// <remarks>Eight on the lane forms (<see cref="Lanes.PointsAtOnce"/>).</remarks>
+    public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <summary>Creates the set for <see cref="PointSampler.Count"/> points.</summary>
     public MultiJitteredSampler(SamplerSpec spec) : base(spec) => _grid = StratumGrid.For(spec.Count);

@@ -185,7 +185,8 @@ public sealed class LightSet
         // Distance to the near side of the sphere along w.
         double dist = d * cosT - Math.Sqrt(Math.Max(0, r2 - d2 * sinT2));
         Vec3d y = p + w * dist;
-        Rgb le = m.Emitted((y - prim.A).Normalized(), -w);
+        // The sphere's outward normal at y, unnormalized: only the sign of its cosine with −w counts.
+        Rgb le = m.EmittedUnnormalized(y - prim.A, -w);
         return new LightSample(w, dist, le, select / (2 * Math.PI * oneMinusCos));
     }
 

@@ -127,4 +127,43 @@ public sealed class Material
     /// <summary>Radiance emitted from a surface with geometric normal <paramref name="n"/> towards <paramref name="w"/>.</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public Rgb Emitted(Vec3d n, Vec3d w) => IsEmissive && (TwoSided || Vec3d.Dot(n, w) > 0) ? Emission : Rgb.Black;
+
+    /// <summary>
+    /// <see cref="Emitted"/> of <paramref name="n"/>.Normalized() for a normal of any length: the
+    /// same result, without the normalization's root and division where the sign of n · w is clear.
+    /// </summary>
+    /// <remarks>
+    /// Scaling n by 1/|n| (each component rounded, relative error ≤ u = 2^−53) and either dot
+    /// product's own rounding (≤ γ₃·Σ|nᵢwᵢ|, γ₃ ≈ 3u; Higham 2002, "Accuracy and Stability of
+    /// Numerical Algorithms", §3.1) move the computed dot by under 5u·Σ|nᵢwᵢ| from the exact one,
+    /// whose sign decides. So where |n · w| exceeds 1e-12·Σ|nᵢwᵢ|, and 1e-200 (no subnormal product
+    /// matters), for an n of ordinary size (1e-50 ≤ Σ|nᵢ| ≤ 1e50: |n|² neither overflows nor
+    /// underflows), both forms have the same sign; anywhere else the normalized form is computed.
+    /// </remarks>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public Rgb EmittedUnnormalized(Vec3d n, Vec3d w)
+    {
+        if (!IsEmissive || TwoSided)
+        {
+            return IsEmissive ? Emission : Rgb.Black;
+        }
+
+        double size = Math.Abs(n.X) + Math.Abs(n.Y) + Math.Abs(n.Z);
+        if (size >= 1e-50 && size <= 1e50)
+        {
+            double dot = Vec3d.Dot(n, w);
+            double margin = Math.Max(1e-12 * (Math.Abs(n.X * w.X) + Math.Abs(n.Y * w.Y) + Math.Abs(n.Z * w.Z)), 1e-200);
+            if (dot > margin)
+            {
+                return Emission;
+            }
+
+            if (dot < -margin)
+            {
+                return Rgb.Black;
+            }
+        }
+
+        return Emitted(n.Normalized(), w);
+    }
 }

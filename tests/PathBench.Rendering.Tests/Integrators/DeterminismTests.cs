@@ -1,6 +1,7 @@
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Rendering.Materials;
+using PathBench.Sampling.Generators;
 using static PathBench.Rendering.Tests.Integrators.RenderFixtures;
 
 namespace PathBench.Rendering.Tests.Integrators;
@@ -49,6 +50,40 @@ public sealed class DeterminismTests
         float[] one = Render(Box(), "sobol", "owen", 8, 5, Options, threads: 1).ToRgb();
         float[] two = Render(Box(), "sobol", "owen", 8, 5, Options, threads: 2).ToRgb();
         Assert.Equal(one, two);
+    }
+
+    [Fact]
+    public void Every_tile_is_rendered_once_for_any_number_of_workers()
+    {
+        // The workers take tiles from one counter: with 1, 2, 3 and 9 workers (more than the
+        // 24×20 box's 4 tiles) every tile must be rendered once, so the same bits and the same rays.
+        PointSampler sampler = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 4, 5), DimensionLayout.Total(Options.MaxDepth));
+        RenderResult one = Renderer.Render(new RenderJob(Box(), sampler, Options, 0, 4, 1));
+        foreach (int threads in new[] { 2, 3, 9 })
+        {
+            int tiles = 0;
+            RenderResult r = Renderer.Render(new RenderJob(Box(), sampler, Options, 0, 4, threads), (done, total) => Interlocked.Increment(ref tiles));
+            Assert.Equal(4, tiles);
+            Assert.Equal(one.Rays, r.Rays);
+            Assert.Equal(one.Film.ToRgb(), r.Film.ToRgb());
+        }
+    }
+
+    [Fact]
+    public void A_cancelled_render_stops_between_tiles_with_the_cancellation()
+    {
+        // One worker, cancelled when its first tile is done: no further tile starts, and the render
+        // ends with OperationCanceledException (what the study runner waits for), not a partial result.
+        PointSampler sampler = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 4, 5), DimensionLayout.Total(Options.MaxDepth));
+        using var cancel = new CancellationTokenSource();
+        int tiles = 0;
+        Assert.ThrowsAny<OperationCanceledException>(() => Renderer.Render(new RenderJob(Box(), sampler, Options, 0, 4, 1), (done, total) =>
+        {
+            tiles = done;
+            cancel.Cancel();
+        }, cancel.Token));
+        Assert.Equal(1, tiles);
+        Assert.ThrowsAny<OperationCanceledException>(() => Renderer.Render(new RenderJob(Box(), sampler, Options, 0, 4, 2), null, cancel.Token));
     }
 
     [Fact]

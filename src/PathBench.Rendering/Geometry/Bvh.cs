@@ -1,3 +1,4 @@
+using System.Diagnostics.CodeAnalysis;
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
@@ -339,7 +340,7 @@ public sealed class Bvh
 
     private struct ClosestHit(Primitive[] primitives, double[] records, in Ray ray, bool vectorised) : ILeafQuery
     {
-        private readonly TriangleFrame _frame = new(ray, vectorised);
+        private LazyFrame _frame = new(ray, vectorised);
 
         public double TMax { get; private set; } = ray.TMax;
 
@@ -352,7 +353,7 @@ public sealed class Bvh
             {
                 // The four tests are each the scalar test's arithmetic; taking the lanes in order with
                 // a strict comparison keeps the scalar loop's choice (the first of equal distances).
-                int mask = _frame.Triangles(ref records[RecordDoubles * start], count, TMax, out Vector256<double> t);
+                int mask = _frame.Triangles().Triangles(ref records[RecordDoubles * start], count, TMax, out Vector256<double> t);
                 for (; mask != 0; mask &= mask - 1)
                 {
                     int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
@@ -369,7 +370,7 @@ public sealed class Bvh
 
             for (int i = start; i < start + count; i++)
             {
-                double t = Test(primitives[i], _frame, TMax);
+                double t = Test(primitives[i], ref _frame, TMax);
                 if (t < TMax)
                 {
                     TMax = t;
@@ -383,7 +384,7 @@ public sealed class Bvh
 
     private struct AnyHit(Primitive[] primitives, double[] records, in Ray ray, double tMax, bool vectorised) : ILeafQuery
     {
-        private readonly TriangleFrame _frame = new(ray, vectorised);
+        private LazyFrame _frame = new(ray, vectorised);
 
         public readonly double TMax => tMax;
 
@@ -394,13 +395,13 @@ public sealed class Bvh
         {
             if (triangles && _frame.Vectorised)
             {
-                Found = _frame.Triangles(ref records[RecordDoubles * start], count, tMax, out _) != 0;
+                Found = _frame.Triangles().Triangles(ref records[RecordDoubles * start], count, tMax, out _) != 0;
                 return Found;
             }
 
             for (int i = start; i < start + count; i++)
             {
-                if (Test(primitives[i], _frame, tMax) < tMax)
+                if (Test(primitives[i], ref _frame, tMax) < tMax)
                 {
                     Found = true;
                     return true;
@@ -413,8 +414,42 @@ public sealed class Bvh
 
     /// <summary>One primitive; triangles reuse the ray's shear (the same arithmetic as <see cref="Primitive.Intersect"/>).</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static double Test(in Primitive p, in TriangleFrame frame, double tMax) =>
-        p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(frame.Shear, frame.Ray.Origin, tMax) : p.Intersect(frame.Ray, tMax);
+    private static double Test(in Primitive p, ref LazyFrame frame, double tMax) =>
+        p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(frame.Triangles().Shear, frame.Ray.Origin, tMax) : p.Intersect(frame.Ray, tMax);
+
+    /// <summary>
+    /// A query's ray and its <see cref="TriangleFrame"/>, set up at the first triangle the walk
+    /// tests: a ray that meets only analytic primitives (the demo rooms' walls) skips the shear's
+    /// axis choice and division. The frame is the same whenever it is made, so are the hits.
+    /// </summary>
+    private struct LazyFrame(in Ray ray, bool vectorised)
+    {
+        public readonly Ray Ray = ray;
+        public readonly bool Vectorised = vectorised;
+        private TriangleFrame _frame;
+        private bool _ready;
+
+        /// <summary>The frame, made on the first call.</summary>
+        [UnscopedRef]
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public ref readonly TriangleFrame Triangles()
+        {
+            if (!_ready)
+            {
+                Make();
+            }
+
+            return ref _frame;
+        }
+
+        // Out of line, so the walk's inlined leaf code stays small.
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private void Make()
+        {
+            _frame = new TriangleFrame(Ray);
+            _ready = true;
+        }
+    }
 
     /// <summary>
     /// A ray set up for the watertight triangle test (Woop, Benthin &amp; Wald 2013) of four hit
@@ -423,18 +458,14 @@ public sealed class Bvh
     /// </summary>
     private readonly struct TriangleFrame
     {
-        public readonly Ray Ray;
         public readonly RayShear Shear;
-        public readonly bool Vectorised;
         // Scalars, broadcast where used (a broadcast load costs what a vector load does), so the query stays small.
         private readonly double _ox, _oy, _oz;
         private readonly int _kx, _ky, _kz;
 
-        public TriangleFrame(in Ray ray, bool vectorised)
+        public TriangleFrame(in Ray ray)
         {
-            Ray = ray;
             Shear = new RayShear(ray.Direction);
-            Vectorised = vectorised;
             _kx = Shear.Kx;
             _ky = Shear.Ky;
             _kz = Shear.Kz;

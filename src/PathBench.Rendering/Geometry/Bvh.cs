@@ -300,9 +300,12 @@ public sealed class Bvh
     }
 
     /// <summary>The nearest hit along the ray before <see cref="Ray.TMax"/>; false when there is none.</summary>
+    [SkipLocalsInit]
     public bool Intersect(in Ray ray, out SurfaceHit hit)
     {
-        var query = new ClosestHit(_primitives, _records, ray, Vectorised);
+        Unsafe.SkipInit(out FrameSlot frame);
+        frame.Ready = false;
+        var query = new ClosestHit(new Leaves(this, in ray, ref frame), ray.TMax);
         Walk(ray, ref query);
         if (query.Best < 0)
         {
@@ -320,9 +323,12 @@ public sealed class Bvh
     }
 
     /// <summary>True when anything blocks the ray before <paramref name="tMax"/> (shadow rays: any hit ends the walk).</summary>
+    [SkipLocalsInit]
     public bool Occluded(in Ray ray, double tMax)
     {
-        var query = new AnyHit(_primitives, _records, ray, tMax, Vectorised);
+        Unsafe.SkipInit(out FrameSlot frame);
+        frame.Ready = false;
+        var query = new AnyHit(new Leaves(this, in ray, ref frame), tMax);
         Walk(ray, ref query);
         return query.Found;
     }
@@ -337,22 +343,22 @@ public sealed class Bvh
         bool Leaf(int start, int count, bool triangles);
     }
 
-    private struct ClosestHit(Primitive[] primitives, double[] records, in Ray ray, bool vectorised) : ILeafQuery
+    private ref struct ClosestHit(Leaves leaves, double tMax) : ILeafQuery
     {
-        private readonly TriangleFrame _frame = new(ray, vectorised);
+        private readonly Leaves _leaves = leaves;
 
-        public double TMax { get; private set; } = ray.TMax;
+        public double TMax { get; private set; } = tMax;
 
         public int Best { get; private set; } = -1;
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public bool Leaf(int start, int count, bool triangles)
         {
-            if (triangles && _frame.Vectorised)
+            if (triangles && _leaves.Vectorised)
             {
                 // The four tests are each the scalar test's arithmetic; taking the lanes in order with
                 // a strict comparison keeps the scalar loop's choice (the first of equal distances).
-                int mask = _frame.Triangles(ref records[RecordDoubles * start], count, TMax, out Vector256<double> t);
+                int mask = _leaves.Triangles(start, count, TMax, out Vector256<double> t);
                 for (; mask != 0; mask &= mask - 1)
                 {
                     int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
@@ -369,7 +375,7 @@ public sealed class Bvh
 
             for (int i = start; i < start + count; i++)
             {
-                double t = Test(primitives[i], _frame, TMax);
+                double t = _leaves.Test(i, TMax);
                 if (t < TMax)
                 {
                     TMax = t;
@@ -381,9 +387,9 @@ public sealed class Bvh
         }
     }
 
-    private struct AnyHit(Primitive[] primitives, double[] records, in Ray ray, double tMax, bool vectorised) : ILeafQuery
+    private ref struct AnyHit(Leaves leaves, double tMax) : ILeafQuery
     {
-        private readonly TriangleFrame _frame = new(ray, vectorised);
+        private readonly Leaves _leaves = leaves;
 
         public readonly double TMax => tMax;
 
@@ -392,15 +398,15 @@ public sealed class Bvh
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public bool Leaf(int start, int count, bool triangles)
         {
-            if (triangles && _frame.Vectorised)
+            if (triangles && _leaves.Vectorised)
             {
-                Found = _frame.Triangles(ref records[RecordDoubles * start], count, tMax, out _) != 0;
+                Found = _leaves.Triangles(start, count, tMax, out _) != 0;
                 return Found;
             }
 
             for (int i = start; i < start + count; i++)
             {
-                if (Test(primitives[i], _frame, tMax) < tMax)
+                if (_leaves.Test(i, tMax) < tMax)
                 {
                     Found = true;
                     return true;
@@ -411,10 +417,71 @@ public sealed class Bvh
         }
     }
 
-    /// <summary>One primitive; triangles reuse the ray's shear (the same arithmetic as <see cref="Primitive.Intersect"/>).</summary>
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static double Test(in Primitive p, in TriangleFrame frame, double tMax) =>
-        p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(frame.Shear, frame.Ray.Origin, tMax) : p.Intersect(frame.Ray, tMax);
+    /// <summary>
+    /// What both queries test leaves with: the primitives, their hit records, and the query's ray
+    /// and triangle frame by reference, so a query is built in place without copying the ray (a
+    /// query that held them by value was built in a temporary and copied, in pieces whose widths
+    /// kept the loads from forwarding the stores). The <see cref="TriangleFrame"/> is set up at the
+    /// first triangle the walk tests: a ray that meets only analytic primitives (the demo rooms'
+    /// walls) skips the shear's axis choice and division. It is the same whenever it is made, so
+    /// are the hits.
+    /// </summary>
+    private readonly ref struct Leaves
+    {
+        public readonly bool Vectorised;
+        private readonly Primitive[] _primitives;
+        private readonly double[] _records;
+        private readonly ref readonly Ray _ray;
+        private readonly ref FrameSlot _frame;
+
+        public Leaves(Bvh bvh, ref readonly Ray ray, ref FrameSlot frame)
+        {
+            Vectorised = bvh.Vectorised;
+            _primitives = bvh._primitives;
+            _records = bvh._records;
+            _ray = ref ray;
+            _frame = ref frame;
+        }
+
+        /// <summary>The triangles-only leaf [start, start + count) from its hit records (see <see cref="TriangleFrame.Triangles"/>).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public int Triangles(int start, int count, double tMax, out Vector256<double> t) =>
+            Frame().Triangles(ref _records[RecordDoubles * start], count, tMax, out t);
+
+        /// <summary>Primitive <paramref name="i"/>; triangles reuse the ray's shear (the same arithmetic as <see cref="Primitive.Intersect"/>).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public double Test(int i, double tMax)
+        {
+            ref readonly Primitive p = ref _primitives[i];
+            return p.Kind == PrimitiveKind.Triangle ? p.IntersectTriangle(Frame().Shear, _ray.Origin, tMax) : p.Intersect(_ray, tMax);
+        }
+
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private ref readonly TriangleFrame Frame()
+        {
+            if (!_frame.Ready)
+            {
+                Make();
+            }
+
+            return ref _frame.Frame;
+        }
+
+        // Out of line, so the walk's inlined leaf code stays small.
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private void Make()
+        {
+            _frame.Frame = new TriangleFrame(_ray);
+            _frame.Ready = true;
+        }
+    }
+
+    /// <summary>Where a query keeps its triangle frame: a local of the query's caller, left uninitialised but for <see cref="Ready"/>.</summary>
+    private struct FrameSlot
+    {
+        public TriangleFrame Frame;
+        public bool Ready;
+    }
 
     /// <summary>
     /// A ray set up for the watertight triangle test (Woop, Benthin &amp; Wald 2013) of four hit
@@ -423,18 +490,14 @@ public sealed class Bvh
     /// </summary>
     private readonly struct TriangleFrame
     {
-        public readonly Ray Ray;
         public readonly RayShear Shear;
-        public readonly bool Vectorised;
         // Scalars, broadcast where used (a broadcast load costs what a vector load does), so the query stays small.
         private readonly double _ox, _oy, _oz;
         private readonly int _kx, _ky, _kz;
 
-        public TriangleFrame(in Ray ray, bool vectorised)
+        public TriangleFrame(in Ray ray)
         {
-            Ray = ray;
             Shear = new RayShear(ray.Direction);
-            Vectorised = vectorised;
             _kx = Shear.Kx;
             _ky = Shear.Ky;
             _kz = Shear.Kz;
@@ -581,7 +644,7 @@ public sealed class Bvh
     /// </summary>
     [SkipLocalsInit]
     private void Walk<TQuery>(in Ray ray, ref TQuery query)
-        where TQuery : struct, ILeafQuery
+        where TQuery : struct, ILeafQuery, allows ref struct
     {
         var boxRay = new BoxRay(ray);
         BoxTest form = boxRay.Single

@@ -323,21 +323,47 @@ public readonly struct RayShear
     /// <summary>Shear coefficients: x' = x − Sx·z, y' = y − Sy·z, and 1/d[kz].</summary>
     public readonly double Sx, Sy, Sz;
 
-    /// <summary>Sets the frame up for <paramref name="d"/> (any non-zero direction).</summary>
+    /// <summary>
+    /// Sets the frame up for <paramref name="d"/> (any non-zero direction). Without branches: the
+    /// axes are picked by comparisons turned into integers and the components read by index, so
+    /// incoherent rays pay no mispredicted jumps here (the same choices and arithmetic as
+    /// <see cref="Reference"/>, which tests hold it to).
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public RayShear(Vec3d d)
     {
         double ax = Math.Abs(d.X), ay = Math.Abs(d.Y), az = Math.Abs(d.Z);
-        _kz = ax > ay ? (ax > az ? 0 : 2) : (ay > az ? 1 : 2);
+        // kz = ax > ay ? (ax > az ? 0 : 2) : (ay > az ? 1 : 2): the larger of x and y (the same
+        // value the nested form compares; both are ≥ +0) against z.
+        int xBeatsY = ax > ay ? 1 : 0;
+        int beatsZ = Math.Max(ax, ay) > az ? 1 : 0;
+        _kz = 2 - (beatsZ * (1 + xBeatsY));
         _kx = _kz == 2 ? 0 : _kz + 1;
         _ky = _kx == 2 ? 0 : _kx + 1;
-        if (d[_kz] < 0)
+        ref double component = ref Unsafe.As<Vec3d, double>(ref d); // x, y, z in order (a record struct of three doubles)
+        double dz = Unsafe.Add(ref component, _kz);
+        int swap = (_kx ^ _ky) & -(dz < 0 ? 1 : 0);
+        _kx ^= swap;
+        _ky ^= swap;
+        Sz = 1.0 / dz;
+        Sx = Unsafe.Add(ref component, _kx) * Sz;
+        Sy = Unsafe.Add(ref component, _ky) * Sz;
+    }
+
+    /// <summary>The frame as §3 of the paper writes it, with branches and indexed components (tests).</summary>
+    internal static (int Kx, int Ky, int Kz, double Sx, double Sy, double Sz) Reference(Vec3d d)
+    {
+        double ax = Math.Abs(d.X), ay = Math.Abs(d.Y), az = Math.Abs(d.Z);
+        int kz = ax > ay ? (ax > az ? 0 : 2) : (ay > az ? 1 : 2);
+        int kx = kz == 2 ? 0 : kz + 1;
+        int ky = kx == 2 ? 0 : kx + 1;
+        if (d[kz] < 0)
         {
-            (_kx, _ky) = (_ky, _kx);
+            (kx, ky) = (ky, kx);
         }
 
-        Sz = 1.0 / d[_kz];
-        Sx = d[_kx] * Sz;
-        Sy = d[_ky] * Sz;
+        double sz = 1.0 / d[kz];
+        return (kx, ky, kz, d[kx] * sz, d[ky] * sz, sz);
     }
 
     /// <summary>The axis that becomes x (0, 1, 2).</summary>
@@ -350,11 +376,11 @@ public readonly struct RayShear
     internal int Kz => _kz;
 
     /// <summary>Component kx of <paramref name="p"/>.</summary>
-    public double X(Vec3d p) => p[_kx];
+    public double X(Vec3d p) => Unsafe.Add(ref Unsafe.As<Vec3d, double>(ref p), _kx);
 
     /// <summary>Component ky of <paramref name="p"/>.</summary>
-    public double Y(Vec3d p) => p[_ky];
+    public double Y(Vec3d p) => Unsafe.Add(ref Unsafe.As<Vec3d, double>(ref p), _ky);
 
     /// <summary>Component kz of <paramref name="p"/>.</summary>
-    public double Pick(Vec3d p) => p[_kz];
+    public double Pick(Vec3d p) => Unsafe.Add(ref Unsafe.As<Vec3d, double>(ref p), _kz);
 }

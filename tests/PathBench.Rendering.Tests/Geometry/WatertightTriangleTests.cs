@@ -117,4 +117,47 @@ public sealed class WatertightTriangleTests
         Assert.True(double.IsPositiveInfinity(t.Intersect(new Ray(new(0.5, 0.5000001, 2), new(0, 0, -1), double.PositiveInfinity), double.PositiveInfinity)));
         Assert.True(double.IsPositiveInfinity(t.Intersect(new Ray(new(0.25, 0.25, 2), new(0, 0, -1), 1.9), 1.9)));
     }
+    [Fact]
+    public void Branch_free_shear_picks_the_papers_axes_and_coefficients()
+    {
+        // Woop, Benthin & Wald 2013, §3: kz is the axis of the direction's largest |component|,
+        // kx = kz + 1 and ky = kx + 1 (mod 3), swapped when d[kz] < 0; Sx = d[kx]/d[kz],
+        // Sy = d[ky]/d[kz], Sz = 1/d[kz]. RayShear's constructor picks them without branches and
+        // must give the nested form's choice (RayShear.Reference) and bits for every direction:
+        // random ones (fixed seed 31) and all sign patterns of ties, zeros and negative zeros.
+        var directions = new List<Vec3d>();
+        for (uint i = 0; i < 20000; i++)
+        {
+            directions.Add(Warp.UniformSphere(U(31, i, 0), U(31, i, 1)));
+        }
+
+        double[] values = [0.0, -0.0, 0.5, -0.5, 1.0, -1.0, 0.25, -0.25];
+        foreach (double x in values)
+        {
+            foreach (double y in values)
+            {
+                foreach (double z in values)
+                {
+                    if (x != 0 || y != 0 || z != 0)
+                    {
+                        directions.Add(new Vec3d(x, y, z));
+                    }
+                }
+            }
+        }
+
+        foreach (Vec3d d in directions)
+        {
+            var shear = new RayShear(d);
+            (int kx, int ky, int kz, double sx, double sy, double sz) = RayShear.Reference(d);
+            Assert.True((shear.Kx, shear.Ky, shear.Kz) == (kx, ky, kz), $"axes of {d}: ({shear.Kx}, {shear.Ky}, {shear.Kz}), the paper's ({kx}, {ky}, {kz})");
+            Assert.Equal(BitConverter.DoubleToInt64Bits(sx), BitConverter.DoubleToInt64Bits(shear.Sx));
+            Assert.Equal(BitConverter.DoubleToInt64Bits(sy), BitConverter.DoubleToInt64Bits(shear.Sy));
+            Assert.Equal(BitConverter.DoubleToInt64Bits(sz), BitConverter.DoubleToInt64Bits(shear.Sz));
+            var p = new Vec3d(1.5, -2.25, 3.125);
+            Assert.Equal(p[kx], shear.X(p));
+            Assert.Equal(p[ky], shear.Y(p));
+            Assert.Equal(p[kz], shear.Pick(p));
+        }
+    }
 }

@@ -129,7 +129,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         int done = OwenSobolBatch.Run(
             _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),
             firstIndex, (uint)(pixel >> 32), (uint)seeds, (uint)(seeds >> 32), xs, ys);
-        // The scalar tail (and the whole batch without AVX2): the reference the vector code is tested against.
+        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the vector code is tested against.
         for (int i = done; i < xs.Length; i++)
         {
             uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);

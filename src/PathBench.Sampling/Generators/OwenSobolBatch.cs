@@ -63,6 +63,64 @@ internal static class OwenSobolBatch
         return xs.Length;
     }
 
+    /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
+    public enum Finish
+    {
+        /// <summary>v · 2^-32.</summary>
+        None,
+
+        /// <summary>((v xor shift) + 0.5) · 2^-32 (<see cref="PointRandomizations.DigitalShift"/>'s form, as Sobol makes it).</summary>
+        DigitalShift,
+
+        /// <summary><see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset).</summary>
+        Rotation,
+    }
+
+    /// <summary>
+    /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
+    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by gathers, then <paramref name="finish"/> with
+    /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
+    /// single point.
+    /// </summary>
+    public static unsafe int PlainRun(ReadOnlySpan<uint> tables, uint firstIndex, Finish finish, uint shift, double offset, Span<double> xs)
+    {
+        if (!Avx2.IsSupported || xs.Length < 2)
+        {
+            return 0;
+        }
+
+        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset), scale = Vector256.Create(Scale);
+        fixed (uint* t = tables)
+        fixed (double* px = xs)
+        {
+            for (int i = 0; i < xs.Length; i += 8)
+            {
+                Vector256<uint> v = Walk(t, Vector256.Create(firstIndex + (uint)i) + lane);
+                (Vector256<double> Low, Vector256<double> High) d;
+                if (finish == Finish.DigitalShift)
+                {
+                    d = ToDoubles(v ^ Vector256.Create(shift));
+                }
+                else
+                {
+                    (Vector256<double> low, Vector256<double> high) = Exact(v);
+                    d = (low * scale, high * scale);
+                    if (finish == Finish.Rotation)
+                    {
+                        // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
+                        Vector256<double> sl = d.Low + o, sh = d.High + o;
+                        d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+                    }
+                }
+
+                Store(d, px + i, xs.Length - i);
+            }
+        }
+
+        return xs.Length;
+    }
+
     /// <summary>
     /// Table points scrambled pair by pair, eight at a time with AVX2 (the progressive multi-jittered sequences): the
     /// tables' entries from <paramref name="first"/> (the run must lie in them), each coordinate Owen-scrambled
@@ -188,11 +246,19 @@ internal static class OwenSobolBatch
     // Eight words as doubles, (x + 0.5) · 2^-32 as the scalar code makes them, in two halves: uint → double through the
     // signed conversion (flip the top bit, convert, add 2^31 back with the 0.5). All exact in double.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static (Vector256<double> Low, Vector256<double> High) ToDoubles(Vector256<uint> v)
+    private static (Vector256<double> Low, Vector256<double> High) ToDoubles(Vector256<uint> v) => Exact(v, 2147483648.0 + 0.5, Scale);
+
+    // Eight words as the doubles they are, in two halves (the signed conversion, 2^31 added back).
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v) => Exact(v, 2147483648.0, 1.0);
+
+    // (x + add − 2^31 … as the signed lanes) · scale: the words' values plus (add − 2^31), times scale.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v, double add, double scale)
     {
         Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> offset = Vector256.Create(2147483648.0 + 0.5), scale = Vector256.Create(Scale);
-        return ((Avx.ConvertToVector256Double(signed.GetLower()) + offset) * scale, (Avx.ConvertToVector256Double(signed.GetUpper()) + offset) * scale);
+        Vector256<double> a = Vector256.Create(add), s = Vector256.Create(scale);
+        return ((Avx.ConvertToVector256Double(signed.GetLower()) + a) * s, (Avx.ConvertToVector256Double(signed.GetUpper()) + a) * s);
     }
 
     // Eight doubles to the run from destination, of which <left> points are left: a whole group by plain stores (which

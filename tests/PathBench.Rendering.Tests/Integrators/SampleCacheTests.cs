@@ -92,7 +92,7 @@ public sealed class SampleCacheTests
     [InlineData("halton", "digit-permutation", SampleCache.BlockSize)]
     [InlineData("halton", "none", SampleCache.DeepRun)]
     [InlineData("sobol", "owen", 8)]
-    [InlineData("sobol", "digital-shift", SampleCache.DeepRun)]
+    [InlineData("sobol", "digital-shift", 8)]
     [InlineData("pmj02", "owen", SampleCache.BlockSize)]
     [InlineData("multi-jittered", "none", 0)]
     [InlineData("latin-hypercube", "none", 8)]

@@ -90,7 +90,7 @@ public sealed class SampleCacheTests
 
     [Theory]
     [InlineData("halton", "digit-permutation", SampleCache.BlockSize)]
-    [InlineData("halton", "none", SampleCache.DeepRun)]
+    [InlineData("lattice", "none", SampleCache.DeepRun)]
     [InlineData("sobol", "owen", 8)]
     [InlineData("sobol", "digital-shift", 8)]
     [InlineData("pmj02", "owen", SampleCache.BlockSize)]

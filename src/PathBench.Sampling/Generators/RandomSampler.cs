@@ -24,29 +24,16 @@ public sealed class RandomSampler(SamplerSpec spec) : PointSampler(spec)
     /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them (<see cref="SampleHash.Uniform8"/>, each
     /// lane the scalar hash's bits), a run's last part-group lane by lane from the vector; a single point by the scalar hash, which
     /// costs less alone.</remarks>
-    public override unsafe void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         ulong key = pixel ^ Salts.Independent;
         if (Vector512.IsHardwareAccelerated && xs.Length > 1)
         {
             Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
-            fixed (double* p = xs)
+            for (int i = 0; i < xs.Length; i += 8)
             {
-                for (int i = 0; i < xs.Length; i += 8)
-                {
-                    Vector512<double> u = SampleHash.Uniform8(key, Vector256.Create(firstIndex + (uint)i) + lane, dimension);
-                    if (xs.Length - i >= 8)
-                    {
-                        u.Store(p + i);
-                    }
-                    else
-                    {
-                        for (int k = i; k < xs.Length; k++)
-                        {
-                            p[k] = u.GetElement(k - i);
-                        }
-                    }
-                }
+                Vector512<double> u = SampleHash.Uniform8(key, Vector256.Create(firstIndex + (uint)i) + lane, dimension);
+                Lanes.Store(u, xs.Slice(i, Math.Min(8, xs.Length - i)));
             }
 
             return;

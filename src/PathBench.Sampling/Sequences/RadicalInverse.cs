@@ -57,49 +57,36 @@ public static class RadicalInverse
     /// <paramref name="rotate"/> each value is then rotated by <paramref name="offset"/> as
     /// <see cref="Generators.PointRandomizations.Rotate"/> does (s − 1 where s ≥ 1, else s − 0: the same bits).
     /// </summary>
-    public static unsafe void PlainBatch(uint first, int b, Span<double> xs, bool rotate = false, double offset = 0)
+    public static void PlainBatch(uint first, int b, Span<double> xs, bool rotate = false, double offset = 0)
     {
         int i = 0;
         if (Vector512.IsHardwareAccelerated && b > 2 && xs.Length > 1)
         {
             Vector512<ulong> lane = Vector512.Create(0UL, 1, 2, 3, 4, 5, 6, 7);
             Vector512<double> bd = Vector512.Create((double)b);
-            fixed (double* p = xs)
+            for (; i < xs.Length; i += 8)
             {
-                for (; i < xs.Length; i += 8)
+                // The index lanes wrap as uint: the low 32 bits of first + i + lane.
+                Vector512<ulong> wide = (Vector512.Create((ulong)(uint)(first + (uint)i)) + lane) & Vector512.Create(0xFFFFFFFFUL);
+                Vector512<double> index = Vector512.ConvertToDouble(wide);
+                Vector512<double> reversed = Vector512<double>.Zero, scale = Vector512<double>.One;
+                while (!Vector512.EqualsAll(index, Vector512<double>.Zero))
                 {
-                    // The index lanes wrap as uint: the low 32 bits of first + i + lane.
-                    Vector512<ulong> wide = (Vector512.Create((ulong)(uint)(first + (uint)i)) + lane) & Vector512.Create(0xFFFFFFFFUL);
-                    Vector512<double> index = Vector512.ConvertToDouble(wide);
-                    Vector512<double> reversed = Vector512<double>.Zero, scale = Vector512<double>.One;
-                    while (!Vector512.EqualsAll(index, Vector512<double>.Zero))
-                    {
-                        Vector512<double> active = ~Vector512.Equals(index, Vector512<double>.Zero);
-                        Vector512<double> next = Vector512.Floor(index / bd);
-                        reversed = Vector512.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed);
-                        scale = Vector512.ConditionalSelect(active, scale * bd, scale);
-                        index = next;
-                    }
-
-                    Vector512<double> x = reversed / scale;
-                    if (rotate)
-                    {
-                        x += Vector512.Create(offset);
-                        x -= Vector512.GreaterThanOrEqual(x, Vector512<double>.One) & Vector512<double>.One;
-                    }
-
-                    if (xs.Length - i >= 8)
-                    {
-                        x.Store(p + i);
-                    }
-                    else
-                    {
-                        for (int k = i; k < xs.Length; k++)
-                        {
-                            p[k] = x.GetElement(k - i);
-                        }
-                    }
+                    Vector512<double> active = ~Vector512.Equals(index, Vector512<double>.Zero);
+                    Vector512<double> next = Vector512.Floor(index / bd);
+                    reversed = Vector512.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed);
+                    scale = Vector512.ConditionalSelect(active, scale * bd, scale);
+                    index = next;
                 }
+
+                Vector512<double> x = reversed / scale;
+                if (rotate)
+                {
+                    x += Vector512.Create(offset);
+                    x -= Vector512.GreaterThanOrEqual(x, Vector512<double>.One) & Vector512<double>.One;
+                }
+
+                Generators.Lanes.Store(x, xs.Slice(i, Math.Min(8, xs.Length - i)));
             }
 
             return;

@@ -121,15 +121,28 @@ internal static class OwenSobolBatch
         return xs.Length;
     }
 
-    /// <summary>
-    /// Table points scrambled pair by pair, eight at a time with AVX2 (the progressive multi-jittered sequences): the
-    /// tables' entries from <paramref name="first"/> (the run must lie in them), each coordinate Owen-scrambled
-    /// (<see cref="Sequences.OwenScrambler.Scramble"/>) and centred in its 2^-32 cell. Returns false, writing nothing,
-    /// without AVX2.
-    /// </summary>
-    public static unsafe bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    /// <summary>How <see cref="TableRun"/> randomizes a table entry v (a 32-bit fixed-point value).</summary>
+    public enum TableScramble
     {
-        if (!Avx2.IsSupported)
+        /// <summary>v · 2^-32, the bare table.</summary>
+        None,
+
+        /// <summary>((v xor seed) + 0.5) · 2^-32: a random digital shift.</summary>
+        Xor,
+
+        /// <summary>(<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble.</summary>
+        Owen,
+    }
+
+    /// <summary>
+    /// Table points (the progressive multi-jittered sequences), eight at a time with AVX2: the tables' entries from
+    /// <paramref name="first"/> (the run must lie in them), each coordinate randomized as <paramref name="scramble"/> says
+    /// with the scalar code's operations. Returns false, writing nothing, without AVX2 or for a single point (which the
+    /// scalar code makes in less time).
+    /// </summary>
+    public static unsafe bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, TableScramble scramble, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    {
+        if (!Avx2.IsSupported || xs.Length < 2)
         {
             return false;
         }
@@ -145,17 +158,31 @@ internal static class OwenSobolBatch
                 // Lanes past the run (a run's last part-group) are masked: neither read from the tables nor stored.
                 Vector256<uint> mask = Vector256.LessThan(lane, Vector256.Create((uint)(xs.Length - i)));
                 Vector256<uint> x = Avx2.MaskLoad(tx + i, mask), y = Avx2.MaskLoad(ty + i, mask);
-                if (Wide)
+                int left = xs.Length - i;
+                if (scramble == TableScramble.None)
+                {
+                    Vector256<double> scale = Vector256.Create(Scale);
+                    (Vector256<double> xl, Vector256<double> xh) = Exact(x);
+                    (Vector256<double> yl, Vector256<double> yh) = Exact(y);
+                    Store((xl * scale, xh * scale), px + i, left);
+                    Store((yl * scale, yh * scale), py + i, left);
+                }
+                else if (scramble == TableScramble.Xor)
+                {
+                    Store(ToDoubles(x ^ sx), px + i, left);
+                    Store(ToDoubles(y ^ sy), py + i, left);
+                }
+                else if (Wide)
                 {
                     // Both coordinates in one 512-bit vector (x in the low half, y in the high): half the instructions.
                     Vector512<uint> v = Reverse(LaineKarras(Reverse(Vector512.Create(x, y)), Vector512.Create(sx, sy)));
-                    Store(ToDoublesWide(v.GetLower()), px + i, xs.Length - i);
-                    Store(ToDoublesWide(v.GetUpper()), py + i, xs.Length - i);
+                    Store(ToDoublesWide(v.GetLower()), px + i, left);
+                    Store(ToDoublesWide(v.GetUpper()), py + i, left);
                 }
                 else
                 {
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(x), sx))), px + i, xs.Length - i);
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(y), sy))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(LaineKarras(Reverse(x), sx))), px + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(Reverse(y), sy))), py + i, left);
                 }
             }
         }

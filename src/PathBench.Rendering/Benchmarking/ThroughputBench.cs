@@ -355,10 +355,7 @@ public static class ThroughputBench
             Span<double> x = xs[..c.Count], y = ys[..c.Count];
             if (c.Dimension >= limit)
             {
-                for (int i = 0; i < x.Length; i++)
-                {
-                    x[i] = SampleStream.Padding(c.Pixel, c.First + (uint)i, c.Dimension);
-                }
+                SampleCache.Padding(c.Pixel, c.First, c.Dimension, x);
             }
             else if (c.Pair)
             {

@@ -1,4 +1,5 @@
 using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Generators;
 using PathBench.Sampling.Hashing;
 
@@ -53,6 +54,7 @@ public sealed class SampleCache
     private readonly int _limit;
     private readonly bool _pairsShareWork;
     private readonly int _deepRun;
+    private readonly int _paddingRun;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -69,6 +71,8 @@ public sealed class SampleCache
         _limit = sampler.MaxDimensions;
         _pairsShareWork = sampler.PairsShareWork;
         _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
+        // Past the generator's limit the padding hash runs eight at a time on 512-bit lanes (Padding).
+        _paddingRun = Vector512.IsHardwareAccelerated ? 8 : DeepRun;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -149,17 +153,19 @@ public sealed class SampleCache
         }
         else
         {
-            for (int i = 0; i < row.Length; i++)
-            {
-                row[i] = SampleStream.Padding(_pixel, first + (uint)i, dimension);
-            }
+            Padding(_pixel, first, dimension, row);
         }
 
         _filled[dimension] = _block;
         _filledEnd[dimension] = slot + row.Length;
     }
 
-    private int Run(int slot, int dimension) => Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : _deepRun);
+    /// <summary><see cref="SampleStream.Padding"/> of the run from <paramref name="first"/>, eight at a time where the machine can (<see cref="SampleHash.UniformRun"/>, the same bits).</summary>
+    internal static void Padding(ulong pixel, uint first, int dimension, Span<double> row) =>
+        SampleHash.UniformRun(pixel ^ SampleStream.PaddingSalt, first, dimension, row);
+
+    private int Run(int slot, int dimension) =>
+        Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : dimension < _limit ? _deepRun : _paddingRun);
 
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Fill2D(int slot, int dimension)

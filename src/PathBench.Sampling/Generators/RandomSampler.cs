@@ -21,29 +21,9 @@ public sealed class RandomSampler(SamplerSpec spec) : PointSampler(spec)
     public override int PointsAtOnce => Vector512.IsHardwareAccelerated ? 8 : 1;
 
     /// <inheritdoc/>
-    /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them (<see cref="SampleHash.Uniform8"/>, each
-    /// lane the scalar hash's bits), a run's last part-group lane by lane from the vector; a single point by the scalar hash, which
-    /// costs less alone.</remarks>
-    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
-    {
-        ulong key = pixel ^ Salts.Independent;
-        if (Vector512.IsHardwareAccelerated && xs.Length > 1)
-        {
-            Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
-            for (int i = 0; i < xs.Length; i += 8)
-            {
-                Vector512<double> u = SampleHash.Uniform8(key, Vector256.Create(firstIndex + (uint)i) + lane, dimension);
-                Lanes.Store(u, xs.Slice(i, Math.Min(8, xs.Length - i)));
-            }
-
-            return;
-        }
-
-        for (int i = 0; i < xs.Length; i++)
-        {
-            xs[i] = SampleHash.Uniform(key, firstIndex + (uint)i, dimension);
-        }
-    }
+    /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them (<see cref="SampleHash.UniformRun"/>).</remarks>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
+        SampleHash.UniformRun(pixel ^ Salts.Independent, firstIndex, dimension, xs);
 
     /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>

@@ -152,6 +152,7 @@ internal static class BenchCommand
                 w.WriteString("randomize", s.Randomize);
                 w.WriteNumber("calls", s.Calls);
                 w.WriteNumber("coordinates", s.Coordinates);
+                w.WriteNumber("coordinates_read", s.CoordinatesRead);
                 w.Number("frame_seconds", s.FrameSeconds);
                 w.Number("sampler_seconds", s.SamplerSeconds);
                 w.Number("fraction_of_frame", s.Fraction);

@@ -71,6 +71,9 @@ public sealed record SamplerShare(string Generator, string Randomize, long Calls
 {
     /// <summary>Sampler time over frame time.</summary>
     public double Fraction => SamplerSeconds / FrameSeconds;
+
+    /// <summary>Coordinates the frame's paths read from the cache (a pair counts two): <see cref="Coordinates"/> less this is what was made for samples whose paths ended first (and pair partners never read).</summary>
+    public long CoordinatesRead { get; init; }
 }
 
 /// <summary>Everything <c>pathbench bench</c> measured on one scene.</summary>
@@ -300,12 +303,45 @@ public static class ThroughputBench
         var job = new RenderJob(scene, sampler, Options, 0, spp, 1);
         var calls = new List<SampleBatchCall>(1 << 18);
         var cache = new SampleCache(sampler, DimensionLayout.Total(Options.MaxDepth)) { Recorder = calls };
-        Renderer.RenderTiles<CacheSource, CachedSampleStream>(job, new Film(scene.Camera.Width, scene.Camera.Height), () => new CacheSource(cache), null, default);
+        var reads = new ReadCounter();
+        Renderer.RenderTiles<CountingSource, CountingStream>(job, new Film(scene.Camera.Width, scene.Camera.Height), () => new CountingSource(cache, reads), null, default);
         cache.Recorder = null;
         SampleBatchCall[] batches = calls.ToArray();
         double frame = Best(repeats, () => Renderer.Render(job));
         double replay = Best(repeats, () => Replay(sampler, batches));
-        return new SamplerShare(generator, randomize, batches.Length, batches.Sum(c => (long)c.Count * (c.Pair ? 2 : 1)), frame, replay);
+        return new SamplerShare(generator, randomize, batches.Length, batches.Sum(c => (long)c.Count * (c.Pair ? 2 : 1)), frame, replay)
+        {
+            CoordinatesRead = reads.Reads,
+        };
+    }
+
+    /// <summary>Counts the coordinates the recorded frame's paths read (one thread).</summary>
+    private sealed class ReadCounter
+    {
+        public long Reads;
+    }
+
+    /// <summary>The recorded frame's source: the cache, with every read counted.</summary>
+    private readonly struct CountingSource(SampleCache cache, ReadCounter reads) : IStreamSource<CountingStream>
+    {
+        public void BeginBlock(ulong pixel, uint first, int count) => cache.BeginBlock(pixel, first, count);
+
+        public CountingStream Stream(int slot) => new(cache.Stream(slot), reads);
+    }
+
+    private readonly struct CountingStream(CachedSampleStream inner, ReadCounter reads) : ISampleStream
+    {
+        public double Get(int dimension)
+        {
+            reads.Reads++;
+            return inner.Get(dimension);
+        }
+
+        public (double X, double Y) Get2D(int dimension)
+        {
+            reads.Reads += 2;
+            return inner.Get2D(dimension);
+        }
     }
 
     private static double Replay(PointSampler sampler, SampleBatchCall[] batches)
@@ -319,10 +355,7 @@ public static class ThroughputBench
             Span<double> x = xs[..c.Count], y = ys[..c.Count];
             if (c.Dimension >= limit)
             {
-                for (int i = 0; i < x.Length; i++)
-                {
-                    x[i] = SampleStream.Padding(c.Pixel, c.First + (uint)i, c.Dimension);
-                }
+                SampleCache.Padding(c.Pixel, c.First, c.Dimension, x);
             }
             else if (c.Pair)
             {

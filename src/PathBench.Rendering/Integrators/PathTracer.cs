@@ -73,7 +73,7 @@ public static class DimensionLayout
 /// </summary>
 public readonly struct SampleStream : ISampleStream
 {
-    private const ulong PaddingSalt = 0x50414444494E4700UL;
+    internal const ulong PaddingSalt = 0x50414444494E4700UL;
 
     private readonly PointSampler _sampler;
     private readonly ulong _pixel;

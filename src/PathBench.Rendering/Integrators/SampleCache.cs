@@ -1,4 +1,5 @@
 using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Generators;
 using PathBench.Sampling.Hashing;
 
@@ -23,7 +24,7 @@ public interface ISampleStream
 /// of the block asks for a dimension, it is generated for that sample and the following ones (the
 /// samples run in order, so the earlier ones did not need it): the rest of the block for the camera's
 /// and the first vertices' dimensions, which nearly every path uses, and a short run of
-/// <see cref="DeepRun"/> samples for the vertices from the third on, where Russian roulette ends many
+/// <see cref="DeepRun"/> samples for the vertices from the fifth on (vertex 4), where Russian roulette ends many
 /// paths first. The values come from the sampler's batch methods (<see cref="PointSampler.SampleBatch"/>, <see cref="PointSampler.Sample2DBatch"/>),
 /// which compute a dimension's per-pixel seeds once per block and vectorise where they can; every later
 /// request is a load. Each value is the one <see cref="SampleStream"/> gives (the same method of the
@@ -40,16 +41,20 @@ public sealed class SampleCache
     /// <summary>Samples per block: enough to amortise a dimension's seeds, few enough that deep dimensions reached by a few paths waste little.</summary>
     public const int BlockSize = 16;
 
-    /// <summary>Samples made at once for a dimension of the vertices from the third on (see the type's remarks), unless the sampler's batches cost little more for the whole block (<see cref="PointSampler.WholeRunsCostLittleMore"/>: then the rest of the block) or it makes more points at once (<see cref="PointSampler.PointsAtOnce"/>, up to the block: then that many).</summary>
+    /// <summary>Samples made at once for a dimension of the vertices from vertex 4 on (see the type's remarks), unless the sampler's batches cost little more for the whole block (<see cref="PointSampler.WholeRunsCostLittleMore"/>: then the rest of the block) or it makes more points at once (<see cref="PointSampler.PointsAtOnce"/>, up to the block: then that many).</summary>
     public const int DeepRun = 4;
 
-    // Dimensions below this are made for the rest of the block at once.
-    private static readonly int ShallowDimensions = DimensionLayout.Vertex(3);
+    // Dimensions below this are made for the rest of the block at once: the camera's and those of vertices 0–3. Russian
+    // roulette first ends a path after its vertex 3 (PathTracer: depth >= 3), so in a closed room nearly every path reads
+    // vertex 3's dimensions (furnished room: 95–97 % of samples, against 28 % for vertex 4's; `pathbench bench` counts
+    // coordinates_read), and making them in runs of DeepRun cost four calls where one does.
+    private static readonly int ShallowDimensions = DimensionLayout.Vertex(4);
 
     private readonly PointSampler _sampler;
     private readonly int _limit;
     private readonly bool _pairsShareWork;
     private readonly int _deepRun;
+    private readonly int _paddingRun;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -66,6 +71,8 @@ public sealed class SampleCache
         _limit = sampler.MaxDimensions;
         _pairsShareWork = sampler.PairsShareWork;
         _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
+        // Past the generator's limit the padding hash runs eight at a time on 512-bit lanes (Padding).
+        _paddingRun = Vector512.IsHardwareAccelerated ? 8 : DeepRun;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -146,17 +153,19 @@ public sealed class SampleCache
         }
         else
         {
-            for (int i = 0; i < row.Length; i++)
-            {
-                row[i] = SampleStream.Padding(_pixel, first + (uint)i, dimension);
-            }
+            Padding(_pixel, first, dimension, row);
         }
 
         _filled[dimension] = _block;
         _filledEnd[dimension] = slot + row.Length;
     }
 
-    private int Run(int slot, int dimension) => Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : _deepRun);
+    /// <summary><see cref="SampleStream.Padding"/> of the run from <paramref name="first"/>, eight at a time where the machine can (<see cref="SampleHash.UniformRun"/>, the same bits).</summary>
+    internal static void Padding(ulong pixel, uint first, int dimension, Span<double> row) =>
+        SampleHash.UniformRun(pixel ^ SampleStream.PaddingSalt, first, dimension, row);
+
+    private int Run(int slot, int dimension) =>
+        Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : dimension < _limit ? _deepRun : _paddingRun);
 
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Fill2D(int slot, int dimension)

@@ -181,7 +181,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         int done = Walked(dimension + 1)
             ? OwenSobolBatch.Run(_matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1), firstIndex, new(false, 0, block), Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
             : 0;
-        // The scalar tail (and the whole batch without AVX2): the reference the eight-lane form is tested against.
+        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the eight-lane form is tested against.
         for (int i = done; i < xs.Length; i++)
         {
             uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);

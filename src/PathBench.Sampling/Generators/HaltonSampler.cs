@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
 
@@ -17,6 +18,10 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
     /// <remarks>With digit permutations: a run draws each digit position's permutation as far as its digits reach (in the
     /// bases from 17 on, a pixel's first 16 indices are one digit each, and a run of 4 costs most of what 16 cost).</remarks>
     public override bool WholeRunsCostLittleMore => Spec.Randomize == Randomization.DigitPermutation;
+
+    /// <inheritdoc/>
+    /// <remarks>Eight without digit permutations on 512-bit lanes (<see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
+    public override int PointsAtOnce => Spec.Randomize != Randomization.DigitPermutation && Vector512.IsHardwareAccelerated ? 8 : 1;
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
@@ -43,19 +48,10 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
                 RadicalInverse.PermutedBatch(firstIndex, b, SampleHash.Combine(pixel ^ Salts.DigitPermutation, (ulong)dimension), xs);
                 return;
             case Randomization.CranleyPatterson:
-                double offset = PointRandomizations.RotationOffset(pixel, dimension);
-                for (int i = 0; i < xs.Length; i++)
-                {
-                    xs[i] = PointRandomizations.Rotate(RadicalInverse.Plain(firstIndex + (uint)i, b), offset);
-                }
-
+                RadicalInverse.PlainBatch(firstIndex, b, xs, true, PointRandomizations.RotationOffset(pixel, dimension));
                 return;
             default:
-                for (int i = 0; i < xs.Length; i++)
-                {
-                    xs[i] = RadicalInverse.Plain(firstIndex + (uint)i, b);
-                }
-
+                RadicalInverse.PlainBatch(firstIndex, b, xs);
                 return;
         }
     }
@@ -75,6 +71,10 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
     public override int MaxDimensions => RadicalInverse.PrimeCount + 1;
 
     /// <inheritdoc/>
+    /// <remarks>Eight on 512-bit lanes (<see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
+    public override int PointsAtOnce => Vector512.IsHardwareAccelerated ? 8 : 1;
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         double x = dimension == 0 ? (double)index / Count : RadicalInverse.Plain(index, RadicalInverse.Primes[dimension - 1]);
@@ -84,13 +84,17 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
-        double offset = PointRandomizations.RotationOffset(pixel, dimension);
         bool rotate = Spec.Randomize == Randomization.CranleyPatterson;
-        int b = dimension == 0 ? 0 : RadicalInverse.Primes[dimension - 1];
+        double offset = PointRandomizations.RotationOffset(pixel, dimension);
+        if (dimension != 0)
+        {
+            RadicalInverse.PlainBatch(firstIndex, RadicalInverse.Primes[dimension - 1], xs, rotate, offset);
+            return;
+        }
+
         for (int i = 0; i < xs.Length; i++)
         {
-            uint index = firstIndex + (uint)i;
-            double x = dimension == 0 ? (double)index / Count : RadicalInverse.Plain(index, b);
+            double x = (double)(firstIndex + (uint)i) / Count;
             xs[i] = rotate ? PointRandomizations.Rotate(x, offset) : x;
         }
     }

@@ -9,10 +9,10 @@ namespace PathBench.Sampling.Generators;
 /// Owen-scrambled Sobol 2-D points, eight at a time with AVX2: the same arithmetic as the
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
 /// reversal) on eight 32-bit lanes, the table walk by gathers. Returns how many points it
-/// wrote (a multiple of eight; zero without AVX2), leaving the rest to the scalar code: a
-/// part-empty group on padded lanes measured slower than the scalar loop (a gather costs about
-/// as much as four scalar loads). With an empty <c>ys</c> it makes the first coordinate only
-/// (one dimension).
+/// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
+/// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
+/// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
+/// empty <c>ys</c> it makes the first coordinate only (one dimension).
 /// </summary>
 internal static class OwenSobolBatch
 {
@@ -34,90 +34,155 @@ internal static class OwenSobolBatch
     /// <summary>The general form: any index map and coordinate scrambles.</summary>
     public static unsafe int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, IndexMap map, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
     {
-        if (!Avx2.IsSupported || xs.Length < 8)
+        if (!Avx2.IsSupported || xs.Length < 2)
         {
             return 0;
         }
 
         bool pair = !ys.IsEmpty;
-        int n = xs.Length & ~7;
         Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
         fixed (uint* tx = tablesX, ty = tablesY)
         fixed (double* px = xs, py = ys)
         {
-            for (int i = 0; i < n; i += 8)
+            for (int i = 0; i < xs.Length; i += 8)
             {
+                // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
+                // inside the tables) and stores those inside the run only.
                 Vector256<uint> index = Vector256.Create(firstIndex + (uint)i) + lane;
                 Vector256<uint> r = map.Shuffle
                     ? LaineKarras(Reverse(index), Vector256.Create(map.Seed))
                     : Reverse(index ^ Vector256.Create(map.Block));
-                Store(Reverse(Scrambled(Walk(tx, r), scrambleX)), px + i);
+                Store(ToDoubles(Reverse(Scrambled(Walk(tx, r), scrambleX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(Reverse(Scrambled(Walk(ty, r), scrambleY)), py + i);
+                    Store(ToDoubles(Reverse(Scrambled(Walk(ty, r), scrambleY))), py + i, xs.Length - i);
                 }
             }
         }
 
-        return n;
+        return xs.Length;
+    }
+
+    /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
+    public enum Finish
+    {
+        /// <summary>v · 2^-32.</summary>
+        None,
+
+        /// <summary>((v xor shift) + 0.5) · 2^-32 (<see cref="PointRandomizations.DigitalShift"/>'s form, as Sobol makes it).</summary>
+        DigitalShift,
+
+        /// <summary><see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset).</summary>
+        Rotation,
     }
 
     /// <summary>
-    /// Table points scrambled pair by pair, eight at a time with AVX2 (the progressive multi-jittered sequences): the
-    /// tables' entries from <paramref name="first"/> (the run must lie in them), each coordinate Owen-scrambled
-    /// (<see cref="Sequences.OwenScrambler.Scramble"/>) and centred in its 2^-32 cell. Returns false, writing nothing,
-    /// without AVX2.
+    /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
+    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by gathers, then <paramref name="finish"/> with
+    /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
+    /// single point.
     /// </summary>
-    public static unsafe bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe int PlainRun(ReadOnlySpan<uint> tables, uint firstIndex, Finish finish, uint shift, double offset, Span<double> xs)
     {
-        if (!Avx2.IsSupported)
+        if (!Avx2.IsSupported || xs.Length < 2)
+        {
+            return 0;
+        }
+
+        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset), scale = Vector256.Create(Scale);
+        fixed (uint* t = tables)
+        fixed (double* px = xs)
+        {
+            for (int i = 0; i < xs.Length; i += 8)
+            {
+                Vector256<uint> v = Walk(t, Vector256.Create(firstIndex + (uint)i) + lane);
+                (Vector256<double> Low, Vector256<double> High) d;
+                if (finish == Finish.DigitalShift)
+                {
+                    d = ToDoubles(v ^ Vector256.Create(shift));
+                }
+                else
+                {
+                    (Vector256<double> low, Vector256<double> high) = Exact(v);
+                    d = (low * scale, high * scale);
+                    if (finish == Finish.Rotation)
+                    {
+                        // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
+                        Vector256<double> sl = d.Low + o, sh = d.High + o;
+                        d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+                    }
+                }
+
+                Store(d, px + i, xs.Length - i);
+            }
+        }
+
+        return xs.Length;
+    }
+
+    /// <summary>How <see cref="TableRun"/> randomizes a table entry v (a 32-bit fixed-point value).</summary>
+    public enum TableScramble
+    {
+        /// <summary>v · 2^-32, the bare table.</summary>
+        None,
+
+        /// <summary>((v xor seed) + 0.5) · 2^-32: a random digital shift.</summary>
+        Xor,
+
+        /// <summary>(<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble.</summary>
+        Owen,
+    }
+
+    /// <summary>
+    /// Table points (the progressive multi-jittered sequences), eight at a time with AVX2: the tables' entries from
+    /// <paramref name="first"/> (the run must lie in them), each coordinate randomized as <paramref name="scramble"/> says
+    /// with the scalar code's operations. Returns false, writing nothing, without AVX2 or for a single point (which the
+    /// scalar code makes in less time).
+    /// </summary>
+    public static unsafe bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, TableScramble scramble, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    {
+        if (!Avx2.IsSupported || xs.Length < 2)
         {
             return false;
         }
 
         ReadOnlySpan<uint> runX = tableX.Slice(first, xs.Length), runY = tableY.Slice(first, ys.Length);
-        uint* laneX = stackalloc uint[8];
-        uint* laneY = stackalloc uint[8];
-        double* restX = stackalloc double[8];
-        double* restY = stackalloc double[8];
         Vector256<uint> sx = Vector256.Create(seedX), sy = Vector256.Create(seedY);
+        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
         fixed (uint* tx = runX, ty = runY)
         fixed (double* px = xs, py = ys)
         {
             for (int i = 0; i < xs.Length; i += 8)
             {
-                // A whole group loads straight from the tables; a run's last part-group through lanes filled element by
-                // element (a span copy of a few words is a Memmove call, a visible share of a run of four).
-                int n = Math.Min(8, xs.Length - i);
-                Vector256<uint> x, y;
-                if (n == 8)
+                // Lanes past the run (a run's last part-group) are masked: neither read from the tables nor stored.
+                Vector256<uint> mask = Vector256.LessThan(lane, Vector256.Create((uint)(xs.Length - i)));
+                Vector256<uint> x = Avx2.MaskLoad(tx + i, mask), y = Avx2.MaskLoad(ty + i, mask);
+                int left = xs.Length - i;
+                if (scramble == TableScramble.None)
                 {
-                    x = Vector256.Load(tx + i);
-                    y = Vector256.Load(ty + i);
+                    Vector256<double> scale = Vector256.Create(Scale);
+                    (Vector256<double> xl, Vector256<double> xh) = Exact(x);
+                    (Vector256<double> yl, Vector256<double> yh) = Exact(y);
+                    Store((xl * scale, xh * scale), px + i, left);
+                    Store((yl * scale, yh * scale), py + i, left);
+                }
+                else if (scramble == TableScramble.Xor)
+                {
+                    Store(ToDoubles(x ^ sx), px + i, left);
+                    Store(ToDoubles(y ^ sy), py + i, left);
+                }
+                else if (Wide)
+                {
+                    // Both coordinates in one 512-bit vector (x in the low half, y in the high): half the instructions.
+                    Vector512<uint> v = Reverse(LaineKarras(Reverse(Vector512.Create(x, y)), Vector512.Create(sx, sy)));
+                    Store(ToDoublesWide(v.GetLower()), px + i, left);
+                    Store(ToDoublesWide(v.GetUpper()), py + i, left);
                 }
                 else
                 {
-                    for (int k = 0; k < 8; k++)
-                    {
-                        laneX[k] = k < n ? tx[i + k] : 0;
-                        laneY[k] = k < n ? ty[i + k] : 0;
-                    }
-
-                    x = Vector256.Load(laneX);
-                    y = Vector256.Load(laneY);
-                }
-
-                x = Reverse(LaineKarras(Reverse(x), sx));
-                y = Reverse(LaineKarras(Reverse(y), sy));
-                Store(x, n == 8 ? px + i : restX);
-                Store(y, n == 8 ? py + i : restY);
-                if (n < 8)
-                {
-                    for (int k = 0; k < n; k++)
-                    {
-                        px[i + k] = restX[k];
-                        py[i + k] = restY[k];
-                    }
+                    Store(ToDoubles(Reverse(LaineKarras(Reverse(x), sx))), px + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(Reverse(y), sy))), py + i, left);
                 }
             }
         }
@@ -132,28 +197,112 @@ internal static class OwenSobolBatch
         return scramble.Twice ? LaineKarras(x, Vector256.Create(scramble.Common)) : x;
     }
 
+    // OwenScrambler.LaineKarrasPermutation's multipliers.
+    private const uint K0 = 0x6c50b47cu, K1 = 0xb82f1e52u, K2 = 0xc7afe638u, K3 = 0x8d22f6e6u;
+
+    // OwenScrambler.LaineKarrasPermutation on eight lanes: the seed added, then x ^= x · k for each multiplier.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> LaineKarras(Vector256<uint> x, Vector256<uint> seed)
-    {
-        // Constants as in OwenScrambler.LaineKarrasPermutation.
-        x += seed;
-        x ^= x * Vector256.Create(0x6c50b47cu);
-        x ^= x * Vector256.Create(0xb82f1e52u);
-        x ^= x * Vector256.Create(0xc7afe638u);
-        x ^= x * Vector256.Create(0x8d22f6e6u);
-        return x;
-    }
+    private static Vector256<uint> LaineKarras(Vector256<uint> x, Vector256<uint> seed) => Step(Step(Step(Step(x + seed, K0), K1), K2), K3);
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> Reverse(Vector256<uint> x)
+    private static Vector256<uint> Step(Vector256<uint> x, uint k) => x ^ (x * Vector256.Create(k));
+
+    // The bit reversal (BitReversal.Reverse) of eight words: GFNI's form where the processor has it, else the shifts.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<uint> Reverse(Vector256<uint> x) => Gfni.V256.IsSupported ? ReverseGalois(x) : ReverseShifts(x);
+
+    /// <summary>Eight words' bits reversed by swaps of ever larger bit groups (AVX2).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector256<uint> ReverseShifts(Vector256<uint> x)
     {
         Vector256<uint> m1 = Vector256.Create(0x55555555u), m2 = Vector256.Create(0x33333333u), m4 = Vector256.Create(0x0F0F0F0Fu);
         x = ((x >> 1) & m1) | ((x & m1) << 1);
         x = ((x >> 2) & m2) | ((x & m2) << 2);
         x = ((x >> 4) & m4) | ((x & m4) << 4);
-        // Byte order within each 32-bit lane, as BinaryPrimitives.ReverseEndianness.
+        return SwapBytes(x.AsByte());
+    }
+
+    /// <summary>
+    /// Eight words' bits reversed with GFNI: one affine transform over GF(2) reverses each byte's bits (the bit matrix
+    /// 0x8040201008040201 sends bit i to bit 7 − i: Intel 64 and IA-32 Architectures Software Developer's Manual,
+    /// GF2P8AFFINEQB, whose result bit i is the parity of matrix byte 7 − i and the source byte), then the bytes of each
+    /// word are reversed. Two instructions where the shifts take ten, on the chain every Owen-scrambled point waits for.
+    /// Callers check <see cref="Gfni.V256.IsSupported"/>.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector256<uint> ReverseGalois(Vector256<uint> x) =>
+        SwapBytes(Gfni.V256.GaloisFieldAffineTransform(x.AsByte(), Vector256.Create(0x8040201008040201UL).AsByte(), 0));
+
+    // Byte order within each 32-bit lane, as BinaryPrimitives.ReverseEndianness.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<uint> SwapBytes(Vector256<byte> x)
+    {
         Vector256<byte> swap = Vector256.Create((byte)3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12, 3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12);
-        return Avx2.Shuffle(x.AsByte(), swap).AsUInt32();
+        return Avx2.Shuffle(x, swap).AsUInt32();
+    }
+
+    // TableRun's 512-bit form: AVX-512 (with BW for the byte shuffle) and GFNI.
+    private static bool Wide => Vector512.IsHardwareAccelerated && Avx512BW.IsSupported && Gfni.V512.IsSupported;
+
+    // LaineKarras on sixteen lanes.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector512<uint> LaineKarras(Vector512<uint> x, Vector512<uint> seed) => Step(Step(Step(Step(x + seed, K0), K1), K2), K3);
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector512<uint> Step(Vector512<uint> x, uint k) => x ^ (x * Vector512.Create(k));
+
+    // ReverseGalois on sixteen words.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector512<uint> Reverse(Vector512<uint> x)
+    {
+        Vector512<byte> bits = Gfni.V512.GaloisFieldAffineTransform(x.AsByte(), Vector512.Create(0x8040201008040201UL).AsByte(), 0);
+        Vector512<byte> swap = Vector512.Create(
+            (byte)3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12, 3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12,
+            3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12, 3, 2, 1, 0, 7, 6, 5, 4, 11, 10, 9, 8, 15, 14, 13, 12);
+        return Avx512BW.Shuffle(bits, swap).AsUInt32();
+    }
+
+    // ToDoubles by AVX-512's unsigned conversion (exact, as the signed form with its offset): (x + 0.5) · 2^-32.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) ToDoublesWide(Vector256<uint> v)
+    {
+        Vector512<double> d = (Avx512F.ConvertToVector512Double(v) + Vector512.Create(0.5)) * Vector512.Create(Scale);
+        return (d.GetLower(), d.GetUpper());
+    }
+
+    // Eight words as doubles, (x + 0.5) · 2^-32 as the scalar code makes them, in two halves: uint → double through the
+    // signed conversion (flip the top bit, convert, add 2^31 back with the 0.5). All exact in double.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) ToDoubles(Vector256<uint> v) => Exact(v, 2147483648.0 + 0.5, Scale);
+
+    // Eight words as the doubles they are, in two halves (the signed conversion, 2^31 added back).
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v) => Exact(v, 2147483648.0, 1.0);
+
+    // (x + add − 2^31 … as the signed lanes) · scale: the words' values plus (add − 2^31), times scale.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v, double add, double scale)
+    {
+        Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
+        Vector256<double> a = Vector256.Create(add), s = Vector256.Create(scale);
+        return ((Avx.ConvertToVector256Double(signed.GetLower()) + a) * s, (Avx.ConvertToVector256Double(signed.GetUpper()) + a) * s);
+    }
+
+    // Eight doubles to the run from destination, of which <left> points are left: a whole group by plain stores (which
+    // forward to the loads that read it soon after), a run's last part-group under a mask of its lanes.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe void Store((Vector256<double> Low, Vector256<double> High) d, double* destination, int left)
+    {
+        if (left >= 8)
+        {
+            d.Low.Store(destination);
+            d.High.Store(destination + 4);
+            return;
+        }
+
+        Vector256<long> lane = Vector256.Create(0L, 1, 2, 3), n = Vector256.Create((long)left);
+        Avx.MaskStore(destination, Vector256.LessThan(lane, n).AsDouble(), d.Low);
+        Avx.MaskStore(destination + 4, Vector256.LessThan(lane + Vector256.Create(4L), n).AsDouble(), d.High);
     }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -166,18 +315,5 @@ internal static class OwenSobolBatch
         Vector256<int> b3 = ((r >> 24) + Vector256.Create(768u)).AsInt32();
         int* t = (int*)table;
         return (Avx2.GatherVector256(t, b0, 4) ^ Avx2.GatherVector256(t, b1, 4) ^ Avx2.GatherVector256(t, b2, 4) ^ Avx2.GatherVector256(t, b3, 4)).AsUInt32();
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe void Store(Vector256<uint> v, double* destination)
-    {
-        // uint → double through the signed conversion: flip the top bit, convert, add 2^31 back;
-        // + 0.5 centres the value in its 2^-32 cell, as the scalar code does. All exact in double.
-        Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> offset = Vector256.Create(2147483648.0 + 0.5), scale = Vector256.Create(Scale);
-        Vector256<double> lo = (Avx.ConvertToVector256Double(signed.GetLower()) + offset) * scale;
-        Vector256<double> hi = (Avx.ConvertToVector256Double(signed.GetUpper()) + offset) * scale;
-        lo.Store(destination);
-        hi.Store(destination + 4);
     }
 }

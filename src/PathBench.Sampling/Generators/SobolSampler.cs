@@ -23,8 +23,8 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     public override int MaxDimensions => _matrices.Dimensions;
 
     /// <inheritdoc/>
-    /// <remarks>Eight with Owen scrambling on AVX2: whole groups of eight points are walked by gathers (shorter runs point by point).</remarks>
-    public override int PointsAtOnce => Spec.Randomize == Randomization.Owen && Avx2.IsSupported ? 8 : 1;
+    /// <remarks>Eight on AVX2: groups of eight points are walked by gathers (a run's last part-group on all lanes).</remarks>
+    public override int PointsAtOnce => Avx2.IsSupported ? 8 : 1;
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
@@ -82,9 +82,11 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
                 }
 
                 return;
+            // The unscrambled forms on eight lanes where the dimension is tabled (OwenSobolBatch.PlainRun), the rest (a
+            // single point, no AVX2) by the scalar loops: the reference the lanes are tested against.
             case Randomization.DigitalShift:
                 uint shift = SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
-                for (int i = 0; i < xs.Length; i++)
+                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.DigitalShift, shift, 0, xs); i < xs.Length; i++)
                 {
                     xs[i] = ((_matrices.Sample(firstIndex + (uint)i, dimension) ^ shift) + 0.5) * Scale;
                 }
@@ -92,14 +94,14 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
                 return;
             case Randomization.CranleyPatterson:
                 double offset = PointRandomizations.RotationOffset(pixel, dimension);
-                for (int i = 0; i < xs.Length; i++)
+                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.Rotation, 0, offset, xs); i < xs.Length; i++)
                 {
                     xs[i] = PointRandomizations.Rotate(_matrices.Sample(firstIndex + (uint)i, dimension) * Scale, offset);
                 }
 
                 return;
             default:
-                for (int i = 0; i < xs.Length; i++)
+                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.None, 0, 0, xs); i < xs.Length; i++)
                 {
                     xs[i] = _matrices.Sample(firstIndex + (uint)i, dimension) * Scale;
                 }
@@ -129,7 +131,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         int done = OwenSobolBatch.Run(
             _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),
             firstIndex, (uint)(pixel >> 32), (uint)seeds, (uint)(seeds >> 32), xs, ys);
-        // The scalar tail (and the whole batch without AVX2): the reference the vector code is tested against.
+        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the vector code is tested against.
         for (int i = done; i < xs.Length; i++)
         {
             uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);
@@ -137,6 +139,12 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             ys[i] = OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32));
         }
     }
+
+    // How many of the run the lanes made (none for an untabled dimension).
+    private int Plain(uint firstIndex, int dimension, OwenSobolBatch.Finish finish, uint shift, double offset, Span<double> xs) =>
+        dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions)
+            ? OwenSobolBatch.PlainRun(_matrices.Tables(dimension), firstIndex, finish, shift, offset, xs)
+            : 0;
 
     // The nested scramble of the index (Burley 2020), kept bit-reversed for SampleReversed.
     // Its seed is the pixel key's upper half: the key is already a full-avalanche hash, and

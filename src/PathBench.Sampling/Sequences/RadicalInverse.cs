@@ -48,6 +48,58 @@ public static class RadicalInverse
     }
 
     /// <summary>
+    /// <see cref="Plain"/> of the consecutive indices from <paramref name="first"/> (wrapping past 2^32 − 1 as the scalar
+    /// index does), eight at a time on 512-bit lanes where the machine has them and the base is not 2: per lane the same
+    /// integers as the scalar loop, held exactly in doubles (the index below 2^32, so ⌊i / b⌋ of the correctly rounded
+    /// quotient is the integer quotient, <see cref="Generators.Lanes"/>' reasoning; the reversed digits and b^k stay below
+    /// 2^53), a lane stepping only while its index is not yet 0, then the one division, correctly rounded as the scalar
+    /// one. Base 2, a single point and machines without 512-bit lanes take the scalar form. With
+    /// <paramref name="rotate"/> each value is then rotated by <paramref name="offset"/> as
+    /// <see cref="Generators.PointRandomizations.Rotate"/> does (s − 1 where s ≥ 1, else s − 0: the same bits).
+    /// </summary>
+    public static void PlainBatch(uint first, int b, Span<double> xs, bool rotate = false, double offset = 0)
+    {
+        int i = 0;
+        if (Vector512.IsHardwareAccelerated && b > 2 && xs.Length > 1)
+        {
+            Vector512<ulong> lane = Vector512.Create(0UL, 1, 2, 3, 4, 5, 6, 7);
+            Vector512<double> bd = Vector512.Create((double)b);
+            for (; i < xs.Length; i += 8)
+            {
+                // The index lanes wrap as uint: the low 32 bits of first + i + lane.
+                Vector512<ulong> wide = (Vector512.Create((ulong)(uint)(first + (uint)i)) + lane) & Vector512.Create(0xFFFFFFFFUL);
+                Vector512<double> index = Vector512.ConvertToDouble(wide);
+                Vector512<double> reversed = Vector512<double>.Zero, scale = Vector512<double>.One;
+                while (!Vector512.EqualsAll(index, Vector512<double>.Zero))
+                {
+                    Vector512<double> active = ~Vector512.Equals(index, Vector512<double>.Zero);
+                    Vector512<double> next = Vector512.Floor(index / bd);
+                    reversed = Vector512.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed);
+                    scale = Vector512.ConditionalSelect(active, scale * bd, scale);
+                    index = next;
+                }
+
+                Vector512<double> x = reversed / scale;
+                if (rotate)
+                {
+                    x += Vector512.Create(offset);
+                    x -= Vector512.GreaterThanOrEqual(x, Vector512<double>.One) & Vector512<double>.One;
+                }
+
+                Generators.Lanes.Store(x, xs.Slice(i, Math.Min(8, xs.Length - i)));
+            }
+
+            return;
+        }
+
+        for (; i < xs.Length; i++)
+        {
+            double x = Plain(first + (uint)i, b);
+            xs[i] = rotate ? Generators.PointRandomizations.Rotate(x, offset) : x;
+        }
+    }
+
+    /// <summary>
     /// The radical inverse with digit position k mapped through its own random permutation π_k of 0..b−1
     /// (Braaten &amp; Weller 1979's digit permutations, drawn at random as in Owen's random digit permutations),
     /// each π_k drawn from hashes of (<paramref name="key"/>, k). The zeros above the index's leading digit go through

@@ -118,6 +118,13 @@ public sealed class SobolMatrices
         return BitReversal.Reverse(Sample(BitReversal.Reverse(reversedIndex), dimension));
     }
 
+    /// <summary>The four 256-entry byte tables behind <see cref="Sample"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
+    public ReadOnlySpan<uint> Tables(int dimension)
+    {
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
+        return new ReadOnlySpan<uint>(_byteTables, dimension * 1024, 1024);
+    }
+
     /// <summary>The four 256-entry byte tables behind <see cref="SampleReversed"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
     public ReadOnlySpan<uint> ReversedTables(int dimension)
     {

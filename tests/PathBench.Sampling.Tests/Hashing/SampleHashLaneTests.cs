@@ -29,6 +29,27 @@ public sealed class SampleHashLaneTests
     }
 
     [Fact]
+    public void Uniform_runs_equal_the_scalar_uniforms()
+    {
+        // Every length from 0 to 40 (whole groups of eight and every tail), runs that wrap past 2^32 − 1 among them, keys
+        // from a fixed hash; the buffer past the run untouched.
+        var xs = new double[48];
+        for (int n = 0; n <= 40; n++)
+        {
+            ulong key = SampleHash.Mix64((ulong)n * 1009);
+            uint first = n % 3 == 0 ? uint.MaxValue - 5 : (uint)(key >> 40);
+            xs.AsSpan().Fill(-1);
+            SampleHash.UniformRun(key, first, n + 7, xs.AsSpan(0, n));
+            for (int k = 0; k < n; k++)
+            {
+                Assert.Equal(SampleHash.Uniform(key, unchecked(first + (uint)k), n + 7), xs[k]);
+            }
+
+            Assert.True(xs.AsSpan(n).IndexOfAnyExcept(-1.0) < 0, $"a run of {n} wrote past its end");
+        }
+    }
+
+    [Fact]
     public void Seed_runs_equal_the_scalar_seeds()
     {
         // Every length from 0 to 40 (whole groups of eight and every tail), keys from a fixed hash.

@@ -34,14 +34,6 @@ internal static class BinnedSah
     // Nodes with at least this many primitives bin into two sets of bins (see BestSplit).
     private const int DualBinsFrom = 256;
 
-    // Nodes with at least this many primitives bin and partition in chunks on several threads (see BestSplit, Partition).
-    internal const int ChunkedFrom = 65536;
-
-    // Items per chunk of a parallel pass.
-    private const int Chunk = 16384;
-
-    private static int Chunks(int count) => (count + Chunk - 1) / Chunk;
-
     /// <summary>
     /// A node of the binary tree in 32 bytes (the build writes up to 2n − 1 of them): bounds in
     /// single precision, rounded outward, with the links in the fourth lanes.
@@ -120,15 +112,6 @@ internal static class BinnedSah
             CLo = Vector128.Min(CLo, c);
             CHi = Vector128.Max(CHi, c);
         }
-
-        /// <summary>Adds another range's bounds (exact: the result does not depend on the order of merging).</summary>
-        public void Merge(in RangeBounds other)
-        {
-            Lo = Vector128.Min(Lo, other.Lo);
-            Hi = Vector128.Max(Hi, other.Hi);
-            CLo = Vector128.Min(CLo, other.CLo);
-            CHi = Vector128.Max(CHi, other.CHi);
-        }
     }
 
     /// <summary>
@@ -153,13 +136,9 @@ internal static class BinnedSah
         threads = threads <= 0 ? Environment.ProcessorCount : threads;
         var items = GC.AllocateUninitializedArray<Item>(n);
         var options = new ParallelOptions { MaxDegreeOfParallelism = threads };
-        // Each chunk gathers its own bounds while it makes its items; min and max are exact, so the
-        // merged bounds are the same whatever thread ran which chunk.
-        int chunks = Chunks(n);
-        var chunkBounds = new RangeBounds[chunks];
-        Parallel.For(0, chunks, options, c =>
+        const int Chunk = 16384;
+        Parallel.For(0, (n + Chunk - 1) / Chunk, options, c =>
         {
-            RangeBounds b = RangeBounds.Empty;
             for (int i = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); i < end; i++)
             {
                 (Vec3d lo, Vec3d hi) = primitives[i].Bounds();
@@ -168,28 +147,22 @@ internal static class BinnedSah
                     Lo = Vector128.Create(Down(lo.X), Down(lo.Y), Down(lo.Z), BitConverter.Int32BitsToSingle(i)),
                     Hi = Vector128.Create(Up(hi.X), Up(hi.Y), Up(hi.Z), 0),
                 };
-                b.Add(items[i]);
             }
-
-            chunkBounds[c] = b;
         });
 
         RangeBounds root = RangeBounds.Empty;
-        foreach (ref readonly RangeBounds b in chunkBounds.AsSpan())
+        foreach (ref readonly Item item in items.AsSpan())
         {
-            root.Merge(b);
+            root.Add(item);
         }
 
         var nodes = GC.AllocateUninitializedArray<Node>((2 * n) - 1);
         new Builder(items, nodes, maxLeaf, threads > 1 ? options : null, leafSizes, sharesLeaf).Build(0, n, 0, 0, root);
-        var order = GC.AllocateUninitializedArray<int>(n);
-        Parallel.For(0, chunks, options, c =>
+        var order = new int[n];
+        for (int i = 0; i < n; i++)
         {
-            for (int i = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); i < end; i++)
-            {
-                order[i] = items[i].Index;
-            }
-        });
+            order[i] = items[i].Index;
+        }
 
         return (nodes, order);
     }
@@ -269,9 +242,7 @@ internal static class BinnedSah
             }
             else
             {
-                mid = parallel is not null && count >= ChunkedFrom
-                    ? PartitionInChunks(start, end, bins, axis, split, bounds.CLo, scale, ref left, ref right)
-                    : Partition(start, end, bins, axis, split, bounds.CLo, scale, ref left, ref right);
+                mid = Partition(start, end, bins, axis, split, bounds.CLo, scale, ref left, ref right);
             }
 
             int rightSlot = slot + (2 * (mid - start));
@@ -313,43 +284,45 @@ internal static class BinnedSah
         [SkipLocalsInit] // the bins are filled below; the sweep arrays are written before they are read
         private (int Axis, int Split) BestSplit(int start, int end, int bins, in RangeBounds bounds, Vector128<float> scale, ref float bestCost)
         {
+            // Two sets of bins, one for even and one for odd positions, merged after the pass:
+            // neighbouring items (often in the same bin) then update different memory, so their
+            // read-modify-writes need not wait for each other. Min, max and counts are exact, so the
+            // merged bins are the ones a single set would hold, whatever the split of the items.
+            // Small nodes (most of them) take one set: clearing and merging a second would cost more than it saves.
             Span<Vector128<float>> binLo = stackalloc Vector128<float>[2 * 3 * Bins];
             Span<Vector128<float>> binHi = stackalloc Vector128<float>[2 * 3 * Bins];
             Span<int> binCount = stackalloc int[2 * 3 * Bins];
             int set = 3 * bins;
+            int sets = end - start >= DualBinsFrom ? 2 : 1;
+            binLo = binLo[..(sets * set)];
+            binHi = binHi[..(sets * set)];
+            binCount = binCount[..(sets * set)];
+            binLo.Fill(RangeBounds.Empty.Lo);
+            binHi.Fill(RangeBounds.Empty.Hi);
+            binCount.Clear();
             Vector128<float> cLo = bounds.CLo;
-            if (parallel is not null && end - start >= ChunkedFrom)
+            // Bin indices are clamped to [0, Bins): the hot loop indexes the bins unchecked.
+            ref Vector128<float> lo0 = ref MemoryMarshal.GetReference(binLo);
+            ref Vector128<float> hi0 = ref MemoryMarshal.GetReference(binHi);
+            ref int count0 = ref MemoryMarshal.GetReference(binCount);
+            Vector128<int> axisOffset = Vector128.Create(0, bins, 2 * bins, 0);
+            int i = start;
+            for (; sets == 2 && i + 1 < end; i += 2)
             {
-                // Large nodes (the top levels, where few subtrees run side by side): each chunk bins
-                // into its own sets, merged after. Min, max and counts are exact, so the merged bins
-                // are the ones one pass would hold, for any thread count.
-                int chunks = Chunks(end - start);
-                var chunkLo = new Vector128<float>[chunks * 2 * set];
-                var chunkHi = new Vector128<float>[chunks * 2 * set];
-                var chunkCount = new int[chunks * 2 * set];
-                Parallel.For(0, chunks, parallel, c =>
-                {
-                    int from = start + (c * Chunk);
-                    Bin(from, Math.Min(end, from + Chunk), bins, cLo, scale, chunkLo.AsSpan(c * 2 * set, 2 * set), chunkHi.AsSpan(c * 2 * set, 2 * set), chunkCount.AsSpan(c * 2 * set, 2 * set));
-                });
-                binLo = binLo[..set];
-                binHi = binHi[..set];
-                binCount = binCount[..set];
-                chunkLo.AsSpan(0, set).CopyTo(binLo);
-                chunkHi.AsSpan(0, set).CopyTo(binHi);
-                chunkCount.AsSpan(0, set).CopyTo(binCount);
-                for (int c = 1; c < chunks; c++)
-                {
-                    MergeBins(binLo, binHi, binCount, chunkLo.AsSpan(c * 2 * set, set), chunkHi.AsSpan(c * 2 * set, set), chunkCount.AsSpan(c * 2 * set, set));
-                }
+                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
+                AddToBins(items[i + 1], BinOf(items[i + 1], cLo, scale, bins) + axisOffset + Vector128.Create(set), ref lo0, ref hi0, ref count0);
             }
-            else
+
+            for (; i < end; i++)
             {
-                int sets = end - start >= DualBinsFrom ? 2 : 1;
-                binLo = binLo[..(sets * set)];
-                binHi = binHi[..(sets * set)];
-                binCount = binCount[..(sets * set)];
-                Bin(start, end, bins, cLo, scale, binLo, binHi, binCount);
+                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
+            }
+
+            for (int k = 0; sets == 2 && k < set; k++)
+            {
+                binLo[k] = Vector128.Min(binLo[k], binLo[set + k]);
+                binHi[k] = Vector128.Max(binHi[k], binHi[set + k]);
+                binCount[k] += binCount[set + k];
             }
 
             float parentArea = HalfArea(bounds.Lo, bounds.Hi);
@@ -402,57 +375,6 @@ internal static class BinnedSah
             return (axis, split);
         }
 
-        /// <summary>
-        /// Bins items [<paramref name="start"/>, <paramref name="end"/>) on all three axes into the
-        /// first 3 × <paramref name="bins"/> entries of the spans (their length says whether a second
-        /// set may be used as scratch).
-        /// </summary>
-        private void Bin(int start, int end, int bins, Vector128<float> cLo, Vector128<float> scale, Span<Vector128<float>> binLo, Span<Vector128<float>> binHi, Span<int> binCount)
-        {
-            // Two sets of bins, one for even and one for odd positions, merged after the pass:
-            // neighbouring items (often in the same bin) then update different memory, so their
-            // read-modify-writes need not wait for each other. Min, max and counts are exact, so the
-            // merged bins are the ones a single set would hold, whatever the split of the items.
-            // Small nodes (most of them) take one set: clearing and merging a second would cost more than it saves.
-            int set = 3 * bins;
-            int sets = binCount.Length / set;
-            binLo.Fill(RangeBounds.Empty.Lo);
-            binHi.Fill(RangeBounds.Empty.Hi);
-            binCount.Clear();
-            // Bin indices are clamped to [0, Bins): the hot loop indexes the bins unchecked.
-            ref Vector128<float> lo0 = ref MemoryMarshal.GetReference(binLo);
-            ref Vector128<float> hi0 = ref MemoryMarshal.GetReference(binHi);
-            ref int count0 = ref MemoryMarshal.GetReference(binCount);
-            Vector128<int> axisOffset = Vector128.Create(0, bins, 2 * bins, 0);
-            int i = start;
-            for (; sets == 2 && i + 1 < end; i += 2)
-            {
-                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
-                AddToBins(items[i + 1], BinOf(items[i + 1], cLo, scale, bins) + axisOffset + Vector128.Create(set), ref lo0, ref hi0, ref count0);
-            }
-
-            for (; i < end; i++)
-            {
-                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
-            }
-
-            if (sets == 2)
-            {
-                MergeBins(binLo[..set], binHi[..set], binCount[..set], binLo[set..], binHi[set..], binCount[set..]);
-            }
-        }
-
-        /// <summary>Merges one set of bins into another (exact: min, max and sums of counts).</summary>
-        private static void MergeBins(Span<Vector128<float>> lo, Span<Vector128<float>> hi, Span<int> count, ReadOnlySpan<Vector128<float>> otherLo, ReadOnlySpan<Vector128<float>> otherHi, ReadOnlySpan<int> otherCount)
-        {
-            for (int k = 0; k < count.Length; k++)
-            {
-                lo[k] = Vector128.Min(lo[k], otherLo[k]);
-                hi[k] = Vector128.Max(hi[k], otherHi[k]);
-                count[k] += otherCount[k];
-            }
-        }
-
         /// <summary>Adds an item to its bin on each axis (<paramref name="b"/>: the three bin indices into the flat bin arrays).</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private static void AddToBins(in Item item, Vector128<int> b, ref Vector128<float> lo0, ref Vector128<float> hi0, ref int count0)
@@ -495,96 +417,6 @@ internal static class BinnedSah
 
                 (items[i], items[j]) = (items[j], items[i]);
             }
-        }
-
-        /// <summary>
-        /// <see cref="Partition"/> on several threads, leaving the items in exactly the order the
-        /// two-ended scan leaves them. That scan stops its left end at each right-hand item below
-        /// the final split position (in ascending order) and its right end at each left-hand item
-        /// at or above it (in descending order), and swaps the k-th stop of one with the k-th of the
-        /// other; neither end reads a position the other has written. So: one pass classifies the
-        /// items and gathers each chunk's counts and bounds, a second lists the misplaced positions
-        /// of both kinds in those orders, a third swaps the pairs.
-        /// </summary>
-        private int PartitionInChunks(int start, int end, int bins, int axis, int split, Vector128<float> cLo, Vector128<float> scale, ref RangeBounds left, ref RangeBounds right)
-        {
-            int chunks = Chunks(end - start);
-            var goesLeft = new bool[end - start];
-            var lefts = new int[chunks];
-            var leftBounds = new RangeBounds[chunks];
-            var rightBounds = new RangeBounds[chunks];
-            Parallel.For(0, chunks, parallel!, c =>
-            {
-                RangeBounds l = RangeBounds.Empty, r = RangeBounds.Empty;
-                int from = start + (c * Chunk), count = 0;
-                for (int i = from, to = Math.Min(end, from + Chunk); i < to; i++)
-                {
-                    bool isLeft = BinOf(items[i], cLo, scale, bins).GetElement(axis) < split;
-                    goesLeft[i - start] = isLeft;
-                    count += isLeft ? 1 : 0;
-                    (isLeft ? ref l : ref r).Add(items[i]);
-                }
-
-                lefts[c] = count;
-                leftBounds[c] = l;
-                rightBounds[c] = r;
-            });
-
-            int mid = start;
-            for (int c = 0; c < chunks; c++)
-            {
-                mid += lefts[c];
-                left.Merge(leftBounds[c]);
-                right.Merge(rightBounds[c]);
-            }
-
-            // Misplaced items per chunk: right-hand ones below mid, left-hand ones at or above it.
-            var lowFirst = new int[chunks + 1];
-            var highFirst = new int[chunks + 1];
-            for (int c = 0; c < chunks; c++)
-            {
-                int from = start + (c * Chunk), to = Math.Min(end, from + Chunk);
-                int low = to <= mid ? to - from - lefts[c] : 0, high = from >= mid ? lefts[c] : 0;
-                for (int i = from; i < to && from < mid && to > mid; i++) // only the chunk mid falls in is counted item by item
-                {
-                    low += i < mid && !goesLeft[i - start] ? 1 : 0;
-                    high += i >= mid && goesLeft[i - start] ? 1 : 0;
-                }
-
-                lowFirst[c + 1] = lowFirst[c] + low;
-                highFirst[c + 1] = highFirst[c] + high;
-            }
-
-            int pairs = lowFirst[chunks];
-            var lowAt = new int[pairs];
-            var highAt = new int[pairs];
-            Parallel.For(0, chunks, parallel!, c =>
-            {
-                int from = start + (c * Chunk), to = Math.Min(end, from + Chunk);
-                int low = lowFirst[c];
-                int high = pairs - highFirst[c]; // high stops are ranked from the end down
-                for (int i = from; i < to; i++)
-                {
-                    if (i < mid && !goesLeft[i - start])
-                    {
-                        lowAt[low++] = i;
-                    }
-                    else if (i >= mid && goesLeft[i - start])
-                    {
-                        highAt[--high] = i;
-                    }
-                }
-            });
-
-            Parallel.For(0, Chunks(pairs), parallel!, c =>
-            {
-                for (int k = c * Chunk, to = Math.Min(pairs, (c + 1) * Chunk); k < to; k++)
-                {
-                    (items[lowAt[k]], items[highAt[k]]) = (items[highAt[k]], items[lowAt[k]]);
-                }
-            });
-
-            return mid;
         }
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]

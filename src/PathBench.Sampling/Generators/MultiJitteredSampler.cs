@@ -66,13 +66,17 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
             bool wide = Width == LaneWidth.Wide;
             (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
+            // Sets of up to 16 points: the jitters of every stratum, made once per batch and independent of the index
+            // permutation, so the points' chain is the permutation and a lane permute instead of the permutation and the
+            // hashes keyed by its result (the same hashes, looked up by stratum).
+            var jitters = new JitterTable(pixel, pair, wide && Count <= JitterTable.Strata && Avx512F.IsSupported);
             for (int at = 0; at < xs.Length; at += 8)
             {
                 int run = Math.Min(8, xs.Length - at);
                 Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, run);
                 if (wide)
                 {
-                    Points8(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                    Points8(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
                 }
                 else
                 {
@@ -118,7 +122,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     // from the batch's tables or by Permute8Pair, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and
     // row, Lanes.Over for the divisions): the same integers and the same IEEE-754 results in the same order per lane as
     // the scalar form; only the first xs.Length lanes are stored.
-    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
     {
         Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
         (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(s, _grid.Columns);
@@ -127,8 +131,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             : Shuffles(column, row, p);
         Vector512<double> sx = Lanes.ToDouble(columnShuffle);
         Vector512<double> sy = Lanes.ToDouble(rowShuffle);
-        Vector512<double> jx = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair);
-        Vector512<double> jy = SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1);
+        (Vector512<double> jx, Vector512<double> jy) = jitters.Tabled
+            ? jitters.For(s)
+            : (SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair), SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1));
         int m = _grid.Columns, n = _grid.Rows;
         Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(column) + Lanes.Over(sy + jx, n), m)), xs);
         Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(row) + Lanes.Over(sx + jy, m), n)), ys);
@@ -163,6 +168,43 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         return m > 1 && n > 1
             ? KenslerPermutation.Permute8Pair(column, m, p * 0x68bc21ebu, row, n, p * 0x02e5be93u)
             : (KenslerPermutation.Permute8(column, m, p * 0x68bc21ebu), KenslerPermutation.Permute8(row, n, p * 0x02e5be93u));
+    }
+
+    /// <summary>
+    /// The x and y jitters of strata 0–15 of a pixel and pair (<see cref="SampleHash.Uniform8"/>, keyed as in
+    /// <see cref="Points8"/>), looked up per point by a two-register lane permute (AVX-512F); empty unless
+    /// <see cref="Tabled"/>.
+    /// </summary>
+    private readonly struct JitterTable
+    {
+        public const int Strata = 16;
+
+        private readonly Vector512<double> _xLow, _xHigh, _yLow, _yHigh;
+
+        public JitterTable(ulong pixel, int pair, bool tabled)
+        {
+            Tabled = tabled;
+            if (!tabled)
+            {
+                return;
+            }
+
+            ulong key = pixel ^ Salts.Jitter;
+            Vector256<uint> low = Lanes.Run(0, 8), high = Lanes.Run(8, 8);
+            _xLow = SampleHash.Uniform8(key, low, 2 * pair);
+            _xHigh = SampleHash.Uniform8(key, high, 2 * pair);
+            _yLow = SampleHash.Uniform8(key, low, 2 * pair + 1);
+            _yHigh = SampleHash.Uniform8(key, high, 2 * pair + 1);
+        }
+
+        public bool Tabled { get; }
+
+        /// <summary>The jitters of strata <paramref name="s"/> (each below <see cref="Strata"/>).</summary>
+        public (Vector512<double> X, Vector512<double> Y) For(Vector256<uint> s)
+        {
+            Vector512<long> at = Vector512.WidenLower(s.ToVector512Unsafe()).AsInt64();
+            return (Avx512F.PermuteVar8x64x2(_xLow, at, _xHigh), Avx512F.PermuteVar8x64x2(_yLow, at, _yHigh));
+        }
     }
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);

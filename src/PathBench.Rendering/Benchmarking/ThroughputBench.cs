@@ -367,7 +367,7 @@ public static class ThroughputBench
             Span<double> x = xs[..c.Count], y = ys[..c.Count];
             if (c.Dimension >= limit)
             {
-                SampleCache.Padding(c.Pixel, c.First, c.Dimension, x);
+                SampleStream.Padding(c.Pixel, c.First, c.Dimension, x);
             }
             else if (c.Pair)
             {

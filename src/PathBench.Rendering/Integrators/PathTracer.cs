@@ -73,7 +73,7 @@ public static class DimensionLayout
 /// </summary>
 public readonly struct SampleStream : ISampleStream
 {
-    internal const ulong PaddingSalt = 0x50414444494E4700UL;
+    private const ulong PaddingSalt = 0x50414444494E4700UL;
 
     private readonly PointSampler _sampler;
     private readonly ulong _pixel;
@@ -92,6 +92,10 @@ public readonly struct SampleStream : ISampleStream
 
     /// <summary>The padding value of dimension <paramref name="dimension"/> (at or past the generator's limit) of sample <paramref name="index"/>.</summary>
     public static double Padding(ulong pixel, uint index, int dimension) => SampleHash.Uniform(pixel ^ PaddingSalt, index, dimension);
+
+    /// <summary><see cref="Padding(ulong, uint, int)"/> of the run from <paramref name="first"/> into <paramref name="row"/>, eight at a time where the machine can (<see cref="SampleHash.UniformRun"/>, the same bits).</summary>
+    public static void Padding(ulong pixel, uint first, int dimension, Span<double> row) =>
+        SampleHash.UniformRun(pixel ^ PaddingSalt, first, dimension, row);
 
     /// <inheritdoc/>
     public double Get(int dimension) =>

@@ -1,7 +1,6 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 using PathBench.Sampling.Generators;
-using PathBench.Sampling.Hashing;
 
 namespace PathBench.Rendering.Integrators;
 
@@ -71,7 +70,7 @@ public sealed class SampleCache
         _limit = sampler.MaxDimensions;
         _pairsShareWork = sampler.PairsShareWork;
         _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
-        // Past the generator's limit the padding hash runs eight at a time on 512-bit lanes (Padding).
+        // Past the generator's limit the padding hash runs eight at a time on 512-bit lanes (SampleStream.Padding).
         _paddingRun = Vector512.IsHardwareAccelerated ? 8 : DeepRun;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
@@ -153,16 +152,12 @@ public sealed class SampleCache
         }
         else
         {
-            Padding(_pixel, first, dimension, row);
+            SampleStream.Padding(_pixel, first, dimension, row);
         }
 
         _filled[dimension] = _block;
         _filledEnd[dimension] = slot + row.Length;
     }
-
-    /// <summary><see cref="SampleStream.Padding"/> of the run from <paramref name="first"/>, eight at a time where the machine can (<see cref="SampleHash.UniformRun"/>, the same bits).</summary>
-    internal static void Padding(ulong pixel, uint first, int dimension, Span<double> row) =>
-        SampleHash.UniformRun(pixel ^ SampleStream.PaddingSalt, first, dimension, row);
 
     private int Run(int slot, int dimension) =>
         Math.Min(_count - slot, dimension < ShallowDimensions ? BlockSize : dimension < _limit ? _deepRun : _paddingRun);

@@ -90,7 +90,7 @@ internal static class OwenSobolBatch
         }
 
         Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
-        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset), scale = Vector256.Create(Scale);
+        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
         fixed (uint* t = tables)
         fixed (double* px = xs)
         {
@@ -104,8 +104,7 @@ internal static class OwenSobolBatch
                 }
                 else
                 {
-                    (Vector256<double> low, Vector256<double> high) = Exact(v);
-                    d = (low * scale, high * scale);
+                    d = Unit(v);
                     if (finish == Finish.Rotation)
                     {
                         // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
@@ -161,11 +160,8 @@ internal static class OwenSobolBatch
                 int left = xs.Length - i;
                 if (scramble == TableScramble.None)
                 {
-                    Vector256<double> scale = Vector256.Create(Scale);
-                    (Vector256<double> xl, Vector256<double> xh) = Exact(x);
-                    (Vector256<double> yl, Vector256<double> yh) = Exact(y);
-                    Store((xl * scale, xh * scale), px + i, left);
-                    Store((yl * scale, yh * scale), py + i, left);
+                    Store(Unit(x), px + i, left);
+                    Store(Unit(y), py + i, left);
                 }
                 else if (scramble == TableScramble.Xor)
                 {
@@ -275,9 +271,9 @@ internal static class OwenSobolBatch
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static (Vector256<double> Low, Vector256<double> High) ToDoubles(Vector256<uint> v) => Exact(v, 2147483648.0 + 0.5, Scale);
 
-    // Eight words as the doubles they are, in two halves (the signed conversion, 2^31 added back).
+    // Eight words v as v · 2^-32, in two halves (the signed conversion, 2^31 added back; all exact, as the scalar code).
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v) => Exact(v, 2147483648.0, 1.0);
+    private static (Vector256<double> Low, Vector256<double> High) Unit(Vector256<uint> v) => Exact(v, 2147483648.0, Scale);
 
     // (x + add − 2^31 … as the signed lanes) · scale: the words' values plus (add − 2^31), times scale.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
@@ -75,49 +76,51 @@ public sealed class JitteredSampler : PointSampler
     private static uint PairSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension >> 1));
 
     // Eight points at a time: the cell permutation on eight lanes, then dimension's coordinates into xs and, when ys is
-    // not empty (an even-aligned pair), the next dimension's from the same cells into ys; on eight lanes of doubles
-    // (Wide) or one lane at a time by the scalar Coordinate (Narrow).
+    // not empty (an even-aligned pair), the next dimension's from the same cells into ys, on eight lanes of the form's
+    // doubles (one 512-bit vector on Wide, two 256-bit halves on Narrow).
     private void Batch8(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
     {
-        bool wide = Width == LaneWidth.Wide;
+        if (Width == LaneWidth.Wide)
+        {
+            Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs, ys);
+        }
+        else
+        {
+            Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs, ys);
+        }
+    }
+
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
+    {
         for (int at = 0; at < xs.Length; at += 8)
         {
             int n = Math.Min(8, xs.Length - at);
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
-            if (wide)
+            (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
+            TForm.Store(Coordinates8<TForm, TDoubles>(pixel, index, dimension, row, column), xs.Slice(at, n));
+            if (!ys.IsEmpty)
             {
-                Lanes.Store(Coordinates8(pixel, index, dimension, cell), xs.Slice(at, n));
-                if (!ys.IsEmpty)
-                {
-                    Lanes.Store(Coordinates8(pixel, index, dimension + 1, cell), ys.Slice(at, n));
-                }
-
-                continue;
-            }
-
-            for (int k = 0; k < n; k++)
-            {
-                uint i = firstIndex + (uint)(at + k);
-                uint c = cell.GetElement(k);
-                xs[at + k] = Coordinate(pixel, i, dimension, c);
-                if (!ys.IsEmpty)
-                {
-                    ys[at + k] = Coordinate(pixel, i, dimension + 1, c);
-                }
+                TForm.Store(Coordinates8<TForm, TDoubles>(pixel, index, dimension + 1, row, column), ys.Slice(at, n));
             }
         }
     }
 
-    // Coordinate on eight lanes: the cell's column or row by Lanes.DivRem, the same integers as % and /; the division by Lanes.Over.
-    private Vector512<double> Coordinates8(ulong pixel, Vector256<uint> index, int dimension, Vector256<uint> cell)
+    // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private TDoubles Coordinates8<TForm, TDoubles>(ulong pixel, Vector256<uint> index, int dimension, Vector256<uint> row, Vector256<uint> column)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
     {
-        Vector512<double> jitter = SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension);
-        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(cell, _grid.Columns);
-        Vector512<double> x = (dimension & 1) == 0
-            ? Lanes.Over(Lanes.ToDouble(column) + jitter, _grid.Columns)
-            : Lanes.Over(Lanes.ToDouble(row) + jitter, _grid.Rows);
-        return Lanes.Clamp(x);
+        TDoubles jitter = TForm.Uniform(pixel ^ Salts.Jitter, index, dimension);
+        TDoubles x = (dimension & 1) == 0
+            ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
+            : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);
+        return TForm.Clamp(x);
     }
 
     private double Coordinate(ulong pixel, uint index, int dimension, uint cell)

@@ -130,8 +130,8 @@ internal enum LaneWidth
     Scalar,
 
     /// <summary>
-    /// The permutations on eight 32-bit lanes of 256 bits (AVX2), the jitter hashes and the coordinates' doubles one
-    /// lane at a time as the scalar form.
+    /// Everything on 256-bit vectors (AVX2): the permutations on eight 32-bit lanes, the 64-bit jitter hashes four lanes
+    /// at a time, the coordinates' doubles as two halves of four (<see cref="NarrowLanes"/>).
     /// </summary>
     Narrow,
 

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
@@ -30,25 +31,15 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
-            // Eight points at a time: the stratum permutation on eight lanes, then (Wide) the jitter hash on eight 64-bit
-            // lanes and the doubles on eight lanes, the same operations per lane as below, or (Narrow) the rest per lane.
-            bool wide = Width == LaneWidth.Wide;
-            for (int at = 0; at < xs.Length; at += 8)
+            // Eight points at a time: the stratum permutation on eight lanes, then the jitter hashes and the doubles on the
+            // form's eight lanes, the same operations per lane as below.
+            if (Width == LaneWidth.Wide)
             {
-                int n = Math.Min(8, xs.Length - at);
-                Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-                Vector256<uint> strata = KenslerPermutation.Permute8(index, (uint)Count, seed);
-                if (wide)
-                {
-                    Vector512<double> stratum = Lanes.ToDouble(strata);
-                    Lanes.Store(Lanes.Clamp(Lanes.Over(stratum + SampleHash.Uniform8(pixel ^ Salts.Jitter, index, dimension), Count)), xs.Slice(at, n));
-                    continue;
-                }
-
-                for (int k = 0; k < n; k++)
-                {
-                    xs[at + k] = Coordinate(pixel, firstIndex + (uint)(at + k), dimension, strata.GetElement(k));
-                }
+                Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs);
+            }
+            else
+            {
+                Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs);
             }
 
             return;
@@ -58,6 +49,21 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         {
             uint index = firstIndex + (uint)i;
             xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
+        }
+    }
+
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
+    {
+        for (int at = 0; at < xs.Length; at += 8)
+        {
+            int n = Math.Min(8, xs.Length - at);
+            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
+            TDoubles stratum = TForm.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
+            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.Uniform(pixel ^ Salts.Jitter, index, dimension)), Count)), xs.Slice(at, n));
         }
     }
 

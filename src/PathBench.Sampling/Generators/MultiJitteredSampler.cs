@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
@@ -25,7 +26,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     /// True on the wide lane form (AVX-512): a batch of up to eight points is one chain of dependent vector multiplies
     /// (the index's Kensler permutation, then the jitter hashes keyed by its result) after the grid's shuffle tables, so a
     /// second group of eight overlaps the first: 16 points cost about 1.4 times 8 (110 → 150 ns a pair), less than the two
-    /// calls a block's deep dimension would otherwise often take. Not on the narrow form, whose points are finished per lane.
+    /// calls a block's deep dimension would otherwise often take. Not measured on the narrow form (AVX2), which keeps it off.
     /// </remarks>
     public override bool WholeRunsCostLittleMore => Width == LaneWidth.Wide;
 
@@ -76,11 +77,11 @@ public sealed class MultiJitteredSampler : PairedPointSampler
                 Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, run);
                 if (wide)
                 {
-                    Points8(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
+                    Points8<WideLanes, Vector512<double>>(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
                 }
                 else
                 {
-                    Points8Narrow(pixel, pair, p, index, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
+                    Points8<NarrowLanes, Doubles8>(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
                 }
             }
 
@@ -119,45 +120,34 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     }
 
     // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, the column and row shuffles
-    // from the batch's tables or by Permute8Pair, SampleHash.Uniform8 for the jitters, Lanes.DivRem for the column and
-    // row, Lanes.Over for the divisions): the same integers and the same IEEE-754 results in the same order per lane as
-    // the scalar form; only the first xs.Length lanes are stored.
-    private void Points8(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
+    // from the batch's tables or by Permute8Pair, the form's Uniform for the jitters (or the batch's jitter table, Wide
+    // only), TForm.DivRem for the column and row, TForm.Over for the divisions): the same integers and the same IEEE-754
+    // results in the same order per lane as the scalar form; only the first xs.Length lanes are stored.
+    private void Points8<TForm, TDoubles>(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
     {
         Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
-        (Vector256<uint> row, Vector256<uint> column) = Lanes.DivRem(s, _grid.Columns);
+        (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(s, _grid.Columns);
         (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
             ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
             : Shuffles(column, row, p);
-        Vector512<double> sx = Lanes.ToDouble(columnShuffle);
-        Vector512<double> sy = Lanes.ToDouble(rowShuffle);
-        (Vector512<double> jx, Vector512<double> jy) = jitters.Tabled
-            ? jitters.For(s)
-            : (SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair), SampleHash.Uniform8(pixel ^ Salts.Jitter, s, 2 * pair + 1));
-        int m = _grid.Columns, n = _grid.Rows;
-        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(column) + Lanes.Over(sy + jx, n), m)), xs);
-        Lanes.Store(Lanes.Clamp(Lanes.Over(Lanes.ToDouble(row) + Lanes.Over(sx + jy, m), n)), ys);
-    }
-
-    // Points8's permutations on 256-bit lanes only (AVX2): the index shuffle and the column and row shuffles on eight
-    // lanes (tabled or by Permute8Pair), column, row and the point's doubles per lane by the scalar Point.
-    private void Points8Narrow(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
-    {
-        uint m = (uint)_grid.Columns;
-        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
-        Vector256<uint> column = Vector256.Create(
-            s.GetElement(0) % m, s.GetElement(1) % m, s.GetElement(2) % m, s.GetElement(3) % m,
-            s.GetElement(4) % m, s.GetElement(5) % m, s.GetElement(6) % m, s.GetElement(7) % m);
-        Vector256<uint> row = Vector256.Create(
-            s.GetElement(0) / m, s.GetElement(1) / m, s.GetElement(2) / m, s.GetElement(3) / m,
-            s.GetElement(4) / m, s.GetElement(5) / m, s.GetElement(6) / m, s.GetElement(7) / m);
-        (Vector256<uint> sx, Vector256<uint> sy) = tabled
-            ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
-            : Shuffles(column, row, p);
-        for (int k = 0; k < xs.Length; k++)
+        TDoubles sx = TForm.ToDouble(columnShuffle);
+        TDoubles sy = TForm.ToDouble(rowShuffle);
+        TDoubles jx, jy;
+        if (typeof(TDoubles) == typeof(Vector512<double>) && jitters.Tabled)
         {
-            (xs[k], ys[k]) = Point(pixel, pair, s.GetElement(k), sx.GetElement(k), sy.GetElement(k));
+            (Vector512<double> x, Vector512<double> y) = jitters.For(s);
+            (jx, jy) = (Unsafe.As<Vector512<double>, TDoubles>(ref x), Unsafe.As<Vector512<double>, TDoubles>(ref y));
         }
+        else
+        {
+            (jx, jy) = (TForm.Uniform(pixel ^ Salts.Jitter, s, 2 * pair), TForm.Uniform(pixel ^ Salts.Jitter, s, 2 * pair + 1));
+        }
+
+        int m = _grid.Columns, n = _grid.Rows;
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.Over(TForm.Add(sy, jx), n)), m)), xs);
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.Over(TForm.Add(sx, jy), m)), n)), ys);
     }
 
     // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked

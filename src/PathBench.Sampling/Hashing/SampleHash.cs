@@ -1,5 +1,6 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 
 namespace PathBench.Sampling.Hashing;
 
@@ -133,6 +134,57 @@ public static class SampleHash
         {
             seeds[k] = (uint)Combine(key, (ulong)k);
         }
+    }
+
+    /// <summary>
+    /// <see cref="Uniform"/>(key, index, dimension) for the four indices of <paramref name="index"/> (AVX2, no AVX-512: callers
+    /// check <see cref="Avx2"/>.IsSupported): <see cref="Combine4"/>'s 64-bit steps, then the top 53 bits converted exactly by
+    /// <see cref="Unit4"/>, so every lane has the scalar form's bits.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<double> Uniform4(ulong key, Vector128<uint> index, int dimension) =>
+        Unit4(Combine4(key, Vector256.WidenLower(index.ToVector256Unsafe()) | Vector256.Create((ulong)(uint)dimension << 32)));
+
+    /// <summary>
+    /// <see cref="Combine"/>(key, value) per 64-bit lane on 256-bit vectors (AVX2): the same steps, each multiplication
+    /// modulo 2^64 made of 32 × 32 → 64-bit ones (<see cref="MultiplyLow4"/>).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<ulong> Combine4(ulong key, Vector256<ulong> value)
+    {
+        Vector256<ulong> x = Vector256.Create(key) ^ MultiplyLow4(value, ValueMultiplier);
+        x += Vector256.Create(Golden);
+        x = MultiplyLow4(x ^ (x >>> 30), 0xBF58476D1CE4E5B9UL);
+        x = MultiplyLow4(x ^ (x >>> 27), 0x94D049BB133111EBUL);
+        return x ^ (x >>> 31);
+    }
+
+    /// <summary>
+    /// x·c modulo 2^64 per lane without AVX-512's 64-bit multiply: with x = xh·2^32 + xl and c = ch·2^32 + cl,
+    /// x·c ≡ xl·cl + ((xh·cl + xl·ch) mod 2^32)·2^32 (mod 2^64), three unsigned 32 × 32 → 64-bit products (vpmuludq).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<ulong> MultiplyLow4(Vector256<ulong> x, ulong c)
+    {
+        Vector256<uint> low = Vector256.Create((ulong)(uint)c).AsUInt32();
+        Vector256<uint> high = Vector256.Create(c >> 32).AsUInt32();
+        Vector256<ulong> cross = Avx2.Multiply((x >>> 32).AsUInt32(), low) + Avx2.Multiply(x.AsUInt32(), high);
+        return Avx2.Multiply(x.AsUInt32(), low) + (cross << 32);
+    }
+
+    /// <summary>
+    /// <see cref="ToUnit"/> per lane without AVX-512's 64-bit conversion: the 53 bits u = h ≫ 11 as u_h·2^32 + u_l, each part
+    /// placed exactly in a double's significand by its exponent bits (2^84 + u_h·2^32 and 2^52 + u_l), the offsets removed
+    /// and the parts added, every step exact (each result is an integer below 2^53, a multiple of the operands' ulps), then
+    /// scaled by 2^-53: the scalar form's exact conversion and the same product.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<double> Unit4(Vector256<ulong> h)
+    {
+        Vector256<ulong> u = h >>> 11;
+        Vector256<double> high = ((u >>> 32) | Vector256.Create(0x4530000000000000UL)).AsDouble() - Vector256.Create(BitConverter.UInt64BitsToDouble(0x4530000000100000UL));
+        Vector256<double> low = ((u & Vector256.Create(0xFFFFFFFFUL)) | Vector256.Create(0x4330000000000000UL)).AsDouble();
+        return (high + low) * Vector256.Create(1.0 / 9007199254740992.0);
     }
 
     [MethodImpl(InliningOptions.ColdPath)]

@@ -13,7 +13,8 @@ public sealed class SampleHashLaneTests
     public void Eight_uniforms_equal_the_scalar_uniforms()
     {
         // 2,000 (key, first index, dimension) triples from a fixed hash (seed written here: 0x1A4E), indices that wrap
-        // past 2^32 − 1 among them, dimensions up to 2^31 − 1.
+        // past 2^32 − 1 among them, dimensions up to 2^31 − 1. The 256-bit form needs AVX2 (both project machines have it).
+        Assert.True(System.Runtime.Intrinsics.X86.Avx2.IsSupported, "the 256-bit form needs AVX2");
         for (int trial = 0; trial < 2000; trial++)
         {
             ulong key = SampleHash.Mix64(0x1A4EUL + (ulong)trial);
@@ -21,9 +22,34 @@ public sealed class SampleHashLaneTests
             int dimension = trial % 11 == 0 ? int.MaxValue : (int)(key & 0xFF);
             Vector256<uint> index = Vector256.Create(first) + Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
             Vector512<double> lanes = SampleHash.Uniform8(key, index, dimension);
+
+            // The AVX2 form, four lanes at a time (64-bit products from 32-bit ones, the exact two-part conversion).
+            Vector512<double> narrow = Vector512.Create(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
             for (int k = 0; k < 8; k++)
             {
-                Assert.Equal(SampleHash.Uniform(key, unchecked(first + (uint)k), dimension), lanes.GetElement(k));
+                double expected = SampleHash.Uniform(key, unchecked(first + (uint)k), dimension);
+                Assert.Equal(expected, lanes.GetElement(k));
+                Assert.Equal(expected, narrow.GetElement(k));
+            }
+        }
+    }
+
+    [Fact]
+    public void Products_on_256_bit_lanes_equal_the_64_bit_products()
+    {
+        // x·c modulo 2^64 from 32-bit products: operands with every half zero, all ones, or from a fixed hash (common practice).
+        Assert.True(System.Runtime.Intrinsics.X86.Avx2.IsSupported, "the 256-bit form needs AVX2 (both project machines have it)");
+        ulong[] edge = [0, 1, 0xFFFFFFFF, 0x100000000, ulong.MaxValue, 0xFFFFFFFF00000000, SampleHash.ValueMultiplier];
+        var values = edge.Concat(Enumerable.Range(0, 200).Select(i => SampleHash.Mix64((ulong)i))).ToArray();
+        foreach (ulong c in values)
+        {
+            for (int i = 0; i + 4 <= values.Length; i += 4)
+            {
+                Vector256<ulong> product = SampleHash.MultiplyLow4(Vector256.Create(values.AsSpan(i, 4)), c);
+                for (int k = 0; k < 4; k++)
+                {
+                    Assert.Equal(unchecked(values[i + k] * c), product.GetElement(k));
+                }
             }
         }
     }

@@ -1,0 +1,188 @@
+using System.Numerics;
+using System.Runtime.CompilerServices;
+using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
+using PathBench.Sampling.Hashing;
+
+namespace PathBench.Sampling.Generators;
+
+/// <summary>
+/// The steps of an eight-point batch after the Kensler permutations, for one lane form (<see cref="LaneWidth"/>): the
+/// jittered, Latin hypercube and multi-jittered batches are written once over this interface and specialised per form
+/// (the type arguments are structs, so each form compiles to its own code with every step inlined). Every step is the
+/// scalar form's IEEE-754 operation or exact integer, per lane.
+/// </summary>
+/// <typeparam name="TDoubles">Eight doubles: one 512-bit vector (<see cref="WideLanes"/>) or two 256-bit ones (<see cref="NarrowLanes"/>).</typeparam>
+internal interface ILaneForm<TDoubles>
+    where TDoubles : struct
+{
+    /// <summary>The lanes as doubles (exact).</summary>
+    static abstract TDoubles ToDouble(Vector256<uint> v);
+
+    /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
+    static abstract TDoubles Uniform(ulong key, Vector256<uint> index, int dimension);
+
+    /// <summary>a + b per lane.</summary>
+    static abstract TDoubles Add(TDoubles a, TDoubles b);
+
+    /// <summary><see cref="Lanes.Over"/>: x / divisor as the scalar division.</summary>
+    static abstract TDoubles Over(TDoubles x, int divisor);
+
+    /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
+    static abstract TDoubles Clamp(TDoubles x);
+
+    /// <summary>Integer quotient and remainder of each lane by divisor (≥ 1), as / and %.</summary>
+    static abstract (Vector256<uint> Quotient, Vector256<uint> Remainder) DivRem(Vector256<uint> v, int divisor);
+
+    /// <summary>The first <c>destination.Length</c> (at most eight) lanes into destination.</summary>
+    static abstract void Store(TDoubles v, Span<double> destination);
+}
+
+/// <summary>The AVX-512 form: eight doubles and eight 64-bit hashes in one 512-bit vector (<see cref="Lanes"/>).</summary>
+internal readonly struct WideLanes : ILaneForm<Vector512<double>>
+{
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> ToDouble(Vector256<uint> v) => Lanes.ToDouble(v);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Uniform(ulong key, Vector256<uint> index, int dimension) => SampleHash.Uniform8(key, index, dimension);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Over(Vector512<double> x, int divisor) => Lanes.Over(x, divisor);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> Clamp(Vector512<double> x) => Lanes.Clamp(x);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Quotient, Vector256<uint> Remainder) DivRem(Vector256<uint> v, int divisor) => Lanes.DivRem(v, divisor);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static void Store(Vector512<double> v, Span<double> destination) => Lanes.Store(v, destination);
+}
+
+/// <summary>Eight doubles as two 256-bit halves: lanes 0–3 and 4–7.</summary>
+internal readonly record struct Doubles8(Vector256<double> Low, Vector256<double> High);
+
+/// <summary>
+/// The AVX2 form: the doubles on two 256-bit halves, the 64-bit hashes four lanes at a time (<see cref="SampleHash.Uniform4"/>),
+/// the conversions between 32-bit integers and doubles without AVX-512's conversion instructions (exact: see each step).
+/// Without AVX2 (a test forcing this form on such a machine) the hashes and conversions run lane by lane, the same bits.
+/// </summary>
+internal readonly struct NarrowLanes : ILaneForm<Doubles8>
+{
+    /// <summary>
+    /// Each 32-bit lane v as a double: v − 2^31 as a signed integer (the top bit flipped) converted exactly (vcvtdq2pd),
+    /// plus 2^31, exact (an integer below 2^32).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 ToDouble(Vector256<uint> v)
+    {
+        if (!Avx.IsSupported)
+        {
+            return new Doubles8(
+                Vector256.ConvertToDouble(Vector256.WidenLower(v)),
+                Vector256.ConvertToDouble(Vector256.WidenUpper(v)));
+        }
+
+        Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
+        Vector256<double> bias = Vector256.Create(2147483648.0);
+        return new Doubles8(Avx.ConvertToVector256Double(signed.GetLower()) + bias, Avx.ConvertToVector256Double(signed.GetUpper()) + bias);
+    }
+
+    /// <summary>
+    /// Doubles holding whole numbers in [0, 2^32) back to 32-bit integers: x + 2^52 puts x in the significand's low bits
+    /// (exact: the sum is an integer below 2^53, and the ulp at 2^52 is 1), whose low 32 bits are x.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<uint> ToUInt32(Doubles8 x)
+    {
+        Vector256<double> shift = Vector256.Create(4503599627370496.0);
+        return Vector256.Narrow((x.Low + shift).AsUInt64(), (x.High + shift).AsUInt64());
+    }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 Uniform(ulong key, Vector256<uint> index, int dimension)
+    {
+        if (!Avx2.IsSupported)
+        {
+            return new Doubles8(Scalar4(key, index, 0, dimension), Scalar4(key, index, 4, dimension));
+        }
+
+        return new Doubles8(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
+    }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 Over(Doubles8 x, int divisor)
+    {
+        if (BitOperations.IsPow2(divisor))
+        {
+            Vector256<double> r = Vector256.Create(1.0 / divisor);
+            return new Doubles8(x.Low * r, x.High * r);
+        }
+
+        Vector256<double> d = Vector256.Create((double)divisor);
+        return new Doubles8(x.Low / d, x.High / d);
+    }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 Clamp(Doubles8 x) => new(Clamp(x.Low), Clamp(x.High));
+
+    /// <summary>A shift and a mask for a power of two, otherwise through exact doubles as <see cref="Lanes.DivRem(Vector512{double}, double)"/>.</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Quotient, Vector256<uint> Remainder) DivRem(Vector256<uint> v, int divisor)
+    {
+        if (BitOperations.IsPow2(divisor))
+        {
+            return (v >>> BitOperations.Log2((uint)divisor), v & Vector256.Create((uint)divisor - 1));
+        }
+
+        Doubles8 x = ToDouble(v);
+        Vector256<double> d = Vector256.Create((double)divisor);
+        Vector256<double> ql = Vector256.Floor(x.Low / d), qh = Vector256.Floor(x.High / d);
+        var q = new Doubles8(ql, qh);
+        return (ToUInt32(q), ToUInt32(new Doubles8(x.Low - (ql * d), x.High - (qh * d))));
+    }
+
+    /// <remarks>Whole halves where the run covers them, the rest lane by lane (no stack buffer: a method with one is not inlined).</remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static void Store(Doubles8 v, Span<double> destination)
+    {
+        if (destination.Length == 8)
+        {
+            v.Low.CopyTo(destination);
+            v.High.CopyTo(destination[4..]);
+            return;
+        }
+
+        Vector256<double> part = v.Low;
+        int k = 0;
+        if (destination.Length >= 4)
+        {
+            v.Low.CopyTo(destination);
+            part = v.High;
+            k = 4;
+        }
+
+        for (int lane = 0; k < destination.Length; k++, lane++)
+        {
+            destination[k] = part.GetElement(lane);
+        }
+    }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<double> Clamp(Vector256<double> x) =>
+        Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
+
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static Vector256<double> Scalar4(ulong key, Vector256<uint> index, int from, int dimension) => Vector256.Create(
+        SampleHash.Uniform(key, index.GetElement(from), dimension),
+        SampleHash.Uniform(key, index.GetElement(from + 1), dimension),
+        SampleHash.Uniform(key, index.GetElement(from + 2), dimension),
+        SampleHash.Uniform(key, index.GetElement(from + 3), dimension));
+}

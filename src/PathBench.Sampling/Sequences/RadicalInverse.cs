@@ -182,18 +182,26 @@ public static class RadicalInverse
     /// forms of <see cref="ShortRun"/> instead.
     /// </summary>
     public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs) =>
-        PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes);
+        PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes ? LargeBaseImages.ConflictLanes : LargeBaseImages.Scan);
 
     /// <summary>
     /// Whether this machine draws a large base's images sixteen at a time with conflict detection (AVX-512 CD; see
-    /// <see cref="ShortRun"/>); without it those runs take the general form, the same bits.
+    /// <see cref="ShortRun"/>); without it those runs take <see cref="LargeBaseImages.Scan"/>, the same bits.
     /// </summary>
     internal static bool ConflictLanes { get; } = Vector512.IsHardwareAccelerated && Avx512CD.IsSupported;
 
-    /// <summary><see cref="PermutedBatch"/> with the conflict-detection form on or off (tests run both).</summary>
-    internal static void PermutedBatchForm(uint firstIndex, int b, ulong key, Span<double> xs, bool conflictLanes)
+    /// <summary>
+    /// <see cref="PermutedBatch"/> with a chosen form for the one-digit short runs of a base above <see cref="FullTableBase"/>
+    /// (tests run each; <see cref="LargeBaseImages.ConflictLanes"/> takes <see cref="LargeBaseImages.Scan"/> on a machine without AVX-512 CD).
+    /// </summary>
+    internal static void PermutedBatchForm(uint firstIndex, int b, ulong key, Span<double> xs, LargeBaseImages form)
     {
-        if (xs.Length > 0 && xs.Length <= DrawnDigits && ShortRun(firstIndex, (uint)b, key, xs, conflictLanes && ConflictLanes))
+        if (form == LargeBaseImages.ConflictLanes && !ConflictLanes)
+        {
+            form = LargeBaseImages.Scan;
+        }
+
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && ShortRun(firstIndex, (uint)b, key, xs, form))
         {
             return;
         }
@@ -231,7 +239,7 @@ public static class RadicalInverse
     /// The same arithmetic as <see cref="Permuted"/>.
     /// </summary>
     [SkipLocalsInit] // every image read is written first
-    private static bool ShortRun(uint first, uint b, ulong key, Span<double> xs, bool conflictLanes)
+    private static bool ShortRun(uint first, uint b, ulong key, Span<double> xs, LargeBaseImages form)
     {
         uint last = first + (uint)(xs.Length - 1);
         if (last < first || b == 2)
@@ -250,7 +258,7 @@ public static class RadicalInverse
             return true;
         }
 
-        if (b > FullTableBase && (last >= DrawnDigits || !conflictLanes))
+        if (b > FullTableBase && (last >= DrawnDigits || form == LargeBaseImages.General))
         {
             return false;
         }
@@ -265,9 +273,13 @@ public static class RadicalInverse
         {
             FisherYates(b, positionKey, zero, last, images);
         }
-        else
+        else if (form == LargeBaseImages.ConflictLanes)
         {
             ConflictImages(b, positionKey, zero, last, images);
+        }
+        else
+        {
+            ScanImages(b, positionKey, zero, last, images);
         }
 
         double invBase = 1.0 / b;
@@ -437,6 +449,41 @@ public static class RadicalInverse
         kept.StoreUnsafe(ref MemoryMarshal.GetReference(images));
     }
 
+    /// <summary>
+    /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the draws sixteen at a time
+    /// (<see cref="DigitMap.Fill"/>), each kept in order when it equals neither z nor an earlier image, the taken values
+    /// held in two eight-lane vectors (the places not yet taken hold b, which no draw equals). The same images.
+    /// </summary>
+    [SkipLocalsInit] // the draws are written before they are read
+    private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    {
+        Span<uint> draws = stackalloc uint[DrawnDigits];
+        Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+        Vector256<uint> low = Vector256.Create(b).WithElement(0, zero), high = Vector256.Create(b);
+        images[0] = zero;
+        uint count = 1;
+        for (ulong next = 0; ; next += DrawnDigits)
+        {
+            DigitMap.Fill(positionKey, b, false, next, draws);
+            foreach (uint w in draws)
+            {
+                Vector256<uint> v = Vector256.Create(w);
+                if (Vector256.EqualsAny(low, v) || Vector256.EqualsAny(high, v))
+                {
+                    continue;
+                }
+
+                images[(int)count] = w;
+                low = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count)), v, low);
+                high = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count - 8)), v, high);
+                if (++count > last)
+                {
+                    return;
+                }
+            }
+        }
+    }
+
     // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
     private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;
     private static readonly Vector512<ulong> LaneProductsHigh = Vector512.Create(8UL, 9UL, 10UL, 11UL, 12UL, 13UL, 14UL, 15UL) * SampleHash.ValueMultiplier;
@@ -597,7 +644,7 @@ public static class RadicalInverse
     /// b ≤ <see cref="FullTableBase"/> a table of b values in Fisher–Yates order (images 0 … drawn − 1 final), for
     /// larger b the images of digits 0 … drawn − 1 (at most <see cref="DrawnDigits"/>).
     /// </summary>
-    private ref struct DigitMap
+    internal ref struct DigitMap
     {
         private const int Chunk = 16;
         public static readonly uint[] Identity = Enumerable.Range(0, FullTableBase).Select(i => (uint)i).ToArray();
@@ -753,10 +800,14 @@ public static class RadicalInverse
             return _draws[(int)(_attempt++ - _chunkStart)];
         }
 
-        public static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws)
+        public static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws) =>
+            FillForm(positionKey, b, table, first, draws, Generators.Lanes.Best);
+
+        /// <summary><see cref="Fill"/> on the given lanes (tests run each form; the scalar loop finishes what a form leaves).</summary>
+        internal static void FillForm(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws, Generators.LaneWidth width)
         {
             int k = 0;
-            if (Vector512.IsHardwareAccelerated)
+            if (width == Generators.LaneWidth.Wide)
             {
                 Vector512<ulong> lane = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL);
                 Vector512<ulong> vb = Vector512.Create((ulong)b);
@@ -768,6 +819,23 @@ public static class RadicalInverse
                     Vector512<double> x = Vector512.ConvertToDouble(h >>> 11) * Vector512.Create(1.0 / 9007199254740992.0) * Vector512.ConvertToDouble(m);
                     Vector512<ulong> v = Vector512.Min(Vector512.ConvertToUInt64(Vector512.Floor(x)), m - Vector512<ulong>.One);
                     Vector512.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 8));
+                }
+            }
+            else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
+            {
+                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h) by Unit4 (exact), m (below 2^32)
+                // and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset; the same doubles.
+                Vector256<ulong> lane = Vector256.Create(0UL, 1UL, 2UL, 3UL);
+                Vector256<ulong> vb = Vector256.Create((ulong)b);
+                Vector256<double> offset = Vector256.Create(4503599627370496.0);
+                for (; k + 4 <= draws.Length; k += 4)
+                {
+                    Vector256<ulong> n = Vector256.Create(first + (ulong)k) + lane;
+                    Vector256<ulong> m = table ? Vector256.ConditionalSelect(Vector256.LessThan(n, vb), vb - n, Vector256<ulong>.One) : vb;
+                    Vector256<double> md = (m | offset.AsUInt64()).AsDouble() - offset;
+                    Vector256<double> x = SampleHash.Unit4(SampleHash.Combine4(positionKey, n)) * md;
+                    Vector256<ulong> v = (Vector256.Min(Vector256.Floor(x), md - Vector256<double>.One) + offset).AsUInt64();
+                    Vector256.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 4));
                 }
             }
 
@@ -869,4 +937,17 @@ public static class RadicalInverse
 
         return primes;
     }
+}
+
+/// <summary>How <see cref="RadicalInverse.PermutedBatch"/> draws the images of a base above <see cref="RadicalInverse.FullTableBase"/> in a short one-digit run.</summary>
+internal enum LargeBaseImages
+{
+    /// <summary>No short form: the general run (<c>PermutedRun</c>).</summary>
+    General,
+
+    /// <summary>Draws sixteen at a time, kept one by one against the taken values in two 256-bit vectors.</summary>
+    Scan,
+
+    /// <summary>Sixteen lanes at a time with AVX-512 CD's conflict detection and compression.</summary>
+    ConflictLanes,
 }

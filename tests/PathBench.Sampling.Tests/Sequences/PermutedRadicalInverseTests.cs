@@ -1,4 +1,5 @@
 using PathBench.Sampling.Analysis;
+using PathBench.Sampling.Generators;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
 
@@ -11,8 +12,9 @@ public sealed class PermutedRadicalInverseTests
     /// The batch form against the one-point reference, bit for bit: small bases (many digit positions, runs that meet
     /// every digit and wrap a position's slots), bases above the run length, the largest base, a base past the cached
     /// powers; first indices at digit boundaries and near 2^32 (runs that wrap to index 0); counts across the
-    /// 64-point run length; the short runs (at most 16 indices: one digit, or several in a base up to 64) with the
-    /// conflict-detection lanes on (where the machine has AVX-512 CD) and off, so both forms are held to the reference.
+    /// 64-point run length; the short runs (at most 16 indices: one digit, or several in a base up to 64) in each form of a
+    /// large base's images (conflict-detection lanes where the machine has AVX-512 CD, the scan, none), so every form is
+    /// held to the reference.
     /// </summary>
     [Fact]
     public void Batch_equals_the_one_point_reference_exactly()
@@ -31,14 +33,14 @@ public sealed class PermutedRadicalInverseTests
                     foreach (int n in counts)
                     {
                         Span<double> run = xs.AsSpan(0, n);
-                        foreach (bool conflictLanes in new[] { false, true })
+                        foreach (LargeBaseImages form in Enum.GetValues<LargeBaseImages>())
                         {
-                            RadicalInverse.PermutedBatchForm(first, b, key, run, conflictLanes);
+                            RadicalInverse.PermutedBatchForm(first, b, key, run, form);
                             for (int i = 0; i < n; i++)
                             {
                                 uint index = unchecked(first + (uint)i);
                                 double reference = RadicalInverse.Permuted(index, b, key);
-                                Assert.True(reference == run[i], $"b={b} key={key:x} first={first} n={n} index={index} conflict lanes {conflictLanes}: {run[i]:R} vs {reference:R}");
+                                Assert.True(reference == run[i], $"b={b} key={key:x} first={first} n={n} index={index} form {form}: {run[i]:R} vs {reference:R}");
                             }
                         }
                     }
@@ -49,8 +51,8 @@ public sealed class PermutedRadicalInverseTests
 
     /// <summary>
     /// A pixel's first 16 indices in the bases just above the Fisher–Yates table (where draws are often redrawn, so the
-    /// conflict-detection form runs several rounds) and in the bases the cache meets from 17 on, over many keys: both
-    /// forms equal the one-point reference bit for bit, for the whole block and for runs starting inside it.
+    /// conflict-detection form runs several rounds) and in the bases the cache meets from 17 on, over many keys: every
+    /// form equals the one-point reference bit for bit, for the whole block and for runs starting inside it.
     /// </summary>
     [Fact]
     public void Short_runs_equal_the_one_point_reference_over_many_keys()
@@ -64,14 +66,45 @@ public sealed class PermutedRadicalInverseTests
                 ulong key = SampleHash.Mix64(k + ((ulong)b << 20));
                 foreach ((uint first, int n) in new (uint, int)[] { (0, 16), (12, 4), (5, 11), (15, 1) })
                 {
-                    foreach (bool conflictLanes in new[] { false, true })
+                    foreach (LargeBaseImages form in Enum.GetValues<LargeBaseImages>())
                     {
-                        RadicalInverse.PermutedBatchForm(first, b, key, xs.AsSpan(0, n), conflictLanes);
+                        RadicalInverse.PermutedBatchForm(first, b, key, xs.AsSpan(0, n), form);
                         for (int i = 0; i < n; i++)
                         {
                             double reference = RadicalInverse.Permuted(first + (uint)i, b, key);
-                            Assert.True(reference == xs[i], $"b={b} key={key:x} first={first} n={n} i={i} conflict lanes {conflictLanes}: {xs[i]:R} vs {reference:R}");
+                            Assert.True(reference == xs[i], $"b={b} key={key:x} first={first} n={n} i={i} form {form}: {xs[i]:R} vs {reference:R}");
                         }
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
+    /// The digit draws (⌊unit(h)·m⌋ of the position's hashes, <c>DigitMap.Fill</c>) on each lane form equal the scalar
+    /// loop's: Fisher–Yates tables (m = b − n, then 1) and plain draws (m = b), bases from 3 to the largest, draw numbers
+    /// from 0 and far along, lengths with and without a part-group; keys from a fixed hash (common practice).
+    /// </summary>
+    [Fact]
+    public void Digit_draws_equal_the_scalar_draws_on_every_lane_form()
+    {
+        int[] bases = [3, 17, 61, 64, 67, 331, 8161];
+        var expected = new uint[21];
+        var actual = new uint[21];
+        foreach (int b in bases)
+        {
+            for (ulong k = 0; k < 200; k++)
+            {
+                ulong key = SampleHash.Mix64(k + ((ulong)b << 24));
+                ulong first = k % 3 == 0 ? 0 : k % 3 == 1 ? 1 : (ulong)b - 5;
+                int n = 8 + (int)(k % 14);
+                foreach (bool table in new[] { true, false })
+                {
+                    RadicalInverse.DigitMap.FillForm(key, (uint)b, table, first, expected.AsSpan(0, n), LaneWidth.Scalar);
+                    foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow })
+                    {
+                        RadicalInverse.DigitMap.FillForm(key, (uint)b, table, first, actual.AsSpan(0, n), width);
+                        Assert.True(expected.AsSpan(0, n).SequenceEqual(actual.AsSpan(0, n)), $"b={b} key={key:x} first={first} n={n} table={table} {width}");
                     }
                 }
             }

@@ -139,20 +139,32 @@ public static class SampleHash
     /// <summary>
     /// <see cref="Uniform"/>(key, index, dimension) for the four indices of <paramref name="index"/> (AVX2, no AVX-512: callers
     /// check <see cref="Avx2"/>.IsSupported): <see cref="Combine4"/>'s 64-bit steps, then the top 53 bits converted exactly by
-    /// <see cref="Unit4"/>, so every lane has the scalar form's bits.
+    /// <see cref="Unit4"/>, so every lane has the scalar form's bits. The value's product with the multiplier M is
+    /// i·M + d·2^32·M modulo 2^64 for the 32-bit index i and dimension d: i·M from two 32-bit products (i has no high
+    /// half: i·M_low + (i·M_high)·2^32), the dimension's term one scalar product.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<double> Uniform4(ulong key, Vector128<uint> index, int dimension) =>
-        Unit4(Combine4(key, Vector256.WidenLower(index.ToVector256Unsafe()) | Vector256.Create((ulong)(uint)dimension << 32)));
+    public static Vector256<double> Uniform4(ulong key, Vector128<uint> index, int dimension)
+    {
+        Vector256<uint> i = Vector256.WidenLower(index.ToVector256Unsafe()).AsUInt32();
+        Vector256<ulong> product = Avx2.Multiply(i, Vector256.Create(ValueMultiplier & 0xFFFFFFFFUL).AsUInt32())
+            + (Avx2.Multiply(i, Vector256.Create(ValueMultiplier >> 32).AsUInt32()) << 32)
+            + Vector256.Create(unchecked(((ulong)(uint)dimension << 32) * ValueMultiplier));
+        return Unit4(Combine4Premultiplied(key, product));
+    }
 
     /// <summary>
     /// <see cref="Combine"/>(key, value) per 64-bit lane on 256-bit vectors (AVX2): the same steps, each multiplication
     /// modulo 2^64 made of 32 × 32 → 64-bit ones (<see cref="MultiplyLow4"/>).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<ulong> Combine4(ulong key, Vector256<ulong> value)
+    public static Vector256<ulong> Combine4(ulong key, Vector256<ulong> value) => Combine4Premultiplied(key, MultiplyLow4(value, ValueMultiplier));
+
+    /// <summary><see cref="Combine4"/> given each lane's value times <see cref="ValueMultiplier"/> (modulo 2^64).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<ulong> Combine4Premultiplied(ulong key, Vector256<ulong> product)
     {
-        Vector256<ulong> x = Vector256.Create(key) ^ MultiplyLow4(value, ValueMultiplier);
+        Vector256<ulong> x = Vector256.Create(key) ^ product;
         x += Vector256.Create(Golden);
         x = MultiplyLow4(x ^ (x >>> 30), 0xBF58476D1CE4E5B9UL);
         x = MultiplyLow4(x ^ (x >>> 27), 0x94D049BB133111EBUL);

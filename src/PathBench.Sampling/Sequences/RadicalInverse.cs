@@ -289,6 +289,12 @@ public static class RadicalInverse
             return true;
         }
 
+        if (Avx.IsSupported)
+        {
+            OneDigitQuads(first, images, invBase, below0, below1, xs);
+            return true;
+        }
+
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = first + (uint)i;
@@ -320,6 +326,32 @@ public static class RadicalInverse
         low.StoreUnsafe(ref MemoryMarshal.GetReference(all));
         high.StoreUnsafe(ref MemoryMarshal.GetReference(all), (nuint)Vector512<double>.Count);
         all[..xs.Length].CopyTo(xs);
+    }
+
+    // The one-digit points of indices first … first + n − 1 four at a time on 256-bit lanes (AVX): the run's images are
+    // consecutive entries of the table, converted exactly (each below b < 2^31, vcvtdq2pd), then the scalar form's multiply,
+    // add and clamp per lane (no fused multiply-add); index 0, the fraction below length 0, and the last part-group as
+    // the scalar loop.
+    private static void OneDigitQuads(uint first, ReadOnlySpan<uint> images, double invBase, double below0, double below1, Span<double> xs)
+    {
+        Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1);
+        ref uint image = ref Unsafe.Add(ref MemoryMarshal.GetReference(images), (int)first);
+        int i = 0;
+        for (; i + 4 <= xs.Length; i += 4)
+        {
+            Vector256<double> x = (Avx.ConvertToVector256Double(Vector128.LoadUnsafe(ref image, (nuint)i).AsInt32()) * scale) + below;
+            Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne)).CopyTo(xs[i..]);
+        }
+
+        for (; i < xs.Length; i++)
+        {
+            xs[i] = UnitInterval.Clamp((Unsafe.Add(ref image, i) * invBase) + below1);
+        }
+
+        if (first == 0)
+        {
+            xs[0] = UnitInterval.Clamp(below0);
+        }
     }
 
     [MethodImpl(InliningOptions.ShortMethod)]
@@ -825,15 +857,24 @@ public static class RadicalInverse
             {
                 // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h) by Unit4 (exact), m (below 2^32)
                 // and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset; the same doubles.
+                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages).
                 Vector256<ulong> lane = Vector256.Create(0UL, 1UL, 2UL, 3UL);
+                Vector256<ulong> laneProducts = lane * SampleHash.ValueMultiplier;
                 Vector256<ulong> vb = Vector256.Create((ulong)b);
                 Vector256<double> offset = Vector256.Create(4503599627370496.0);
                 for (; k + 4 <= draws.Length; k += 4)
                 {
-                    Vector256<ulong> n = Vector256.Create(first + (ulong)k) + lane;
-                    Vector256<ulong> m = table ? Vector256.ConditionalSelect(Vector256.LessThan(n, vb), vb - n, Vector256<ulong>.One) : vb;
+                    ulong start = first + (ulong)k;
+                    Vector256<ulong> m = vb;
+                    if (table)
+                    {
+                        Vector256<ulong> n = Vector256.Create(start) + lane;
+                        m = Vector256.ConditionalSelect(Vector256.LessThan(n, vb), vb - n, Vector256<ulong>.One);
+                    }
+
                     Vector256<double> md = (m | offset.AsUInt64()).AsDouble() - offset;
-                    Vector256<double> x = SampleHash.Unit4(SampleHash.Combine4(positionKey, n)) * md;
+                    Vector256<ulong> product = Vector256.Create(unchecked(start * SampleHash.ValueMultiplier)) + laneProducts;
+                    Vector256<double> x = SampleHash.Unit4(SampleHash.Combine4Premultiplied(positionKey, product)) * md;
                     Vector256<ulong> v = (Vector256.Min(Vector256.Floor(x), md - Vector256<double>.One) + offset).AsUInt64();
                     Vector256.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 4));
                 }

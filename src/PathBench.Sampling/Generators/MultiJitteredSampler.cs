@@ -94,6 +94,17 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             return;
         }
 
+        TabledPairs(pixel, firstIndex, pair, p, xs, ys);
+    }
+
+    // The scalar form with the shuffles tabled as they are met. A method of its own: its stack tables would otherwise keep
+    // SamplePairBatch from tiered compilation (a method with stackalloc is compiled once, fully optimised but without the
+    // profile, and there the seed hash and the jitter table's constructor stayed calls).
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void TabledPairs(ulong pixel, uint firstIndex, int pair, uint p, Span<double> xs, Span<double> ys)
+    {
+        uint m = (uint)_grid.Columns;
+        uint n = (uint)_grid.Rows;
         Span<uint> columnShuffle = stackalloc uint[(int)m];
         Span<uint> rowShuffle = stackalloc uint[(int)n];
         columnShuffle.Fill(uint.MaxValue);

@@ -49,54 +49,149 @@ public static class RadicalInverse
 
     /// <summary>
     /// <see cref="Plain"/> of the consecutive indices from <paramref name="first"/> (wrapping past 2^32 − 1 as the scalar
-    /// index does), eight at a time on 512-bit lanes where the machine has them and the base is not 2: per lane the same
+    /// index does), eight at a time on 512-bit lanes where the machine has them, else four on 256-bit ones (AVX), when the
+    /// base is not 2: per lane the same
     /// integers as the scalar loop, held exactly in doubles (the index below 2^32, so ⌊i / b⌋ of the correctly rounded
     /// quotient is the integer quotient, <see cref="Generators.Lanes"/>' reasoning; the reversed digits and b^k stay below
     /// 2^53), a lane stepping only while its index is not yet 0, then the one division, correctly rounded as the scalar
-    /// one. Base 2, a single point and machines without 512-bit lanes take the scalar form. With
+    /// one. Base 2, a single point and machines without the vectors take the scalar form. With
     /// <paramref name="rotate"/> each value is then rotated by <paramref name="offset"/> as
     /// <see cref="Generators.PointRandomizations.Rotate"/> does (s − 1 where s ≥ 1, else s − 0: the same bits).
     /// </summary>
-    public static void PlainBatch(uint first, int b, Span<double> xs, bool rotate = false, double offset = 0)
+    public static void PlainBatch(uint first, int b, Span<double> xs, bool rotate = false, double offset = 0) =>
+        PlainBatchForm(first, b, xs, rotate, offset, Generators.Lanes.Best);
+
+    /// <summary>
+    /// <see cref="PlainBatch"/> on the given lanes (tests run each form): eight 512-bit lanes, four 256-bit ones (with AVX;
+    /// <see cref="Quads"/>), or the scalar loop.
+    /// </summary>
+    internal static void PlainBatchForm(uint first, int b, Span<double> xs, bool rotate, double offset, Generators.LaneWidth width)
     {
-        int i = 0;
-        if (Vector512.IsHardwareAccelerated && b > 2 && xs.Length > 1)
+        if (width == Generators.LaneWidth.Wide && b > 2 && xs.Length > 1)
         {
-            Vector512<ulong> lane = Vector512.Create(0UL, 1, 2, 3, 4, 5, 6, 7);
-            Vector512<double> bd = Vector512.Create((double)b);
-            for (; i < xs.Length; i += 8)
-            {
-                // The index lanes wrap as uint: the low 32 bits of first + i + lane.
-                Vector512<ulong> wide = (Vector512.Create((ulong)(uint)(first + (uint)i)) + lane) & Vector512.Create(0xFFFFFFFFUL);
-                Vector512<double> index = Vector512.ConvertToDouble(wide);
-                Vector512<double> reversed = Vector512<double>.Zero, scale = Vector512<double>.One;
-                while (!Vector512.EqualsAll(index, Vector512<double>.Zero))
-                {
-                    Vector512<double> active = ~Vector512.Equals(index, Vector512<double>.Zero);
-                    Vector512<double> next = Vector512.Floor(index / bd);
-                    reversed = Vector512.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed);
-                    scale = Vector512.ConditionalSelect(active, scale * bd, scale);
-                    index = next;
-                }
-
-                Vector512<double> x = reversed / scale;
-                if (rotate)
-                {
-                    x += Vector512.Create(offset);
-                    x -= Vector512.GreaterThanOrEqual(x, Vector512<double>.One) & Vector512<double>.One;
-                }
-
-                Generators.Lanes.Store(x, xs.Slice(i, Math.Min(8, xs.Length - i)));
-            }
-
+            PlainLanes<Octets, Vector512<double>>(first, b, xs, rotate, offset);
             return;
         }
 
-        for (; i < xs.Length; i++)
+        if (width == Generators.LaneWidth.Narrow && Avx.IsSupported && b > 2 && xs.Length > 1)
+        {
+            PlainLanes<Quads, Vector256<double>>(first, b, xs, rotate, offset);
+            return;
+        }
+
+        for (int i = 0; i < xs.Length; i++)
         {
             double x = Plain(first + (uint)i, b);
             xs[i] = rotate ? Generators.PointRandomizations.Rotate(x, offset) : x;
         }
+    }
+
+    // PlainBatch's lanes, TLanes.Count at a time: per lane the scalar loop's integers held exactly in doubles, a lane
+    // stepping only while its index is not yet 0, then the one division and the rotation.
+    private static void PlainLanes<TLanes, TVector>(uint first, int b, Span<double> xs, bool rotate, double offset)
+        where TLanes : struct, IRadixLanes<TVector>
+        where TVector : struct
+    {
+        for (int i = 0; i < xs.Length; i += TLanes.Count)
+        {
+            (TVector reversed, TVector scale) = TLanes.Reverse(TLanes.Indices(first + (uint)i), b);
+            TLanes.Store(TLanes.Finish(reversed, scale, rotate, offset), xs.Slice(i, Math.Min(TLanes.Count, xs.Length - i)));
+        }
+    }
+
+    /// <summary>The lane steps of <see cref="PlainLanes"/> on one vector width.</summary>
+    private interface IRadixLanes<TVector>
+        where TVector : struct
+    {
+        static abstract int Count { get; }
+
+        /// <summary>first, first + 1, … wrapping as uint, exactly as doubles.</summary>
+        static abstract TVector Indices(uint first);
+
+        /// <summary>The reversed digits and b^digits of each lane.</summary>
+        static abstract (TVector Reversed, TVector Scale) Reverse(TVector index, int b);
+
+        /// <summary>reversed / scale, rotated by offset as <see cref="Generators.PointRandomizations.Rotate"/> when asked (s − 1 where s ≥ 1).</summary>
+        static abstract TVector Finish(TVector reversed, TVector scale, bool rotate, double offset);
+
+        static abstract void Store(TVector x, Span<double> destination);
+    }
+
+    // Eight 512-bit lanes (AVX-512): the index lanes the low 32 bits of first + lane, converted exactly.
+    private readonly struct Octets : IRadixLanes<Vector512<double>>
+    {
+        public static int Count => 8;
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Vector512<double> Indices(uint first) =>
+            Vector512.ConvertToDouble((Vector512.Create((ulong)first) + Vector512.Create(0UL, 1, 2, 3, 4, 5, 6, 7)) & Vector512.Create(0xFFFFFFFFUL));
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static (Vector512<double> Reversed, Vector512<double> Scale) Reverse(Vector512<double> index, int b)
+        {
+            Vector512<double> bd = Vector512.Create((double)b), reversed = Vector512<double>.Zero, scale = Vector512<double>.One;
+            for (Vector512<double> active, next; (active = ~Vector512.Equals(index, Vector512<double>.Zero)) != Vector512<double>.Zero; index = next)
+            {
+                next = Vector512.Floor(index / bd);
+                (reversed, scale) = (Vector512.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed), Vector512.ConditionalSelect(active, scale * bd, scale));
+            }
+
+            return (reversed, scale);
+        }
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Vector512<double> Finish(Vector512<double> reversed, Vector512<double> scale, bool rotate, double offset) =>
+            rotate ? Wrap((reversed / scale) + Vector512.Create(offset)) : reversed / scale;
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static void Store(Vector512<double> x, Span<double> destination) => Generators.Lanes.Store(x, destination);
+
+        private static Vector512<double> Wrap(Vector512<double> s) => s - (Vector512.GreaterThanOrEqual(s, Vector512<double>.One) & Vector512<double>.One);
+    }
+
+    // Four 256-bit lanes (AVX, no AVX-512): the index lanes wrap as uint and are converted exactly (v − 2^31 as a signed
+    // integer, vcvtdq2pd, plus 2^31).
+    private readonly struct Quads : IRadixLanes<Vector256<double>>
+    {
+        public static int Count => 4;
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Vector256<double> Indices(uint first) =>
+            Avx.ConvertToVector256Double(((Vector128.Create(first) + Vector128.Create(0u, 1u, 2u, 3u)) ^ Vector128.Create(0x80000000u)).AsInt32()) + Vector256.Create(2147483648.0);
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static (Vector256<double> Reversed, Vector256<double> Scale) Reverse(Vector256<double> index, int b)
+        {
+            Vector256<double> bd = Vector256.Create((double)b), reversed = Vector256<double>.Zero, scale = Vector256<double>.One;
+            for (Vector256<double> active, next; (active = ~Vector256.Equals(index, Vector256<double>.Zero)) != Vector256<double>.Zero; index = next)
+            {
+                next = Vector256.Floor(index / bd);
+                (reversed, scale) = (Vector256.ConditionalSelect(active, (reversed * bd) + (index - (next * bd)), reversed), Vector256.ConditionalSelect(active, scale * bd, scale));
+            }
+
+            return (reversed, scale);
+        }
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Vector256<double> Finish(Vector256<double> reversed, Vector256<double> scale, bool rotate, double offset) =>
+            rotate ? Wrap((reversed / scale) + Vector256.Create(offset)) : reversed / scale;
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static void Store(Vector256<double> x, Span<double> destination)
+        {
+            if (destination.Length == 4)
+            {
+                x.CopyTo(destination);
+                return;
+            }
+
+            for (int k = 0; k < destination.Length; k++)
+            {
+                destination[k] = x.GetElement(k);
+            }
+        }
+
+        private static Vector256<double> Wrap(Vector256<double> s) => s - (Vector256.GreaterThanOrEqual(s, Vector256<double>.One) & Vector256<double>.One);
     }
 
     /// <summary>

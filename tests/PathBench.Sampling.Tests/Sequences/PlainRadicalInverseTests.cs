@@ -21,7 +21,7 @@ public sealed class PlainRadicalInverseTests
     {
         // The lanes hold the scalar loop's integers in doubles and divide once: every value the same double, for short
         // and long runs, first indices with many digits and runs that wrap past 2^32 − 1, with and without a rotation;
-        // the buffer past the run untouched.
+        // the buffer past the run untouched; on every lane form (the 512-bit one runs in software where the machine lacks it).
         var xs = new double[24];
         foreach (int b in new[] { 2, 3, 5, 7, 13, 31, 127, 1021, 8161 })
         {
@@ -29,15 +29,15 @@ public sealed class PlainRadicalInverseTests
             {
                 for (int n = 1; n <= 20; n++)
                 {
-                    foreach (bool rotate in new[] { false, true })
+                    foreach ((bool rotate, LaneWidth width) in new[] { false, true }.SelectMany(r => Enum.GetValues<LaneWidth>().Select(w => (r, w))))
                     {
                         xs.AsSpan().Fill(-1);
-                        RadicalInverse.PlainBatch(first, b, xs.AsSpan(0, n), rotate, 0.6180339887);
+                        RadicalInverse.PlainBatchForm(first, b, xs.AsSpan(0, n), rotate, 0.6180339887, width);
                         for (int i = 0; i < n; i++)
                         {
                             double x = RadicalInverse.Plain(unchecked(first + (uint)i), b);
                             double expected = rotate ? PointRandomizations.Rotate(x, 0.6180339887) : x;
-                            Assert.True(expected == xs[i], $"base {b}, index {unchecked(first + (uint)i)}, rotate {rotate}: {xs[i]:R} against {expected:R}");
+                            Assert.True(expected == xs[i], $"base {b}, index {unchecked(first + (uint)i)}, rotate {rotate}, {width}: {xs[i]:R} against {expected:R}");
                         }
 
                         Assert.True(xs.AsSpan(n).IndexOfAnyExcept(-1.0) < 0, $"base {b}: a batch of {n} wrote past its run");

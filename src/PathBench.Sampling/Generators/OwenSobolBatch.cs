@@ -8,7 +8,8 @@ namespace PathBench.Sampling.Generators;
 /// <summary>
 /// Owen-scrambled Sobol 2-D points, eight at a time with AVX2: the same arithmetic as the
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
-/// reversal) on eight 32-bit lanes, the table walk by gathers. Returns how many points it
+/// reversal) on eight 32-bit lanes; the table walk by gathers where the indices are scrambled,
+/// else by loads of neighbouring table entries (<c>Consecutive</c>). Returns how many points it
 /// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
 /// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
 /// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
@@ -18,21 +19,15 @@ internal static class OwenSobolBatch
 {
     private const double Scale = 1.0 / 4294967296.0;
 
-    /// <summary>How a point's index becomes the bit-reversed index the table walk reads.</summary>
-    /// <param name="Shuffle">Sobol's nested index scramble (Burley 2020): Laine–Karras of the reversed index under <paramref name="Seed"/>.</param>
-    /// <param name="Seed">The index scramble's seed.</param>
-    /// <param name="Block">Otherwise the reversed index xor <paramref name="Block"/> (blue noise's per-pixel sequence block; 0 for none).</param>
-    public readonly record struct IndexMap(bool Shuffle, uint Seed, uint Block);
-
     /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
     public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
 
-    /// <summary>Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points from <paramref name="firstIndex"/>.</summary>
-    public static int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys) =>
-        Run(tablesX, tablesY, firstIndex, new IndexMap(true, seedIndex, 0), new Scramble(seedX), new Scramble(seedY), xs, ys);
-
-    /// <summary>The general form: any index map and coordinate scrambles.</summary>
-    public static unsafe int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, IndexMap map, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    /// <summary>
+    /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
+    /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
+    /// reversed index under <paramref name="seedIndex"/>), the reversed byte tables walked by gathers.
+    /// </summary>
+    public static unsafe int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -40,7 +35,7 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+        Scramble scrambleX = new(seedX), scrambleY = new(seedY);
         fixed (uint* tx = tablesX, ty = tablesY)
         fixed (double* px = xs, py = ys)
         {
@@ -48,10 +43,7 @@ internal static class OwenSobolBatch
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
                 // inside the tables) and stores those inside the run only.
-                Vector256<uint> index = Vector256.Create(firstIndex + (uint)i) + lane;
-                Vector256<uint> r = map.Shuffle
-                    ? LaineKarras(Reverse(index), Vector256.Create(map.Seed))
-                    : Reverse(index ^ Vector256.Create(map.Block));
+                Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
                 Store(ToDoubles(Reverse(Scrambled(Walk(tx, r), scrambleX))), px + i, xs.Length - i);
                 if (pair)
                 {
@@ -61,6 +53,67 @@ internal static class OwenSobolBatch
         }
 
         return xs.Length;
+    }
+
+    /// <summary>
+    /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with
+    /// indices (<paramref name="firstIndex"/> + k) xor <paramref name="block"/>, from the dimensions' natural byte tables
+    /// (<see cref="Sequences.SobolMatrices.Tables"/>). The scalar form walks the reversed tables with Reverse(i xor block);
+    /// that walk is Reverse(T(i xor block)), and T is linear over GF(2) (an XOR of the generator matrix's columns picked
+    /// by the index's bits; Sobol 1967), so it is Reverse(T(i) xor T(block)): eight consecutive T(i) by one load
+    /// (<see cref="Consecutive"/>), T(block) once a run, one vector reversal, no gathers.
+    /// </summary>
+    public static unsafe int BlockRun(ReadOnlySpan<uint> naturalX, ReadOnlySpan<uint> naturalY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    {
+        if (!Avx2.IsSupported || xs.Length < 2)
+        {
+            return 0;
+        }
+
+        bool pair = !ys.IsEmpty;
+        fixed (uint* tx = naturalX, ty = naturalY)
+        fixed (double* px = xs, py = ys)
+        {
+            Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
+            for (int i = 0; i < xs.Length; i += 8)
+            {
+                uint s = firstIndex + (uint)i;
+                Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(tx, s) ^ bx), scrambleX))), px + i, xs.Length - i);
+                if (pair)
+                {
+                    Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(ty, s) ^ by), scrambleY))), py + i, xs.Length - i);
+                }
+            }
+        }
+
+        return xs.Length;
+    }
+
+    private static Vector256<uint> Lane => Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+
+    // T(s) from a dimension's natural byte tables: the scalar SobolMatrices.Sample's four lookups.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe uint Value(uint* table, uint s) =>
+        table[s & 0xFF] ^ table[256 + ((s >> 8) & 0xFF)] ^ table[512 + ((s >> 16) & 0xFF)] ^ table[768 + (s >> 24)];
+
+    /// <summary>
+    /// T(s + l) for the lanes l = 0 … 7 (the index wrapping as uint) from a dimension's natural byte tables. Where the
+    /// eight indices share their upper three bytes (s's low byte at most 248), their low bytes are eight neighbouring
+    /// entries of the first table: one load, XOR the upper bytes' entries, which the eight share (Zen 2 microcodes
+    /// gathers: four cost more than the rest of a group's work). Otherwise (7 starts in 256, and a run that wraps past
+    /// 2^32 − 1) the four gathers, as the scalar walk per lane.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe Vector256<uint> Consecutive(uint* table, uint s)
+    {
+        uint low = s & 0xFF;
+        if (low <= 248)
+        {
+            uint upper = table[256 + ((s >> 8) & 0xFF)] ^ table[512 + ((s >> 16) & 0xFF)] ^ table[768 + (s >> 24)];
+            return Vector256.Load(table + low) ^ Vector256.Create(upper);
+        }
+
+        return Walk(table, Vector256.Create(s) + Lane);
     }
 
     /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
@@ -78,7 +131,7 @@ internal static class OwenSobolBatch
 
     /// <summary>
     /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
-    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by gathers, then <paramref name="finish"/> with
+    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group (<see cref="Consecutive"/>), then <paramref name="finish"/> with
     /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
     /// single point.
     /// </summary>
@@ -89,14 +142,13 @@ internal static class OwenSobolBatch
             return 0;
         }
 
-        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
         Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
         fixed (uint* t = tables)
         fixed (double* px = xs)
         {
             for (int i = 0; i < xs.Length; i += 8)
             {
-                Vector256<uint> v = Walk(t, Vector256.Create(firstIndex + (uint)i) + lane);
+                Vector256<uint> v = Consecutive(t, firstIndex + (uint)i);
                 (Vector256<double> Low, Vector256<double> High) d;
                 if (finish == Finish.DigitalShift)
                 {

@@ -8,8 +8,9 @@ namespace PathBench.Sampling.Generators;
 /// <summary>
 /// Owen-scrambled Sobol 2-D points, eight at a time with AVX2: the same arithmetic as the
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
-/// reversal) on eight 32-bit lanes; the table walk by gathers where the indices are scrambled,
-/// else by loads of neighbouring table entries (<c>Consecutive</c>). Returns how many points it
+/// reversal) on eight 32-bit lanes; the table walk by loads of neighbouring table entries (Zen 2
+/// microcodes gathers; only a run's rare groups across a multiple of 256 in the unscrambled forms
+/// still gather). Returns how many points it
 /// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
 /// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
 /// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
@@ -22,12 +23,30 @@ internal static class OwenSobolBatch
     /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
     public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
 
+    /// <summary>A dimension's tables for <see cref="Run"/>: the reversed byte tables and the reordered top-byte table.</summary>
+    /// <param name="Reversed"><see cref="Sequences.SobolMatrices.ReversedTables"/>.</param>
+    /// <param name="Groups"><see cref="Sequences.SobolMatrices.GroupTable"/>.</param>
+    public readonly ref struct Tables(ReadOnlySpan<uint> Reversed, ReadOnlySpan<uint> Groups)
+    {
+        /// <summary>The reversed byte tables.</summary>
+        public ReadOnlySpan<uint> Reversed { get; } = Reversed;
+
+        /// <summary>The reordered top-byte table.</summary>
+        public ReadOnlySpan<uint> Groups { get; } = Groups;
+    }
+
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
-    /// reversed index under <paramref name="seedIndex"/>), the reversed byte tables walked by gathers.
+    /// reversed index under <paramref name="seedIndex"/>), then the reversed tables walked without gathers. Laine–Karras
+    /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
+    /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
+    /// their low 29 bits: their walks share the first three bytes' entries, and their top bytes' entries are eight
+    /// neighbouring ones of the reordered table, picked per lane by r's top three bits (vpermd). Eight consecutive
+    /// indices lie in at most two aligned groups (lanes 0 and 7 stand for them), so each coordinate is two such lookups
+    /// and a select: the same table entries the scalar walk XORs.
     /// </summary>
-    public static unsafe int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe int Run(Tables x, Tables y, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -36,7 +55,7 @@ internal static class OwenSobolBatch
 
         bool pair = !ys.IsEmpty;
         Scramble scrambleX = new(seedX), scrambleY = new(seedY);
-        fixed (uint* tx = tablesX, ty = tablesY)
+        fixed (uint* tx = x.Reversed, gx = x.Groups, ty = y.Reversed, gy = y.Groups)
         fixed (double* px = xs, py = ys)
         {
             for (int i = 0; i < xs.Length; i += 8)
@@ -44,16 +63,32 @@ internal static class OwenSobolBatch
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
                 // inside the tables) and stores those inside the run only.
                 Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
-                Store(ToDoubles(Reverse(Scrambled(Walk(tx, r), scrambleX))), px + i, xs.Length - i);
+                uint r0 = r.ToScalar(), r7 = r.GetElement(7);
+                Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
+                Store(ToDoubles(Reverse(Scrambled(Grouped(tx, gx, r0, r7, top, first), scrambleX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Walk(ty, r), scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled(Grouped(ty, gy, r0, r7, top, first), scrambleY))), py + i, xs.Length - i);
                 }
             }
         }
 
         return xs.Length;
     }
+
+    // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
+    // per group the first three bytes' entries, shared, and the top byte's entry by lane from the reordered table.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe Vector256<uint> Grouped(uint* tables, uint* groups, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first)
+    {
+        Vector256<uint> a = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r0 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r0));
+        Vector256<uint> b = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r7 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r7));
+        return Vector256.ConditionalSelect(first, a, b);
+    }
+
+    // The first three bytes' entries of a walk.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe uint LowBytes(uint* table, uint r) => table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with

@@ -85,7 +85,7 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         bool rotate = Spec.Randomize == Randomization.CranleyPatterson;
-        double offset = PointRandomizations.RotationOffset(pixel, dimension);
+        double offset = rotate ? PointRandomizations.RotationOffset(pixel, dimension) : 0;
         if (dimension != 0)
         {
             RadicalInverse.PlainBatch(firstIndex, RadicalInverse.Primes[dimension - 1], xs, rotate, offset);

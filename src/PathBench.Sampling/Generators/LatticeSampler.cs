@@ -42,11 +42,29 @@ public sealed class LatticeSampler : PointSampler
     {
         bool rotate = Spec.Randomize == Randomization.CranleyPatterson;
         double offset = rotate ? PointRandomizations.RotationOffset(pixel, dimension) : 0;
-        uint z = (uint)_z[dimension];
+        uint z = (uint)_z[dimension], n = (uint)Count;
+        if (firstIndex + (uint)Math.Max(0, xs.Length - 1) < firstIndex)
+        {
+            // The indices wrap past 2^32 − 1: the residue of each, as Sample takes it.
+            for (int i = 0; i < xs.Length; i++)
+            {
+                double x = (double)((ulong)(firstIndex + (uint)i) * z % n) / Count;
+                xs[i] = rotate ? PointRandomizations.Rotate(x, offset) : x;
+            }
+
+            return;
+        }
+
+        // (i + 1)·z mod n = (i·z mod n) + (z mod n), less n when that reaches n: the same residues with one division a
+        // run instead of one a point (a 64-bit division is the loop's slowest instruction).
+        uint step = z % n;
+        uint residue = (uint)((ulong)firstIndex * z % n);
         for (int i = 0; i < xs.Length; i++)
         {
-            double x = (double)((ulong)(firstIndex + (uint)i) * z % (uint)Count) / Count;
+            double x = (double)residue / Count;
             xs[i] = rotate ? PointRandomizations.Rotate(x, offset) : x;
+            residue += step;
+            residue -= residue >= n ? n : 0;
         }
     }
 

@@ -8,7 +8,9 @@ namespace PathBench.Sampling.Generators;
 /// <summary>
 /// Owen-scrambled Sobol 2-D points, eight at a time with AVX2: the same arithmetic as the
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
-/// reversal) on eight 32-bit lanes, the table walk by gathers. Returns how many points it
+/// reversal) on eight 32-bit lanes; the table walk by loads of neighbouring table entries (Zen 2
+/// microcodes gathers; only a run's rare groups across a multiple of 256 in the unscrambled forms
+/// still gather). Returns how many points it
 /// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
 /// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
 /// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
@@ -18,21 +20,33 @@ internal static class OwenSobolBatch
 {
     private const double Scale = 1.0 / 4294967296.0;
 
-    /// <summary>How a point's index becomes the bit-reversed index the table walk reads.</summary>
-    /// <param name="Shuffle">Sobol's nested index scramble (Burley 2020): Laine–Karras of the reversed index under <paramref name="Seed"/>.</param>
-    /// <param name="Seed">The index scramble's seed.</param>
-    /// <param name="Block">Otherwise the reversed index xor <paramref name="Block"/> (blue noise's per-pixel sequence block; 0 for none).</param>
-    public readonly record struct IndexMap(bool Shuffle, uint Seed, uint Block);
-
     /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
     public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
 
-    /// <summary>Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points from <paramref name="firstIndex"/>.</summary>
-    public static int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys) =>
-        Run(tablesX, tablesY, firstIndex, new IndexMap(true, seedIndex, 0), new Scramble(seedX), new Scramble(seedY), xs, ys);
+    /// <summary>A dimension's tables for <see cref="Run"/>: the reversed byte tables and the reordered top-byte table.</summary>
+    /// <param name="Reversed"><see cref="Sequences.SobolMatrices.ReversedTables"/>.</param>
+    /// <param name="Groups"><see cref="Sequences.SobolMatrices.GroupTable"/>.</param>
+    public readonly ref struct Tables(ReadOnlySpan<uint> Reversed, ReadOnlySpan<uint> Groups)
+    {
+        /// <summary>The reversed byte tables.</summary>
+        public ReadOnlySpan<uint> Reversed { get; } = Reversed;
 
-    /// <summary>The general form: any index map and coordinate scrambles.</summary>
-    public static unsafe int Run(ReadOnlySpan<uint> tablesX, ReadOnlySpan<uint> tablesY, uint firstIndex, IndexMap map, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+        /// <summary>The reordered top-byte table.</summary>
+        public ReadOnlySpan<uint> Groups { get; } = Groups;
+    }
+
+    /// <summary>
+    /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
+    /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
+    /// reversed index under <paramref name="seedIndex"/>), then the reversed tables walked without gathers. Laine–Karras
+    /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
+    /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
+    /// their low 29 bits: their walks share the first three bytes' entries, and their top bytes' entries are eight
+    /// neighbouring ones of the reordered table, picked per lane by r's top three bits (vpermd). Eight consecutive
+    /// indices lie in at most two aligned groups (lanes 0 and 7 stand for them), so each coordinate is two such lookups
+    /// and a select: the same table entries the scalar walk XORs.
+    /// </summary>
+    public static unsafe int Run(Tables x, Tables y, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -40,27 +54,101 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
-        fixed (uint* tx = tablesX, ty = tablesY)
+        Scramble scrambleX = new(seedX), scrambleY = new(seedY);
+        fixed (uint* tx = x.Reversed, gx = x.Groups, ty = y.Reversed, gy = y.Groups)
         fixed (double* px = xs, py = ys)
         {
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
                 // inside the tables) and stores those inside the run only.
-                Vector256<uint> index = Vector256.Create(firstIndex + (uint)i) + lane;
-                Vector256<uint> r = map.Shuffle
-                    ? LaineKarras(Reverse(index), Vector256.Create(map.Seed))
-                    : Reverse(index ^ Vector256.Create(map.Block));
-                Store(ToDoubles(Reverse(Scrambled(Walk(tx, r), scrambleX))), px + i, xs.Length - i);
+                Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
+                uint r0 = r.ToScalar(), r7 = r.GetElement(7);
+                Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
+                Store(ToDoubles(Reverse(Scrambled(Grouped(tx, gx, r0, r7, top, first), scrambleX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Walk(ty, r), scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled(Grouped(ty, gy, r0, r7, top, first), scrambleY))), py + i, xs.Length - i);
                 }
             }
         }
 
         return xs.Length;
+    }
+
+    // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
+    // per group the first three bytes' entries, shared, and the top byte's entry by lane from the reordered table.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe Vector256<uint> Grouped(uint* tables, uint* groups, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first)
+    {
+        Vector256<uint> a = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r0 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r0));
+        Vector256<uint> b = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r7 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r7));
+        return Vector256.ConditionalSelect(first, a, b);
+    }
+
+    // The first three bytes' entries of a walk.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe uint LowBytes(uint* table, uint r) => table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)];
+
+    /// <summary>
+    /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with
+    /// indices (<paramref name="firstIndex"/> + k) xor <paramref name="block"/>, from the dimensions' natural byte tables
+    /// (<see cref="Sequences.SobolMatrices.Tables"/>). The scalar form walks the reversed tables with Reverse(i xor block);
+    /// that walk is Reverse(T(i xor block)), and T is linear over GF(2) (an XOR of the generator matrix's columns picked
+    /// by the index's bits; Sobol 1967), so it is Reverse(T(i) xor T(block)): eight consecutive T(i) by one load
+    /// (<see cref="Consecutive"/>), T(block) once a run, one vector reversal, no gathers.
+    /// </summary>
+    public static unsafe int BlockRun(ReadOnlySpan<uint> naturalX, ReadOnlySpan<uint> naturalY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    {
+        if (!Avx2.IsSupported || xs.Length < 2)
+        {
+            return 0;
+        }
+
+        bool pair = !ys.IsEmpty;
+        fixed (uint* tx = naturalX, ty = naturalY)
+        fixed (double* px = xs, py = ys)
+        {
+            Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
+            for (int i = 0; i < xs.Length; i += 8)
+            {
+                uint s = firstIndex + (uint)i;
+                Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(tx, s) ^ bx), scrambleX))), px + i, xs.Length - i);
+                if (pair)
+                {
+                    Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(ty, s) ^ by), scrambleY))), py + i, xs.Length - i);
+                }
+            }
+        }
+
+        return xs.Length;
+    }
+
+    private static Vector256<uint> Lane => Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+
+    // T(s) from a dimension's natural byte tables: the scalar SobolMatrices.Sample's four lookups.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe uint Value(uint* table, uint s) =>
+        table[s & 0xFF] ^ table[256 + ((s >> 8) & 0xFF)] ^ table[512 + ((s >> 16) & 0xFF)] ^ table[768 + (s >> 24)];
+
+    /// <summary>
+    /// T(s + l) for the lanes l = 0 … 7 (the index wrapping as uint) from a dimension's natural byte tables. Where the
+    /// eight indices share their upper three bytes (s's low byte at most 248), their low bytes are eight neighbouring
+    /// entries of the first table: one load, XOR the upper bytes' entries, which the eight share (Zen 2 microcodes
+    /// gathers: four cost more than the rest of a group's work). Otherwise (7 starts in 256, and a run that wraps past
+    /// 2^32 − 1) the four gathers, as the scalar walk per lane.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe Vector256<uint> Consecutive(uint* table, uint s)
+    {
+        uint low = s & 0xFF;
+        if (low <= 248)
+        {
+            uint upper = table[256 + ((s >> 8) & 0xFF)] ^ table[512 + ((s >> 16) & 0xFF)] ^ table[768 + (s >> 24)];
+            return Vector256.Load(table + low) ^ Vector256.Create(upper);
+        }
+
+        return Walk(table, Vector256.Create(s) + Lane);
     }
 
     /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
@@ -78,7 +166,7 @@ internal static class OwenSobolBatch
 
     /// <summary>
     /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
-    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by gathers, then <paramref name="finish"/> with
+    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group (<see cref="Consecutive"/>), then <paramref name="finish"/> with
     /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
     /// single point.
     /// </summary>
@@ -89,14 +177,13 @@ internal static class OwenSobolBatch
             return 0;
         }
 
-        Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
         Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
         fixed (uint* t = tables)
         fixed (double* px = xs)
         {
             for (int i = 0; i < xs.Length; i += 8)
             {
-                Vector256<uint> v = Walk(t, Vector256.Create(firstIndex + (uint)i) + lane);
+                Vector256<uint> v = Consecutive(t, firstIndex + (uint)i);
                 (Vector256<double> Low, Vector256<double> High) d;
                 if (finish == Finish.DigitalShift)
                 {
@@ -203,26 +290,33 @@ internal static class OwenSobolBatch
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector256<uint> Step(Vector256<uint> x, uint k) => x ^ (x * Vector256.Create(k));
 
-    // The bit reversal (BitReversal.Reverse) of eight words: GFNI's form where the processor has it, else the shifts.
+    // The bit reversal (BitReversal.Reverse) of eight words: GFNI's form where the processor has it, else the nibble lookups.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> Reverse(Vector256<uint> x) => Gfni.V256.IsSupported ? ReverseGalois(x) : ReverseShifts(x);
+    private static Vector256<uint> Reverse(Vector256<uint> x) => Gfni.V256.IsSupported ? ReverseGalois(x) : ReverseNibbles(x);
 
-    /// <summary>Eight words' bits reversed by swaps of ever larger bit groups (AVX2).</summary>
+    /// <summary>
+    /// Eight words' bits reversed with AVX2 by table lookups of nibbles: each byte's bits reversed as
+    /// rev4(low nibble) · 16 + rev4(high nibble), the two lookups of a 16-entry table by vpshufb, then the bytes of each
+    /// word reversed. Seven instructions and four deep, where swapping ever larger bit groups took sixteen and ten deep,
+    /// on the chain every scrambled point waits for.
+    /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    internal static Vector256<uint> ReverseShifts(Vector256<uint> x)
+    internal static Vector256<uint> ReverseNibbles(Vector256<uint> x)
     {
-        Vector256<uint> m1 = Vector256.Create(0x55555555u), m2 = Vector256.Create(0x33333333u), m4 = Vector256.Create(0x0F0F0F0Fu);
-        x = ((x >> 1) & m1) | ((x & m1) << 1);
-        x = ((x >> 2) & m2) | ((x & m2) << 2);
-        x = ((x >> 4) & m4) | ((x & m4) << 4);
-        return SwapBytes(x.AsByte());
+        // rev4(n) for n = 0 … 15, and the same times 16, in each 128-bit half (vpshufb looks up within halves).
+        Vector256<byte> low = Vector256.Create((byte)0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0, 0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0);
+        Vector256<byte> high = Vector256.Create((byte)0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF, 0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF);
+        Vector256<byte> nibble = Vector256.Create((byte)0x0F);
+        Vector256<byte> bytes = x.AsByte();
+        Vector256<byte> reversed = Avx2.Shuffle(low, bytes & nibble) | Avx2.Shuffle(high, (x >>> 4).AsByte() & nibble);
+        return SwapBytes(reversed);
     }
 
     /// <summary>
     /// Eight words' bits reversed with GFNI: one affine transform over GF(2) reverses each byte's bits (the bit matrix
     /// 0x8040201008040201 sends bit i to bit 7 − i: Intel 64 and IA-32 Architectures Software Developer's Manual,
     /// GF2P8AFFINEQB, whose result bit i is the parity of matrix byte 7 − i and the source byte), then the bytes of each
-    /// word are reversed. Two instructions where the shifts take ten, on the chain every Owen-scrambled point waits for.
+    /// word are reversed. Two instructions where the nibble lookups take seven, on the chain every Owen-scrambled point waits for.
     /// Callers check <see cref="Gfni.V256.IsSupported"/>.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]

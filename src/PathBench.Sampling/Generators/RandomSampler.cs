@@ -21,7 +21,7 @@ public sealed class RandomSampler(SamplerSpec spec) : PointSampler(spec)
     public override int PointsAtOnce => Vector512.IsHardwareAccelerated ? 8 : 1;
 
     /// <inheritdoc/>
-    /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them (<see cref="SampleHash.UniformRun"/>).</remarks>
+    /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them, four with AVX2 only (<see cref="SampleHash.UniformRun"/>).</remarks>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
         SampleHash.UniformRun(pixel ^ Salts.Independent, firstIndex, dimension, xs);
 

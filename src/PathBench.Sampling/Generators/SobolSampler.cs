@@ -23,7 +23,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     public override int MaxDimensions => _matrices.Dimensions;
 
     /// <inheritdoc/>
-    /// <remarks>Eight on AVX2: groups of eight points are walked by gathers (a run's last part-group on all lanes).</remarks>
+    /// <remarks>Eight on AVX2: groups of eight points from neighbouring table entries (<see cref="OwenSobolBatch"/>; a run's last part-group on all lanes).</remarks>
     public override int PointsAtOnce => Avx2.IsSupported ? 8 : 1;
 
     /// <inheritdoc/>
@@ -73,7 +73,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
                 int done = 0;
                 if (dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
                 {
-                    done = OwenSobolBatch.Run(_matrices.ReversedTables(dimension), default, firstIndex, (uint)(pixel >> 32), seed, 0, xs, default);
+                    done = OwenSobolBatch.Run(Tables(dimension), default, firstIndex, (uint)(pixel >> 32), seed, 0, xs, default);
                 }
 
                 for (int i = done; i < xs.Length; i++)
@@ -129,7 +129,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         RequireSameLength(xs, ys);
         ulong seeds = PairSeeds(pixel, dimension);
         int done = OwenSobolBatch.Run(
-            _matrices.ReversedTables(dimension), _matrices.ReversedTables(dimension + 1),
+            Tables(dimension), Tables(dimension + 1),
             firstIndex, (uint)(pixel >> 32), (uint)seeds, (uint)(seeds >> 32), xs, ys);
         // The scalar form (a one-point run, and the whole batch without AVX2): the reference the vector code is tested against.
         for (int i = done; i < xs.Length; i++)
@@ -139,6 +139,8 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             ys[i] = OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32));
         }
     }
+
+    private OwenSobolBatch.Tables Tables(int dimension) => new(_matrices.ReversedTables(dimension), _matrices.GroupTable(dimension));
 
     // How many of the run the lanes made (none for an untabled dimension).
     private int Plain(uint firstIndex, int dimension, OwenSobolBatch.Finish finish, uint shift, double offset, Span<double> xs) =>

@@ -54,11 +54,26 @@ public static class SampleHash
     /// <see cref="Uniform"/>(<paramref name="key"/>, first + i, <paramref name="dimension"/>) into <paramref name="xs"/>[i] for
     /// each i (indices wrapping past 2^32 − 1 as uint): eight at a time by <see cref="Uniform8"/> on 512-bit lanes where the
     /// machine has them (each lane the scalar bits; about a quarter of the scalar loop's time), a run's last part-group lane
-    /// by lane from the vector; a single value, or no 512-bit lanes, by the scalar hash.
+    /// by lane from the vector; four at a time with AVX2 only (<see cref="SplitMixLanes"/>); a single value, or neither, by
+    /// the scalar hash.
     /// </summary>
-    public static void UniformRun(ulong key, uint first, int dimension, Span<double> xs)
+    public static void UniformRun(ulong key, uint first, int dimension, Span<double> xs) =>
+        UniformRunForm(key, first, dimension, xs, Generators.Lanes.Best);
+
+    /// <summary>
+    /// <see cref="UniformRun"/> in the lane form <paramref name="width"/> (tests run each
+    /// on one machine): <see cref="Generators.LaneWidth.Wide"/> eight at a time on 512-bit lanes,
+    /// <see cref="Generators.LaneWidth.Narrow"/> four at a time with AVX2 (<see cref="SplitMixLanes"/>), or the scalar loop.
+    /// </summary>
+    internal static void UniformRunForm(ulong key, uint first, int dimension, Span<double> xs, Generators.LaneWidth width)
     {
-        if (Vector512.IsHardwareAccelerated && xs.Length > 1)
+        if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported && xs.Length > 1)
+        {
+            SplitMixLanes.UniformRun(key, first, dimension, xs);
+            return;
+        }
+
+        if (width == Generators.LaneWidth.Wide && Vector512.IsHardwareAccelerated && xs.Length > 1)
         {
             Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
             for (int i = 0; i < xs.Length; i += 8)

@@ -37,6 +37,11 @@ public sealed class SobolMatrices
     // reversed index gives the reversed coordinate with no reversal in between.
     private readonly uint[] _reversedByteTables;
 
+    // The reversed table of byte 3 (the reversed index's top byte) reordered for eight-lane lookups: entry
+    // [d * 256 + (c << 3 | t)] is reversed entry [(d * 4 + 3) * 256 + (c | t << 5)], so the eight values of a top byte
+    // whose low five bits c are fixed and top three bits t run over 0..7 are eight neighbouring entries.
+    private readonly uint[] _groupTables;
+
     private SobolMatrices(uint[] columns, int dimensions)
     {
         _columns = columns;
@@ -44,6 +49,7 @@ public sealed class SobolMatrices
         int tabulated = Math.Min(dimensions, TabulatedDimensions);
         _byteTables = new uint[tabulated * 4 * 256];
         _reversedByteTables = new uint[tabulated * 4 * 256];
+        _groupTables = new uint[tabulated * 256];
         for (int d = 0; d < tabulated; d++)
         {
             for (int b = 0; b < 4; b++)
@@ -63,6 +69,13 @@ public sealed class SobolMatrices
                     int low = BitOperations.TrailingZeroCount(x);
                     reversed[x] = reversed[x & (x - 1)] ^ BitReversal.Reverse(columns[d * Bits + Bits - 1 - (8 * b + low)]);
                 }
+            }
+
+            ReadOnlySpan<uint> top = _reversedByteTables.AsSpan((d * 4 + 3) * 256, 256);
+            Span<uint> groups = _groupTables.AsSpan(d * 256, 256);
+            for (int x = 0; x < 256; x++)
+            {
+                groups[((x & 31) << 3) | (x >> 5)] = top[x];
             }
         }
     }
@@ -130,6 +143,18 @@ public sealed class SobolMatrices
     {
         ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
         return new ReadOnlySpan<uint>(_reversedByteTables, dimension * 1024, 1024);
+    }
+
+    /// <summary>
+    /// The reversed table of the reversed index's top byte (<see cref="ReversedTables"/>' last 256 entries) reordered:
+    /// entry (c · 8 + t) is that table's entry (c + 32 · t), for c below 32 and t below 8. The eight reversed indices of
+    /// an aligned group of eight scrambled indices differ only in their top three bits (see
+    /// <c>OwenSobolBatch.Run</c>), so their entries are eight neighbouring ones here.
+    /// </summary>
+    public ReadOnlySpan<uint> GroupTable(int dimension)
+    {
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
+        return new ReadOnlySpan<uint>(_groupTables, dimension * 256, 256);
     }
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>

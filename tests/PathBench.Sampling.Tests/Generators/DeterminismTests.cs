@@ -98,6 +98,8 @@ public sealed class BatchTests
     {
         { "sobol", "owen", 0 }, { "sobol", "owen", 6 }, { "sobol", "owen", 1022 }, { "sobol", "owen", 3 },
         { "sobol", "digital-shift", 2 }, { "halton", "digit-permutation", 0 }, { "random", "none", 4 },
+        { "sobol", "none", 0 }, { "sobol", "cranley-patterson", 5 }, { "bluenoise", "none", 0 }, { "bluenoise", "owen", 3 },
+        { "bluenoise", "owen", 30 }, { "lattice", "cranley-patterson", 7 }, { "hammersley", "none", 0 },
     };
 
     [Theory]
@@ -106,7 +108,13 @@ public sealed class BatchTests
     {
         (Randomization r, bool anti) = SamplerCatalog.ParseRandomization(randomize);
         PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, r, anti, 256, 13), dimension + 2);
-        foreach ((int px, uint first, int count) in new[] { (0, 0u, 256), (7, 5u, 37), (123, 0xFFFFFFF0u, 15), (2, 40u, 8), (3, 9u, 1) })
+        // Runs that cross a multiple of 256 (the eight-lane Sobol forms load eight neighbouring byte-table entries where a
+        // group's indices share their upper bytes, and walk the tables otherwise) and wrap past 2^32 − 1, among them.
+        foreach ((int px, uint first, int count) in new[]
+        {
+            (0, 0u, 256), (7, 5u, 37), (123, 0xFFFFFFF0u, 15), (2, 40u, 8), (3, 9u, 1), (4, 249u, 16), (5, 0xFFFFFFFBu, 12),
+            (6, 509u, 11), (8, 0x0001FFF8u, 8), (9, 0x00FFFFFDu, 6),
+        })
         {
             ulong key = s.PixelKey(px, 1);
             var xs = new double[count];

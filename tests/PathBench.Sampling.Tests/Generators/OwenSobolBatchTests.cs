@@ -34,12 +34,12 @@ public sealed class OwenSobolBatchTests
         for (int i = 0; i < words.Count; i += 8)
         {
             Vector256<uint> v = Vector256.Create(words.GetRange(i, 8).ToArray());
-            Vector256<uint> shifts = OwenSobolBatch.ReverseShifts(v);
+            Vector256<uint> nibbles = OwenSobolBatch.ReverseNibbles(v);
             Vector256<uint>? galois = Gfni.V256.IsSupported ? OwenSobolBatch.ReverseGalois(v) : null;
             for (int k = 0; k < 8; k++)
             {
                 uint expected = BitReversal.Reverse(words[i + k]);
-                Assert.Equal(expected, shifts.GetElement(k));
+                Assert.Equal(expected, nibbles.GetElement(k));
                 if (galois is { } g)
                 {
                     Assert.Equal(expected, g.GetElement(k));

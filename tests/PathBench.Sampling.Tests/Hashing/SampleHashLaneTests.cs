@@ -1,4 +1,5 @@
 using System.Runtime.Intrinsics;
+using PathBench.Sampling.Generators;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Tests.Hashing;
@@ -64,14 +65,18 @@ public sealed class SampleHashLaneTests
         {
             ulong key = SampleHash.Mix64((ulong)n * 1009);
             uint first = n % 3 == 0 ? uint.MaxValue - 5 : (uint)(key >> 40);
-            xs.AsSpan().Fill(-1);
-            SampleHash.UniformRun(key, first, n + 7, xs.AsSpan(0, n));
-            for (int k = 0; k < n; k++)
+            // Each lane form (the machine's own, and AVX2's four lanes where it has them even if it also has 512-bit ones).
+            foreach (LaneWidth width in new[] { Lanes.Best, LaneWidth.Narrow, LaneWidth.Scalar })
             {
-                Assert.Equal(SampleHash.Uniform(key, unchecked(first + (uint)k), n + 7), xs[k]);
-            }
+                xs.AsSpan().Fill(-1);
+                SampleHash.UniformRunForm(key, first, n + 7, xs.AsSpan(0, n), width);
+                for (int k = 0; k < n; k++)
+                {
+                    Assert.Equal(SampleHash.Uniform(key, unchecked(first + (uint)k), n + 7), xs[k]);
+                }
 
-            Assert.True(xs.AsSpan(n).IndexOfAnyExcept(-1.0) < 0, $"a run of {n} wrote past its end");
+                Assert.True(xs.AsSpan(n).IndexOfAnyExcept(-1.0) < 0, $"a run of {n} ({width}) wrote past its end");
+            }
         }
     }
 

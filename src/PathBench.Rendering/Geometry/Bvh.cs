@@ -546,6 +546,24 @@ public sealed class Bvh
         private static Vector256<double> Load(ref double records, int count, int plane) => Vector256.LoadUnsafe(ref records, (nuint)(count * plane));
     }
 
+    [InlineArray(StackSize)]
+    private struct StackRefs
+    {
+        private int _first;
+    }
+
+    [InlineArray(StackSize)]
+    private struct StackNears
+    {
+        private float _first;
+    }
+
+    [InlineArray(Lanes)]
+    private struct LaneNears
+    {
+        private float _first;
+    }
+
     /// <summary>How a node's boxes are tested: the forms a query may take, named so tests can run each.</summary>
     internal enum BoxTest
     {
@@ -650,9 +668,15 @@ public sealed class Bvh
         BoxTest form = boxRay.Single
             ? (Vectorised ? BoxTest.SingleVector : BoxTest.SingleScalar)
             : (Vectorised ? BoxTest.DoubleVector : BoxTest.DoubleScalar);
-        Span<int> stackRef = stackalloc int[StackSize];
-        Span<float> stackNear = stackalloc float[StackSize];
-        Span<float> near = stackalloc float[Lanes];
+        // Fixed buffers in the frame rather than stackallocs: no stack probes or cookie check per
+        // query, and the method takes the tiers (a stackalloc kept it at one unprofiled compile).
+        // Indices are in range without checks: a visit adds at most Lanes − 1 entries (StackSize).
+        Unsafe.SkipInit(out StackRefs refs);
+        Unsafe.SkipInit(out StackNears nears);
+        Unsafe.SkipInit(out LaneNears laneNears);
+        ref int stackRef = ref Unsafe.As<StackRefs, int>(ref refs);
+        ref float stackNear = ref Unsafe.As<StackNears, float>(ref nears);
+        Span<float> near = laneNears;
         // Node indices come from the build and are in range; the walk reads nodes without bounds checks.
         ref float nodes = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_nodes), _first);
         int sp = 0;
@@ -685,18 +709,18 @@ public sealed class Bvh
                 {
                     int lane = System.Numerics.BitOperations.TrailingZeroCount(mask);
                     // Insertion into the pushed run, kept in decreasing near distance so the nearest is on top.
-                    float t = near[lane];
+                    float t = Unsafe.Add(ref MemoryMarshal.GetReference(near), lane);
                     int j = sp++;
-                    while (j > first && stackNear[j - 1] < t)
+                    while (j > first && Unsafe.Add(ref stackNear, j - 1) < t)
                     {
-                        stackRef[j] = stackRef[j - 1];
-                        stackNear[j] = stackNear[j - 1];
+                        Unsafe.Add(ref stackRef, j) = Unsafe.Add(ref stackRef, j - 1);
+                        Unsafe.Add(ref stackNear, j) = Unsafe.Add(ref stackNear, j - 1);
                         j--;
                     }
 
                     int child = Unsafe.As<float, int>(ref Unsafe.Add(ref node, ChildOffset + lane));
-                    stackRef[j] = child;
-                    stackNear[j] = t;
+                    Unsafe.Add(ref stackRef, j) = child;
+                    Unsafe.Add(ref stackNear, j) = t;
                     Prefetch(ref nodes, child);
                 }
             }
@@ -712,9 +736,9 @@ public sealed class Bvh
 
                 sp--;
             }
-            while (stackNear[sp] > query.TMax);
+            while (Unsafe.Add(ref stackNear, sp) > query.TMax);
 
-            r = stackRef[sp];
+            r = Unsafe.Add(ref stackRef, sp);
         }
     }
 

@@ -310,6 +310,48 @@ public sealed class BvhTests
         }
     }
 
+    [Fact]
+    public void Box_ray_setup_equals_its_scalar_reference()
+    {
+        // A walk sets its ray up for the slab tests (Kay & Kajiya 1986; the single form's error
+        // bounds after Ize 2013, JCGT 2(2)) with the three axes in 256-bit vectors where AVX is
+        // available (this machine, and the CI's), else one axis at a time; both must give the
+        // same bits, field by field (every IEEE 754 operation is correctly rounded, so lane-wise
+        // forms of the same operations agree: IEEE 754-2019 §5.4). Rays: random directions and
+        // origins over scales 1e-200 … 1e40 (origins beyond 1e30 leave the single form), axis-
+        // parallel directions (±0 components take the 1e300 stand-in), tiny components whose
+        // reciprocals exceed 2^64, and subnormal ones whose reciprocals overflow to infinity.
+        double[] scales = [1e-200, 1e-41, 1e-6, 1, 1e6, 1e25, 1e31, 1e40];
+        double[] odd = [0.0, -0.0, 1e-25, -1e-25, 4.9e-324, -2.5e-320, 1e-310];
+        int singles = 0, doubles = 0;
+        for (uint i = 0; i < 20000; i++)
+        {
+            double scale = scales[i % scales.Length];
+            Vec3d origin = new Vec3d((U(31, i, 0) * 2) - 1, (U(31, i, 1) * 2) - 1, (U(31, i, 2) * 2) - 1) * scale;
+            Vec3d d = Warp.UniformSphere(U(31, i, 3), U(31, i, 4));
+            if (i % 3 == 1)
+            {
+                // One or two components replaced by an odd value.
+                double a = odd[(int)(U(31, i, 5) * odd.Length)], b = odd[(int)(U(31, i, 6) * odd.Length)];
+                d = (i % 4) switch
+                {
+                    0 => d with { X = a },
+                    1 => d with { Y = a, Z = b },
+                    2 => d with { Z = a },
+                    _ => d with { X = a, Y = b },
+                };
+            }
+
+            var ray = new Ray(origin, d, double.PositiveInfinity);
+            Bvh.BoxRay fast = new(ray), reference = Bvh.BoxRay.Reference(ray);
+            Assert.True(fast.SameBits(reference), $"ray {i}: {origin} + t {d}");
+            singles += reference.Single ? 1 : 0;
+            doubles += reference.Single ? 0 : 1;
+        }
+
+        Assert.True(singles > 5000 && doubles > 2000, $"{singles} single-form rays, {doubles} double-form rays");
+    }
+
     /// <summary>
     /// Adversarial rays for a box: from a corner, an edge or a face of it (exact plane values),
     /// through a mesh vertex, along or almost along a face, or random; with tMax infinite, random,

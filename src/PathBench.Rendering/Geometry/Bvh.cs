@@ -166,7 +166,10 @@ public sealed class Bvh
     /// <summary>The eight-wide nodes of a binary tree, laid out depth first as they are made.</summary>
     private sealed class Collapser(BinnedSah.Node[] binary, int[] order, bool[] triangle)
     {
-        public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
+        // Sized for a quarter as many wide nodes as primitives (the 1 M-triangle room makes about a
+        // sixth), so the array need not grow and be copied on the way: it is left uninitialised, and
+        // pages never written are never touched.
+        public float[] Nodes { get; private set; } = GC.AllocateUninitializedArray<float>(NodeFloats * (64 + (binary.Length / 8)));
 
         public int Count { get; private set; }
 
@@ -175,33 +178,36 @@ public sealed class Bvh
         /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
         /// one first, until eight children are gathered or only leaves remain.
         /// </summary>
+        [SkipLocalsInit] // open and area are written before they are read
         public int Collapse(int b)
         {
             Span<int> open = stackalloc int[Lanes];
+            Span<double> area = stackalloc double[Lanes]; // of each open child; −1 for a leaf (never opened)
             int count;
             if (binary[b].Count > 0)
             {
                 open[0] = b;
+                area[0] = -1;
                 count = 1;
             }
             else
             {
                 open[0] = b + 1;
+                area[0] = AreaOf(b + 1);
                 open[1] = binary[b].Start;
+                area[1] = AreaOf(open[1]);
                 count = 2;
             }
 
             while (count < Lanes)
             {
                 int widest = -1;
-                double area = -1;
+                double largest = -1;
                 for (int i = 0; i < count; i++)
                 {
-                    ref readonly BinnedSah.Node c = ref binary[open[i]];
-                    double a = c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
-                    if (a > area)
+                    if (area[i] > largest)
                     {
-                        area = a;
+                        largest = area[i];
                         widest = i;
                     }
                 }
@@ -213,7 +219,10 @@ public sealed class Bvh
 
                 int opened = open[widest];
                 open[widest] = opened + 1;
-                open[count++] = binary[opened].Start;
+                area[widest] = AreaOf(opened + 1);
+                open[count] = binary[opened].Start;
+                area[count] = AreaOf(open[count]);
+                count++;
             }
 
             int node = Count++;
@@ -253,6 +262,13 @@ public sealed class Bvh
             links.CopyTo(MemoryMarshal.Cast<float, int>(planes[ChildOffset..]));
             planes[(ChildOffset + Lanes)..].Clear(); // padding to 256 bytes
             return node;
+        }
+
+        /// <summary>Half the surface area of binary node <paramref name="k"/>'s box, or −1 for a leaf.</summary>
+        private double AreaOf(int k)
+        {
+            ref readonly BinnedSah.Node c = ref binary[k];
+            return c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
         }
 
         /// <summary>The link of the leaf [start, start + count): its start, whether all its primitives are triangles, its size.</summary>

@@ -494,12 +494,41 @@ public sealed class BvhTests
             }
         }
 
+        // The wide nodes too: the subtrees below the root's lanes are collapsed apart (a task each)
+        // and laid out after; every box and link must be the same, and the layout the depth-first
+        // one the sequential collapse makes (each node numbered in the order a pre-order walk of
+        // the lanes meets it).
         var wideOne = new Bvh(prims, 1);
+        Assert.Equal(wideOne.NodeCount, PreOrder(wideOne, 0, 0));
         foreach (int threads in new[] { 2, 3 })
         {
             var wide = new Bvh(prims, threads);
             Assert.Equal(wideOne.NodeCount, wide.NodeCount);
             Assert.Equal(wideOne.PrimitiveOrder, wide.PrimitiveOrder);
+            for (int node = 0; node < wide.NodeCount; node++)
+            {
+                for (int lane = 0; lane < 8; lane++)
+                {
+                    Assert.Equal(wideOne.ChildBox(node, lane), wide.ChildBox(node, lane));
+                }
+            }
+        }
+
+        // Checks that node is numbered next, then its interior children in lane order; returns the next number.
+        static int PreOrder(Bvh bvh, int node, int next)
+        {
+            Assert.Equal(next, node);
+            next++;
+            for (int lane = 0; lane < 8; lane++)
+            {
+                (Vec3d min, Vec3d max, int child) = bvh.ChildBox(node, lane);
+                if (child > 0 && min.X <= max.X)
+                {
+                    next = PreOrder(bvh, child, next);
+                }
+            }
+
+            return next;
         }
 
         static bool Same(BinnedSah.Node a, BinnedSah.Node b) =>

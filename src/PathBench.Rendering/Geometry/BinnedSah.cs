@@ -224,11 +224,11 @@ internal static class BinnedSah
     /// and the key of −x is the complement of the key of x.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector128<int> Key(Vector128<float> x) => Flip(x.AsInt32());
+    internal static Vector128<int> Key(Vector128<float> x) => Flip(x.AsInt32());
 
     /// <summary>The floats whose order keys are <paramref name="key"/>.</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector128<float> Value(Vector128<int> key) => Flip(key).AsSingle();
+    internal static Vector128<float> Value(Vector128<int> key) => Flip(key).AsSingle();
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector128<int> Flip(Vector128<int> bits) => bits ^ Vector128.ShiftRightLogical(Vector128.ShiftRightArithmetic(bits, 31), 1);

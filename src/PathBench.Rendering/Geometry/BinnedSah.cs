@@ -90,27 +90,41 @@ internal static class BinnedSah
         public readonly int Index => Lo.AsInt32().GetElement(3);
     }
 
-    /// <summary>Bounds of a range of items and of their centroids.</summary>
+    /// <summary>
+    /// Bounds of a range of items and of their centroids, held as order keys (<see cref="Key"/>):
+    /// integer minimum and maximum of keys are the IEEE 754-2019 <c>minimum</c> and <c>maximum</c>
+    /// of the floats (−0 below +0), one instruction each instead of the compare-and-blend sequence
+    /// <see cref="Vector128.Min{T}(Vector128{T}, Vector128{T})"/> needs for floats.
+    /// </summary>
     private struct RangeBounds
     {
-        public Vector128<float> Lo, Hi, CLo, CHi;
+        public Vector128<int> Lo, Hi, CLo, CHi;
 
-        public static RangeBounds Empty => new()
-        {
-            Lo = Vector128.Create(float.PositiveInfinity, float.PositiveInfinity, float.PositiveInfinity, 0),
-            Hi = Vector128.Create(float.NegativeInfinity, float.NegativeInfinity, float.NegativeInfinity, 0),
-            CLo = Vector128.Create(float.PositiveInfinity, float.PositiveInfinity, float.PositiveInfinity, 0),
-            CHi = Vector128.Create(float.NegativeInfinity, float.NegativeInfinity, float.NegativeInfinity, 0),
-        };
+        public static RangeBounds Empty => new() { Lo = EmptyLo, Hi = EmptyHi, CLo = EmptyLo, CHi = EmptyHi };
+
+        /// <summary>Key of +∞, above every other key of a number.</summary>
+        public static Vector128<int> EmptyLo => Vector128.Create(0x7F800000);
+
+        /// <summary>Key of −∞, below every other key of a number.</summary>
+        public static Vector128<int> EmptyHi => Vector128.Create(unchecked((int)0x807FFFFF));
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public void Add(in Item item)
         {
-            Vector128<float> c = Centroid(item);
-            Lo = Vector128.Min(Lo, item.Lo);
-            Hi = Vector128.Max(Hi, item.Hi);
+            Vector128<int> c = Key(Centroid(item));
+            Lo = Vector128.Min(Lo, Key(item.Lo));
+            Hi = Vector128.Max(Hi, Key(item.Hi));
             CLo = Vector128.Min(CLo, c);
             CHi = Vector128.Max(CHi, c);
+        }
+
+        /// <summary>Merges another range's bounds (minimum and maximum are exact, so the order of merges does not matter).</summary>
+        public void Add(in RangeBounds other)
+        {
+            Lo = Vector128.Min(Lo, other.Lo);
+            Hi = Vector128.Max(Hi, other.Hi);
+            CLo = Vector128.Min(CLo, other.CLo);
+            CHi = Vector128.Max(CHi, other.CHi);
         }
     }
 
@@ -137,8 +151,12 @@ internal static class BinnedSah
         var items = GC.AllocateUninitializedArray<Item>(n);
         var options = new ParallelOptions { MaxDegreeOfParallelism = threads };
         const int Chunk = 16384;
-        Parallel.For(0, (n + Chunk - 1) / Chunk, options, c =>
+        var chunkBounds = new RangeBounds[(n + Chunk - 1) / Chunk];
+        bool numbers = true;
+        Parallel.For(0, chunkBounds.Length, options, c =>
         {
+            RangeBounds bounds = RangeBounds.Empty;
+            bool chunkNumbers = true;
             for (int i = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); i < end; i++)
             {
                 (Vec3d lo, Vec3d hi) = primitives[i].Bounds();
@@ -147,13 +165,30 @@ internal static class BinnedSah
                     Lo = Vector128.Create(Down(lo.X), Down(lo.Y), Down(lo.Z), BitConverter.Int32BitsToSingle(i)),
                     Hi = Vector128.Create(Up(hi.X), Up(hi.Y), Up(hi.Z), 0),
                 };
+                bounds.Add(items[i]);
+                chunkNumbers &= IsNumber(items[i]);
+            }
+
+            chunkBounds[c] = bounds;
+            if (!chunkNumbers)
+            {
+                Volatile.Write(ref numbers, false);
             }
         });
 
+        // Min and max are exact, so merging the chunks' bounds gives the bounds of one pass over all items.
         RangeBounds root = RangeBounds.Empty;
-        foreach (ref readonly Item item in items.AsSpan())
+        foreach (ref readonly RangeBounds bounds in chunkBounds.AsSpan())
         {
-            root.Add(item);
+            root.Add(bounds);
+        }
+
+        // Order keys rank a NaN unlike IEEE minimum and maximum do, so a box may not hold one (a
+        // centroid may: see Builder.Build).
+        if (!numbers)
+        {
+            int bad = Array.FindIndex(items, item => !IsNumber(item));
+            throw new ArgumentException($"primitive {bad} has a bound that is not a number", nameof(primitives));
         }
 
         var nodes = GC.AllocateUninitializedArray<Node>((2 * n) - 1);
@@ -181,6 +216,30 @@ internal static class BinnedSah
         return f < x ? MathF.BitIncrement(f) : f;
     }
 
+    /// <summary>
+    /// The order key of each float: its bits as an integer, with the magnitude bits of a negative
+    /// number inverted, so that integer order is the order of the numbers, −0 just below +0, and
+    /// integer minimum and maximum give exactly the IEEE 754-2019 <c>minimum</c> and
+    /// <c>maximum</c> of the floats (NaN excepted). The map is its own inverse (<see cref="Value"/>),
+    /// and the key of −x is the complement of the key of x.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector128<int> Key(Vector128<float> x) => Flip(x.AsInt32());
+
+    /// <summary>The floats whose order keys are <paramref name="key"/>.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector128<float> Value(Vector128<int> key) => Flip(key).AsSingle();
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector128<int> Flip(Vector128<int> bits) => bits ^ Vector128.ShiftRightLogical(Vector128.ShiftRightArithmetic(bits, 31), 1);
+
+    /// <summary>Whether the item's box holds no NaN.</summary>
+    private static bool IsNumber(in Item item)
+    {
+        Vector128<float> ok = Vector128.Equals(item.Lo, item.Lo) & Vector128.Equals(item.Hi, item.Hi);
+        return (ok.AsInt32() | Vector128.Create(0, 0, 0, -1)) == Vector128<int>.AllBitsSet;
+    }
+
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector128<float> Centroid(in Item item) =>
         ((item.Lo & Vector128.Create(-1, -1, -1, 0).AsSingle()) + item.Hi) * 0.5f; // the index bits would be a subnormal operand: slow, and meaningless
@@ -194,17 +253,30 @@ internal static class BinnedSah
 
     private sealed class Builder(Item[] items, Node[] nodes, int maxLeaf, ParallelOptions? parallel, byte[]? leafSizes, bool[]? sharesLeaf)
     {
+        /// <summary>
+        /// An empty bin: the lower half holds the order keys of the boxes' lower corners (minimum
+        /// taken), the upper half the complemented keys of their upper corners (so the same
+        /// minimum takes their maximum: one 256-bit operation updates both). Both halves start at
+        /// the key of +∞.
+        /// </summary>
+        private static Vector256<int> EmptyBin => Vector256.Create(0x7F800000);
+
         /// <summary>Builds the subtree over items [start, end) into <paramref name="slot"/> and the slots after it.</summary>
         public void Build(int start, int end, int slot, int depth, RangeBounds bounds)
         {
             int count = end - start;
-            Vector128<float> extent = bounds.CHi - bounds.CLo;
+            Vector128<float> lo = Value(bounds.Lo), hi = Value(bounds.Hi), cLo = Value(bounds.CLo);
+            Vector128<float> extent = Value(bounds.CHi) - cLo;
+            // A NaN centroid (of a box reaching both infinities on an axis) has a key below that of −∞
+            // or above that of +∞, so it shows in the bounds' keys; IEEE minimum and maximum would have
+            // made that axis's centroid bounds NaN, and its extent NaN: no bins on it.
+            Vector128<int> nan = Vector128.LessThan(bounds.CLo, RangeBounds.EmptyHi) | Vector128.GreaterThan(bounds.CHi, RangeBounds.EmptyLo);
             // A node of fewer than 16 primitives gets one bin per primitive: more could not all be
             // filled, and the per-node cost of clearing and sweeping bins dominates the lower levels.
             int bins = Math.Min(Bins, Math.Max(2, count));
             // Bin k of axis a holds centroids in [lo + k·e/bins, lo + (k+1)·e/bins); the factor just under 1 keeps the largest in the last bin (Wald 2007, §3.2).
             Vector128<float> scale = Vector128.ConditionalSelect(
-                Vector128.GreaterThan(extent, Vector128<float>.Zero),
+                Vector128.GreaterThan(extent, Vector128<float>.Zero) & ~nan.AsSingle(),
                 Vector128.Create(bins * (1 - 1e-6f)) / extent,
                 Vector128<float>.Zero);
             int axis = -1, split = -1;
@@ -214,12 +286,12 @@ internal static class BinnedSah
             float bestCost = mayLeaf ? IntersectionCost * count : float.PositiveInfinity;
             if (count > 1 && depth < MaxDepth - 1 && scale != Vector128<float>.Zero)
             {
-                (axis, split) = BestSplit(start, end, bins, bounds, scale, ref bestCost);
+                (axis, split) = BestSplit(start, end, bins, HalfArea(lo, hi), cLo, scale, ref bestCost);
             }
 
             if (axis < 0 && (mayLeaf || depth >= MaxDepth - 1))
             {
-                nodes[slot] = Node.Leaf(bounds.Lo, bounds.Hi, start, count);
+                nodes[slot] = Node.Leaf(lo, hi, start, count);
                 if (leafSizes is not null)
                 {
                     leafSizes[start] = (byte)count;
@@ -242,11 +314,11 @@ internal static class BinnedSah
             }
             else
             {
-                mid = Partition(start, end, bins, axis, split, bounds.CLo, scale, ref left, ref right);
+                mid = Partition(start, end, bins, axis, split, cLo, scale, ref left, ref right);
             }
 
             int rightSlot = slot + (2 * (mid - start));
-            nodes[slot] = Node.Interior(bounds.Lo, bounds.Hi, rightSlot, axis);
+            nodes[slot] = Node.Interior(lo, hi, rightSlot, axis);
             if (parallel is not null && count >= ParallelGrain)
             {
                 Parallel.Invoke(
@@ -282,50 +354,55 @@ internal static class BinnedSah
 
         /// <summary>Bins the range's centroids on all three axes in one pass and returns the cheapest split (axis −1 when none beats <paramref name="bestCost"/>).</summary>
         [SkipLocalsInit] // the bins are filled below; the sweep arrays are written before they are read
-        private (int Axis, int Split) BestSplit(int start, int end, int bins, in RangeBounds bounds, Vector128<float> scale, ref float bestCost)
+        private (int Axis, int Split) BestSplit(int start, int end, int bins, float parentArea, Vector128<float> cLo, Vector128<float> scale, ref float bestCost)
         {
             // Two sets of bins, one for even and one for odd positions, merged after the pass:
             // neighbouring items (often in the same bin) then update different memory, so their
             // read-modify-writes need not wait for each other. Min, max and counts are exact, so the
             // merged bins are the ones a single set would hold, whatever the split of the items.
             // Small nodes (most of them) take one set: clearing and merging a second would cost more than it saves.
-            Span<Vector128<float>> binLo = stackalloc Vector128<float>[2 * 3 * Bins];
-            Span<Vector128<float>> binHi = stackalloc Vector128<float>[2 * 3 * Bins];
+            Span<Vector256<int>> bin = stackalloc Vector256<int>[2 * 3 * Bins];
             Span<int> binCount = stackalloc int[2 * 3 * Bins];
             int set = 3 * bins;
             int sets = end - start >= DualBinsFrom ? 2 : 1;
-            binLo = binLo[..(sets * set)];
-            binHi = binHi[..(sets * set)];
-            binCount = binCount[..(sets * set)];
-            binLo.Fill(RangeBounds.Empty.Lo);
-            binHi.Fill(RangeBounds.Empty.Hi);
-            binCount.Clear();
-            Vector128<float> cLo = bounds.CLo;
-            // Bin indices are clamped to [0, Bins): the hot loop indexes the bins unchecked.
-            ref Vector128<float> lo0 = ref MemoryMarshal.GetReference(binLo);
-            ref Vector128<float> hi0 = ref MemoryMarshal.GetReference(binHi);
+            bin[..(sets * set)].Fill(EmptyBin);
+            binCount[..(sets * set)].Clear();
+            // Bin indices are clamped to [0, bins): the hot loop indexes the bins unchecked, and the
+            // range lies inside the item array.
+            ref Vector256<int> bin0 = ref MemoryMarshal.GetReference(bin);
             ref int count0 = ref MemoryMarshal.GetReference(binCount);
+            ref Item item0 = ref MemoryMarshal.GetArrayDataReference(items);
+            Vector128<int> top = Vector128.Create(bins - 1);
             Vector128<int> axisOffset = Vector128.Create(0, bins, 2 * bins, 0);
             int i = start;
-            for (; sets == 2 && i + 1 < end; i += 2)
+            if (sets == 2)
             {
-                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
-                AddToBins(items[i + 1], BinOf(items[i + 1], cLo, scale, bins) + axisOffset + Vector128.Create(set), ref lo0, ref hi0, ref count0);
+                Vector128<int> second = axisOffset + Vector128.Create(set);
+                for (; i + 1 < end; i += 2)
+                {
+                    AddToBins(Unsafe.Add(ref item0, i), BinOf(Unsafe.Add(ref item0, i), cLo, scale, top) + axisOffset, ref bin0, ref count0);
+                    AddToBins(Unsafe.Add(ref item0, i + 1), BinOf(Unsafe.Add(ref item0, i + 1), cLo, scale, top) + second, ref bin0, ref count0);
+                }
+
+                for (; i < end; i++)
+                {
+                    AddToBins(Unsafe.Add(ref item0, i), BinOf(Unsafe.Add(ref item0, i), cLo, scale, top) + axisOffset, ref bin0, ref count0);
+                }
+
+                for (int k = 0; k < set; k++)
+                {
+                    bin[k] = Vector256.Min(bin[k], bin[set + k]);
+                    binCount[k] += binCount[set + k];
+                }
+            }
+            else
+            {
+                for (; i < end; i++)
+                {
+                    AddToBins(Unsafe.Add(ref item0, i), BinOf(Unsafe.Add(ref item0, i), cLo, scale, top) + axisOffset, ref bin0, ref count0);
+                }
             }
 
-            for (; i < end; i++)
-            {
-                AddToBins(items[i], BinOf(items[i], cLo, scale, bins) + axisOffset, ref lo0, ref hi0, ref count0);
-            }
-
-            for (int k = 0; sets == 2 && k < set; k++)
-            {
-                binLo[k] = Vector128.Min(binLo[k], binLo[set + k]);
-                binHi[k] = Vector128.Max(binHi[k], binHi[set + k]);
-                binCount[k] += binCount[set + k];
-            }
-
-            float parentArea = HalfArea(bounds.Lo, bounds.Hi);
             Span<float> leftArea = stackalloc float[Bins];
             Span<int> leftCount = stackalloc int[Bins];
             int axis = -1, split = -1;
@@ -336,33 +413,40 @@ internal static class BinnedSah
                     continue;
                 }
 
-                // Sweep from the left, then evaluate each split with a sweep from the right.
-                Vector128<float> lo = RangeBounds.Empty.Lo, hi = RangeBounds.Empty.Hi;
+                // Sweep from the left, then evaluate each split with a sweep from the right. A split
+                // whose first right-hand bin is empty is skipped: it parts the items as the split one
+                // bin higher does, which is priced first at the same cost (or skipped for an empty
+                // side), and only a strictly lower cost wins; so the left area it would use is not made.
+                Span<Vector256<int>> axisBins = bin.Slice(a * bins, bins);
+                Span<int> axisCounts = binCount.Slice(a * bins, bins);
+                Vector256<int> box = EmptyBin;
                 int lc = 0;
                 for (int b = 0; b < bins - 1; b++)
                 {
-                    lo = Vector128.Min(lo, binLo[(a * bins) + b]);
-                    hi = Vector128.Max(hi, binHi[(a * bins) + b]);
-                    lc += binCount[(a * bins) + b];
+                    box = Vector256.Min(box, axisBins[b]);
+                    lc += axisCounts[b];
                     leftCount[b] = lc;
-                    leftArea[b] = lc > 0 ? HalfArea(lo, hi) : 0;
+                    leftArea[b] = lc > 0 && axisCounts[b + 1] > 0 ? BinArea(box) : 0;
                 }
 
-                lo = RangeBounds.Empty.Lo;
-                hi = RangeBounds.Empty.Hi;
+                box = EmptyBin;
                 int rc = 0;
                 for (int b = bins - 1; b > 0; b--)
                 {
-                    lo = Vector128.Min(lo, binLo[(a * bins) + b]);
-                    hi = Vector128.Max(hi, binHi[(a * bins) + b]);
-                    rc += binCount[(a * bins) + b];
-                    int l = leftCount[b - 1];
-                    if (l == 0 || rc == 0)
+                    if (axisCounts[b] == 0)
                     {
                         continue;
                     }
 
-                    float cost = TraversalCost + (IntersectionCost * ((leftArea[b - 1] * l) + (HalfArea(lo, hi) * rc)) / parentArea);
+                    box = Vector256.Min(box, axisBins[b]);
+                    rc += axisCounts[b];
+                    int l = leftCount[b - 1];
+                    if (l == 0)
+                    {
+                        break; // every bin below is empty too
+                    }
+
+                    float cost = TraversalCost + (IntersectionCost * ((leftArea[b - 1] * l) + (BinArea(box) * rc)) / parentArea);
                     if (cost < bestCost)
                     {
                         bestCost = cost;
@@ -375,19 +459,25 @@ internal static class BinnedSah
             return (axis, split);
         }
 
+        /// <summary>Half the surface area of a bin's box.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static float BinArea(Vector256<int> box) => HalfArea(Value(box.GetLower()), Value(~box.GetUpper()));
+
         /// <summary>Adds an item to its bin on each axis (<paramref name="b"/>: the three bin indices into the flat bin arrays).</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        private static void AddToBins(in Item item, Vector128<int> b, ref Vector128<float> lo0, ref Vector128<float> hi0, ref int count0)
+        private static void AddToBins(in Item item, Vector128<int> b, ref Vector256<int> bin0, ref int count0)
         {
-            for (int a = 0; a < 3; a++)
-            {
-                int k = b.GetElement(a);
-                Unsafe.Add(ref count0, k)++;
-                ref Vector128<float> lo = ref Unsafe.Add(ref lo0, k);
-                ref Vector128<float> hi = ref Unsafe.Add(ref hi0, k);
-                lo = Vector128.Min(lo, item.Lo);
-                hi = Vector128.Max(hi, item.Hi);
-            }
+            Vector256<int> box = Vector256.Create(Key(item.Lo), ~Key(item.Hi));
+            int k0 = b.GetElement(0), k1 = b.GetElement(1), k2 = b.GetElement(2);
+            Unsafe.Add(ref count0, k0)++;
+            Unsafe.Add(ref count0, k1)++;
+            Unsafe.Add(ref count0, k2)++;
+            ref Vector256<int> b0 = ref Unsafe.Add(ref bin0, k0);
+            b0 = Vector256.Min(b0, box);
+            ref Vector256<int> b1 = ref Unsafe.Add(ref bin0, k1);
+            b1 = Vector256.Min(b1, box);
+            ref Vector256<int> b2 = ref Unsafe.Add(ref bin0, k2);
+            b2 = Vector256.Min(b2, box);
         }
 
         /// <summary>
@@ -397,17 +487,20 @@ internal static class BinnedSah
         /// </summary>
         private int Partition(int start, int end, int bins, int axis, int split, Vector128<float> cLo, Vector128<float> scale, ref RangeBounds left, ref RangeBounds right)
         {
+            ref Item item0 = ref MemoryMarshal.GetArrayDataReference(items);
+            Vector128<int> top = Vector128.Create(bins - 1), splitAt = Vector128.Create(split);
+            uint axisBit = 1u << axis;
             int i = start, j = end - 1;
             while (true)
             {
-                while (i <= j && BinOf(items[i], cLo, scale, bins).GetElement(axis) < split)
+                while (i <= j && IsLeft(Unsafe.Add(ref item0, i)))
                 {
-                    left.Add(items[i++]);
+                    left.Add(Unsafe.Add(ref item0, i++));
                 }
 
-                while (i <= j && BinOf(items[j], cLo, scale, bins).GetElement(axis) >= split)
+                while (i <= j && !IsLeft(Unsafe.Add(ref item0, j)))
                 {
-                    right.Add(items[j--]);
+                    right.Add(Unsafe.Add(ref item0, j--));
                 }
 
                 if (i > j)
@@ -415,12 +508,14 @@ internal static class BinnedSah
                     return i;
                 }
 
-                (items[i], items[j]) = (items[j], items[i]);
+                (Unsafe.Add(ref item0, i), Unsafe.Add(ref item0, j)) = (Unsafe.Add(ref item0, j), Unsafe.Add(ref item0, i));
             }
+
+            bool IsLeft(in Item item) => (Vector128.LessThan(BinOf(item, cLo, scale, top), splitAt).ExtractMostSignificantBits() & axisBit) != 0;
         }
 
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        private static Vector128<int> BinOf(in Item item, Vector128<float> cLo, Vector128<float> scale, int bins) =>
-            Vector128.Min(Vector128.Max(Vector128.ConvertToInt32((Centroid(item) - cLo) * scale), Vector128<int>.Zero), Vector128.Create(bins - 1));
+        private static Vector128<int> BinOf(in Item item, Vector128<float> cLo, Vector128<float> scale, Vector128<int> top) =>
+            Vector128.Min(Vector128.Max(Vector128.ConvertToInt32((Centroid(item) - cLo) * scale), Vector128<int>.Zero), top);
     }
 }

@@ -105,16 +105,26 @@ public sealed class Bvh
         // scalar hit test runs.
         (BinnedSah.Node[] binary, int[] order) = BinnedSah.Build(primitives, MaxLeaf, threads, leafSizes, triangle);
 
-        // The collapse (sequential) runs beside the primitives' reorder into leaf order and their
-        // hit records (a run of positions per task; each leaf is written by the task its first
-        // position falls in). Neither reads what the other writes.
+        // The collapse runs beside the primitives' reorder into leaf order and their hit records (a
+        // run of positions per task; each leaf is written by the task its first position falls in).
+        // Neither reads what the other writes. The root's wide node is made first; the subtrees
+        // below its interior lanes are collapsed each on its own (a task each), then laid out one
+        // after another as the depth-first collapse of the whole tree lays them out, so the nodes
+        // are the same for any thread count.
         _primitives = GC.AllocateUninitializedArray<Primitive>(n);
         _records = GC.AllocateUninitializedArray<double>((RecordDoubles * n) + Lanes);
         _records.AsSpan(RecordDoubles * n).Clear();
-        var collapsed = new Collapser(binary, order, triangle);
+        var root = new Collapser(binary, order, triangle, 1);
+        var deferred = new List<int>(Lanes);
+        root.Collapse(0, deferred);
+        var parts = new Collapser[deferred.Count];
         Parallel.Invoke(
             options,
-            () => collapsed.Collapse(0),
+            () => Parallel.For(0, parts.Length, options, p =>
+            {
+                parts[p] = new Collapser(binary, order, triangle, 64 + (Collapser.Primitives(binary, deferred[p]) / 4));
+                parts[p].Collapse(deferred[p], null);
+            }),
             () => Parallel.For(0, (n + Chunk - 1) / Chunk, options, c =>
             {
                 for (int start = c * Chunk, end = Math.Min(n, (c + 1) * Chunk); start < end; start++)
@@ -135,14 +145,21 @@ public sealed class Bvh
                     WriteRecords(start, count, triangles);
                 }
             }));
-        _nodeCount = collapsed.Count;
+        int[] offsets = new int[parts.Length];
+        _nodeCount = 1;
+        for (int p = 0; p < parts.Length; p++)
+        {
+            offsets[p] = _nodeCount;
+            _nodeCount += parts[p].Count;
+        }
 
         PrimitiveOrder = order;
         // Pinned (never moved), so the alignment found here holds for the array's life.
         _nodes = GC.AllocateUninitializedArray<float>((NodeFloats * _nodeCount) + NodeFloats, pinned: true);
         long address = Marshal.UnsafeAddrOfPinnedArrayElement(_nodes, 0);
         _first = (int)((NodeAlign - (address % NodeAlign)) % NodeAlign) / sizeof(float);
-        collapsed.Nodes.AsSpan(0, NodeFloats * _nodeCount).CopyTo(_nodes.AsSpan(_first));
+        root.CopyTo(_nodes.AsSpan(_first, NodeFloats), 0, offsets);
+        Parallel.For(0, parts.Length, options, p => parts[p].CopyTo(_nodes.AsSpan(_first + (NodeFloats * offsets[p]), NodeFloats * parts[p].Count), offsets[p], null));
     }
 
     /// <summary>Whether queries use the 256-bit box and triangle tests (false: the scalar loops, same arithmetic). Tests switch it to compare the two.</summary>
@@ -164,44 +181,91 @@ public sealed class Bvh
     public long HitRecordBytes => (long)_records.Length * sizeof(double);
 
     /// <summary>The eight-wide nodes of a binary tree, laid out depth first as they are made.</summary>
-    private sealed class Collapser(BinnedSah.Node[] binary, int[] order, bool[] triangle)
+    private sealed class Collapser(BinnedSah.Node[] binary, int[] order, bool[] triangle, int capacity)
     {
-        public float[] Nodes { get; private set; } = new float[NodeFloats * 64];
+        // Sized from the subtree's primitives (a quarter as many wide nodes; the 1 M-triangle room
+        // makes about a sixth), so the array seldom grows and is copied on the way: it is left
+        // uninitialised, and pages never written are never touched.
+        public float[] Nodes { get; private set; } = GC.AllocateUninitializedArray<float>(NodeFloats * capacity);
 
         public int Count { get; private set; }
+
+        /// <summary>The number of primitives below binary node <paramref name="b"/>: from its leftmost leaf's start to its rightmost leaf's end.</summary>
+        public static int Primitives(BinnedSah.Node[] binary, int b)
+        {
+            int first = b, last = b;
+            while (binary[first].Count == 0)
+            {
+                first++;
+            }
+
+            while (binary[last].Count == 0)
+            {
+                last = binary[last].Start;
+            }
+
+            return binary[last].Start + binary[last].Count - binary[first].Start;
+        }
+
+        /// <summary>
+        /// Copies the nodes into <paramref name="into"/>, where node 0 lands at global index
+        /// <paramref name="offset"/>: interior links (positive; 0 is an empty lane, as no node
+        /// links to the first) are moved by the offset, or, in the root's node made with deferred
+        /// subtrees, link k + 1 becomes <paramref name="deferredAt"/>[k].
+        /// </summary>
+        public void CopyTo(Span<float> into, int offset, int[]? deferredAt)
+        {
+            Nodes.AsSpan(0, NodeFloats * Count).CopyTo(into);
+            for (int node = 0; node < Count; node++)
+            {
+                Span<int> links = MemoryMarshal.Cast<float, int>(into.Slice((NodeFloats * node) + ChildOffset, Lanes));
+                for (int lane = 0; lane < Lanes; lane++)
+                {
+                    if (links[lane] > 0)
+                    {
+                        links[lane] = deferredAt is null ? links[lane] + offset : deferredAt[links[lane] - 1];
+                    }
+                }
+            }
+        }
 
         /// <summary>
         /// Makes the wide node for binary interior node <paramref name="b"/> (or, at the root of a
         /// one-leaf tree, for that leaf): its two children are opened, the largest-area interior
-        /// one first, until eight children are gathered or only leaves remain.
+        /// one first, until eight children are gathered or only leaves remain. With
+        /// <paramref name="deferred"/>, interior children are not collapsed but listed there, and
+        /// linked as their place in the list plus one (see <see cref="CopyTo"/>).
         /// </summary>
-        public int Collapse(int b)
+        [SkipLocalsInit] // open and area are written before they are read
+        public int Collapse(int b, List<int>? deferred)
         {
             Span<int> open = stackalloc int[Lanes];
+            Span<double> area = stackalloc double[Lanes]; // of each open child; −1 for a leaf (never opened)
             int count;
             if (binary[b].Count > 0)
             {
                 open[0] = b;
+                area[0] = -1;
                 count = 1;
             }
             else
             {
                 open[0] = b + 1;
+                area[0] = AreaOf(b + 1);
                 open[1] = binary[b].Start;
+                area[1] = AreaOf(open[1]);
                 count = 2;
             }
 
             while (count < Lanes)
             {
                 int widest = -1;
-                double area = -1;
+                double largest = -1;
                 for (int i = 0; i < count; i++)
                 {
-                    ref readonly BinnedSah.Node c = ref binary[open[i]];
-                    double a = c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
-                    if (a > area)
+                    if (area[i] > largest)
                     {
-                        area = a;
+                        largest = area[i];
                         widest = i;
                     }
                 }
@@ -213,7 +277,10 @@ public sealed class Bvh
 
                 int opened = open[widest];
                 open[widest] = opened + 1;
-                open[count++] = binary[opened].Start;
+                area[widest] = AreaOf(opened + 1);
+                open[count] = binary[opened].Start;
+                area[count] = AreaOf(open[count]);
+                count++;
             }
 
             int node = Count++;
@@ -229,7 +296,19 @@ public sealed class Bvh
             for (int lane = 0; lane < count; lane++)
             {
                 ref readonly BinnedSah.Node c = ref binary[open[lane]];
-                links[lane] = c.Count > 0 ? Leaf(c.Start, c.Count) : Collapse(open[lane]);
+                if (c.Count > 0)
+                {
+                    links[lane] = Leaf(c.Start, c.Count);
+                }
+                else if (deferred is null)
+                {
+                    links[lane] = Collapse(open[lane], null);
+                }
+                else
+                {
+                    deferred.Add(open[lane]);
+                    links[lane] = deferred.Count;
+                }
             }
 
             // Written after the children, which may have grown the array.
@@ -253,6 +332,13 @@ public sealed class Bvh
             links.CopyTo(MemoryMarshal.Cast<float, int>(planes[ChildOffset..]));
             planes[(ChildOffset + Lanes)..].Clear(); // padding to 256 bytes
             return node;
+        }
+
+        /// <summary>Half the surface area of binary node <paramref name="k"/>'s box, or −1 for a leaf.</summary>
+        private double AreaOf(int k)
+        {
+            ref readonly BinnedSah.Node c = ref binary[k];
+            return c.Count > 0 ? -1 : HalfArea(c.Min, c.Max);
         }
 
         /// <summary>The link of the leaf [start, start + count): its start, whether all its primitives are triangles, its size.</summary>

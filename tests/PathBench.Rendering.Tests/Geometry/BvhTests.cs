@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using PathBench.Rendering.Geometry;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Warps;
@@ -536,16 +537,92 @@ public sealed class BvhTests
             }
         }
 
+        // The wide nodes too: the subtrees below the root's lanes are collapsed apart (a task each)
+        // and laid out after; every box and link must be the same, and the layout the depth-first
+        // one the sequential collapse makes (each node numbered in the order a pre-order walk of
+        // the lanes meets it).
         var wideOne = new Bvh(prims, 1);
+        Assert.Equal(wideOne.NodeCount, PreOrder(wideOne, 0, 0));
         foreach (int threads in new[] { 2, 3 })
         {
             var wide = new Bvh(prims, threads);
             Assert.Equal(wideOne.NodeCount, wide.NodeCount);
             Assert.Equal(wideOne.PrimitiveOrder, wide.PrimitiveOrder);
+            for (int node = 0; node < wide.NodeCount; node++)
+            {
+                for (int lane = 0; lane < 8; lane++)
+                {
+                    Assert.Equal(wideOne.ChildBox(node, lane), wide.ChildBox(node, lane));
+                }
+            }
+        }
+
+        // Checks that node is numbered next, then its interior children in lane order; returns the next number.
+        static int PreOrder(Bvh bvh, int node, int next)
+        {
+            Assert.Equal(next, node);
+            next++;
+            for (int lane = 0; lane < 8; lane++)
+            {
+                (Vec3d min, Vec3d max, int child) = bvh.ChildBox(node, lane);
+                if (child > 0 && min.X <= max.X)
+                {
+                    next = PreOrder(bvh, child, next);
+                }
+            }
+
+            return next;
         }
 
         static bool Same(BinnedSah.Node a, BinnedSah.Node b) =>
             a.Min == b.Min && a.Max == b.Max && a.Start == b.Start && a.Count == b.Count && (a.Count > 0 || a.Axis == b.Axis);
+    }
+
+    [Fact]
+    public void Order_keys_give_the_IEEE_minimum_and_maximum()
+    {
+        // The build takes the minimum and maximum of box corners as integer minimum and maximum of
+        // order keys; they must be IEEE 754-2019 minimum and maximum (§9.6: −0 below +0), which
+        // .NET's MathF.Min / MathF.Max and Vector128.Min / Max implement and the build used before,
+        // bit for bit, so the tree stays the same. Special values and hashed bit patterns of every
+        // exponent (NaN excluded: the build refuses it in a box).
+        var values = new List<float>
+        {
+            float.NegativeInfinity, -float.MaxValue, -1.5f, -float.Epsilon, -0f, 0f, float.Epsilon, 1.5f, float.MaxValue, float.PositiveInfinity,
+        };
+        for (uint i = 0; values.Count < 400; i++)
+        {
+            float f = BitConverter.Int32BitsToSingle((int)(uint)(U(40, i, 0) * 4294967296.0));
+            if (!float.IsNaN(f))
+            {
+                values.Add(f);
+            }
+        }
+
+        foreach (float a in values)
+        {
+            Vector128<int> ka = BinnedSah.Key(Vector128.Create(a));
+            Assert.Equal(~ka, BinnedSah.Key(Vector128.Create(-a)));
+            Assert.Equal(BitConverter.SingleToInt32Bits(a), BinnedSah.Value(ka).AsInt32().GetElement(0));
+            foreach (float b in values)
+            {
+                Vector128<int> kb = BinnedSah.Key(Vector128.Create(b));
+                Assert.Equal(BitConverter.SingleToInt32Bits(MathF.Min(a, b)), BinnedSah.Value(Vector128.Min(ka, kb)).AsInt32().GetElement(0));
+                Assert.Equal(BitConverter.SingleToInt32Bits(MathF.Max(a, b)), BinnedSah.Value(Vector128.Max(ka, kb)).AsInt32().GetElement(0));
+                Assert.Equal(Vector128.Min(Vector128.Create(a), Vector128.Create(b)).AsInt32(), BinnedSah.Value(Vector128.Min(ka, kb)).AsInt32());
+            }
+        }
+    }
+
+    [Fact]
+    public void A_box_holding_NaN_is_refused()
+    {
+        // The order keys rank NaN unlike IEEE minimum and maximum do, so a NaN corner would change
+        // the tree silently; it is refused instead, naming the primitive (common practice).
+        Primitive[] prims = RandomScene(50);
+        prims[17] = Primitive.Triangle(new Vec3d(0, double.NaN, 0), new Vec3d(1, 0, 0), new Vec3d(0, 1, 0), 0, -1);
+        var e = Assert.Throws<ArgumentException>(() => new Bvh(prims, 2));
+        Assert.Contains("primitive 17", e.Message, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -246,8 +246,11 @@ internal static class BinnedSah
 
     private static float HalfArea(Vector128<float> lo, Vector128<float> hi)
     {
-        Vector128<float> d = hi - lo;
-        Vector128<float> p = d * Vector128.Shuffle(d, Vector128.Create(1, 2, 0, 3)); // xy, yz, zx (fourth lane not a coordinate)
+        // The fourth lane is not a coordinate: bounds kept as order keys carry an item's index bits there (a subnormal
+        // as a float), so it is cleared before any arithmetic, which would otherwise take the slow subnormal path.
+        Vector128<float> coordinates = Vector128.Create(-1, -1, -1, 0).AsSingle();
+        Vector128<float> d = (hi & coordinates) - (lo & coordinates);
+        Vector128<float> p = d * Vector128.Shuffle(d, Vector128.Create(1, 2, 0, 3)); // xy, yz, zx
         return p.GetElement(0) + p.GetElement(1) + p.GetElement(2);
     }
 

@@ -218,7 +218,11 @@ internal static class OwenSobolBatch
         /// <summary>((v xor seed) + 0.5) · 2^-32: a random digital shift.</summary>
         Xor,
 
-        /// <summary>(<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble.</summary>
+        /// <summary>
+        /// (<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble. The tables are
+        /// given bit-reversed (<see cref="Sequences.ProgressiveMultiJittered.ReversedX"/>), the form the scramble works
+        /// on, so only its result is reversed.
+        /// </summary>
         Owen,
     }
 
@@ -260,14 +264,14 @@ internal static class OwenSobolBatch
                 else if (Wide)
                 {
                     // Both coordinates in one 512-bit vector (x in the low half, y in the high): half the instructions.
-                    Vector512<uint> v = Reverse(LaineKarras(Reverse(Vector512.Create(x, y)), Vector512.Create(sx, sy)));
+                    Vector512<uint> v = Reverse(LaineKarras(Vector512.Create(x, y), Vector512.Create(sx, sy)));
                     Store(ToDoublesWide(v.GetLower()), px + i, left);
                     Store(ToDoublesWide(v.GetUpper()), py + i, left);
                 }
                 else
                 {
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(x), sx))), px + i, left);
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(y), sy))), py + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(x, sx))), px + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(y, sy))), py + i, left);
                 }
             }
         }

@@ -144,7 +144,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         if (dimension >= TabledDimensions)
         {
             uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            int vectored = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.Tables(dimension), default, firstIndex, 0, new OwenSobolBatch.Scramble(seed), default, xs, default) : 0;
+            int vectored = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), default, firstIndex, 0, new OwenSobolBatch.Scramble(seed), default, xs, default) : 0;
             for (int i = vectored; i < xs.Length; i++)
             {
                 xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
@@ -157,7 +157,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
         uint block = _blocks[entry];
-        int done = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.Tables(dimension), default, firstIndex, block, Scramble(pixelSeed, dimension), default, xs, default) : 0;
+        int done = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), default, firstIndex, block, Scramble(pixelSeed, dimension), default, xs, default) : 0;
         for (int i = done; i < xs.Length; i++)
         {
             xs[i] = Tabled(BitReversal.Reverse((firstIndex + (uint)i) ^ block), dimension, pixelSeed);
@@ -179,7 +179,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
         uint block = _blocks[entry];
         int done = Walked(dimension + 1)
-            ? OwenSobolBatch.BlockRun(_matrices.Tables(dimension), _matrices.Tables(dimension + 1), firstIndex, block, Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
+            ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), _matrices.ReversedValueTables(dimension + 1), firstIndex, block, Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
             : 0;
         // The scalar form (a one-point run, and the whole batch without AVX2): the reference the eight-lane form is tested against.
         for (int i = done; i < xs.Length; i++)

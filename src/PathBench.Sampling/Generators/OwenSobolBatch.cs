@@ -93,12 +93,14 @@ internal static class OwenSobolBatch
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with
     /// indices (<paramref name="firstIndex"/> + k) xor <paramref name="block"/>, from the dimensions' natural byte tables
-    /// (<see cref="Sequences.SobolMatrices.Tables"/>). The scalar form walks the reversed tables with Reverse(i xor block);
-    /// that walk is Reverse(T(i xor block)), and T is linear over GF(2) (an XOR of the generator matrix's columns picked
-    /// by the index's bits; Sobol 1967), so it is Reverse(T(i) xor T(block)): eight consecutive T(i) by one load
-    /// (<see cref="Consecutive"/>), T(block) once a run, one vector reversal, no gathers.
+    /// with reversed values (<see cref="Sequences.SobolMatrices.ReversedValueTables"/>). The scalar form walks the
+    /// reversed tables with Reverse(i xor block); that walk is Reverse(T(i xor block)), and T is linear over GF(2) (an XOR
+    /// of the generator matrix's columns picked by the index's bits; Sobol 1967), so it is Reverse(T(i)) xor
+    /// Reverse(T(block)), the reversal distributing over XOR, and walking the reversed-value tables gives Reverse(T(·))
+    /// directly: eight consecutive Reverse(T(i)) by one load (<see cref="Consecutive"/>), Reverse(T(block)) once a run,
+    /// no vector reversal before the scramble, no gathers.
     /// </summary>
-    public static unsafe int BlockRun(ReadOnlySpan<uint> naturalX, ReadOnlySpan<uint> naturalY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    public static unsafe int BlockRun(ReadOnlySpan<uint> reversedX, ReadOnlySpan<uint> reversedY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -106,17 +108,17 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        fixed (uint* tx = naturalX, ty = naturalY)
+        fixed (uint* tx = reversedX, ty = reversedY)
         fixed (double* px = xs, py = ys)
         {
             Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 uint s = firstIndex + (uint)i;
-                Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(tx, s) ^ bx), scrambleX))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled(Consecutive(tx, s) ^ bx, scrambleX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Reverse(Consecutive(ty, s) ^ by), scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled(Consecutive(ty, s) ^ by, scrambleY))), py + i, xs.Length - i);
                 }
             }
         }
@@ -216,7 +218,11 @@ internal static class OwenSobolBatch
         /// <summary>((v xor seed) + 0.5) · 2^-32: a random digital shift.</summary>
         Xor,
 
-        /// <summary>(<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble.</summary>
+        /// <summary>
+        /// (<see cref="Sequences.OwenScrambler.Scramble"/>(v, seed) + 0.5) · 2^-32: Owen's nested scramble. The tables are
+        /// given bit-reversed (<see cref="Sequences.ProgressiveMultiJittered.ReversedX"/>), the form the scramble works
+        /// on, so only its result is reversed.
+        /// </summary>
         Owen,
     }
 
@@ -258,14 +264,14 @@ internal static class OwenSobolBatch
                 else if (Wide)
                 {
                     // Both coordinates in one 512-bit vector (x in the low half, y in the high): half the instructions.
-                    Vector512<uint> v = Reverse(LaineKarras(Reverse(Vector512.Create(x, y)), Vector512.Create(sx, sy)));
+                    Vector512<uint> v = Reverse(LaineKarras(Vector512.Create(x, y), Vector512.Create(sx, sy)));
                     Store(ToDoublesWide(v.GetLower()), px + i, left);
                     Store(ToDoublesWide(v.GetUpper()), py + i, left);
                 }
                 else
                 {
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(x), sx))), px + i, left);
-                    Store(ToDoubles(Reverse(LaineKarras(Reverse(y), sy))), py + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(x, sx))), px + i, left);
+                    Store(ToDoubles(Reverse(LaineKarras(y, sy))), py + i, left);
                 }
             }
         }

@@ -124,7 +124,8 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
         ulong seeds = SampleHash.Combine(pixel ^ Salts.PmjPair, (ulong)pair);
         ProgressiveMultiJittered s = Rotated(pixel, pair);
         OwenSobolBatch.TableScramble scramble = Spec.Randomize == Randomization.Owen ? OwenSobolBatch.TableScramble.Owen : OwenSobolBatch.TableScramble.Xor;
-        if (inside && OwenSobolBatch.TableRun(s.X, s.Y, (int)firstIndex, scramble, (uint)seeds, (uint)(seeds >> 32), xs, ys))
+        bool owen = scramble == OwenSobolBatch.TableScramble.Owen;
+        if (inside && OwenSobolBatch.TableRun(owen ? s.ReversedX : s.X, owen ? s.ReversedY : s.Y, (int)firstIndex, scramble, (uint)seeds, (uint)(seeds >> 32), xs, ys))
         {
             return;
         }

@@ -50,10 +50,16 @@ public sealed class ProgressiveMultiJittered
     private readonly uint[] _x;
     private readonly uint[] _y;
 
+    // The coordinates bit-reversed, the form Owen scrambling works on.
+    private readonly uint[] _reversedX;
+    private readonly uint[] _reversedY;
+
     private ProgressiveMultiJittered(uint[] x, uint[] y, int retries)
     {
         _x = x;
         _y = y;
+        _reversedX = Array.ConvertAll(x, BitReversal.Reverse);
+        _reversedY = Array.ConvertAll(y, BitReversal.Reverse);
         OctaveRetries = retries;
     }
 
@@ -68,6 +74,12 @@ public sealed class ProgressiveMultiJittered
 
     /// <summary>The y coordinates as 32-bit binary fractions.</summary>
     public ReadOnlySpan<uint> Y => _y;
+
+    /// <summary>The x coordinates with their bits reversed (<see cref="BitReversal.Reverse"/>), as Owen scrambling takes them.</summary>
+    public ReadOnlySpan<uint> ReversedX => _reversedX;
+
+    /// <summary>The y coordinates with their bits reversed.</summary>
+    public ReadOnlySpan<uint> ReversedY => _reversedY;
 
     /// <summary>Builds the first 2^<paramref name="log2Count"/> points of the sequence chosen by <paramref name="seed"/>.</summary>
     public static ProgressiveMultiJittered Generate(PmjVariant variant, int log2Count, ulong seed)

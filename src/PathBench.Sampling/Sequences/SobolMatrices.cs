@@ -42,6 +42,9 @@ public sealed class SobolMatrices
     // whose low five bits c are fixed and top three bits t run over 0..7 are eight neighbouring entries.
     private readonly uint[] _groupTables;
 
+    // The byte tables with their values bit-reversed: entry [(d * 4 + b) * 256 + x] is Reverse(_byteTables[the same]).
+    private readonly uint[] _reversedValueTables;
+
     private SobolMatrices(uint[] columns, int dimensions)
     {
         _columns = columns;
@@ -50,6 +53,7 @@ public sealed class SobolMatrices
         _byteTables = new uint[tabulated * 4 * 256];
         _reversedByteTables = new uint[tabulated * 4 * 256];
         _groupTables = new uint[tabulated * 256];
+        _reversedValueTables = new uint[tabulated * 4 * 256];
         for (int d = 0; d < tabulated; d++)
         {
             for (int b = 0; b < 4; b++)
@@ -60,6 +64,12 @@ public sealed class SobolMatrices
                     // Gray-code style build: x differs from x & (x - 1) in its lowest set bit.
                     int low = BitOperations.TrailingZeroCount(x);
                     table[x] = table[x & (x - 1)] ^ columns[d * Bits + 8 * b + low];
+                }
+
+                Span<uint> reversedValues = _reversedValueTables.AsSpan((d * 4 + b) * 256, 256);
+                for (int x = 0; x < 256; x++)
+                {
+                    reversedValues[x] = BitReversal.Reverse(table[x]);
                 }
 
                 Span<uint> reversed = _reversedByteTables.AsSpan((d * 4 + b) * 256, 256);
@@ -143,6 +153,16 @@ public sealed class SobolMatrices
     {
         ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
         return new ReadOnlySpan<uint>(_reversedByteTables, dimension * 1024, 1024);
+    }
+
+    /// <summary>
+    /// <see cref="Tables"/> with each value bit-reversed (4 KiB a dimension): the walk is an XOR of entries and the
+    /// reversal distributes over XOR, so walking these with index i gives Reverse(Sample(i, d)) with no reversal.
+    /// </summary>
+    public ReadOnlySpan<uint> ReversedValueTables(int dimension)
+    {
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
+        return new ReadOnlySpan<uint>(_reversedValueTables, dimension * 1024, 1024);
     }
 
     /// <summary>

@@ -63,11 +63,13 @@ public static class SampleHash
     /// <summary>
     /// <see cref="UniformRun"/> in the lane form <paramref name="width"/> (tests run each
     /// on one machine): <see cref="Generators.LaneWidth.Wide"/> eight at a time on 512-bit lanes,
-    /// <see cref="Generators.LaneWidth.Narrow"/> four at a time with AVX2 (<see cref="SplitMixLanes"/>), or the scalar loop.
+    /// <see cref="Generators.LaneWidth.Narrow"/> four at a time with AVX2 (<see cref="SplitMixLanes"/>; a run whose indices
+    /// wrap past 2^32 − 1 takes the scalar loop), or the scalar loop.
     /// </summary>
     internal static void UniformRunForm(ulong key, uint first, int dimension, Span<double> xs, Generators.LaneWidth width)
     {
-        if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported && xs.Length > 1)
+        bool wraps = first + (uint)(xs.Length - 1) < first;
+        if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported && xs.Length > 1 && !wraps)
         {
             SplitMixLanes.UniformRun(key, first, dimension, xs);
             return;

@@ -1,3 +1,4 @@
+using System.Diagnostics;
 using System.Runtime.Intrinsics;
 using System.Runtime.Intrinsics.X86;
 
@@ -12,27 +13,15 @@ namespace PathBench.Sampling.Hashing;
 internal static class SplitMixLanes
 {
     /// <summary>
-    /// <see cref="SampleHash.Uniform"/>(key, first + i, dimension) into <paramref name="xs"/>[i]; callers check
-    /// <see cref="Avx2.IsSupported"/>. A run whose indices wrap past 2^32 − 1 goes to the scalar loop (the lanes step the
-    /// hash's 64-bit input, whose upper half is the dimension).
+    /// <see cref="SampleHash.Uniform"/>(key, first + i, dimension) into <paramref name="xs"/>[i]. Callers check
+    /// <see cref="Avx2.IsSupported"/> and pass a non-empty run whose indices do not wrap past 2^32 − 1 (the lanes step
+    /// the hash's 64-bit input, whose upper half is the dimension); <see cref="SampleHash.UniformRunForm"/> sends the
+    /// others to its scalar loop.
     /// </summary>
     public static unsafe void UniformRun(ulong key, uint first, int dimension, Span<double> xs)
     {
         int n = xs.Length;
-        if (n == 0)
-        {
-            return;
-        }
-
-        if (first + (uint)(n - 1) < first)
-        {
-            for (int i = 0; i < n; i++)
-            {
-                xs[i] = SampleHash.Uniform(key, first + (uint)i, dimension);
-            }
-
-            return;
-        }
+        Debug.Assert(n > 0 && first + (uint)(n - 1) >= first, "an empty run or one that wraps goes to the scalar loop");
 
         // The value of lane l of group g is v0 + 4g + l (no carry into the dimension: the run does not wrap), so its
         // product with Combine's multiplier is v0·M + (4g + l)·M modulo 2^64: one addition a group.

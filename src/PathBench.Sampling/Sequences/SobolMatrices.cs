@@ -142,28 +142,16 @@ public sealed class SobolMatrices
     }
 
     /// <summary>The four 256-entry byte tables behind <see cref="Sample"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> Tables(int dimension)
-    {
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(_byteTables, dimension * 1024, 1024);
-    }
+    public ReadOnlySpan<uint> Tables(int dimension) => TablesOf(_byteTables, dimension, 1024);
 
     /// <summary>The four 256-entry byte tables behind <see cref="SampleReversed"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> ReversedTables(int dimension)
-    {
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(_reversedByteTables, dimension * 1024, 1024);
-    }
+    public ReadOnlySpan<uint> ReversedTables(int dimension) => TablesOf(_reversedByteTables, dimension, 1024);
 
     /// <summary>
     /// <see cref="Tables"/> with each value bit-reversed (4 KiB a dimension): the walk is an XOR of entries and the
     /// reversal distributes over XOR, so walking these with index i gives Reverse(Sample(i, d)) with no reversal.
     /// </summary>
-    public ReadOnlySpan<uint> ReversedValueTables(int dimension)
-    {
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(_reversedValueTables, dimension * 1024, 1024);
-    }
+    public ReadOnlySpan<uint> ReversedValueTables(int dimension) => TablesOf(_reversedValueTables, dimension, 1024);
 
     /// <summary>
     /// The reversed table of the reversed index's top byte (<see cref="ReversedTables"/>' last 256 entries) reordered:
@@ -171,10 +159,13 @@ public sealed class SobolMatrices
     /// an aligned group of eight scrambled indices differ only in their top three bits (see
     /// <c>OwenSobolBatch.Run</c>), so their entries are eight neighbouring ones here.
     /// </summary>
-    public ReadOnlySpan<uint> GroupTable(int dimension)
+    public ReadOnlySpan<uint> GroupTable(int dimension) => TablesOf(_groupTables, dimension, 256);
+
+    // A tabulated dimension's slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension).
+    private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length)
     {
         ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(_groupTables, dimension * 256, 256);
+        return new ReadOnlySpan<uint>(tables, dimension * length, length);
     }
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>

@@ -262,15 +262,20 @@ public sealed class PathTracer
         public void Set(PathTracer tracer, Material m, in SurfaceHit hit, Vec3d wo)
         {
             Material = m;
-            Point = hit.Point;
-            GeometricNormal = hit.GeometricNormal;
+            // The hit's point and normal are read coordinate by coordinate: the query has just
+            // stored them so, and a copy of the whole vector (16 + 8 bytes) waited for those stores
+            // to reach the cache (no store forwarding to a load that spans two stores).
+            Vec3d point = new(hit.Point.X, hit.Point.Y, hit.Point.Z);
+            Vec3d normal = new(hit.GeometricNormal.X, hit.GeometricNormal.Y, hit.GeometricNormal.Z);
+            Point = point;
+            GeometricNormal = normal;
             // A dielectric tells entering from leaving by its normal: the geometric one, since an
             // interpolated normal can put the viewer on the wrong side near silhouettes.
-            Frame = new ShadingFrame(m.Kind == MaterialKind.Dielectric ? hit.GeometricNormal : tracer.ShadingNormal(hit));
+            Frame = new ShadingFrame(m.Kind == MaterialKind.Dielectric ? normal : tracer.ShadingNormal(hit, normal));
             WoLocal = Frame.ToLocal(wo);
-            Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(hit.Point) : Rgb.Black;
-            CosWo = Vec3d.Dot(hit.GeometricNormal, wo);
-            OffsetScale = RayOffset.Scale(hit.Point);
+            Albedo = m.Kind == MaterialKind.Diffuse ? m.Albedo(point) : Rgb.Black;
+            CosWo = Vec3d.Dot(normal, wo);
+            OffsetScale = RayOffset.Scale(point);
         }
     }
 
@@ -385,10 +390,10 @@ public sealed class PathTracer
         : PowerHeuristic(bsdfPdf, lightPdf);
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private Vec3d ShadingNormal(in SurfaceHit hit)
+    private Vec3d ShadingNormal(in SurfaceHit hit, Vec3d geometricNormal)
     {
         ref readonly Primitive prim = ref _bvh.Primitives[hit.Primitive];
-        return prim.ShadingNormals < 0 ? hit.GeometricNormal : InterpolatedNormal(prim, hit, _shadingNormals);
+        return prim.ShadingNormals < 0 ? geometricNormal : InterpolatedNormal(prim, hit, _shadingNormals);
     }
 
     /// <summary>A mesh triangle's shading normal at a hit, interpolated from its vertices' normals and turned to the geometric normal's side.</summary>

@@ -177,13 +177,13 @@ public sealed class LightSet
         double d = Math.Sqrt(d2);
         double oneMinusCos = CapOneMinusCos(d2, r2);
         double cosT = 1 - u1 * oneMinusCos;
-        double sinT2 = Math.Max(0, 1 - cosT * cosT);
+        double sinT2 = PortableMath.NonNegative(1 - cosT * cosT);
         var frame = new ShadingFrame(toCenter / d);
         (double s, double c) = PortableMath.SinCos(2 * Math.PI * u2);
         double sinT = Math.Sqrt(sinT2);
         Vec3d w = frame.ToWorld(new Vec3d(sinT * c, sinT * s, cosT));
         // Distance to the near side of the sphere along w.
-        double dist = d * cosT - Math.Sqrt(Math.Max(0, r2 - d2 * sinT2));
+        double dist = d * cosT - Math.Sqrt(PortableMath.NonNegative(r2 - d2 * sinT2));
         Vec3d y = p + w * dist;
         // The sphere's outward normal at y, unnormalized: only the sign of its cosine with −w counts.
         Rgb le = m.EmittedUnnormalized(y - prim.A, -w);
@@ -264,7 +264,7 @@ public sealed class LightSet
     private static double CapOneMinusCos(double d2, double r2)
     {
         double sin2Max = r2 / d2;
-        return sin2Max / (1 + Math.Sqrt(Math.Max(0, 1 - sin2Max)));
+        return sin2Max / (1 + Math.Sqrt(PortableMath.NonNegative(1 - sin2Max)));
     }
 
     // A point uniform by area on a disk, triangle or sphere light (seen from inside); quads are sampled in SampleArea.

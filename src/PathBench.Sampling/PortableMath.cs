@@ -48,6 +48,20 @@ public static class PortableMath
     private const double F17 = 2.8114572543455206e-15;
     private const double F18 = 1.5619206968586225e-16;
 
+    /// <summary>
+    /// <see cref="Math.Max(double, double)"/> of 0 and <paramref name="x"/>, bit for bit: <paramref name="x"/>
+    /// when it is above 0 or NaN, +0 otherwise (−0 included, as IEEE 754-2019 maximum ranks −0 below +0).
+    /// </summary>
+    /// <remarks>
+    /// Math.Max keeps IEEE 754-2019's NaN and signed-zero rules, which x86 without AVX-512 has no
+    /// instruction for: the JIT emits six dependent vector operations (two compares, an integer
+    /// compare and three logical ones) before the square root that usually follows, on the sample's
+    /// dependency chain. Here it is one compare and a branch that nearly always goes the same way,
+    /// so the value goes on at once; the result is the same for every input, NaN included.
+    /// </remarks>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static double NonNegative(double x) => !(x <= 0) ? x : 0.0;
+
     /// <summary>Sine and cosine of <paramref name="x"/> radians; NaN for NaN or infinite input.</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static (double Sin, double Cos) SinCos(double x)

@@ -130,7 +130,7 @@ public static class Bsdf
         double etaI = entering ? 1.0 : ior, etaT = entering ? ior : 1.0;
         double cosI = Math.Abs(wo.Z);
         double eta = etaI / etaT;
-        double sin2T = eta * eta * Math.Max(0, 1 - cosI * cosI);
+        double sin2T = eta * eta * PortableMath.NonNegative(1 - cosI * cosI);
         double fresnel;
         double cosT = 0;
         if (sin2T >= 1)
@@ -187,7 +187,7 @@ public static class Ggx
             return double.PositiveInfinity;
         }
 
-        double tan2 = Math.Max(0, 1 - z2) / z2;
+        double tan2 = PortableMath.NonNegative(1 - z2) / z2;
         return 0.5 * (-1 + Math.Sqrt(1 + alpha * alpha * tan2));
     }
 
@@ -214,8 +214,8 @@ public static class Ggx
         (double sinPhi, double cosPhi) = PortableMath.SinCos(phi);
         double p1 = r * cosPhi, p2 = r * sinPhi;
         double s = 0.5 * (1 + vh.Z);
-        p2 = (1 - s) * Math.Sqrt(Math.Max(0, 1 - p1 * p1)) + s * p2;
-        Vec3d nh = t1 * p1 + t2 * p2 + vh * Math.Sqrt(Math.Max(0, 1 - p1 * p1 - p2 * p2));
+        p2 = (1 - s) * Math.Sqrt(PortableMath.NonNegative(1 - p1 * p1)) + s * p2;
+        Vec3d nh = t1 * p1 + t2 * p2 + vh * Math.Sqrt(PortableMath.NonNegative(1 - p1 * p1 - p2 * p2));
         return new Vec3d(alpha * nh.X, alpha * nh.Y, Math.Max(1e-12, nh.Z)).Normalized();
     }
 }

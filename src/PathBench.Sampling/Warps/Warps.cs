@@ -20,7 +20,7 @@ public static class Warp
     public static Vec3d UniformHemisphere(double u, double v)
     {
         double z = 1.0 - u;
-        double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
+        double r = Math.Sqrt(PortableMath.NonNegative(1.0 - z * z));
         (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }
@@ -33,7 +33,7 @@ public static class Warp
     public static Vec3d CosineHemisphere(double u, double v)
     {
         (double x, double y) = ConcentricDisk(u, v);
-        return new Vec3d(x, y, Math.Sqrt(Math.Max(0.0, 1.0 - x * x - y * y)));
+        return new Vec3d(x, y, Math.Sqrt(PortableMath.NonNegative(1.0 - x * x - y * y)));
     }
 
     /// <summary>The density of <see cref="CosineHemisphere"/>: cos θ / π.</summary>
@@ -43,7 +43,7 @@ public static class Warp
     public static Vec3d UniformSphere(double u, double v)
     {
         double z = 1.0 - 2.0 * u;
-        double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
+        double r = Math.Sqrt(PortableMath.NonNegative(1.0 - z * z));
         (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }
@@ -101,7 +101,7 @@ public static class Warp
     public static Vec3d UniformCone(double u, double v, double cosThetaMax)
     {
         double z = 1.0 - u * (1.0 - cosThetaMax);
-        double r = Math.Sqrt(Math.Max(0.0, 1.0 - z * z));
+        double r = Math.Sqrt(PortableMath.NonNegative(1.0 - z * z));
         (double s, double c) = PortableMath.SinCos(2 * Math.PI * v);
         return new Vec3d(r * c, r * s, z);
     }

@@ -577,39 +577,122 @@ public static class RadicalInverse
     }
 
     /// <summary>
-    /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the draws sixteen at a time
-    /// (<see cref="DigitMap.Fill"/>), each kept in order when it equals neither z nor an earlier image, the taken values
-    /// held in two eight-lane vectors (the places not yet taken hold b, which no draw equals). The same images.
+    /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the same images. Each round draws as many
+    /// values as images are still missing, rounded up to four (<see cref="DigitMap.Fill"/>), and keeps each draw, in order,
+    /// that equals neither z nor an earlier image; a draw equal to one of them is dropped, so a collision costs one more
+    /// draw, not a round of sixteen. <see cref="ScanImagesForm"/> says how the taken values are held.
     /// </summary>
+    private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images) =>
+        ScanImagesForm(b, positionKey, zero, last, images, Generators.Lanes.Best);
+
+    /// <summary>
+    /// <see cref="ScanImages"/> on the given lanes (tests run each). With AVX2 (<see cref="Generators.LaneWidth.Narrow"/>
+    /// or <see cref="Generators.LaneWidth.Wide"/>) the taken values are marked in one 256-bit register at place w mod 256
+    /// (the mark made by one variable shift per 32-bit lane); for b ≤ 256 the mark is the value itself, so a marked place
+    /// is taken, and above 256 a marked place is confirmed against the images so far (a false mark, about one draw in
+    /// 256/count, is a new value). No branch on a collision for b ≤ 256: every draw is written at the next place and the
+    /// count moves only for a new one. The scalar form holds the taken values in a set of b bits on the stack.
+    /// <paramref name="images"/> needs <paramref name="last"/> + 4 places (a round's draws past the last image are written).
+    /// </summary>
+    internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
+    {
+        if (width != Generators.LaneWidth.Scalar && Avx2.IsSupported)
+        {
+            ScanMarks(b, positionKey, zero, last, images, width);
+        }
+        else
+        {
+            ScanBits(b, positionKey, zero, last, images);
+        }
+    }
+
+    // ScanImagesForm with the 256-bit mark set.
     [SkipLocalsInit] // the draws are written before they are read
-    private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    private static void ScanMarks(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
         Span<uint> draws = stackalloc uint[DrawnDigits];
-        Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-        Vector256<uint> low = Vector256.Create(b).WithElement(0, zero), high = Vector256.Create(b);
+        Vector256<uint> taken = Mark(zero, MarkPlaces);
+        images = images[..((int)last + 4)];
         images[0] = zero;
         uint count = 1;
-        for (ulong next = 0; ; next += DrawnDigits)
+        for (ulong next = 0; count <= last;)
         {
-            DigitMap.Fill(positionKey, b, false, next, draws);
-            foreach (uint w in draws)
-            {
-                Vector256<uint> v = Vector256.Create(w);
-                if (Vector256.EqualsAny(low, v) || Vector256.EqualsAny(high, v))
-                {
-                    continue;
-                }
+            int n = (int)((last + 4 - count) & ~3u);
+            DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
+            next += (ulong)n;
+            count = KeepMarked(draws[..n], images, count, ref taken, b > 256);
+        }
+    }
 
-                images[(int)count] = w;
-                low = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count)), v, low);
-                high = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count - 8)), v, high);
-                if (++count > last)
+    // ScanMarks' round: each draw kept at images[count] unless marked taken (and, when confirm, found among the images so
+    // far); the new count. Its own method with no call inside, so the set and the count stay in registers (around a call
+    // the JIT keeps a vector on the stack). count + draws − 1 must be below images.Length.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static uint KeepMarked(ReadOnlySpan<uint> draws, Span<uint> images, uint count, ref Vector256<uint> taken, bool confirm)
+    {
+        Vector256<uint> set = taken;
+        Vector256<uint> places = MarkPlaces;
+        ref uint image = ref MemoryMarshal.GetReference(images);
+        if ((ulong)count + (ulong)draws.Length > (ulong)images.Length)
+        {
+            throw new ArgumentOutOfRangeException(nameof(images));
+        }
+
+        foreach (uint w in draws)
+        {
+            Vector256<uint> mark = Mark(w, places);
+            bool seen = !Avx.TestZ(set, mark);
+            if (confirm && seen)
+            {
+                seen = false;
+                for (uint j = 0; j < count; j++)
                 {
-                    return;
+                    seen |= Unsafe.Add(ref image, j) == w;
                 }
+            }
+
+            Unsafe.Add(ref image, count) = w; // below count + draws.Length ≤ images.Length (checked above)
+            set |= mark;
+            count += seen ? 0u : 1u;
+        }
+
+        taken = set;
+        return count;
+    }
+
+    // Lane l of the 256-bit mark set holds places 32·l … 32·l + 31.
+    private static readonly Vector256<uint> MarkPlaces = Vector256.Create(0u, 32u, 64u, 96u, 128u, 160u, 192u, 224u);
+
+    // ScanImagesForm's scalar form: the taken values in a set of b bits.
+    [SkipLocalsInit] // the draws are written before they are read, the set cleared
+    private static void ScanBits(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    {
+        Span<uint> draws = stackalloc uint[DrawnDigits];
+        Span<ulong> set = stackalloc ulong[(int)((b + 63) / 64)];
+        set.Clear();
+        set[(int)(zero >> 6)] |= 1UL << (int)zero;
+        images[0] = zero;
+        uint count = 1;
+        for (ulong next = 0; count <= last;)
+        {
+            int n = (int)((last + 4 - count) & ~3u);
+            DigitMap.FillForm(positionKey, b, false, next, draws[..n], Generators.LaneWidth.Scalar);
+            next += (ulong)n;
+            foreach (uint w in draws[..n])
+            {
+                ulong word = set[(int)(w >> 6)], bit = 1UL << (int)w;
+                images[(int)count] = w;
+                set[(int)(w >> 6)] = word | bit;
+                count += (word & bit) != 0 ? 0u : 1u;
             }
         }
     }
+
+    // The mark of value w in the 256-bit set of ScanImagesForm: bit w mod 256 (a shift by 32 or more, including the wrapped
+    // negative ones, gives 0).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<uint> Mark(uint w, Vector256<uint> places) =>
+        Avx2.ShiftLeftLogicalVariable(Vector256<uint>.One, Vector256.Create(w & 255) - places);
 
     // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
     private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;

@@ -517,6 +517,10 @@ public static class RadicalInverse
         }
     }
 
+    // Draws DigitMap.Fill makes at once on this machine's lanes (eight on 512-bit ones, else four): FisherYates asks for
+    // whole groups (the scalar tail costs more per draw than a group's unused lanes).
+    private static readonly uint DrawGroup = Generators.Lanes.Best == Generators.LaneWidth.Wide ? 8u : 4u;
+
     // Tables of SmallBaseRun: a short run's positions in a base up to FullTableBase, FullTableBase slots each (base 3: a
     // 32-bit index's 21 positions).
     private const int SmallBaseTables = MaxDigits * FullTableBase;
@@ -534,7 +538,7 @@ public static class RadicalInverse
         }
 
         Span<uint> draws = stackalloc uint[FullTableBase];
-        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + 7) & ~7u)]); // whole groups of eight: the vector form
+        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + DrawGroup - 1) & ~(DrawGroup - 1))]); // whole groups: the vector form
         for (int j = 1; j <= (int)top; j++)
         {
             int r = j + (int)draws[j - 1];
@@ -1033,28 +1037,33 @@ public static class RadicalInverse
             }
             else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
             {
-                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h) by Unit4 (exact), m (below 2^32)
-                // and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset; the same doubles.
-                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages).
-                Vector256<ulong> lane = Vector256.Create(0UL, 1UL, 2UL, 3UL);
-                Vector256<ulong> laneProducts = lane * SampleHash.ValueMultiplier;
-                Vector256<ulong> vb = Vector256.Create((ulong)b);
+                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h)·m by Unit4Times (the same
+                // double), m (below 2^32) and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset.
+                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages). The cap at
+                // m − 1 is vminpd: both operands are whole non-negative doubles (no NaN, no −0), where it is the minimum.
+                // Each lane's draw is the low half of its 64-bit word: one lane permute packs the four.
+                Vector256<ulong> laneProducts = Vector256.Create(0UL, 1UL, 2UL, 3UL) * SampleHash.ValueMultiplier;
                 Vector256<double> offset = Vector256.Create(4503599627370496.0);
+                Vector256<double> bd = Vector256.Create((double)b);
+                Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+                Vector256<ulong> n = Vector256.Create(first) + Vector256.Create(0UL, 1UL, 2UL, 3UL);
+                Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + laneProducts;
+                Vector256<uint> low = Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u);
                 for (; k + 4 <= draws.Length; k += 4)
                 {
-                    ulong start = first + (ulong)k;
-                    Vector256<ulong> m = vb;
                     if (table)
                     {
-                        Vector256<ulong> n = Vector256.Create(start) + lane;
-                        m = Vector256.ConditionalSelect(Vector256.LessThan(n, vb), vb - n, Vector256<ulong>.One);
+                        // m = b − n while n < b (then n is below 2^32, exact through the offset), else 1.
+                        Vector256<double> md = Vector256.ConditionalSelect(Vector256.LessThan(n, Vector256.Create((ulong)b)).AsDouble(), bd - (n | offset.AsUInt64()).AsDouble() + offset, Vector256<double>.One);
+                        scale = md * Vector256.Create(1.0 / 9007199254740992.0);
+                        top = md - Vector256<double>.One;
                     }
 
-                    Vector256<double> md = (m | offset.AsUInt64()).AsDouble() - offset;
-                    Vector256<ulong> product = Vector256.Create(unchecked(start * SampleHash.ValueMultiplier)) + laneProducts;
-                    Vector256<double> x = SampleHash.Unit4(SampleHash.Combine4Premultiplied(positionKey, product)) * md;
-                    Vector256<ulong> v = (Vector256.Min(Vector256.Floor(x), md - Vector256<double>.One) + offset).AsUInt64();
-                    Vector256.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 4));
+                    Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), scale);
+                    Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
+                    Avx2.PermuteVar8x32(v.AsUInt32(), low).GetLower().CopyTo(draws.Slice(k, 4));
+                    product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+                    n += Vector256.Create(4UL);
                 }
             }
 

@@ -358,10 +358,12 @@ public static class RadicalInverse
             return false;
         }
 
+        // Below(u, b, 0) and Below(u, b, 1) without the table: b^0 is 1 (a product by 1 is exact) and b^−1 is 1.0 / b.
+        double invBase = 1.0 / b;
         ulong u = ZeroDigits(key);
-        double below0 = Below(u, (int)b, 0);
+        double below0 = Fraction(u);
         uint zero = (uint)Math.BigMul(u, b, out u);
-        double below1 = Below(u, (int)b, 1);
+        double below1 = Fraction(u) * invBase;
         ulong positionKey = SampleHash.Combine(key, 0);
         Span<uint> images = stackalloc uint[FullTableBase];
         if (b <= FullTableBase)
@@ -377,7 +379,6 @@ public static class RadicalInverse
             ScanImages(b, positionKey, zero, last, images);
         }
 
-        double invBase = 1.0 / b;
         if (last < DrawnDigits && Vector512.IsHardwareAccelerated)
         {
             OneDigitLanes(first, images, invBase, below0, below1, xs);
@@ -1080,7 +1081,11 @@ public static class RadicalInverse
     // The fraction u / 2^64 (its top 53 bits, exactly) scaled by b^−length: the permuted zeros above an index of that
     // many digits and everything below them.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static double Below(ulong u, int b, int length) => (u >> 11) * (1.0 / 9007199254740992.0) * InversePower(b, length);
+    private static double Below(ulong u, int b, int length) => Fraction(u) * InversePower(b, length);
+
+    // The top 53 bits of u scaled by 2^−53 (exact; converted as a signed integer, which they fit: one instruction).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static double Fraction(ulong u) => (long)(u >> 11) * (1.0 / 9007199254740992.0);
 
     // The base-2 form: a permutation of {0, 1} per position is an xor with a random bit, so the digits of all 32
     // positions (and the 21 bits below them) are one xor with a 64-bit hash.
@@ -1093,6 +1098,7 @@ public static class RadicalInverse
     private static readonly double[][] PowersOfBase = BuildPowers();
     private static readonly int[] PowerSlot = BuildPowerSlots();
 
+    [MethodImpl(InliningOptions.ShortMethod)]
     private static double InversePower(int b, int k)
     {
         int slot = PowerSlot[b];

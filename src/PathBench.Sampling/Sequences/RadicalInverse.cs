@@ -592,18 +592,17 @@ public static class RadicalInverse
 
     /// <summary>
     /// <see cref="ScanImages"/> on the given lanes (tests run each). With AVX2 (<see cref="Generators.LaneWidth.Narrow"/>
-    /// or <see cref="Generators.LaneWidth.Wide"/>) the taken values are marked in one 256-bit register at place w mod 256
-    /// (the mark made by one variable shift per 32-bit lane); for b ≤ 256 the mark is the value itself, so a marked place
-    /// is taken, and above 256 a marked place is confirmed against the images so far (a false mark, about one draw in
-    /// 256/count, is a new value). No branch on a collision for b ≤ 256: every draw is written at the next place and the
-    /// count moves only for a new one. The scalar form holds the taken values in a set of b bits on the stack.
-    /// <paramref name="images"/> needs <paramref name="last"/> + 4 places (a round's draws past the last image are written).
+    /// or <see cref="Generators.LaneWidth.Wide"/>) the first sixteen draws are kept or dropped at once (<see cref="FirstSixteen"/>)
+    /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
+    /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
+    /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
+    /// <see cref="DrawnDigits"/> + 4 places (a round's kept draws past the last image are written).
     /// </summary>
     internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
-        if (width != Generators.LaneWidth.Scalar && Avx2.IsSupported)
+        if (width != Generators.LaneWidth.Scalar && Avx2.IsSupported && last > 0)
         {
-            ScanMarks(b, positionKey, zero, last, images, width);
+            ScanLanes(b, positionKey, zero, last, images, width);
         }
         else
         {
@@ -611,62 +610,138 @@ public static class RadicalInverse
         }
     }
 
-    // ScanImagesForm with the 256-bit mark set.
+    // ScanImagesForm on AVX2.
     [SkipLocalsInit] // the draws are written before they are read
-    private static void ScanMarks(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
+    private static void ScanLanes(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
+        images = images[..(DrawnDigits + 4)];
+        uint count = FirstSixteen(b, positionKey, zero, images);
+        if (count > last)
+        {
+            return;
+        }
+
+        // The images so far in two registers, the places not yet taken holding b (no draw equals it).
+        Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+        Vector256<uint> low = Vector256.ConditionalSelect(Vector256.LessThan(lanes, Vector256.Create(count)), Vector256.Create<uint>(images), Vector256.Create(b));
+        Vector256<uint> high = Vector256.ConditionalSelect(Vector256.LessThan(lanes + Vector256.Create(8u), Vector256.Create(count)), Vector256.Create<uint>(images[8..]), Vector256.Create(b));
         Span<uint> draws = stackalloc uint[DrawnDigits];
-        Vector256<uint> taken = Mark(zero, MarkPlaces);
-        images = images[..((int)last + 4)];
-        images[0] = zero;
-        uint count = 1;
-        for (ulong next = 0; count <= last;)
+        for (ulong next = DrawnDigits; count <= last;)
         {
             int n = (int)((last + 4 - count) & ~3u);
             DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
             next += (ulong)n;
-            count = KeepMarked(draws[..n], images, count, ref taken, b > 256);
+            count = KeepScanned(draws[..n], images, count, ref low, ref high);
         }
     }
 
-    // ScanMarks' round: each draw kept at images[count] unless marked taken (and, when confirm, found among the images so
-    // far); the new count. Its own method with no call inside, so the set and the count stay in registers (around a call
-    // the JIT keeps a vector on the stack). count + draws − 1 must be below images.Length.
-    [MethodImpl(MethodImplOptions.NoInlining)]
-    private static uint KeepMarked(ReadOnlySpan<uint> draws, Span<uint> images, uint count, ref Vector256<uint> taken, bool confirm)
+    /// <summary>
+    /// Draws 0 … 15 of a large base (m = b: <see cref="DigitMap.Fill"/>'s values, made here in registers) kept in order
+    /// after z where neither z nor an earlier draw equals them: z into images[0], the kept draws after it; the count of
+    /// images. All sixteen at once: each draw j (broadcast) against the lanes after it (a constant lane mask per j), the
+    /// fresh lanes packed to the front of each eight-lane half by a permute from a table of the 256 masks.
+    /// </summary>
+    [SkipLocalsInit] // the draws are written before they are read
+    private static uint FirstSixteen(uint b, ulong positionKey, uint zero, Span<uint> images)
     {
-        Vector256<uint> set = taken;
-        Vector256<uint> places = MarkPlaces;
-        ref uint image = ref MemoryMarshal.GetReference(images);
-        if ((ulong)count + (ulong)draws.Length > (ulong)images.Length)
+        Span<uint> draws = stackalloc uint[DrawnDigits];
+        Vector256<double> bd = Vector256.Create((double)b);
+        Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+        Vector256<ulong> product = DrawLaneProducts, step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+        Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, scale, top), Draw4(positionKey, product + step, scale, top));
+        Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), scale, top), Draw4(positionKey, product + (step + step + step), scale, top));
+        d0.StoreUnsafe(ref MemoryMarshal.GetReference(draws));
+        d1.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 8);
+        Vector256<uint> z = Vector256.Create(zero);
+        Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z);
+        ref uint later = ref MemoryMarshal.GetReference(LaterLanes);
+        for (int j = 0; j < 8; j++)
         {
-            throw new ArgumentOutOfRangeException(nameof(images));
+            Vector256<uint> w = Vector256.Create(draws[j]);
+            taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+            taken1 |= Vector256.Equals(d1, w);
         }
 
-        foreach (uint w in draws)
+        for (int j = 8; j < DrawnDigits - 1; j++)
         {
-            Vector256<uint> mark = Mark(w, places);
-            bool seen = !Avx.TestZ(set, mark);
-            if (confirm && seen)
+            taken1 |= Vector256.Equals(d1, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
+        }
+
+        uint fresh0 = ~Vector256.ExtractMostSignificantBits(taken0) & 0xFF, fresh1 = ~Vector256.ExtractMostSignificantBits(taken1) & 0xFF;
+        ref uint image = ref MemoryMarshal.GetReference(images[..(1 + DrawnDigits)]); // 1 + 8 + 8 places written at most
+        image = zero;
+        uint count = 1;
+        Avx2.PermuteVar8x32(d0, LeftPackIndices(fresh0)).StoreUnsafe(ref image, count);
+        count += (uint)BitOperations.PopCount(fresh0);
+        Avx2.PermuteVar8x32(d1, LeftPackIndices(fresh1)).StoreUnsafe(ref image, count);
+        return count + (uint)BitOperations.PopCount(fresh1);
+    }
+
+    // The lanes after lane j of eight (row j: all ones in lanes j + 1 … 7).
+    private static ReadOnlySpan<uint> LaterLanes =>
+    [
+        0, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, 0, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, 0, 0, ~0u, ~0u,
+        0, 0, 0, 0, 0, 0, 0, ~0u,
+        0, 0, 0, 0, 0, 0, 0, 0,
+    ];
+
+    // The permute that packs the lanes set in an eight-bit mask to the front, in order: byte l of entry mask is the l-th set
+    // lane (the rest 0).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<uint> LeftPackIndices(uint mask) =>
+        Avx2.ConvertToVector256Int32(Vector128.CreateScalarUnsafe(LeftPack[(int)mask]).AsByte()).AsUInt32();
+
+    private static readonly ulong[] LeftPack = BuildLeftPack();
+
+    private static ulong[] BuildLeftPack()
+    {
+        var table = new ulong[256];
+        for (int mask = 0; mask < 256; mask++)
+        {
+            int at = 0;
+            for (int lane = 0; lane < 8; lane++)
             {
-                seen = false;
-                for (uint j = 0; j < count; j++)
+                if (((mask >> lane) & 1) != 0)
                 {
-                    seen |= Unsafe.Add(ref image, j) == w;
+                    table[mask] |= (ulong)lane << (8 * at++);
                 }
             }
-
-            Unsafe.Add(ref image, count) = w; // below count + draws.Length ≤ images.Length (checked above)
-            set |= mark;
-            count += seen ? 0u : 1u;
         }
 
-        taken = set;
-        return count;
+        return table;
     }
 
-    // Lane l of the 256-bit mark set holds places 32·l … 32·l + 31.
-    private static readonly Vector256<uint> MarkPlaces = Vector256.Create(0u, 32u, 64u, 96u, 128u, 160u, 192u, 224u);
+    // ScanLanes' later rounds: each draw kept at images[count] unless equal to one of the images so far (held in low and
+    // high, b where not yet taken); the new count. Its own method with no call inside, so the registers stay registers.
+    // A draw kept at a place past 15 is written to images but not to the registers: only images up to 15 are read.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static uint KeepScanned(ReadOnlySpan<uint> draws, Span<uint> images, uint count, ref Vector256<uint> low, ref Vector256<uint> high)
+    {
+        Vector256<uint> l = low, h = high;
+        Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+        foreach (uint w in draws)
+        {
+            Vector256<uint> v = Vector256.Create(w);
+            if (Vector256.EqualsAny(l, v) || Vector256.EqualsAny(h, v))
+            {
+                continue;
+            }
+
+            images[(int)count] = w;
+            l = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count)), v, l);
+            h = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count - 8)), v, h);
+            count++;
+        }
+
+        low = l;
+        high = h;
+        return count;
+    }
 
     // ScanImagesForm's scalar form: the taken values in a set of b bits.
     [SkipLocalsInit] // the draws are written before they are read, the set cleared
@@ -692,12 +767,6 @@ public static class RadicalInverse
             }
         }
     }
-
-    // The mark of value w in the 256-bit set of ScanImagesForm: bit w mod 256 (a shift by 32 or more, including the wrapped
-    // negative ones, gives 0).
-    [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector256<uint> Mark(uint w, Vector256<uint> places) =>
-        Avx2.ShiftLeftLogicalVariable(Vector256<uint>.One, Vector256.Create(w & 255) - places);
 
     // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
     private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;
@@ -1043,13 +1112,11 @@ public static class RadicalInverse
                 // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages). The cap at
                 // m − 1 is vminpd: both operands are whole non-negative doubles (no NaN, no −0), where it is the minimum.
                 // Each lane's draw is the low half of its 64-bit word: one lane permute packs the four.
-                Vector256<ulong> laneProducts = Vector256.Create(0UL, 1UL, 2UL, 3UL) * SampleHash.ValueMultiplier;
                 Vector256<double> offset = Vector256.Create(4503599627370496.0);
                 Vector256<double> bd = Vector256.Create((double)b);
                 Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
                 Vector256<ulong> n = Vector256.Create(first) + Vector256.Create(0UL, 1UL, 2UL, 3UL);
-                Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + laneProducts;
-                Vector256<uint> low = Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u);
+                Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + DrawLaneProducts;
                 for (; k + 4 <= draws.Length; k += 4)
                 {
                     if (table)
@@ -1060,9 +1127,7 @@ public static class RadicalInverse
                         top = md - Vector256<double>.One;
                     }
 
-                    Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), scale);
-                    Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
-                    Avx2.PermuteVar8x32(v.AsUInt32(), low).GetLower().CopyTo(draws.Slice(k, 4));
+                    Draw4(positionKey, product, scale, top).CopyTo(draws.Slice(k, 4));
                     product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
                     n += Vector256.Create(4UL);
                 }
@@ -1077,6 +1142,20 @@ public static class RadicalInverse
             }
         }
     }
+
+    // Four draws of DigitMap.FillForm's AVX2 form: the draw numbers' products with Combine's multiplier, m·2^−53 and m − 1
+    // per lane in, ⌊unit(h)·m⌋ capped at m − 1 out (the low half of each 64-bit lane, packed by one permute).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector128<uint> Draw4(ulong positionKey, Vector256<ulong> product, Vector256<double> scale, Vector256<double> top)
+    {
+        Vector256<double> offset = Vector256.Create(4503599627370496.0);
+        Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), scale);
+        Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
+        return Avx2.PermuteVar8x32(v.AsUInt32(), Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u)).GetLower();
+    }
+
+    // l·M for the lanes l = 0 … 3 (M = SampleHash.ValueMultiplier).
+    private static readonly Vector256<ulong> DrawLaneProducts = Vector256.Create(0UL, 1UL, 2UL, 3UL) * SampleHash.ValueMultiplier;
 
     // The fraction u / 2^64 (its top 53 bits, exactly) scaled by b^−length: the permuted zeros above an index of that
     // many digits and everything below them.

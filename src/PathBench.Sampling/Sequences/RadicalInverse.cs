@@ -358,10 +358,12 @@ public static class RadicalInverse
             return false;
         }
 
+        // Below(u, b, 0) and Below(u, b, 1) without the table: b^0 is 1 (a product by 1 is exact) and b^−1 is 1.0 / b.
+        double invBase = 1.0 / b;
         ulong u = ZeroDigits(key);
-        double below0 = Below(u, (int)b, 0);
+        double below0 = Fraction(u);
         uint zero = (uint)Math.BigMul(u, b, out u);
-        double below1 = Below(u, (int)b, 1);
+        double below1 = Fraction(u) * invBase;
         ulong positionKey = SampleHash.Combine(key, 0);
         Span<uint> images = stackalloc uint[FullTableBase];
         if (b <= FullTableBase)
@@ -377,7 +379,6 @@ public static class RadicalInverse
             ScanImages(b, positionKey, zero, last, images);
         }
 
-        double invBase = 1.0 / b;
         if (last < DrawnDigits && Vector512.IsHardwareAccelerated)
         {
             OneDigitLanes(first, images, invBase, below0, below1, xs);
@@ -517,6 +518,10 @@ public static class RadicalInverse
         }
     }
 
+    // Draws DigitMap.Fill makes at once on this machine's lanes (eight on 512-bit ones, else four): FisherYates asks for
+    // whole groups (the scalar tail costs more per draw than a group's unused lanes).
+    private static readonly uint DrawGroup = Generators.Lanes.Best == Generators.LaneWidth.Wide ? 8u : 4u;
+
     // Tables of SmallBaseRun: a short run's positions in a base up to FullTableBase, FullTableBase slots each (base 3: a
     // 32-bit index's 21 positions).
     private const int SmallBaseTables = MaxDigits * FullTableBase;
@@ -534,7 +539,7 @@ public static class RadicalInverse
         }
 
         Span<uint> draws = stackalloc uint[FullTableBase];
-        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + 7) & ~7u)]); // whole groups of eight: the vector form
+        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + DrawGroup - 1) & ~(DrawGroup - 1))]); // whole groups: the vector form
         for (int j = 1; j <= (int)top; j++)
         {
             int r = j + (int)draws[j - 1];
@@ -577,36 +582,188 @@ public static class RadicalInverse
     }
 
     /// <summary>
-    /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the draws sixteen at a time
-    /// (<see cref="DigitMap.Fill"/>), each kept in order when it equals neither z nor an earlier image, the taken values
-    /// held in two eight-lane vectors (the places not yet taken hold b, which no draw equals). The same images.
+    /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the same images. Each round draws as many
+    /// values as images are still missing, rounded up to four (<see cref="DigitMap.Fill"/>), and keeps each draw, in order,
+    /// that equals neither z nor an earlier image; a draw equal to one of them is dropped, so a collision costs one more
+    /// draw, not a round of sixteen. <see cref="ScanImagesForm"/> says how the taken values are held.
+    /// </summary>
+    private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images) =>
+        ScanImagesForm(b, positionKey, zero, last, images, Generators.Lanes.Best);
+
+    /// <summary>
+    /// <see cref="ScanImages"/> on the given lanes (tests run each). With AVX2 (<see cref="Generators.LaneWidth.Narrow"/>
+    /// or <see cref="Generators.LaneWidth.Wide"/>) the first sixteen draws are kept or dropped at once (<see cref="FirstSixteen"/>)
+    /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
+    /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
+    /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
+    /// <see cref="DrawnDigits"/> + 4 places (a round's kept draws past the last image are written).
+    /// </summary>
+    internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
+    {
+        if (width != Generators.LaneWidth.Scalar && Avx2.IsSupported && last > 0)
+        {
+            ScanLanes(b, positionKey, zero, last, images, width);
+        }
+        else
+        {
+            ScanBits(b, positionKey, zero, last, images);
+        }
+    }
+
+    // ScanImagesForm on AVX2.
+    [SkipLocalsInit] // the draws are written before they are read
+    private static void ScanLanes(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
+    {
+        images = images[..(DrawnDigits + 4)];
+        uint count = FirstSixteen(b, positionKey, zero, images);
+        if (count > last)
+        {
+            return;
+        }
+
+        // The images so far in two registers, the places not yet taken holding b (no draw equals it).
+        Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+        Vector256<uint> low = Vector256.ConditionalSelect(Vector256.LessThan(lanes, Vector256.Create(count)), Vector256.Create<uint>(images), Vector256.Create(b));
+        Vector256<uint> high = Vector256.ConditionalSelect(Vector256.LessThan(lanes + Vector256.Create(8u), Vector256.Create(count)), Vector256.Create<uint>(images[8..]), Vector256.Create(b));
+        Span<uint> draws = stackalloc uint[DrawnDigits];
+        for (ulong next = DrawnDigits; count <= last;)
+        {
+            int n = (int)((last + 4 - count) & ~3u);
+            DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
+            next += (ulong)n;
+            count = KeepScanned(draws[..n], images, count, ref low, ref high);
+        }
+    }
+
+    /// <summary>
+    /// Draws 0 … 15 of a large base (m = b: <see cref="DigitMap.Fill"/>'s values, made here in registers) kept in order
+    /// after z where neither z nor an earlier draw equals them: z into images[0], the kept draws after it; the count of
+    /// images. All sixteen at once: each draw j (broadcast) against the lanes after it (a constant lane mask per j), the
+    /// fresh lanes packed to the front of each eight-lane half by a permute from a table of the 256 masks.
     /// </summary>
     [SkipLocalsInit] // the draws are written before they are read
-    private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    private static uint FirstSixteen(uint b, ulong positionKey, uint zero, Span<uint> images)
     {
         Span<uint> draws = stackalloc uint[DrawnDigits];
+        Vector256<double> bd = Vector256.Create((double)b);
+        Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+        Vector256<ulong> product = DrawLaneProducts, step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+        Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, scale, top), Draw4(positionKey, product + step, scale, top));
+        Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), scale, top), Draw4(positionKey, product + (step + step + step), scale, top));
+        d0.StoreUnsafe(ref MemoryMarshal.GetReference(draws));
+        d1.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 8);
+        Vector256<uint> z = Vector256.Create(zero);
+        Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z);
+        ref uint later = ref MemoryMarshal.GetReference(LaterLanes);
+        for (int j = 0; j < 8; j++)
+        {
+            Vector256<uint> w = Vector256.Create(draws[j]);
+            taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+            taken1 |= Vector256.Equals(d1, w);
+        }
+
+        for (int j = 8; j < DrawnDigits - 1; j++)
+        {
+            taken1 |= Vector256.Equals(d1, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
+        }
+
+        uint fresh0 = ~Vector256.ExtractMostSignificantBits(taken0) & 0xFF, fresh1 = ~Vector256.ExtractMostSignificantBits(taken1) & 0xFF;
+        ref uint image = ref MemoryMarshal.GetReference(images[..(1 + DrawnDigits)]); // 1 + 8 + 8 places written at most
+        image = zero;
+        uint count = 1;
+        Avx2.PermuteVar8x32(d0, LeftPackIndices(fresh0)).StoreUnsafe(ref image, count);
+        count += (uint)BitOperations.PopCount(fresh0);
+        Avx2.PermuteVar8x32(d1, LeftPackIndices(fresh1)).StoreUnsafe(ref image, count);
+        return count + (uint)BitOperations.PopCount(fresh1);
+    }
+
+    // The lanes after lane j of eight (row j: all ones in lanes j + 1 … 7).
+    private static ReadOnlySpan<uint> LaterLanes =>
+    [
+        0, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, ~0u, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, ~0u, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, ~0u, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, 0, ~0u, ~0u, ~0u,
+        0, 0, 0, 0, 0, 0, ~0u, ~0u,
+        0, 0, 0, 0, 0, 0, 0, ~0u,
+        0, 0, 0, 0, 0, 0, 0, 0,
+    ];
+
+    // The permute that packs the lanes set in an eight-bit mask to the front, in order: byte l of entry mask is the l-th set
+    // lane (the rest 0).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<uint> LeftPackIndices(uint mask) =>
+        Avx2.ConvertToVector256Int32(Vector128.CreateScalarUnsafe(LeftPack[(int)mask]).AsByte()).AsUInt32();
+
+    private static readonly ulong[] LeftPack = BuildLeftPack();
+
+    private static ulong[] BuildLeftPack()
+    {
+        var table = new ulong[256];
+        for (int mask = 0; mask < 256; mask++)
+        {
+            int at = 0;
+            for (int lane = 0; lane < 8; lane++)
+            {
+                if (((mask >> lane) & 1) != 0)
+                {
+                    table[mask] |= (ulong)lane << (8 * at++);
+                }
+            }
+        }
+
+        return table;
+    }
+
+    // ScanLanes' later rounds: each draw kept at images[count] unless equal to one of the images so far (held in low and
+    // high, b where not yet taken); the new count. Its own method with no call inside, so the registers stay registers.
+    // A draw kept at a place past 15 is written to images but not to the registers: only images up to 15 are read.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static uint KeepScanned(ReadOnlySpan<uint> draws, Span<uint> images, uint count, ref Vector256<uint> low, ref Vector256<uint> high)
+    {
+        Vector256<uint> l = low, h = high;
         Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-        Vector256<uint> low = Vector256.Create(b).WithElement(0, zero), high = Vector256.Create(b);
+        foreach (uint w in draws)
+        {
+            Vector256<uint> v = Vector256.Create(w);
+            if (Vector256.EqualsAny(l, v) || Vector256.EqualsAny(h, v))
+            {
+                continue;
+            }
+
+            images[(int)count] = w;
+            l = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count)), v, l);
+            h = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count - 8)), v, h);
+            count++;
+        }
+
+        low = l;
+        high = h;
+        return count;
+    }
+
+    // ScanImagesForm's scalar form: the taken values in a set of b bits.
+    [SkipLocalsInit] // the draws are written before they are read, the set cleared
+    private static void ScanBits(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
+    {
+        Span<uint> draws = stackalloc uint[DrawnDigits];
+        Span<ulong> set = stackalloc ulong[(int)((b + 63) / 64)];
+        set.Clear();
+        set[(int)(zero >> 6)] |= 1UL << (int)zero;
         images[0] = zero;
         uint count = 1;
-        for (ulong next = 0; ; next += DrawnDigits)
+        for (ulong next = 0; count <= last;)
         {
-            DigitMap.Fill(positionKey, b, false, next, draws);
-            foreach (uint w in draws)
+            int n = (int)((last + 4 - count) & ~3u);
+            DigitMap.FillForm(positionKey, b, false, next, draws[..n], Generators.LaneWidth.Scalar);
+            next += (ulong)n;
+            foreach (uint w in draws[..n])
             {
-                Vector256<uint> v = Vector256.Create(w);
-                if (Vector256.EqualsAny(low, v) || Vector256.EqualsAny(high, v))
-                {
-                    continue;
-                }
-
+                ulong word = set[(int)(w >> 6)], bit = 1UL << (int)w;
                 images[(int)count] = w;
-                low = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count)), v, low);
-                high = Vector256.ConditionalSelect(Vector256.Equals(lanes, Vector256.Create(count - 8)), v, high);
-                if (++count > last)
-                {
-                    return;
-                }
+                set[(int)(w >> 6)] = word | bit;
+                count += (word & bit) != 0 ? 0u : 1u;
             }
         }
     }
@@ -950,28 +1107,29 @@ public static class RadicalInverse
             }
             else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
             {
-                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h) by Unit4 (exact), m (below 2^32)
-                // and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset; the same doubles.
-                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages).
-                Vector256<ulong> lane = Vector256.Create(0UL, 1UL, 2UL, 3UL);
-                Vector256<ulong> laneProducts = lane * SampleHash.ValueMultiplier;
-                Vector256<ulong> vb = Vector256.Create((ulong)b);
+                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h)·m by Unit4Times (the same
+                // double), m (below 2^32) and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset.
+                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages). The cap at
+                // m − 1 is vminpd: both operands are whole non-negative doubles (no NaN, no −0), where it is the minimum.
+                // Each lane's draw is the low half of its 64-bit word: one lane permute packs the four.
                 Vector256<double> offset = Vector256.Create(4503599627370496.0);
+                Vector256<double> bd = Vector256.Create((double)b);
+                Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+                Vector256<ulong> n = Vector256.Create(first) + Vector256.Create(0UL, 1UL, 2UL, 3UL);
+                Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + DrawLaneProducts;
                 for (; k + 4 <= draws.Length; k += 4)
                 {
-                    ulong start = first + (ulong)k;
-                    Vector256<ulong> m = vb;
                     if (table)
                     {
-                        Vector256<ulong> n = Vector256.Create(start) + lane;
-                        m = Vector256.ConditionalSelect(Vector256.LessThan(n, vb), vb - n, Vector256<ulong>.One);
+                        // m = b − n while n < b (then n is below 2^32, exact through the offset), else 1.
+                        Vector256<double> md = Vector256.ConditionalSelect(Vector256.LessThan(n, Vector256.Create((ulong)b)).AsDouble(), bd - (n | offset.AsUInt64()).AsDouble() + offset, Vector256<double>.One);
+                        scale = md * Vector256.Create(1.0 / 9007199254740992.0);
+                        top = md - Vector256<double>.One;
                     }
 
-                    Vector256<double> md = (m | offset.AsUInt64()).AsDouble() - offset;
-                    Vector256<ulong> product = Vector256.Create(unchecked(start * SampleHash.ValueMultiplier)) + laneProducts;
-                    Vector256<double> x = SampleHash.Unit4(SampleHash.Combine4Premultiplied(positionKey, product)) * md;
-                    Vector256<ulong> v = (Vector256.Min(Vector256.Floor(x), md - Vector256<double>.One) + offset).AsUInt64();
-                    Vector256.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 4));
+                    Draw4(positionKey, product, scale, top).CopyTo(draws.Slice(k, 4));
+                    product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+                    n += Vector256.Create(4UL);
                 }
             }
 
@@ -985,10 +1143,28 @@ public static class RadicalInverse
         }
     }
 
+    // Four draws of DigitMap.FillForm's AVX2 form: the draw numbers' products with Combine's multiplier, m·2^−53 and m − 1
+    // per lane in, ⌊unit(h)·m⌋ capped at m − 1 out (the low half of each 64-bit lane, packed by one permute).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector128<uint> Draw4(ulong positionKey, Vector256<ulong> product, Vector256<double> scale, Vector256<double> top)
+    {
+        Vector256<double> offset = Vector256.Create(4503599627370496.0);
+        Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), scale);
+        Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
+        return Avx2.PermuteVar8x32(v.AsUInt32(), Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u)).GetLower();
+    }
+
+    // l·M for the lanes l = 0 … 3 (M = SampleHash.ValueMultiplier).
+    private static readonly Vector256<ulong> DrawLaneProducts = Vector256.Create(0UL, 1UL, 2UL, 3UL) * SampleHash.ValueMultiplier;
+
     // The fraction u / 2^64 (its top 53 bits, exactly) scaled by b^−length: the permuted zeros above an index of that
     // many digits and everything below them.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static double Below(ulong u, int b, int length) => (u >> 11) * (1.0 / 9007199254740992.0) * InversePower(b, length);
+    private static double Below(ulong u, int b, int length) => Fraction(u) * InversePower(b, length);
+
+    // The top 53 bits of u scaled by 2^−53 (exact; converted as a signed integer, which they fit: one instruction).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static double Fraction(ulong u) => (long)(u >> 11) * (1.0 / 9007199254740992.0);
 
     // The base-2 form: a permutation of {0, 1} per position is an xor with a random bit, so the digits of all 32
     // positions (and the 21 bits below them) are one xor with a 64-bit hash.
@@ -1001,6 +1177,7 @@ public static class RadicalInverse
     private static readonly double[][] PowersOfBase = BuildPowers();
     private static readonly int[] PowerSlot = BuildPowerSlots();
 
+    [MethodImpl(InliningOptions.ShortMethod)]
     private static double InversePower(int b, int k)
     {
         int slot = PowerSlot[b];

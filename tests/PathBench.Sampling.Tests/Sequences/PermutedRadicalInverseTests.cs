@@ -112,6 +112,40 @@ public sealed class PermutedRadicalInverseTests
     }
 
     /// <summary>
+    /// A large base's drawn images as the short runs make them without conflict detection (<c>ScanImagesForm</c>: the
+    /// 256-bit mark set on the AVX2 forms, exact up to b = 256 and confirmed above, and the scalar bit set) equal the
+    /// one-point reference's (<c>DigitMap.Image</c>: redraw while taken), for every last digit 1 … 15: bases just above the
+    /// Fisher–Yates table (many redraws), around 256 (the mark set's limit: 251, 257, 263), a base whose values wrap the
+    /// marks several times (1031) and the largest; keys from a fixed hash (common practice).
+    /// </summary>
+    [Fact]
+    public void Large_base_images_equal_the_reference_on_every_lane_form()
+    {
+        int[] bases = [67, 71, 131, 251, 257, 263, 1031, 8161];
+        Span<uint> storage = stackalloc uint[RadicalInverse.DigitMap.StorageLength];
+        var images = new uint[RadicalInverse.FullTableBase];
+        foreach (int b in bases)
+        {
+            for (ulong k = 0; k < 400; k++)
+            {
+                ulong positionKey = SampleHash.Mix64(k + ((ulong)b << 28));
+                uint zero = (uint)(SampleHash.Mix64(positionKey) % (ulong)b);
+                uint last = 1 + (uint)(k % 15);
+                var map = new RadicalInverse.DigitMap((uint)b, positionKey, zero, storage);
+                foreach (LaneWidth width in new[] { LaneWidth.Scalar, LaneWidth.Narrow, LaneWidth.Wide })
+                {
+                    Array.Fill(images, uint.MaxValue);
+                    RadicalInverse.ScanImagesForm((uint)b, positionKey, zero, last, images, width);
+                    for (uint j = 0; j <= last; j++)
+                    {
+                        Assert.True(map.Image(j) == images[j], $"b={b} key={positionKey:x} last={last} digit {j} {width}: {images[j]} vs {map.Image(j)}");
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
     /// The first b^m points fall one in each interval [j·b^−m, (j+1)·b^−m): each position's digit map is a bijection and
     /// the zeros above an index's leading digit go through the same maps (Braaten &amp; Weller 1979; Owen 1995, the
     /// stratification that random digit permutations keep). Checked through the batch form.

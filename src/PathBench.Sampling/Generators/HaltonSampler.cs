@@ -48,10 +48,10 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
                 RadicalInverse.PermutedBatch(firstIndex, b, SampleHash.Combine(pixel ^ Salts.DigitPermutation, (ulong)dimension), xs);
                 return;
             case Randomization.CranleyPatterson:
-                RadicalInverse.PlainBatch(firstIndex, b, xs, true, PointRandomizations.RotationOffset(pixel, dimension));
+                RadicalInverse.PlainBatchForm(firstIndex, b, xs, true, PointRandomizations.RotationOffset(pixel, dimension), Width);
                 return;
             default:
-                RadicalInverse.PlainBatch(firstIndex, b, xs);
+                RadicalInverse.PlainBatchForm(firstIndex, b, xs, false, 0, Width);
                 return;
         }
     }
@@ -88,7 +88,7 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
         double offset = rotate ? PointRandomizations.RotationOffset(pixel, dimension) : 0;
         if (dimension != 0)
         {
-            RadicalInverse.PlainBatch(firstIndex, RadicalInverse.Primes[dimension - 1], xs, rotate, offset);
+            RadicalInverse.PlainBatchForm(firstIndex, RadicalInverse.Primes[dimension - 1], xs, rotate, offset, Width);
             return;
         }
 

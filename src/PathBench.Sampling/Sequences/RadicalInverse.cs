@@ -87,7 +87,11 @@ public static class RadicalInverse
     }
 
     // PlainBatch's lanes, TLanes.Count at a time: per lane the scalar loop's integers held exactly in doubles, a lane
-    // stepping only while its index is not yet 0, then the one division and the rotation.
+    // stepping only while its index is not yet 0, then the one division and the rotation. Its own method: inlined into a
+    // sampler's batch (dynamic PGO inlined the whole chain into Hammersley's Sample2DBatch, both dimensions' SampleBatch),
+    // the lane steps ran out of the JIT's inlining budget and stayed four calls a quad, their vectors passed through
+    // memory (seen with DOTNET_JitDisasm).
+    [MethodImpl(MethodImplOptions.NoInlining)]
     private static void PlainLanes<TLanes, TVector>(uint first, int b, Span<double> xs, bool rotate, double offset)
         where TLanes : struct, IRadixLanes<TVector>
         where TVector : struct

@@ -100,6 +100,7 @@ public sealed class BatchTests
         { "sobol", "digital-shift", 2 }, { "halton", "digit-permutation", 0 }, { "random", "none", 4 },
         { "sobol", "none", 0 }, { "sobol", "cranley-patterson", 5 }, { "bluenoise", "none", 0 }, { "bluenoise", "owen", 3 },
         { "bluenoise", "owen", 30 }, { "lattice", "cranley-patterson", 7 }, { "hammersley", "none", 0 },
+        { "hammersley", "cranley-patterson", 3 }, { "halton", "none", 2 }, { "halton", "cranley-patterson", 9 },
     };
 
     [Theory]
@@ -155,6 +156,28 @@ public sealed class BatchTests
             PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, count, 5), 12);
             s.Width = width;
             BatchesEqualPoints(s, generator + " " + width);
+        }
+    }
+
+    /// <summary>
+    /// The plain radical-inverse batches of Hammersley (its first coordinate i / n among them) and Halton, with and without
+    /// a Cranley–Patterson rotation, at each lane width (<see cref="LaneWidth"/>; a width without the hardware runs in
+    /// software, with the same bits), against their one-point forms.
+    /// </summary>
+    [Theory]
+    [InlineData("hammersley", "none", 40)]
+    [InlineData("hammersley", "cranley-patterson", 40)]
+    [InlineData("hammersley", "none", 256)]
+    [InlineData("hammersley", "cranley-patterson", 7)]
+    [InlineData("halton", "none", 40)]
+    [InlineData("halton", "cranley-patterson", 256)]
+    public void Radical_inverse_batches_equal_their_points_at_every_lane_width(string generator, string randomize, int count)
+    {
+        foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow, LaneWidth.Scalar })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, SamplerCatalog.ParseRandomization(randomize).Kind, false, count, 5), 12);
+            s.Width = width;
+            BatchesEqualPoints(s, generator + "/" + randomize + " " + width);
         }
     }
 

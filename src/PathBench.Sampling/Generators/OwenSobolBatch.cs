@@ -126,7 +126,12 @@ internal static class OwenSobolBatch
         return xs.Length;
     }
 
-    private static Vector256<uint> Lane => Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+    // ShortMethod as a property getter: the JIT may otherwise leave it a call in a block the profile says is cold.
+    private static Vector256<uint> Lane
+    {
+        [MethodImpl(InliningOptions.ShortMethod)]
+        get => Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
+    }
 
     // T(s) from a dimension's natural byte tables: the scalar SobolMatrices.Sample's four lookups.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -232,13 +237,37 @@ internal static class OwenSobolBatch
     /// with the scalar code's operations. Returns false, writing nothing, without AVX2 or for a single point (which the
     /// scalar code makes in less time).
     /// </summary>
-    public static unsafe bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, TableScramble scramble, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static bool TableRun(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, TableScramble scramble, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
             return false;
         }
 
+        // One kernel per randomization, each with its own code and profile: one kernel for all three was compiled by the
+        // profile of whichever the process ran first, its other branches laid out as cold.
+        switch (scramble)
+        {
+            case TableScramble.None:
+                TableLanes<Bare>(tableX, tableY, first, seedX, seedY, xs, ys);
+                break;
+            case TableScramble.Xor:
+                TableLanes<Shifted>(tableX, tableY, first, seedX, seedY, xs, ys);
+                break;
+            default:
+                TableLanes<Nested>(tableX, tableY, first, seedX, seedY, xs, ys);
+                break;
+        }
+
+        return true;
+    }
+
+    // TableRun's kernels: TScramble is Bare, Shifted or Nested (TableScramble's None, Xor and Owen), fixed per instantiation.
+    [MethodImpl(InliningOptions.Kernel)]
+    private static unsafe void TableLanes<TScramble>(ReadOnlySpan<uint> tableX, ReadOnlySpan<uint> tableY, int first, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+        where TScramble : struct
+    {
         ReadOnlySpan<uint> runX = tableX.Slice(first, xs.Length), runY = tableY.Slice(first, ys.Length);
         Vector256<uint> sx = Vector256.Create(seedX), sy = Vector256.Create(seedY);
         Vector256<uint> lane = Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7);
@@ -251,12 +280,12 @@ internal static class OwenSobolBatch
                 Vector256<uint> mask = Vector256.LessThan(lane, Vector256.Create((uint)(xs.Length - i)));
                 Vector256<uint> x = Avx2.MaskLoad(tx + i, mask), y = Avx2.MaskLoad(ty + i, mask);
                 int left = xs.Length - i;
-                if (scramble == TableScramble.None)
+                if (typeof(TScramble) == typeof(Bare))
                 {
                     Store(Unit(x), px + i, left);
                     Store(Unit(y), py + i, left);
                 }
-                else if (scramble == TableScramble.Xor)
+                else if (typeof(TScramble) == typeof(Shifted))
                 {
                     Store(ToDoubles(x ^ sx), px + i, left);
                     Store(ToDoubles(y ^ sy), py + i, left);
@@ -275,9 +304,13 @@ internal static class OwenSobolBatch
                 }
             }
         }
-
-        return true;
     }
+
+    private readonly struct Bare;
+
+    private readonly struct Shifted;
+
+    private readonly struct Nested;
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector256<uint> Scrambled(Vector256<uint> x, Scramble scramble)

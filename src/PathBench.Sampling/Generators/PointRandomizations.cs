@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -22,6 +23,7 @@ public static class PointRandomizations
     public static double RotationOffset(ulong pixel, int dimension) => SampleHash.Uniform(pixel ^ Salts.Rotation, 0, dimension);
 
     /// <summary><paramref name="x"/> shifted by <paramref name="offset"/> (from <see cref="RotationOffset"/>) on the torus [0, 1).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
     public static double Rotate(double x, double offset)
     {
         // s − 1 or s − 0 (exact, the same bits as s): a flag rather than a branch, which points would mispredict half the time.

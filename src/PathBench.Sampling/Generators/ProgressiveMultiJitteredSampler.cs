@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
@@ -143,7 +144,9 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Each pixel starts the pairs at its own table, so pixels do not share one pattern per pair.
+    // Each pixel starts the pairs at its own table, so pixels do not share one pattern per pair. Forced inline: a block the
+    // profile of another randomization calls cold would otherwise keep it a call.
+    [MethodImpl(InliningOptions.ShortMethod)]
     private ProgressiveMultiJittered Rotated(ulong pixel, int pair)
     {
         uint rotation = (uint)(pixel >> 40) % TableCount;
@@ -167,7 +170,7 @@ public sealed class ProgressiveMultiJitteredSampler : PairedPointSampler
         return ((x + 0.5) * Scale, (y + 0.5) * Scale);
     }
 
-    [System.Runtime.CompilerServices.MethodImpl(InliningOptions.ColdPath)]
+    [MethodImpl(InliningOptions.ColdPath)]
     private static void ThrowPastEnd(uint index) =>
         throw new ArgumentOutOfRangeException(nameof(index), index, $"progressive multi-jittered sequences hold {MaxPoints} points");
 }

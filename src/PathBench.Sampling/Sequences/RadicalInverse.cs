@@ -150,6 +150,7 @@ public static class RadicalInverse
         [MethodImpl(InliningOptions.ShortMethod)]
         public static void Store(Vector512<double> x, Span<double> destination) => Generators.Lanes.Store(x, destination);
 
+        [MethodImpl(InliningOptions.ShortMethod)]
         private static Vector512<double> Wrap(Vector512<double> s) => s - (Vector512.GreaterThanOrEqual(s, Vector512<double>.One) & Vector512<double>.One);
     }
 
@@ -195,6 +196,7 @@ public static class RadicalInverse
             }
         }
 
+        [MethodImpl(InliningOptions.ShortMethod)]
         private static Vector256<double> Wrap(Vector256<double> s) => s - (Vector256.GreaterThanOrEqual(s, Vector256<double>.One) & Vector256<double>.One);
     }
 

@@ -10,12 +10,11 @@ namespace PathBench.Sampling.Tests.Hashing;
 /// </summary>
 public sealed class SampleHashLaneTests
 {
-    [Fact]
+    [Avx2Fact]
     public void Eight_uniforms_equal_the_scalar_uniforms()
     {
         // 2,000 (key, first index, dimension) triples from a fixed hash (seed written here: 0x1A4E), indices that wrap
-        // past 2^32 − 1 among them, dimensions up to 2^31 − 1. The 256-bit form needs AVX2 (both project machines have it).
-        Assert.True(System.Runtime.Intrinsics.X86.Avx2.IsSupported, "the 256-bit form needs AVX2");
+        // past 2^32 − 1 among them, dimensions up to 2^31 − 1. The 256-bit form needs AVX2 (skipped without it).
         for (int trial = 0; trial < 2000; trial++)
         {
             ulong key = SampleHash.Mix64(0x1A4EUL + (ulong)trial);
@@ -35,11 +34,10 @@ public sealed class SampleHashLaneTests
         }
     }
 
-    [Fact]
+    [Avx2Fact]
     public void Products_on_256_bit_lanes_equal_the_64_bit_products()
     {
         // x·c modulo 2^64 from 32-bit products: operands with every half zero, all ones, or from a fixed hash (common practice).
-        Assert.True(System.Runtime.Intrinsics.X86.Avx2.IsSupported, "the 256-bit form needs AVX2 (both project machines have it)");
         ulong[] edge = [0, 1, 0xFFFFFFFF, 0x100000000, ulong.MaxValue, 0xFFFFFFFF00000000, SampleHash.ValueMultiplier];
         var values = edge.Concat(Enumerable.Range(0, 200).Select(i => SampleHash.Mix64((ulong)i))).ToArray();
         foreach (ulong c in values)

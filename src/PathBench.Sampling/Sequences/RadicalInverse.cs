@@ -91,7 +91,7 @@ public static class RadicalInverse
     // sampler's batch (dynamic PGO inlined the whole chain into Hammersley's Sample2DBatch, both dimensions' SampleBatch),
     // the lane steps ran out of the JIT's inlining budget and stayed four calls a quad, their vectors passed through
     // memory (seen with DOTNET_JitDisasm).
-    [MethodImpl(MethodImplOptions.NoInlining)]
+    [MethodImpl(InliningOptions.Kernel)]
     private static void PlainLanes<TLanes, TVector>(uint first, int b, Span<double> xs, bool rotate, double offset)
         where TLanes : struct, IRadixLanes<TVector>
         where TVector : struct

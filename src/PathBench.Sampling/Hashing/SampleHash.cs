@@ -196,9 +196,10 @@ public static class SampleHash
     public static Vector256<ulong> MultiplyLow4(Vector256<ulong> x, ulong c)
     {
         Vector256<uint> low = Vector256.Create((ulong)(uint)c).AsUInt32();
-        Vector256<uint> high = Vector256.Create(c >> 32).AsUInt32();
-        Vector256<ulong> cross = Avx2.Multiply((x >>> 32).AsUInt32(), low) + Avx2.Multiply(x.AsUInt32(), high);
-        return Avx2.Multiply(x.AsUInt32(), low) + (cross << 32);
+        Vector256<uint> swapped = Vector256.Create((c >> 32) | (c << 32)).AsUInt32();
+        Vector256<ulong> t = (x.AsUInt32() * swapped).AsUInt64();
+        Vector256<ulong> cross = (t << 32) + (t & Vector256.Create(0xFFFFFFFF00000000UL));
+        return Avx2.Multiply(x.AsUInt32(), low) + cross;
     }
 
     /// <summary>

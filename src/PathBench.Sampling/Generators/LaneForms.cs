@@ -1,3 +1,4 @@
+using System.Diagnostics;
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
@@ -16,7 +17,7 @@ namespace PathBench.Sampling.Generators;
 internal interface ILaneForm<TDoubles>
     where TDoubles : struct
 {
-    /// <summary>The lanes as doubles (exact).</summary>
+    /// <summary>The lanes, each below 2^31 (a Kensler image, stratum, row or column of a set of at most int.MaxValue points), as doubles (exact).</summary>
     static abstract TDoubles ToDouble(Vector256<uint> v);
 
     /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
@@ -73,10 +74,7 @@ internal readonly record struct Doubles8(Vector256<double> Low, Vector256<double
 /// </summary>
 internal readonly struct NarrowLanes : ILaneForm<Doubles8>
 {
-    /// <summary>
-    /// Each 32-bit lane v as a double: v − 2^31 as a signed integer (the top bit flipped) converted exactly (vcvtdq2pd),
-    /// plus 2^31, exact (an integer below 2^32).
-    /// </summary>
+    /// <summary>Each lane (below 2^31, so the same as a signed integer) as a double: vcvtdq2pd, exact.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 ToDouble(Vector256<uint> v)
     {
@@ -87,9 +85,9 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
                 Vector256.ConvertToDouble(Vector256.WidenUpper(v)));
         }
 
-        Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> bias = Vector256.Create(2147483648.0);
-        return new Doubles8(Avx.ConvertToVector256Double(signed.GetLower()) + bias, Avx.ConvertToVector256Double(signed.GetUpper()) + bias);
+        Debug.Assert(Vector256.LessThanAll(v, Vector256.Create(0x80000000u)), "lanes below 2^31");
+        Vector256<int> signed = v.AsInt32();
+        return new Doubles8(Avx.ConvertToVector256Double(signed.GetLower()), Avx.ConvertToVector256Double(signed.GetUpper()));
     }
 
     /// <summary>
@@ -122,7 +120,7 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     {
         if (BitOperations.IsPow2(divisor))
         {
-            Vector256<double> r = Vector256.Create(1.0 / divisor);
+            Vector256<double> r = Vector256.Create(Lanes.Reciprocal(divisor));
             return new Doubles8(x.Low * r, x.High * r);
         }
 

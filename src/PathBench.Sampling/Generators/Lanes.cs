@@ -88,7 +88,15 @@ internal static class Lanes
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Over(Vector512<double> x, int divisor) =>
-        BitOperations.IsPow2(divisor) ? x * Vector512.Create(1.0 / divisor) : x / Vector512.Create((double)divisor);
+        BitOperations.IsPow2(divisor) ? x * Vector512.Create(Reciprocal(divisor)) : x / Vector512.Create((double)divisor);
+
+    /// <summary>
+    /// 1 / <paramref name="powerOfTwo"/> (2^k, k ≤ 30) built from its exponent bits (2^-k: biased exponent 1023 − k, zero
+    /// significand): the double 1.0 / 2^k is, without a division in the batch's code (the divisor is a field, not a constant).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static double Reciprocal(int powerOfTwo) =>
+        BitConverter.Int64BitsToDouble((long)(1023 - BitOperations.Log2((uint)powerOfTwo)) << 52);
 
     /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

@@ -23,6 +23,12 @@ internal interface ILaneForm<TDoubles>
     /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
     static abstract TDoubles Uniform(ulong key, Vector256<uint> index, int dimension);
 
+    /// <summary>
+    /// <see cref="SampleHash.Uniform"/>(key, first + k, dimension) in lane k: a run of indices (inside a set of at most
+    /// int.MaxValue points, so first + 7 does not wrap); the stored lanes equal <see cref="Uniform"/> of <see cref="Lanes.Run"/>.
+    /// </summary>
+    static abstract TDoubles UniformRun(ulong key, uint first, int dimension);
+
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
 
@@ -47,6 +53,9 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Uniform(ulong key, Vector256<uint> index, int dimension) => SampleHash.Uniform8(key, index, dimension);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> UniformRun(ulong key, uint first, int dimension) => SampleHash.Uniform8(key, Lanes.Run(first, Lanes.Count), dimension);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
@@ -112,6 +121,26 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         return new Doubles8(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
     }
 
+    /// <remarks>
+    /// The hash's input of lane k is v + k with v = dimension·2^32 + first (no carry into the dimension), so its product with
+    /// <see cref="SampleHash.ValueMultiplier"/> M is v·M + k·M modulo 2^64: one scalar product a run and one addition a
+    /// half, where <see cref="Uniform"/> multiplies each lane's index.
+    /// </remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 UniformRun(ulong key, uint first, int dimension)
+    {
+        if (!Avx2.IsSupported)
+        {
+            return Uniform(key, Lanes.Run(first, Lanes.Count), dimension);
+        }
+
+        const ulong M = SampleHash.ValueMultiplier;
+        Vector256<ulong> product = Vector256.Create((((ulong)(uint)dimension << 32) | first) * M);
+        Vector256<ulong> low = product + Vector256.Create(0, M, unchecked(2 * M), unchecked(3 * M));
+        Vector256<ulong> high = product + Vector256.Create(unchecked(4 * M), unchecked(5 * M), unchecked(6 * M), unchecked(7 * M));
+        return new Doubles8(SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, low)), SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, high)));
+    }
+
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
 
@@ -173,9 +202,11 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         }
     }
 
+    /// <remarks>As <see cref="Lanes.Clamp"/>: vminpd against the largest double below 1.</remarks>
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector256<double> Clamp(Vector256<double> x) =>
-        Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
+        Avx.IsSupported ? Avx.Min(x, Vector256.Create(UnitInterval.BelowOne))
+        : Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
 
     [MethodImpl(InliningOptions.ColdPath)]
     private static Vector256<double> Scalar4(ulong key, Vector256<uint> index, int from, int dimension) => Vector256.Create(

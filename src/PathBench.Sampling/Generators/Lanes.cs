@@ -1,6 +1,7 @@
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 
 namespace PathBench.Sampling.Generators;
 
@@ -98,10 +99,14 @@ internal static class Lanes
     public static double Reciprocal(int powerOfTwo) =>
         BitConverter.Int64BitsToDouble((long)(1023 - BitOperations.Log2((uint)powerOfTwo)) << 52);
 
-    /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
+    /// <summary>
+    /// <see cref="UnitInterval.Clamp"/> per lane: min(x, <see cref="UnitInterval.BelowOne"/>) (vminpd, which returns its second
+    /// operand where x is NaN, as the scalar comparison does) is x where x &lt; 1 and the largest double below 1 elsewhere.
+    /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Clamp(Vector512<double> x) =>
-        Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
+        Avx512F.IsSupported ? Avx512F.Min(x, Vector512.Create(UnitInterval.BelowOne))
+        : Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
 
     /// <summary>The first <c>destination.Length</c> (at most eight) lanes into <paramref name="destination"/>.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

@@ -1,6 +1,7 @@
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
+using PathBench.Sampling.Hashing;
 using System.Runtime.Intrinsics.X86;
 
 namespace PathBench.Sampling.Generators;
@@ -40,6 +41,26 @@ internal static class Lanes
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector256<uint> Run(uint first, int n) =>
         Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
+
+    /// <summary>
+    /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
+    /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
+    /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
+    /// (<see cref="KenslerPermutation.Permute16"/>), else eight 32-bit lanes a walk.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p)
+    {
+        if (l <= KenslerPermutation.ShortLength)
+        {
+            Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
+            Vector256<ushort> image = KenslerPermutation.Permute16(Vector256.Create((ushort)first) + Vector256.Min(lane, Vector256.Create((ushort)(n - 1))), l, p);
+            return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
+        }
+
+        Vector256<uint> low = KenslerPermutation.Permute8(Run(first, Math.Min(n, Count)), l, p);
+        return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count), l, p) : low);
+    }
 
     /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

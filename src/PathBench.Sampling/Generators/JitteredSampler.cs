@@ -102,21 +102,21 @@ public sealed class JitteredSampler : PointSampler
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
             (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-            TForm.Store(Coordinates8<TForm, TDoubles>(pixel, index, dimension, row, column), xs.Slice(at, n));
+            TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension, row, column), xs.Slice(at, n));
             if (!ys.IsEmpty)
             {
-                TForm.Store(Coordinates8<TForm, TDoubles>(pixel, index, dimension + 1, row, column), ys.Slice(at, n));
+                TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension + 1, row, column), ys.Slice(at, n));
             }
         }
     }
 
     // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Coordinates8<TForm, TDoubles>(ulong pixel, Vector256<uint> index, int dimension, Vector256<uint> row, Vector256<uint> column)
+    private TDoubles Coordinates8<TForm, TDoubles>(ulong pixel, uint first, int dimension, Vector256<uint> row, Vector256<uint> column)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        TDoubles jitter = TForm.Uniform(pixel ^ Salts.Jitter, index, dimension);
+        TDoubles jitter = TForm.UniformRun(pixel ^ Salts.Jitter, first, dimension);
         TDoubles x = (dimension & 1) == 0
             ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
             : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);

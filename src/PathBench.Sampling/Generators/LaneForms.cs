@@ -1,3 +1,4 @@
+using System.Diagnostics;
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
@@ -16,11 +17,17 @@ namespace PathBench.Sampling.Generators;
 internal interface ILaneForm<TDoubles>
     where TDoubles : struct
 {
-    /// <summary>The lanes as doubles (exact).</summary>
+    /// <summary>The lanes, each below 2^31 (a Kensler image, stratum, row or column of a set of at most int.MaxValue points), as doubles (exact).</summary>
     static abstract TDoubles ToDouble(Vector256<uint> v);
 
     /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
     static abstract TDoubles Uniform(ulong key, Vector256<uint> index, int dimension);
+
+    /// <summary>
+    /// <see cref="SampleHash.Uniform"/>(key, first + k, dimension) in lane k: a run of indices (inside a set of at most
+    /// int.MaxValue points, so first + 7 does not wrap); the stored lanes equal <see cref="Uniform"/> of <see cref="Lanes.Run"/>.
+    /// </summary>
+    static abstract TDoubles UniformRun(ulong key, uint first, int dimension);
 
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
@@ -48,6 +55,9 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
     public static Vector512<double> Uniform(ulong key, Vector256<uint> index, int dimension) => SampleHash.Uniform8(key, index, dimension);
 
     [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> UniformRun(ulong key, uint first, int dimension) => SampleHash.Uniform8(key, Lanes.Run(first, Lanes.Count), dimension);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
 
     [MethodImpl(InliningOptions.ShortMethod)]
@@ -73,10 +83,7 @@ internal readonly record struct Doubles8(Vector256<double> Low, Vector256<double
 /// </summary>
 internal readonly struct NarrowLanes : ILaneForm<Doubles8>
 {
-    /// <summary>
-    /// Each 32-bit lane v as a double: v − 2^31 as a signed integer (the top bit flipped) converted exactly (vcvtdq2pd),
-    /// plus 2^31, exact (an integer below 2^32).
-    /// </summary>
+    /// <summary>Each lane (below 2^31, so the same as a signed integer) as a double: vcvtdq2pd, exact.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 ToDouble(Vector256<uint> v)
     {
@@ -87,9 +94,9 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
                 Vector256.ConvertToDouble(Vector256.WidenUpper(v)));
         }
 
-        Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> bias = Vector256.Create(2147483648.0);
-        return new Doubles8(Avx.ConvertToVector256Double(signed.GetLower()) + bias, Avx.ConvertToVector256Double(signed.GetUpper()) + bias);
+        Debug.Assert(Vector256.LessThanAll(v, Vector256.Create(0x80000000u)), "lanes below 2^31");
+        Vector256<int> signed = v.AsInt32();
+        return new Doubles8(Avx.ConvertToVector256Double(signed.GetLower()), Avx.ConvertToVector256Double(signed.GetUpper()));
     }
 
     /// <summary>
@@ -114,6 +121,26 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         return new Doubles8(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
     }
 
+    /// <remarks>
+    /// The hash's input of lane k is v + k with v = dimension·2^32 + first (no carry into the dimension), so its product with
+    /// <see cref="SampleHash.ValueMultiplier"/> M is v·M + k·M modulo 2^64: one scalar product a run and one addition a
+    /// half, where <see cref="Uniform"/> multiplies each lane's index.
+    /// </remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 UniformRun(ulong key, uint first, int dimension)
+    {
+        if (!Avx2.IsSupported)
+        {
+            return Uniform(key, Lanes.Run(first, Lanes.Count), dimension);
+        }
+
+        const ulong M = SampleHash.ValueMultiplier;
+        Vector256<ulong> product = Vector256.Create((((ulong)(uint)dimension << 32) | first) * M);
+        Vector256<ulong> low = product + Vector256.Create(0, M, unchecked(2 * M), unchecked(3 * M));
+        Vector256<ulong> high = product + Vector256.Create(unchecked(4 * M), unchecked(5 * M), unchecked(6 * M), unchecked(7 * M));
+        return new Doubles8(SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, low)), SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, high)));
+    }
+
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
 
@@ -122,7 +149,7 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     {
         if (BitOperations.IsPow2(divisor))
         {
-            Vector256<double> r = Vector256.Create(1.0 / divisor);
+            Vector256<double> r = Vector256.Create(Lanes.Reciprocal(divisor));
             return new Doubles8(x.Low * r, x.High * r);
         }
 
@@ -175,9 +202,11 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         }
     }
 
+    /// <remarks>As <see cref="Lanes.Clamp"/>: vminpd against the largest double below 1.</remarks>
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector256<double> Clamp(Vector256<double> x) =>
-        Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
+        Avx.IsSupported ? Avx.Min(x, Vector256.Create(UnitInterval.BelowOne))
+        : Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
 
     [MethodImpl(InliningOptions.ColdPath)]
     private static Vector256<double> Scalar4(ulong key, Vector256<uint> index, int from, int dimension) => Vector256.Create(

@@ -1,6 +1,8 @@
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
+using PathBench.Sampling.Hashing;
+using System.Runtime.Intrinsics.X86;
 
 namespace PathBench.Sampling.Generators;
 
@@ -39,6 +41,26 @@ internal static class Lanes
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector256<uint> Run(uint first, int n) =>
         Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
+
+    /// <summary>
+    /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
+    /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
+    /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
+    /// (<see cref="KenslerPermutation.Permute16"/>), else eight 32-bit lanes a walk.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p)
+    {
+        if (l <= KenslerPermutation.ShortLength)
+        {
+            Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
+            Vector256<ushort> image = KenslerPermutation.Permute16(Vector256.Create((ushort)first) + Vector256.Min(lane, Vector256.Create((ushort)(n - 1))), l, p);
+            return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
+        }
+
+        Vector256<uint> low = KenslerPermutation.Permute8(Run(first, Math.Min(n, Count)), l, p);
+        return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count), l, p) : low);
+    }
 
     /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
@@ -88,12 +110,24 @@ internal static class Lanes
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Over(Vector512<double> x, int divisor) =>
-        BitOperations.IsPow2(divisor) ? x * Vector512.Create(1.0 / divisor) : x / Vector512.Create((double)divisor);
+        BitOperations.IsPow2(divisor) ? x * Vector512.Create(Reciprocal(divisor)) : x / Vector512.Create((double)divisor);
 
-    /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
+    /// <summary>
+    /// 1 / <paramref name="powerOfTwo"/> (2^k, k ≤ 30) built from its exponent bits (2^-k: biased exponent 1023 − k, zero
+    /// significand): the double 1.0 / 2^k is, without a division in the batch's code (the divisor is a field, not a constant).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static double Reciprocal(int powerOfTwo) =>
+        BitConverter.Int64BitsToDouble((long)(1023 - BitOperations.Log2((uint)powerOfTwo)) << 52);
+
+    /// <summary>
+    /// <see cref="UnitInterval.Clamp"/> per lane: min(x, <see cref="UnitInterval.BelowOne"/>) (vminpd, which returns its second
+    /// operand where x is NaN, as the scalar comparison does) is x where x &lt; 1 and the largest double below 1 elsewhere.
+    /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Clamp(Vector512<double> x) =>
-        Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
+        Avx512F.IsSupported ? Avx512F.Min(x, Vector512.Create(UnitInterval.BelowOne))
+        : Vector512.ConditionalSelect(Vector512.LessThan(x, Vector512<double>.One), x, Vector512.Create(UnitInterval.BelowOne));
 
     /// <summary>The first <c>destination.Length</c> (at most eight) lanes into <paramref name="destination"/>.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

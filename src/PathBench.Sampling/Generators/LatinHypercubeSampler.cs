@@ -63,7 +63,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
             int n = Math.Min(8, xs.Length - at);
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             TDoubles stratum = TForm.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
-            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.Uniform(pixel ^ Salts.Jitter, index, dimension)), Count)), xs.Slice(at, n));
+            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.UniformRun(pixel ^ Salts.Jitter, firstIndex + (uint)at, dimension)), Count)), xs.Slice(at, n));
         }
     }
 

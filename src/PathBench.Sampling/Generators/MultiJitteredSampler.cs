@@ -65,24 +65,14 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
             // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
-            bool wide = Width == LaneWidth.Wide;
             (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
-            // Sets of up to 16 points: the jitters of every stratum, made once per batch and independent of the index
-            // permutation, so the points' chain is the permutation and a lane permute instead of the permutation and the
-            // hashes keyed by its result (the same hashes, looked up by stratum).
-            var jitters = new JitterTable(pixel, pair, wide && Count <= JitterTable.Strata && Avx512F.IsSupported);
-            for (int at = 0; at < xs.Length; at += 8)
+            if (Width == LaneWidth.Wide)
             {
-                int run = Math.Min(8, xs.Length - at);
-                Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, run);
-                if (wide)
-                {
-                    Points8<WideLanes, Vector512<double>>(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
-                }
-                else
-                {
-                    Points8<NarrowLanes, Doubles8>(pixel, pair, p, index, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
-                }
+                WideBatch(pixel, firstIndex, pair, p, tabled, columnTable, rowTable, xs, ys);
+            }
+            else
+            {
+                NarrowBatch(pixel, firstIndex, pair, p, tabled, columnTable, rowTable, xs, ys);
             }
 
             return;
@@ -130,15 +120,49 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         }
     }
 
-    // Point for eight indices at once (KenslerPermutation.Permute8 for the index shuffle, the column and row shuffles
+    // The AVX-512 form: sets of up to 16 points hash the jitters of every stratum once per batch, independent of the index
+    // permutation, so the points' chain is the permutation and a lane permute instead of the permutation and the hashes
+    // keyed by its result (the same hashes, looked up by stratum).
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void WideBatch(ulong pixel, uint firstIndex, int pair, uint p, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    {
+        var jitters = new JitterTable(pixel, pair, Count <= JitterTable.Strata && Avx512F.IsSupported);
+        for (int at = 0; at < xs.Length; at += 8)
+        {
+            int run = Math.Min(8, xs.Length - at);
+            Vector256<uint> s = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, run), (uint)Count, p * 0x51633e2du);
+            Points8<WideLanes, Vector512<double>>(pixel, pair, p, s, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
+        }
+    }
+
+    // The AVX2 form: the strata of up to sixteen points from one permutation walk (Lanes.Permute16), no jitter table (its
+    // 32 hashes a batch cost more than the points' own on this throughput-bound form).
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void NarrowBatch(ulong pixel, uint firstIndex, int pair, uint p, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    {
+        for (int at = 0; at < xs.Length; at += 16)
+        {
+            int n = Math.Min(16, xs.Length - at);
+            (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, p * 0x51633e2du);
+            int run = Math.Min(8, n);
+            Points8<NarrowLanes, Doubles8>(pixel, pair, p, low, tabled, columnTable, rowTable, in JitterTable.None, xs.Slice(at, run), ys.Slice(at, run));
+            if (n > 8)
+            {
+                Points8<NarrowLanes, Doubles8>(pixel, pair, p, high, tabled, columnTable, rowTable, in JitterTable.None, xs.Slice(at + 8, n - 8), ys.Slice(at + 8, n - 8));
+            }
+        }
+    }
+
+    // Point for eight indices at once (their images s under the index shuffle, the column and row shuffles
     // from the batch's tables or by Permute8Pair, the form's Uniform for the jitters (or the batch's jitter table, Wide
     // only), TForm.DivRem for the column and row, TForm.Over for the divisions): the same integers and the same IEEE-754
-    // results in the same order per lane as the scalar form; only the first xs.Length lanes are stored.
-    private void Points8<TForm, TDoubles>(ulong pixel, int pair, uint p, Vector256<uint> index, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
+    // results in the same order per lane as the scalar form; only the first xs.Length lanes are stored. Not inlined: inlined
+    // into a batch, the form's steps ran out of the JIT's inlining budget and stayed calls.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void Points8<TForm, TDoubles>(ulong pixel, int pair, uint p, Vector256<uint> s, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        Vector256<uint> s = KenslerPermutation.Permute8(index, (uint)Count, p * 0x51633e2du);
         (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(s, _grid.Columns);
         (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
             ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
@@ -179,6 +203,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     private readonly struct JitterTable
     {
         public const int Strata = 16;
+
+        /// <summary>No table (the AVX2 form), shared: a table is four 512-bit vectors, which a local would clear per batch.</summary>
+        public static readonly JitterTable None = new(0, 0, false);
 
         private readonly Vector512<double> _xLow, _xHigh, _yLow, _yHigh;
 

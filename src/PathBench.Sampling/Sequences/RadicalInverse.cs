@@ -652,7 +652,7 @@ public static class RadicalInverse
     {
         Span<uint> draws = stackalloc uint[DrawnDigits];
         Vector256<double> bd = Vector256.Create((double)b);
-        Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+        Vector256<double> multiplier = bd, top = bd - Vector256<double>.One;
         Vector256<ulong> product = DrawLaneProducts, step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
         Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, scale, top), Draw4(positionKey, product + step, scale, top));
         Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), scale, top), Draw4(positionKey, product + (step + step + step), scale, top));
@@ -1120,7 +1120,7 @@ public static class RadicalInverse
                 // Each lane's draw is the low half of its 64-bit word: one lane permute packs the four.
                 Vector256<double> offset = Vector256.Create(4503599627370496.0);
                 Vector256<double> bd = Vector256.Create((double)b);
-                Vector256<double> scale = bd * Vector256.Create(1.0 / 9007199254740992.0), top = bd - Vector256<double>.One;
+                Vector256<double> multiplier = bd, top = bd - Vector256<double>.One;
                 Vector256<ulong> n = Vector256.Create(first) + Vector256.Create(0UL, 1UL, 2UL, 3UL);
                 Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + DrawLaneProducts;
                 for (; k + 4 <= draws.Length; k += 4)
@@ -1129,11 +1129,11 @@ public static class RadicalInverse
                     {
                         // m = b − n while n < b (then n is below 2^32, exact through the offset), else 1.
                         Vector256<double> md = Vector256.ConditionalSelect(Vector256.LessThan(n, Vector256.Create((ulong)b)).AsDouble(), bd - (n | offset.AsUInt64()).AsDouble() + offset, Vector256<double>.One);
-                        scale = md * Vector256.Create(1.0 / 9007199254740992.0);
+                        multiplier = md;
                         top = md - Vector256<double>.One;
                     }
 
-                    Draw4(positionKey, product, scale, top).CopyTo(draws.Slice(k, 4));
+                    Draw4(positionKey, product, multiplier, top).CopyTo(draws.Slice(k, 4));
                     product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
                     n += Vector256.Create(4UL);
                 }
@@ -1149,13 +1149,13 @@ public static class RadicalInverse
         }
     }
 
-    // Four draws of DigitMap.FillForm's AVX2 form: the draw numbers' products with Combine's multiplier, m·2^−53 and m − 1
+    // Four draws of DigitMap.FillForm's AVX2 form: the draw numbers' products with Combine's multiplier, m and m − 1
     // per lane in, ⌊unit(h)·m⌋ capped at m − 1 out (the low half of each 64-bit lane, packed by one permute).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector128<uint> Draw4(ulong positionKey, Vector256<ulong> product, Vector256<double> scale, Vector256<double> top)
+    private static Vector128<uint> Draw4(ulong positionKey, Vector256<ulong> product, Vector256<double> m, Vector256<double> top)
     {
         Vector256<double> offset = Vector256.Create(4503599627370496.0);
-        Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), scale);
+        Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), m);
         Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
         return Avx2.PermuteVar8x32(v.AsUInt32(), Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u)).GetLower();
     }

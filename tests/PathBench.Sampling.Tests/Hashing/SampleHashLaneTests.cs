@@ -35,6 +35,23 @@ public sealed class SampleHashLaneTests
     }
 
     [Avx2Fact]
+    public void Unit_lanes_equal_the_scalar_conversion()
+    {
+        // The 53 top bits of a hash to [0, 1): hashes with bit 11 (the lowest kept bit) clear and set, zero, all ones, the top
+        // bit alone, and from a fixed hash (common practice); the scalar form's conversion is exact, so equal bits are expected.
+        ulong[] edge = [0, 0x800, 0x7FF, 0xFFF, ulong.MaxValue, ulong.MaxValue - 0x800, 1UL << 63, (1UL << 63) | 0x800, 0x1000];
+        var values = edge.Concat(Enumerable.Range(0, 400).Select(i => SampleHash.Mix64((ulong)i))).ToArray();
+        for (int i = 0; i + 4 <= values.Length; i++)
+        {
+            Vector256<double> unit = SampleHash.Unit4(Vector256.Create(values.AsSpan(i, 4)));
+            for (int k = 0; k < 4; k++)
+            {
+                Assert.Equal(BitConverter.DoubleToInt64Bits(SampleHash.ToUnit(values[i + k])), BitConverter.DoubleToInt64Bits(unit.GetElement(k)));
+            }
+        }
+    }
+
+    [Avx2Fact]
     public void Products_on_256_bit_lanes_equal_the_64_bit_products()
     {
         // x·c modulo 2^64 from 32-bit products: operands with every half zero, all ones, or from a fixed hash (common practice).

@@ -654,8 +654,8 @@ public static class RadicalInverse
         Vector256<double> bd = Vector256.Create((double)b);
         Vector256<double> multiplier = bd, top = bd - Vector256<double>.One;
         Vector256<ulong> product = DrawLaneProducts, step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
-        Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, scale, top), Draw4(positionKey, product + step, scale, top));
-        Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), scale, top), Draw4(positionKey, product + (step + step + step), scale, top));
+        Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, multiplier, top), Draw4(positionKey, product + step, multiplier, top));
+        Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), multiplier, top), Draw4(positionKey, product + (step + step + step), multiplier, top));
         d0.StoreUnsafe(ref MemoryMarshal.GetReference(draws));
         d1.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 8);
         Vector256<uint> z = Vector256.Create(zero);

@@ -160,6 +160,37 @@ public sealed class BatchTests
     }
 
     /// <summary>
+    /// Multi-jittered with more than 2^15 − 1 points, where the lane forms' index permutation takes its two-walk path
+    /// (16-bit lanes hold lengths below 2^15 only): runs at the start, across the middle and at the end of the set, at
+    /// each lane width, against the one-point form.
+    /// </summary>
+    [Fact]
+    public void Multi_jittered_batches_past_the_16_bit_walk_equal_their_points()
+    {
+        const int Count = 40_000;
+        var xs = new double[17];
+        var ys = new double[17];
+        foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow, LaneWidth.Scalar })
+        {
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec("multi-jittered", Randomization.None, false, Count, 5), 12);
+            s.Width = width;
+            foreach (int first in new[] { 0, 8, 16_383, 32_760, 39_983 })
+            {
+                ulong key = s.PixelKey(first, 3);
+                for (int d = 0; d < 6; d += 2)
+                {
+                    s.Sample2DBatch(key, (uint)first, d, xs, ys);
+                    for (int i = 0; i < xs.Length; i++)
+                    {
+                        (double a, double b) = s.Sample2D(key, (uint)(first + i), d);
+                        Assert.True(a == xs[i] && b == ys[i], $"{width} dimensions {d}, {d + 1} point {first + i}");
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
     /// The plain radical-inverse batches of Hammersley (its first coordinate i / n among them) and Halton, with and without
     /// a Cranley–Patterson rotation, at each lane width (<see cref="LaneWidth"/>; a width without the hardware runs in
     /// software, with the same bits), against their one-point forms.

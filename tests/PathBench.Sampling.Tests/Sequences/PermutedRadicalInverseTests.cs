@@ -112,11 +112,11 @@ public sealed class PermutedRadicalInverseTests
     }
 
     /// <summary>
-    /// A large base's drawn images as the short runs make them without conflict detection (<c>ScanImagesForm</c>: the
-    /// 256-bit mark set on the AVX2 forms, exact up to b = 256 and confirmed above, and the scalar bit set) equal the
-    /// one-point reference's (<c>DigitMap.Image</c>: redraw while taken), for every last digit 1 … 15: bases just above the
-    /// Fisher–Yates table (many redraws), around 256 (the mark set's limit: 251, 257, 263), a base whose values wrap the
-    /// marks several times (1031) and the largest; keys from a fixed hash (common practice).
+    /// A large base's drawn images as the short runs make them without conflict detection (<c>ScanImagesForm</c>: on the
+    /// AVX2 forms the first sixteen draws checked at once and the later ones against the images held in two registers;
+    /// the scalar bit set) equal the one-point reference's (<c>DigitMap.Image</c>: redraw while taken), for every last
+    /// digit 1 … 15: bases just above the Fisher–Yates table (many redraws), around 256 (251, 257, 263), a base whose
+    /// draws repeat often (1031) and the largest; keys from a fixed hash (common practice).
     /// </summary>
     [Fact]
     public void Large_base_images_equal_the_reference_on_every_lane_form()

@@ -52,6 +52,27 @@ public sealed class SampleHashLaneTests
     }
 
     [Avx2Fact]
+    public void Scaled_unit_lanes_equal_the_scalar_product()
+    {
+        // unit(h)·m as Halton's digit draws make it (the scalar form: ToUnit(h) · m, one rounding): multipliers 1, 2, small
+        // primes, 2^31 and the largest 32-bit values, hashes at the conversion's edges and from a fixed hash (common practice).
+        ulong[] edge = [0, 0x800, 0x7FF, 0xFFF, ulong.MaxValue, ulong.MaxValue - 0x800, 1UL << 63, (1UL << 63) | 0x800];
+        var hashes = edge.Concat(Enumerable.Range(0, 200).Select(i => SampleHash.Mix64(0x5EEDUL + (ulong)i))).ToArray();
+        double[] multipliers = [1, 2, 3, 67, 8161, 2147483648.0, 4294967291.0, 4294967295.0];
+        foreach (double m in multipliers)
+        {
+            for (int i = 0; i + 4 <= hashes.Length; i++)
+            {
+                Vector256<double> scaled = SampleHash.Unit4Times(Vector256.Create(hashes.AsSpan(i, 4)), Vector256.Create(m));
+                for (int k = 0; k < 4; k++)
+                {
+                    Assert.Equal(BitConverter.DoubleToInt64Bits(SampleHash.ToUnit(hashes[i + k]) * m), BitConverter.DoubleToInt64Bits(scaled.GetElement(k)));
+                }
+            }
+        }
+    }
+
+    [Avx2Fact]
     public void Products_on_256_bit_lanes_equal_the_64_bit_products()
     {
         // x·c modulo 2^64 from 32-bit products: operands with every half zero, all ones, or from a fixed hash (common practice).

@@ -219,9 +219,14 @@ public static class RadicalInverse
     /// are mapped by the hashed permutation σ_k of 0..b−1−<see cref="DrawnDigits"/> (Kensler 2013) onto the values the
     /// drawn digits left, in increasing order (σ_k's single images are uniform, but pairs of neighbouring digits are
     /// not: measured 3–6 % from uniform in total variation for lengths near 51–111, so those digits are only
-    /// approximately a uniformly random permutation; the previous construction hashed every digit this way). Each draw takes its own 64-bit hash h of (Combine(key, k), draw number)
-    /// into a range of m values by ⌊u·m⌋ with u the top 53 bits of h scaled by 2^−53 (each value's probability within
-    /// 2^−53·m of 1/m; the same doubles in the vector and scalar forms); the joint distribution of the zeros
+    /// approximately a uniformly random permutation; the previous construction hashed every digit this way). Draw n of
+    /// position k (<see cref="DigitMap.DrawOne"/>) is the 32-bit half v of the 64-bit hash h = Combine(Combine(key, k), ⌊n / 2⌋),
+    /// the low half for even n and the high half for odd n, taken into a range of m values by ⌊v·m / 2^32⌋ (Lemire 2019,
+    /// "Fast Random Integer Generation in an Interval", ACM TOMACS 29(1): the multiply-shift without its rejection step;
+    /// integer arithmetic, the same in every lane form): of the 2^32 values of v, each result takes ⌊2^32 / m⌋ or
+    /// ⌈2^32 / m⌉, so each value's probability is within 2^−32 of 1/m (relative error below m·2^−32, total variation from
+    /// uniform at most m·2^−34 a draw; the previous draws, one hash each by ⌊unit(h)·m⌋ with 53 bits, had m·2^−53).
+    /// Fisher–Yates step j takes draw j − 1 with m = b − j; the large bases' draws all have m = b. The joint distribution of the zeros
     /// z_0 … z_{L−1} a 32-bit index can reach is within b^L·2^−64 &lt; b·2^−32 of uniform (total variation), and the
     /// part below the index's digits is uniform to 2^−64.
     /// </para>
@@ -524,9 +529,9 @@ public static class RadicalInverse
         }
     }
 
-    // Draws DigitMap.Fill makes at once on this machine's lanes (eight on 512-bit ones, else four): FisherYates asks for
-    // whole groups (the scalar tail costs more per draw than a group's unused lanes).
-    private static readonly uint DrawGroup = Generators.Lanes.Best == Generators.LaneWidth.Wide ? 8u : 4u;
+    // Draws DigitMap.Fill makes at once on this machine's lanes (sixteen on 512-bit ones, else eight: two a hash):
+    // FisherYates asks for whole groups (the scalar tail costs more per draw than a group's unused lanes).
+    private static readonly uint DrawGroup = Generators.Lanes.Best == Generators.LaneWidth.Wide ? 16u : 8u;
 
     // Tables of SmallBaseRun: a short run's positions in a base up to FullTableBase, FullTableBase slots each (base 3: a
     // 32-bit index's 21 positions).
@@ -545,7 +550,7 @@ public static class RadicalInverse
         }
 
         Span<uint> draws = stackalloc uint[FullTableBase];
-        DigitMap.Fill(positionKey, b, true, 1, draws[..(int)((top + DrawGroup - 1) & ~(DrawGroup - 1))]); // whole groups: the vector form
+        DigitMap.Fill(positionKey, b, true, 0, draws[..(int)((top + DrawGroup - 1) & ~(DrawGroup - 1))]); // whole groups: the vector form
         for (int j = 1; j <= (int)top; j++)
         {
             int r = j + (int)draws[j - 1];
@@ -564,20 +569,19 @@ public static class RadicalInverse
     private static void ConflictImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images)
     {
         Vector512<uint> lanes = Vector512.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u, 8u, 9u, 10u, 11u, 12u, 13u, 14u, 15u);
-        Vector512<double> scale = Vector512.Create(1.0 / 9007199254740992.0);
-        Vector512<double> m = Vector512.Create((double)b);
-        Vector512<ulong> top = Vector512.Create((ulong)b - 1);
+        Vector512<ulong> m = Vector512.Create((ulong)b);
         Vector512<uint> kept = Vector512.Create(zero);
         uint count = 1;
         ulong next = 0; // the next draw number
         while (count <= last)
         {
-            // Lane l ≥ count takes draw next + l − count.
-            // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
-            Vector512<ulong> n = Vector512.Create(unchecked((next - count) * SampleHash.ValueMultiplier));
-            Vector512<ulong> w0 = Draw8(SampleHash.Combine8Premultiplied(positionKey, n + LaneProductsLow), scale, m, top);
-            Vector512<ulong> w1 = Draw8(SampleHash.Combine8Premultiplied(positionKey, n + LaneProductsHigh), scale, m, top);
-            Vector512<uint> v = Vector512.ConditionalSelect(Vector512.LessThan(lanes, Vector512.Create(count)), kept, Vector512.Narrow(w0, w1));
+            // Lane l ≥ count takes draw next + l − count: the sixteen draws of pairs ⌊next / 2⌋ … + 7 (draws from
+            // 2·⌊next / 2⌋) moved up by count − (next mod 2) lanes (index l − count + (next mod 2) ≤ 15, as count ≥ 1).
+            // Combine's value·M for pair s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
+            Vector512<ulong> n = Vector512.Create(unchecked((next >> 1) * SampleHash.ValueMultiplier));
+            Vector512<uint> w = Draw16(positionKey, n + LaneProductsLow, m, m);
+            w = Avx512F.PermuteVar16x32(w, lanes - Vector512.Create(count - (uint)(next & 1)));
+            Vector512<uint> v = Vector512.ConditionalSelect(Vector512.LessThan(lanes, Vector512.Create(count)), kept, w);
             Vector512<uint> fresh = Vector512.Equals(Avx512CD.DetectConflicts(v), Vector512<uint>.Zero);
             kept = Avx512F.Compress(Vector512<uint>.Zero, fresh, v);
             next += 16 - count;
@@ -589,7 +593,7 @@ public static class RadicalInverse
 
     /// <summary>
     /// <see cref="ConflictImages"/> without conflict detection (AVX2 and below): the same images. Each round draws as many
-    /// values as images are still missing, rounded up to four (<see cref="DigitMap.Fill"/>), and keeps each draw, in order,
+    /// values as images are still missing, rounded up to four (eight on AVX2: four hashes; <see cref="DigitMap.Fill"/>), and keeps each draw, in order,
     /// that equals neither z nor an earlier image; a draw equal to one of them is dropped, so a collision costs one more
     /// draw, not a round of sixteen. <see cref="ScanImagesForm"/> says how the taken values are held.
     /// </summary>
@@ -602,7 +606,7 @@ public static class RadicalInverse
     /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
     /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
     /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
-    /// <see cref="DrawnDigits"/> + 4 places (a round's kept draws past the last image are written).
+    /// <see cref="DrawnDigits"/> + 8 places (a round's kept draws past the last image are written).
     /// </summary>
     internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
@@ -620,7 +624,7 @@ public static class RadicalInverse
     [SkipLocalsInit] // the draws are written before they are read
     private static void ScanLanes(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
-        images = images[..(DrawnDigits + 4)];
+        images = images[..(DrawnDigits + 8)];
         uint count = FirstSixteen(b, positionKey, zero, images);
         if (count > last)
         {
@@ -634,7 +638,7 @@ public static class RadicalInverse
         Span<uint> draws = stackalloc uint[DrawnDigits];
         for (ulong next = DrawnDigits; count <= last;)
         {
-            int n = (int)((last + 4 - count) & ~3u);
+            int n = (int)((last + 8 - count) & ~7u); // whole groups of eight: four hashes, one Draw8
             DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
             next += (ulong)n;
             count = KeepScanned(draws[..n], images, count, ref low, ref high);
@@ -651,11 +655,9 @@ public static class RadicalInverse
     private static uint FirstSixteen(uint b, ulong positionKey, uint zero, Span<uint> images)
     {
         Span<uint> draws = stackalloc uint[DrawnDigits];
-        Vector256<double> bd = Vector256.Create((double)b);
-        Vector256<double> multiplier = bd, top = bd - Vector256<double>.One;
-        Vector256<ulong> product = DrawLaneProducts, step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
-        Vector256<uint> d0 = Vector256.Create(Draw4(positionKey, product, multiplier, top), Draw4(positionKey, product + step, multiplier, top));
-        Vector256<uint> d1 = Vector256.Create(Draw4(positionKey, product + (step + step), multiplier, top), Draw4(positionKey, product + (step + step + step), multiplier, top));
+        Vector256<uint> m = Vector256.Create(b);
+        Vector256<ulong> step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+        Vector256<uint> d0 = Draw8(positionKey, DrawLaneProducts, m), d1 = Draw8(positionKey, DrawLaneProducts + step, m);
         d0.StoreUnsafe(ref MemoryMarshal.GetReference(draws));
         d1.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 8);
         Vector256<uint> z = Vector256.Create(zero);
@@ -776,12 +778,6 @@ public static class RadicalInverse
 
     // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
     private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;
-    private static readonly Vector512<ulong> LaneProductsHigh = Vector512.Create(8UL, 9UL, 10UL, 11UL, 12UL, 13UL, 14UL, 15UL) * SampleHash.ValueMultiplier;
-
-    // ⌊unit(h)·m⌋ capped at m − 1 per lane: DigitMap.Fill's draw.
-    [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector512<ulong> Draw8(Vector512<ulong> h, Vector512<double> scale, Vector512<double> m, Vector512<ulong> top) =>
-        Vector512.Min(Vector512.ConvertToUInt64(Vector512.Floor(Vector512.ConvertToDouble(h >>> 11) * scale * m)), top);
 
     /// <summary>Points per run of <see cref="PermutedBatch"/>: bounds its stack tables.</summary>
     internal const int RunLength = 64;
@@ -959,9 +955,8 @@ public static class RadicalInverse
                 _values = storage[..(int)b];
                 Identity.AsSpan(0, (int)b).CopyTo(_values);
 
-                // The first Fisher–Yates step takes z into place 0; the later ones use draws 1, 2, …
+                // The first Fisher–Yates step takes z into place 0; step j (from 1) uses draw j − 1.
                 _values[(int)zero] = 0;
-                _attempt = 1;
             }
             else
             {
@@ -1076,8 +1071,7 @@ public static class RadicalInverse
             }
         }
 
-        // Draw number _attempt (then the next): ⌊unit(h)·m⌋ with h = Combine(position key, draw number), unit(h) its top
-        // 53 bits scaled by 2^−53, and m = b − draw number on the Fisher–Yates table, b otherwise. Made sixteen at a time.
+        // Draw number _attempt (then the next), made sixteen at a time (see FillForm).
         private uint Next()
         {
             if (_attempt >= _chunkEnd)
@@ -1093,71 +1087,108 @@ public static class RadicalInverse
         public static void Fill(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws) =>
             FillForm(positionKey, b, table, first, draws, Generators.Lanes.Best);
 
-        /// <summary><see cref="Fill"/> on the given lanes (tests run each form; the scalar loop finishes what a form leaves).</summary>
+        /// <summary>
+        /// Draws <paramref name="first"/>, <paramref name="first"/> + 1, … into <paramref name="draws"/>: draw n is
+        /// <see cref="DrawOne"/>(n) with m = b − 1 − n on the Fisher–Yates table (step n + 1 takes draw n; m = 1 from
+        /// n = b − 1 on), m = b otherwise. On the given lanes (tests run each form; the scalar loop finishes what a form
+        /// leaves): sixteen draws from eight hashes on 512-bit lanes, eight from four on AVX2, an odd first draw alone.
+        /// </summary>
         internal static void FillForm(ulong positionKey, uint b, bool table, ulong first, Span<uint> draws, Generators.LaneWidth width)
         {
             int k = 0;
+            if (first > ulong.MaxValue - (ulong)draws.Length)
+            {
+                width = Generators.LaneWidth.Scalar; // draw numbers that wrap past 2^64 − 1 (their pairs do not): the scalar loop
+            }
+
+            if ((first & 1) != 0 && draws.Length > 0 && width != Generators.LaneWidth.Scalar)
+            {
+                draws[0] = DrawOne(positionKey, first, Multiplier(b, table, first));
+                k = 1;
+            }
+
             if (width == Generators.LaneWidth.Wide)
             {
                 Vector512<ulong> lane = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL);
                 Vector512<ulong> vb = Vector512.Create((ulong)b);
-                for (; k + 8 <= draws.Length; k += 8)
+                for (; k + 16 <= draws.Length; k += 16)
                 {
-                    Vector512<ulong> n = Vector512.Create(first + (ulong)k) + lane;
-                    Vector512<ulong> m = table ? Vector512.ConditionalSelect(Vector512.LessThan(n, vb), vb - n, Vector512<ulong>.One) : vb;
-                    Vector512<ulong> h = SampleHash.Combine8(positionKey, n);
-                    Vector512<double> x = Vector512.ConvertToDouble(h >>> 11) * Vector512.Create(1.0 / 9007199254740992.0) * Vector512.ConvertToDouble(m);
-                    Vector512<ulong> v = Vector512.Min(Vector512.ConvertToUInt64(Vector512.Floor(x)), m - Vector512<ulong>.One);
-                    Vector512.Narrow(v, v).GetLower().CopyTo(draws.Slice(k, 8));
+                    // Pair p = (first + k) / 2 + l holds draws 2p (low half) and 2p + 1 (high half).
+                    ulong pair = (first + (ulong)k) >> 1;
+                    Vector512<ulong> even = Vector512.Create(pair << 1) + (lane << 1);
+                    Vector512<ulong> low = vb, high = vb;
+                    if (table)
+                    {
+                        Vector512<ulong> top = vb - Vector512<ulong>.One;
+                        low = Vector512.ConditionalSelect(Vector512.LessThan(even, top), top - even, Vector512<ulong>.One);
+                        high = Vector512.ConditionalSelect(Vector512.LessThan(even + Vector512<ulong>.One, top), top - even - Vector512<ulong>.One, Vector512<ulong>.One);
+                    }
+
+                    Draw16(positionKey, Vector512.Create(unchecked(pair * SampleHash.ValueMultiplier)) + LaneProductsLow, low, high).CopyTo(draws.Slice(k, 16));
                 }
             }
             else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
             {
-                // Four lanes of 256 bits (AVX2): the hashes by SampleHash.Combine4, unit(h)·m by Unit4Times (the same
-                // double), m (below 2^32) and ⌊x⌋ (below m) between integers and doubles exactly through the 2^52 offset.
-                // Combine's value·M for draw number s + l is s·M + l·M modulo 2^64 (as in ConflictImages). The cap at
-                // m − 1 is vminpd: both operands are whole non-negative doubles (no NaN, no −0), where it is the minimum.
-                // Each lane's draw is the low half of its 64-bit word: one lane permute packs the four.
-                Vector256<double> offset = Vector256.Create(4503599627370496.0);
-                Vector256<double> bd = Vector256.Create((double)b);
-                Vector256<double> multiplier = bd, top = bd - Vector256<double>.One;
-                Vector256<ulong> n = Vector256.Create(first) + Vector256.Create(0UL, 1UL, 2UL, 3UL);
-                Vector256<ulong> product = Vector256.Create(unchecked(first * SampleHash.ValueMultiplier)) + DrawLaneProducts;
-                for (; k + 4 <= draws.Length; k += 4)
+                // Four hashes on 256-bit lanes (AVX2, SampleHash.Combine4), their eight halves' draws by Draw8. Combine's
+                // value·M for pair s + l is s·M + l·M modulo 2^64 (as in ConflictImages). On the table, m = b − 1 − n per
+                // 32-bit lane while n < b − 1 (then n and m are below 2^31: signed 32-bit arithmetic), else 1.
+                Vector256<uint> m = Vector256.Create(b);
+                Vector256<ulong> product = Vector256.Create(unchecked(((first + (ulong)k) >> 1) * SampleHash.ValueMultiplier)) + DrawLaneProducts;
+                for (; k + 8 <= draws.Length; k += 8)
                 {
                     if (table)
                     {
-                        // m = b − n while n < b (then n is below 2^32, exact through the offset), else 1.
-                        Vector256<double> md = Vector256.ConditionalSelect(Vector256.LessThan(n, Vector256.Create((ulong)b)).AsDouble(), bd - (n | offset.AsUInt64()).AsDouble() + offset, Vector256<double>.One);
-                        multiplier = md;
-                        top = md - Vector256<double>.One;
+                        ulong n = first + (ulong)k;
+                        m = n >= b - 1 ? Vector256<uint>.One : Vector256.Max(Vector256.Create((int)(b - 1 - n)) - Vector256.Create(0, 1, 2, 3, 4, 5, 6, 7), Vector256<int>.One).AsUInt32();
                     }
 
-                    Draw4(positionKey, product, multiplier, top).CopyTo(draws.Slice(k, 4));
+                    Draw8(positionKey, product, m).CopyTo(draws.Slice(k, 8));
                     product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
-                    n += Vector256.Create(4UL);
                 }
             }
 
             for (; k < draws.Length; k++)
             {
                 ulong n = first + (ulong)k;
-                ulong m = table ? (n < b ? b - n : 1) : b;
-                double x = (SampleHash.Combine(positionKey, n) >> 11) * (1.0 / 9007199254740992.0) * m;
-                draws[k] = (uint)Math.Min((ulong)Math.Floor(x), m - 1);
+                draws[k] = DrawOne(positionKey, n, Multiplier(b, table, n));
             }
         }
+
+        // m of draw n: b − 1 − n on the Fisher–Yates table (1 from n = b − 1 on), b otherwise.
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static uint Multiplier(uint b, bool table, ulong n) => table ? (n < b - 1UL ? b - 1 - (uint)n : 1u) : b;
+
+        /// <summary>
+        /// Draw number <paramref name="n"/> of a position, uniform on 0 … m − 1 up to a bias below 2^−32 a value: the
+        /// 32-bit half v of h = Combine(position key, ⌊n / 2⌋) (the low half for even n, the high half for odd n) taken
+        /// to ⌊v·m / 2^32⌋, Lemire's (2019) multiply-shift without its rejection step.
+        /// </summary>
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static uint DrawOne(ulong positionKey, ulong n, uint m) =>
+            (uint)(((ulong)(uint)(SampleHash.Combine(positionKey, n >> 1) >> (int)(32 * (n & 1))) * m) >> 32);
     }
 
-    // Four draws of DigitMap.FillForm's AVX2 form: the draw numbers' products with Combine's multiplier, m and m − 1
-    // per lane in, ⌊unit(h)·m⌋ capped at m − 1 out (the low half of each 64-bit lane, packed by one permute).
+    // Eight draws of DigitMap.FillForm's AVX2 form from the four hashes of pairs s … s + 3 (product: their numbers times
+    // Combine's multiplier): 32-bit lane 2l the low half of pair s + l's hash, lane 2l + 1 its high half, each v taken to
+    // ⌊v·m / 2^32⌋ with its lane's m (one vpmuludq for the even lanes, one for the odd ones, a blend).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector128<uint> Draw4(ulong positionKey, Vector256<ulong> product, Vector256<double> m, Vector256<double> top)
+    private static Vector256<uint> Draw8(ulong positionKey, Vector256<ulong> product, Vector256<uint> m)
     {
-        Vector256<double> offset = Vector256.Create(4503599627370496.0);
-        Vector256<double> x = SampleHash.Unit4Times(SampleHash.Combine4Premultiplied(positionKey, product), m);
-        Vector256<ulong> v = (Avx.Min(Avx.RoundToNegativeInfinity(x), top) + offset).AsUInt64();
-        return Avx2.PermuteVar8x32(v.AsUInt32(), Vector256.Create(0u, 2u, 4u, 6u, 0u, 2u, 4u, 6u)).GetLower();
+        Vector256<ulong> h = SampleHash.Combine4Premultiplied(positionKey, product);
+        Vector256<ulong> even = Avx2.Multiply(h.AsUInt32(), m) >>> 32;
+        Vector256<ulong> odd = Avx2.Multiply((h >>> 32).AsUInt32(), (m.AsUInt64() >>> 32).AsUInt32());
+        return Avx2.Blend(even.AsUInt32(), odd.AsUInt32(), 0b10101010);
+    }
+
+    // Sixteen draws from the eight hashes of pairs s … s + 7 (product: their numbers times Combine's multiplier), in draw
+    // order: Draw8's arithmetic on 512-bit lanes with 64-bit products, low the m of the even draws, high of the odd ones.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<uint> Draw16(ulong positionKey, Vector512<ulong> product, Vector512<ulong> low, Vector512<ulong> high)
+    {
+        Vector512<ulong> h = SampleHash.Combine8Premultiplied(positionKey, product);
+        Vector512<ulong> even = ((h & Vector512.Create(0xFFFFFFFFUL)) * low) >>> 32;
+        Vector512<ulong> odd = ((h >>> 32) * high) & Vector512.Create(0xFFFFFFFF00000000UL);
+        return (even | odd).AsUInt32();
     }
 
     // l·M for the lanes l = 0 … 3 (M = SampleHash.ValueMultiplier).

@@ -602,11 +602,11 @@ public static class RadicalInverse
 
     /// <summary>
     /// <see cref="ScanImages"/> on the given lanes (tests run each). With AVX2 (<see cref="Generators.LaneWidth.Narrow"/>
-    /// or <see cref="Generators.LaneWidth.Wide"/>) the first sixteen draws are kept or dropped at once (<see cref="FirstSixteen"/>)
+    /// or <see cref="Generators.LaneWidth.Wide"/>) the first sixteen draws are kept or dropped at once (<see cref="FirstDraws"/>, 24 of them)
     /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
     /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
     /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
-    /// <see cref="DrawnDigits"/> + 8 places (a round's kept draws past the last image are written).
+    /// 25 places (the first draws' kept values past the last image are written).
     /// </summary>
     internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
@@ -624,8 +624,8 @@ public static class RadicalInverse
     [SkipLocalsInit] // the draws are written before they are read
     private static void ScanLanes(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
-        images = images[..(DrawnDigits + 8)];
-        uint count = FirstSixteen(b, positionKey, zero, images);
+        images = images[..(1 + FirstDrawCount)];
+        uint count = FirstDraws(b, positionKey, zero, images);
         if (count > last)
         {
             return;
@@ -636,7 +636,7 @@ public static class RadicalInverse
         Vector256<uint> low = Vector256.ConditionalSelect(Vector256.LessThan(lanes, Vector256.Create(count)), Vector256.Create<uint>(images), Vector256.Create(b));
         Vector256<uint> high = Vector256.ConditionalSelect(Vector256.LessThan(lanes + Vector256.Create(8u), Vector256.Create(count)), Vector256.Create<uint>(images[8..]), Vector256.Create(b));
         Span<uint> draws = stackalloc uint[DrawnDigits];
-        for (ulong next = DrawnDigits; count <= last;)
+        for (ulong next = FirstDrawCount; count <= last;)
         {
             int n = (int)((last + 8 - count) & ~7u); // whole groups of eight: four hashes, one Draw8
             DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
@@ -646,44 +646,63 @@ public static class RadicalInverse
     }
 
     /// <summary>
-    /// Draws 0 … 15 of a large base (m = b: <see cref="DigitMap.Fill"/>'s values, made here in registers) kept in order
-    /// after z where neither z nor an earlier draw equals them: z into images[0], the kept draws after it; the count of
-    /// images. All sixteen at once: each draw j (broadcast) against the lanes after it (a constant lane mask per j), the
-    /// fresh lanes packed to the front of each eight-lane half by a permute from a table of the 256 masks.
+    /// Draws 0 … 23 of a large base (m = b: <see cref="DigitMap.Fill"/>'s values, made here in registers: twelve hashes) kept
+    /// in order after z where neither z nor an earlier draw equals them: z into images[0], the kept draws after it; the
+    /// count of images. All at once: each draw j (broadcast) against the lanes after it (a constant lane mask per j), the
+    /// fresh lanes packed to the front of each eight-lane third by a permute from a table of the 256 masks. Sixteen draws
+    /// (fifteen images after z) had a collision for b = 67 … 181 in 87 … 52 % of the positions, and the later rounds
+    /// (a branch that mispredicts, the draws one by one) cost more than eight more draws checked here; 24 leave fewer
+    /// than fifteen images only when nine or more collide.
     /// </summary>
     [SkipLocalsInit] // the draws are written before they are read
-    private static uint FirstSixteen(uint b, ulong positionKey, uint zero, Span<uint> images)
+    private static uint FirstDraws(uint b, ulong positionKey, uint zero, Span<uint> images)
     {
-        Span<uint> draws = stackalloc uint[DrawnDigits];
+        Span<uint> draws = stackalloc uint[FirstDrawCount];
         Vector256<uint> m = Vector256.Create(b);
         Vector256<ulong> step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
         Vector256<uint> d0 = Draw8(positionKey, DrawLaneProducts, m), d1 = Draw8(positionKey, DrawLaneProducts + step, m);
+        Vector256<uint> d2 = Draw8(positionKey, DrawLaneProducts + (step + step), m);
         d0.StoreUnsafe(ref MemoryMarshal.GetReference(draws));
         d1.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 8);
+        d2.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 16);
         Vector256<uint> z = Vector256.Create(zero);
-        Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z);
+        Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z), taken2 = Vector256.Equals(d2, z);
         ref uint later = ref MemoryMarshal.GetReference(LaterLanes);
         for (int j = 0; j < 8; j++)
         {
             Vector256<uint> w = Vector256.Create(draws[j]);
             taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
             taken1 |= Vector256.Equals(d1, w);
+            taken2 |= Vector256.Equals(d2, w);
         }
 
-        for (int j = 8; j < DrawnDigits - 1; j++)
+        for (int j = 8; j < 16; j++)
         {
-            taken1 |= Vector256.Equals(d1, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
+            Vector256<uint> w = Vector256.Create(draws[j]);
+            taken1 |= Vector256.Equals(d1, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
+            taken2 |= Vector256.Equals(d2, w);
+        }
+
+        for (int j = 16; j < FirstDrawCount - 1; j++)
+        {
+            taken2 |= Vector256.Equals(d2, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 16)));
         }
 
         uint fresh0 = ~Vector256.ExtractMostSignificantBits(taken0) & 0xFF, fresh1 = ~Vector256.ExtractMostSignificantBits(taken1) & 0xFF;
-        ref uint image = ref MemoryMarshal.GetReference(images[..(1 + DrawnDigits)]); // 1 + 8 + 8 places written at most
+        uint fresh2 = ~Vector256.ExtractMostSignificantBits(taken2) & 0xFF;
+        ref uint image = ref MemoryMarshal.GetReference(images[..(1 + FirstDrawCount)]); // 1 + 8 + 8 + 8 places written at most
         image = zero;
         uint count = 1;
         Avx2.PermuteVar8x32(d0, LeftPackIndices(fresh0)).StoreUnsafe(ref image, count);
         count += (uint)BitOperations.PopCount(fresh0);
         Avx2.PermuteVar8x32(d1, LeftPackIndices(fresh1)).StoreUnsafe(ref image, count);
-        return count + (uint)BitOperations.PopCount(fresh1);
+        count += (uint)BitOperations.PopCount(fresh1);
+        Avx2.PermuteVar8x32(d2, LeftPackIndices(fresh2)).StoreUnsafe(ref image, count);
+        return count + (uint)BitOperations.PopCount(fresh2);
     }
+
+    // Draws FirstDraws makes at once (three groups of eight).
+    private const int FirstDrawCount = 24;
 
     // The lanes after lane j of eight (row j: all ones in lanes j + 1 … 7).
     private static ReadOnlySpan<uint> LaterLanes =>

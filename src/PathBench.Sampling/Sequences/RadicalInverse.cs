@@ -376,7 +376,8 @@ public static class RadicalInverse
         uint zero = (uint)Math.BigMul(u, b, out u);
         double below1 = Fraction(u) * invBase;
         ulong positionKey = SampleHash.Combine(key, 0);
-        Span<uint> images = stackalloc uint[FullTableBase];
+        Unsafe.SkipInit(out ImageStorage storage);
+        Span<uint> images = storage;
         if (b <= FullTableBase)
         {
             FisherYates(b, positionKey, zero, last, images);
@@ -411,6 +412,34 @@ public static class RadicalInverse
         return true;
     }
 
+    // ShortRun's images: a local of fixed size, not a stackalloc, so that ShortRun is compiled by tiers (a method with a
+    // stackalloc and a loop is compiled once, fully optimized, at its first call, before the classes whose static
+    // readonly fields it reads are initialized: those reads then stayed loads behind initialization checks, in the loop
+    // of the points too, which spilled its vectors around them).
+    [InlineArray(FullTableBase)]
+    private struct ImageStorage
+    {
+        private uint _first;
+    }
+
+    [InlineArray(MaxDigits + 1)]
+    private struct DigitStorage
+    {
+        private uint _first;
+    }
+
+    [InlineArray(MaxDigits + 1)]
+    private struct BelowStorage
+    {
+        private double _first;
+    }
+
+    [InlineArray(SmallBaseTables)]
+    private struct TableStorage
+    {
+        private uint _first;
+    }
+
     // The one-digit points of indices first … first + n − 1 (≤ 15) on eight 64-bit lanes: the image by a lane permute, then
     // the scalar form's multiply, add and clamp per lane (no fused multiply-add), index 0 the fraction below length 0.
     [SkipLocalsInit]
@@ -439,6 +468,7 @@ public static class RadicalInverse
     // consecutive entries of the table, converted exactly (each below b < 2^31, vcvtdq2pd), then the scalar form's multiply,
     // add and clamp per lane (no fused multiply-add); index 0, the fraction below length 0, and the last part-group as
     // the scalar loop.
+    [MethodImpl(InliningOptions.ShortMethod)] // into ShortRun: one method, one vzeroupper, for a large base's short run
     private static void OneDigitQuads(uint first, ReadOnlySpan<uint> images, double invBase, double below0, double below1, Span<double> xs)
     {
         Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1);
@@ -478,9 +508,13 @@ public static class RadicalInverse
     [SkipLocalsInit] // every table entry read is written first
     private static void SmallBaseRun(uint first, uint last, uint b, ulong key, Span<double> xs)
     {
-        Span<uint> digits = stackalloc uint[MaxDigits + 1];
-        Span<double> below = stackalloc double[MaxDigits + 1];
-        Span<uint> tables = stackalloc uint[SmallBaseTables];
+        // Fixed-size locals, not stackallocs (see ImageStorage).
+        Unsafe.SkipInit(out DigitStorage digitStorage);
+        Unsafe.SkipInit(out BelowStorage belowStorage);
+        Unsafe.SkipInit(out TableStorage tableStorage);
+        Span<uint> digits = digitStorage;
+        Span<double> below = belowStorage;
+        Span<uint> tables = tableStorage;
         ulong u = ZeroDigits(key);
         int length = 0, lengthOfLast = 0;
         for (uint low = first, high = last; high != 0; lengthOfLast++)
@@ -541,7 +575,21 @@ public static class RadicalInverse
     [SkipLocalsInit] // the draws are written before they are read
     private static void FisherYates(uint b, ulong positionKey, uint zero, uint top, Span<uint> table)
     {
-        DigitMap.Identity.AsSpan(0, (int)b).CopyTo(table);
+        if (Avx.IsSupported && table.Length >= FullTableBase)
+        {
+            // The identity in eight 256-bit stores (the copy routine's call cost more than the whole table).
+            ref uint place = ref MemoryMarshal.GetReference(table);
+            Vector256<uint> identity = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+            for (int k = 0; k < FullTableBase; k += 8)
+            {
+                (identity + Vector256.Create((uint)k)).StoreUnsafe(ref place, (nuint)k);
+            }
+        }
+        else
+        {
+            DigitMap.Identity.AsSpan(0, (int)b).CopyTo(table);
+        }
+
         table[(int)zero] = 0;
         table[0] = zero;
         if (top == 0)
@@ -549,8 +597,26 @@ public static class RadicalInverse
             return;
         }
 
-        Span<uint> draws = stackalloc uint[FullTableBase];
-        DigitMap.Fill(positionKey, b, true, 0, draws[..(int)((top + DrawGroup - 1) & ~(DrawGroup - 1))]); // whole groups: the vector form
+        Unsafe.SkipInit(out ImageStorage storage); // not a stackalloc: see ImageStorage
+        Span<uint> draws = storage;
+        int n = (int)((top + DrawGroup - 1) & ~(DrawGroup - 1)); // whole groups: the vector form
+        if (Generators.Lanes.Best == Generators.LaneWidth.Narrow && Avx2.IsSupported)
+        {
+            // DigitMap.FillForm's AVX2 form without the call: each group starts below b − 1 (k < top ≤ b − 1), so
+            // m = max(b − 1 − n, 1) per lane.
+            Vector256<ulong> product = DrawLaneProducts;
+            for (int k = 0; k < n; k += 8)
+            {
+                Vector256<uint> m = Vector256.Max(Vector256.Create((int)b - 1 - k) - Vector256.Create(0, 1, 2, 3, 4, 5, 6, 7), Vector256<int>.One).AsUInt32();
+                Draw8(positionKey, product, m).StoreUnsafe(ref MemoryMarshal.GetReference(draws), (nuint)k);
+                product += Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
+            }
+        }
+        else
+        {
+            DigitMap.Fill(positionKey, b, true, 0, draws[..n]);
+        }
+
         for (int j = 1; j <= (int)top; j++)
         {
             int r = j + (int)draws[j - 1];
@@ -597,6 +663,7 @@ public static class RadicalInverse
     /// that equals neither z nor an earlier image; a draw equal to one of them is dropped, so a collision costs one more
     /// draw, not a round of sixteen. <see cref="ScanImagesForm"/> says how the taken values are held.
     /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
     private static void ScanImages(uint b, ulong positionKey, uint zero, uint last, Span<uint> images) =>
         ScanImagesForm(b, positionKey, zero, last, images, Generators.Lanes.Best);
 
@@ -606,8 +673,9 @@ public static class RadicalInverse
     /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
     /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
     /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
-    /// 25 places (the first draws' kept values past the last image are written).
+    /// 56 places (the first draws' kept values past the last image are written, and the draws kept from place 32 on).
     /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
     internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
         if (width != Generators.LaneWidth.Scalar && Avx2.IsSupported && last > 0)
@@ -620,17 +688,23 @@ public static class RadicalInverse
         }
     }
 
-    // ScanImagesForm on AVX2.
-    [SkipLocalsInit] // the draws are written before they are read
+    // ScanImagesForm on AVX2: inlined with FirstDraws into ShortRun (each method with 256-bit code ends in a vzeroupper;
+    // one method for the whole short run), the rare later rounds a call.
+    [MethodImpl(InliningOptions.ShortMethod)]
     private static void ScanLanes(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
     {
-        images = images[..(1 + FirstDrawCount)];
         uint count = FirstDraws(b, positionKey, zero, images);
-        if (count > last)
+        if (count <= last)
         {
-            return;
+            LaterRounds(b, positionKey, last, images, count, width);
         }
+    }
 
+    // ScanLanes' rounds after the first draws, while images are missing: each kept draw against the images so far.
+    [SkipLocalsInit] // the draws are written before they are read
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static void LaterRounds(uint b, ulong positionKey, uint last, Span<uint> images, uint count, Generators.LaneWidth width)
+    {
         // The images so far in two registers, the places not yet taken holding b (no draw equals it).
         Vector256<uint> lanes = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
         Vector256<uint> low = Vector256.ConditionalSelect(Vector256.LessThan(lanes, Vector256.Create(count)), Vector256.Create<uint>(images), Vector256.Create(b));
@@ -641,7 +715,7 @@ public static class RadicalInverse
             int n = (int)((last + 8 - count) & ~7u); // whole groups of eight: four hashes, one Draw8
             DigitMap.FillForm(positionKey, b, false, next, draws[..n], width);
             next += (ulong)n;
-            count = KeepScanned(draws[..n], images, count, ref low, ref high);
+            count = KeepScanned(draws[..n], images[..(1 + FirstDrawCount)], count, ref low, ref high);
         }
     }
 
@@ -654,10 +728,10 @@ public static class RadicalInverse
     /// (a branch that mispredicts, the draws one by one) cost more than eight more draws checked here; 24 leave fewer
     /// than fifteen images only when nine or more collide.
     /// </summary>
-    [SkipLocalsInit] // the draws are written before they are read
+    [MethodImpl(InliningOptions.ShortMethod)]
     private static uint FirstDraws(uint b, ulong positionKey, uint zero, Span<uint> images)
     {
-        Span<uint> draws = stackalloc uint[FirstDrawCount];
+        Span<uint> draws = images.Slice(DrawScratch, FirstDrawCount);
         Vector256<uint> m = Vector256.Create(b);
         Vector256<ulong> step = Vector256.Create(unchecked(4 * SampleHash.ValueMultiplier));
         Vector256<uint> d0 = Draw8(positionKey, DrawLaneProducts, m), d1 = Draw8(positionKey, DrawLaneProducts + step, m);
@@ -701,8 +775,9 @@ public static class RadicalInverse
         return count + (uint)BitOperations.PopCount(fresh2);
     }
 
-    // Draws FirstDraws makes at once (three groups of eight).
+    // Draws FirstDraws makes at once (three groups of eight), and where in the images' storage it keeps them.
     private const int FirstDrawCount = 24;
+    private const int DrawScratch = 32;
 
     // The lanes after lane j of eight (row j: all ones in lanes j + 1 … 7).
     private static ReadOnlySpan<uint> LaterLanes =>

@@ -23,18 +23,6 @@ internal static class OwenSobolBatch
     /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
     public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
 
-    /// <summary>A dimension's tables for <see cref="Run"/>: the reversed byte tables and the reordered top-byte table.</summary>
-    /// <param name="Reversed"><see cref="Sequences.SobolMatrices.ReversedTables"/>.</param>
-    /// <param name="Groups"><see cref="Sequences.SobolMatrices.GroupTable"/>.</param>
-    public readonly ref struct Tables(ReadOnlySpan<uint> Reversed, ReadOnlySpan<uint> Groups)
-    {
-        /// <summary>The reversed byte tables.</summary>
-        public ReadOnlySpan<uint> Reversed { get; } = Reversed;
-
-        /// <summary>The reordered top-byte table.</summary>
-        public ReadOnlySpan<uint> Groups { get; } = Groups;
-    }
-
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
@@ -44,9 +32,12 @@ internal static class OwenSobolBatch
     /// their low 29 bits: their walks share the first three bytes' entries, and their top bytes' entries are eight
     /// neighbouring ones of the reordered table, picked per lane by r's top three bits (vpermd). Eight consecutive
     /// indices lie in at most two aligned groups (lanes 0 and 7 stand for them), so each coordinate is two such lookups
-    /// and a select: the same table entries the scalar walk XORs.
+    /// and a select: the same table entries the scalar walk XORs. <paramref name="reversed"/> and <paramref name="groups"/> are
+    /// <see cref="Sequences.SobolMatrices.ReversedTables"/> and <see cref="Sequences.SobolMatrices.GroupTable"/> of the
+    /// first dimension, or, for a pair, of both (the second's after the first's).
     /// </summary>
-    public static unsafe int Run(Tables x, Tables y, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe int Run(ReadOnlySpan<uint> reversed, ReadOnlySpan<uint> groups, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -55,9 +46,10 @@ internal static class OwenSobolBatch
 
         bool pair = !ys.IsEmpty;
         Scramble scrambleX = new(seedX), scrambleY = new(seedY);
-        fixed (uint* tx = x.Reversed, gx = x.Groups, ty = y.Reversed, gy = y.Groups)
+        fixed (uint* tx = reversed, gx = groups)
         fixed (double* px = xs, py = ys)
         {
+            uint* ty = tx + 1024, gy = gx + 256;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
@@ -158,60 +150,74 @@ internal static class OwenSobolBatch
         return Walk(table, Vector256.Create(s) + Lane);
     }
 
-    /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
-    public enum Finish
-    {
-        /// <summary>v · 2^-32.</summary>
-        None,
-
-        /// <summary>((v xor shift) + 0.5) · 2^-32 (<see cref="PointRandomizations.DigitalShift"/>'s form, as Sobol makes it).</summary>
-        DigitalShift,
-
-        /// <summary><see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset).</summary>
-        Rotation,
-    }
-
     /// <summary>
-    /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
-    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group (<see cref="Consecutive"/>), then <paramref name="finish"/> with
-    /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
-    /// single point.
+    /// One Sobol dimension without scrambling (or, with a non-empty <paramref name="ys"/>, the next dimension too, whose
+    /// byte tables follow <paramref name="tables"/>' first 1024 entries), eight points at a time with AVX2: the byte-table
+    /// walk of the index (the scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group and
+    /// dimension (<see cref="Consecutive"/>), then finished as <typeparamref name="TFinish"/> says with the scalar code's
+    /// operations: <see cref="Bare"/> v · 2^-32, <see cref="Shifted"/> ((v xor shift) + 0.5) · 2^-32 (Sobol's digital
+    /// shift), <see cref="Rotated"/> <see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset). The caller checks AVX2
+    /// and a run of at least two points; the two dimensions share the index's bytes and the test of the group's low byte.
     /// </summary>
-    public static unsafe int PlainRun(ReadOnlySpan<uint> tables, uint firstIndex, Finish finish, uint shift, double offset, Span<double> xs)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe void PlainLanes<TFinish>(ReadOnlySpan<uint> tables, uint firstIndex, uint shiftX, double offsetX, uint shiftY, double offsetY, Span<double> xs, Span<double> ys)
+        where TFinish : struct
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
+        bool pair = !ys.IsEmpty;
+        fixed (uint* tx = tables)
+        fixed (double* px = xs, py = ys)
         {
-            return 0;
-        }
-
-        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
-        fixed (uint* t = tables)
-        fixed (double* px = xs)
-        {
+            uint* ty = tx + 1024;
             for (int i = 0; i < xs.Length; i += 8)
             {
-                Vector256<uint> v = Consecutive(t, firstIndex + (uint)i);
-                (Vector256<double> Low, Vector256<double> High) d;
-                if (finish == Finish.DigitalShift)
+                uint s = firstIndex + (uint)i;
+                uint low = s & 0xFF;
+                int left = xs.Length - i;
+                if (low <= 248)
                 {
-                    d = ToDoubles(v ^ Vector256.Create(shift));
+                    // The eight indices share their upper three bytes (Consecutive's remarks).
+                    uint b1 = 256 + ((s >> 8) & 0xFF), b2 = 512 + ((s >> 16) & 0xFF), b3 = 768 + (s >> 24);
+                    Vector256<uint> x = Vector256.Load(tx + low) ^ Vector256.Create(tx[b1] ^ tx[b2] ^ tx[b3]);
+                    Store(Finished<TFinish>(x, shiftX, offsetX), px + i, left);
+                    if (pair)
+                    {
+                        Vector256<uint> y = Vector256.Load(ty + low) ^ Vector256.Create(ty[b1] ^ ty[b2] ^ ty[b3]);
+                        Store(Finished<TFinish>(y, shiftY, offsetY), py + i, left);
+                    }
                 }
                 else
                 {
-                    d = Unit(v);
-                    if (finish == Finish.Rotation)
+                    Vector256<uint> r = Vector256.Create(s) + Lane;
+                    Store(Finished<TFinish>(Walk(tx, r), shiftX, offsetX), px + i, left);
+                    if (pair)
                     {
-                        // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
-                        Vector256<double> sl = d.Low + o, sh = d.High + o;
-                        d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+                        Store(Finished<TFinish>(Walk(ty, r), shiftY, offsetY), py + i, left);
                     }
                 }
-
-                Store(d, px + i, xs.Length - i);
             }
         }
+    }
 
-        return xs.Length;
+    // PlainLanes' finish of eight Sobol words.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Finished<TFinish>(Vector256<uint> v, uint shift, double offset)
+        where TFinish : struct
+    {
+        if (typeof(TFinish) == typeof(Shifted))
+        {
+            return ToDoubles(v ^ Vector256.Create(shift));
+        }
+
+        (Vector256<double> Low, Vector256<double> High) d = Unit(v);
+        if (typeof(TFinish) == typeof(Rotated))
+        {
+            // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
+            Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
+            Vector256<double> sl = d.Low + o, sh = d.High + o;
+            d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+        }
+
+        return d;
     }
 
     /// <summary>How <see cref="TableRun"/> randomizes a table entry v (a 32-bit fixed-point value).</summary>
@@ -306,9 +312,14 @@ internal static class OwenSobolBatch
         }
     }
 
-    private readonly struct Bare;
+    /// <summary>No randomization: the bare value, v · 2^-32.</summary>
+    internal readonly struct Bare;
 
-    private readonly struct Shifted;
+    /// <summary>A random digital shift: ((v xor shift) + 0.5) · 2^-32.</summary>
+    internal readonly struct Shifted;
+
+    /// <summary>A Cranley–Patterson rotation of v · 2^-32.</summary>
+    internal readonly struct Rotated;
 
     private readonly struct Nested;
 

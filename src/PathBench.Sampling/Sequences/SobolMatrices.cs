@@ -142,16 +142,19 @@ public sealed class SobolMatrices
     }
 
     /// <summary>The four 256-entry byte tables behind <see cref="Sample"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> Tables(int dimension) => TablesOf(_byteTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> Tables(int dimension, int count = 1) => TablesOf(_byteTables, dimension, 1024, count);
 
     /// <summary>The four 256-entry byte tables behind <see cref="SampleReversed"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> ReversedTables(int dimension) => TablesOf(_reversedByteTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> ReversedTables(int dimension, int count = 1) => TablesOf(_reversedByteTables, dimension, 1024, count);
 
     /// <summary>
     /// <see cref="Tables"/> with each value bit-reversed (4 KiB a dimension): the walk is an XOR of entries and the
     /// reversal distributes over XOR, so walking these with index i gives Reverse(Sample(i, d)) with no reversal.
     /// </summary>
-    public ReadOnlySpan<uint> ReversedValueTables(int dimension) => TablesOf(_reversedValueTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> ReversedValueTables(int dimension, int count = 1) => TablesOf(_reversedValueTables, dimension, 1024, count);
 
     /// <summary>
     /// The reversed table of the reversed index's top byte (<see cref="ReversedTables"/>' last 256 entries) reordered:
@@ -159,13 +162,17 @@ public sealed class SobolMatrices
     /// an aligned group of eight scrambled indices differ only in their top three bits (see
     /// <c>OwenSobolBatch.Run</c>), so their entries are eight neighbouring ones here.
     /// </summary>
-    public ReadOnlySpan<uint> GroupTable(int dimension) => TablesOf(_groupTables, dimension, 256);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> GroupTable(int dimension, int count = 1) => TablesOf(_groupTables, dimension, 256, count);
 
-    // A tabulated dimension's slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension).
-    private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length)
+    // The slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension) for <paramref name="count"/>
+    // tabulated dimensions from <paramref name="dimension"/>: one check for the dimensions of a pair.
+    private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length, int count)
     {
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(tables, dimension * length, length);
+        ArgumentOutOfRangeException.ThrowIfNegative(dimension);
+        ArgumentOutOfRangeException.ThrowIfLessThan(count, 1);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(dimension + count, Math.Min(Dimensions, TabulatedDimensions), nameof(dimension));
+        return new ReadOnlySpan<uint>(tables, dimension * length, count * length);
     }
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>

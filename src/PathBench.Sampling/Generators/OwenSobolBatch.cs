@@ -20,9 +20,6 @@ internal static class OwenSobolBatch
 {
     private const double Scale = 1.0 / 4294967296.0;
 
-    /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
-    public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
-
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
@@ -45,7 +42,6 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        Scramble scrambleX = new(seedX), scrambleY = new(seedY);
         fixed (uint* tx = reversed, gx = groups)
         fixed (double* px = xs, py = ys)
         {
@@ -57,10 +53,10 @@ internal static class OwenSobolBatch
                 Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
                 uint r0 = r.ToScalar(), r7 = r.GetElement(7);
                 Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
-                Store(ToDoubles(Reverse(Scrambled(Grouped(tx, gx, r0, r7, top, first), scrambleX))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(tx, gx, r0, r7, top, first), seedX, 0))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Grouped(ty, gy, r0, r7, top, first), scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(ty, gy, r0, r7, top, first), seedY, 0))), py + i, xs.Length - i);
                 }
             }
         }
@@ -92,30 +88,46 @@ internal static class OwenSobolBatch
     /// directly: eight consecutive Reverse(T(i)) by one load (<see cref="Consecutive"/>), Reverse(T(block)) once a run,
     /// no vector reversal before the scramble, no gathers.
     /// </summary>
-    public static unsafe int BlockRun(ReadOnlySpan<uint> reversedX, ReadOnlySpan<uint> reversedY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    /// <remarks>
+    /// <typeparamref name="TCommon"/> is <see cref="Once"/> (Laine–Karras under the pixel's seed) or <see cref="Twice"/>
+    /// (then under the seed common to all pixels as well: the <c>owen</c> randomization). <paramref name="tables"/> holds
+    /// the first dimension's tables, or, for a pair, both dimensions' (the second's after the first's). The caller checks
+    /// AVX2 and a run of at least two points.
+    /// </remarks>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe void BlockLanes<TCommon>(ReadOnlySpan<uint> tables, uint firstIndex, uint block, uint seedX, uint commonX, uint seedY, uint commonY, Span<double> xs, Span<double> ys)
+        where TCommon : struct
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
-        {
-            return 0;
-        }
-
         bool pair = !ys.IsEmpty;
-        fixed (uint* tx = reversedX, ty = reversedY)
+        fixed (uint* tx = tables)
         fixed (double* px = xs, py = ys)
         {
+            uint* ty = tx + 1024;
             Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 uint s = firstIndex + (uint)i;
-                Store(ToDoubles(Reverse(Scrambled(Consecutive(tx, s) ^ bx, scrambleX))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(tx, s) ^ bx, seedX, commonX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Consecutive(ty, s) ^ by, scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(ty, s) ^ by, seedY, commonY))), py + i, xs.Length - i);
                 }
             }
         }
+    }
 
-        return xs.Length;
+    /// <summary>Blue noise's scramble under the pixel's seed only (<see cref="BlockLanes"/>).</summary>
+    internal readonly struct Once;
+
+    /// <summary>Blue noise's scramble under the pixel's seed, then the seed common to all pixels (<see cref="BlockLanes"/>).</summary>
+    internal readonly struct Twice;
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<uint> Scrambled<TCommon>(Vector256<uint> x, uint seed, uint common)
+        where TCommon : struct
+    {
+        x = LaineKarras(x, Vector256.Create(seed));
+        return typeof(TCommon) == typeof(Twice) ? LaineKarras(x, Vector256.Create(common)) : x;
     }
 
     // ShortMethod as a property getter: the JIT may otherwise leave it a call in a block the profile says is cold.
@@ -322,13 +334,6 @@ internal static class OwenSobolBatch
     internal readonly struct Rotated;
 
     private readonly struct Nested;
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> Scrambled(Vector256<uint> x, Scramble scramble)
-    {
-        x = LaineKarras(x, Vector256.Create(scramble.Seed));
-        return scramble.Twice ? LaineKarras(x, Vector256.Create(scramble.Common)) : x;
-    }
 
     // OwenScrambler.LaineKarrasPermutation's multipliers.
     private const uint K0 = 0x6c50b47cu, K1 = 0xb82f1e52u, K2 = 0xc7afe638u, K3 = 0x8d22f6e6u;

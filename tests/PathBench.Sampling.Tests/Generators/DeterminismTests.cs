@@ -105,6 +105,9 @@ public sealed class BatchTests
         // and an odd Owen pair (two seed pairs).
         { "sobol", "cranley-patterson", 4 }, { "sobol", "none", 1022 }, { "sobol", "digital-shift", 1023 }, { "sobol", "owen", 5 },
         { "sobol", "cranley-patterson", 1023 },
+        // Blue noise's hashed dimensions as pairs by one kernel (even and odd), the last tabled pair's odd straddle, and a
+        // pair across the last dimension with byte tables.
+        { "bluenoise", "none", 12 }, { "bluenoise", "owen", 13 }, { "bluenoise", "owen", 11 }, { "bluenoise", "none", 1023 },
     };
 
     [Theory]

@@ -45,11 +45,15 @@ public sealed class SobolMatrices
     // The byte tables with their values bit-reversed: entry [(d * 4 + b) * 256 + x] is Reverse(_byteTables[the same]).
     private readonly uint[] _reversedValueTables;
 
+    // How many dimensions have the tables above: Min(Dimensions, TabulatedDimensions).
+    private readonly int _tabulated;
+
     private SobolMatrices(uint[] columns, int dimensions)
     {
         _columns = columns;
         Dimensions = dimensions;
         int tabulated = Math.Min(dimensions, TabulatedDimensions);
+        _tabulated = tabulated;
         _byteTables = new uint[tabulated * 4 * 256];
         _reversedByteTables = new uint[tabulated * 4 * 256];
         _groupTables = new uint[tabulated * 256];
@@ -166,14 +170,21 @@ public sealed class SobolMatrices
     public ReadOnlySpan<uint> GroupTable(int dimension, int count = 1) => TablesOf(_groupTables, dimension, 256, count);
 
     // The slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension) for <paramref name="count"/>
-    // tabulated dimensions from <paramref name="dimension"/>: one check for the dimensions of a pair.
+    // tabulated dimensions from <paramref name="dimension"/>: two comparisons (the batches ask once a call), then no
+    // further check, the slice being inside the table.
     private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length, int count)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(dimension);
-        ArgumentOutOfRangeException.ThrowIfLessThan(count, 1);
-        ArgumentOutOfRangeException.ThrowIfGreaterThan(dimension + count, Math.Min(Dimensions, TabulatedDimensions), nameof(dimension));
-        return new ReadOnlySpan<uint>(tables, dimension * length, count * length);
+        if ((uint)dimension >= (uint)_tabulated || (uint)(count - 1) >= (uint)(_tabulated - dimension))
+        {
+            ThrowNotTabulated(dimension, count);
+        }
+
+        return MemoryMarshal.CreateReadOnlySpan(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(tables), dimension * length), count * length);
     }
+
+    [MethodImpl(InliningOptions.ColdPath)]
+    private void ThrowNotTabulated(int dimension, int count) =>
+        throw new ArgumentOutOfRangeException(nameof(dimension), dimension, $"dimensions {dimension} to {dimension + count - 1} are not all below the {_tabulated} tabulated ones");
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>
     /// <param name="rows">Per dimension from the second on: degree s, inner coefficients a, initial m_1..m_s.</param>

@@ -45,7 +45,8 @@ internal static class OwenSobolBatch
         fixed (uint* tx = reversed, gx = groups)
         fixed (double* px = xs, py = ys)
         {
-            uint* ty = tx + 1024, gy = gx + 256;
+            uint* ty = tx + 1024;
+            Vector256<uint> hx = Vector256.Load(gx), hy = pair ? Vector256.Load(gx + 256) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
@@ -53,10 +54,10 @@ internal static class OwenSobolBatch
                 Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
                 uint r0 = r.ToScalar(), r7 = r.GetElement(7);
                 Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
-                Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(tx, gx, r0, r7, top, first), seedX, 0))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(tx, hx, r0, r7, top, first), seedX, 0))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(ty, gy, r0, r7, top, first), seedY, 0))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(ty, hy, r0, r7, top, first), seedY, 0))), py + i, xs.Length - i);
                 }
             }
         }
@@ -67,16 +68,13 @@ internal static class OwenSobolBatch
     // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
     // per group the first three bytes' entries, shared, and the top byte's entry by lane from the reordered table.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe Vector256<uint> Grouped(uint* tables, uint* groups, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first)
-    {
-        Vector256<uint> a = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r0 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r0));
-        Vector256<uint> b = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r7 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r7));
-        return Vector256.ConditionalSelect(first, a, b);
-    }
+    private static unsafe Vector256<uint> Grouped(uint* tables, Vector256<uint> high, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first) =>
+        Vector256.ConditionalSelect(first, Vector256.Create(Low29(tables, r0)), Vector256.Create(Low29(tables, r7))) ^ Avx2.PermuteVar8x32(high, top);
 
-    // The first three bytes' entries of a walk.
+    // The walk of r's low 29 bits: the first three bytes' entries and the top byte's entry for its low five bits.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe uint LowBytes(uint* table, uint r) => table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)];
+    private static unsafe uint Low29(uint* table, uint r) =>
+        table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)] ^ table[768 + ((r >> 24) & 31)];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with

@@ -23,18 +23,19 @@ internal static class OwenSobolBatch
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
-    /// reversed index under <paramref name="seedIndex"/>), then the reversed tables walked without gathers. Laine–Karras
+    /// reversed index under <paramref name="seedIndex"/>), then the reversed walk without gathers. Laine–Karras
     /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
     /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
-    /// their low 29 bits: their walks share the first three bytes' entries, and their top bytes' entries are eight
-    /// neighbouring ones of the reordered table, picked per lane by r's top three bits (vpermd). Eight consecutive
-    /// indices lie in at most two aligned groups (lanes 0 and 7 stand for them), so each coordinate is two such lookups
-    /// and a select: the same table entries the scalar walk XORs. <paramref name="reversed"/> and <paramref name="groups"/> are
-    /// <see cref="Sequences.SobolMatrices.ReversedTables"/> and <see cref="Sequences.SobolMatrices.GroupTable"/> of the
-    /// first dimension, or, for a pair, of both (the second's after the first's).
+    /// their low 29 bits and differ in their top three. The walk is linear over GF(2) (an XOR of the generator matrix's
+    /// columns picked by the index's bits; Sobol 1967), so a lane's walk is the walk of the group's low 29 bits, shared,
+    /// XOR the walk of the lane's top three bits, picked from the dimension's eight such entries by vpermd. Eight
+    /// consecutive indices lie in at most two aligned groups (lanes 0 and 7 stand for them): two shared walks and a
+    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.ChunkTables"/> of the first dimension, or,
+    /// for a pair, of both (the second's after the first's): the walk by groups of six bits, whose small tables the
+    /// random scrambled indices find in the level-one cache more often than the byte tables.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe int Run(ReadOnlySpan<uint> reversed, ReadOnlySpan<uint> groups, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe int Run(ReadOnlySpan<uint> chunks, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -42,11 +43,11 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        fixed (uint* tx = reversed, gx = groups)
+        fixed (uint* tx = chunks)
         fixed (double* px = xs, py = ys)
         {
-            uint* ty = tx + 1024;
-            Vector256<uint> hx = Vector256.Load(gx), hy = pair ? Vector256.Load(gx + 256) : default;
+            uint* ty = tx + Sequences.SobolMatrices.ChunkStride;
+            Vector256<uint> hx = Vector256.Load(tx + 288), hy = pair ? Vector256.Load(ty + 288) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
@@ -66,15 +67,15 @@ internal static class OwenSobolBatch
     }
 
     // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
-    // per group the first three bytes' entries, shared, and the top byte's entry by lane from the reordered table.
+    // per group the walk of the low 29 bits, shared, XOR by lane the top three bits' entry from high (picked by top).
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static unsafe Vector256<uint> Grouped(uint* tables, Vector256<uint> high, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first) =>
         Vector256.ConditionalSelect(first, Vector256.Create(Low29(tables, r0)), Vector256.Create(Low29(tables, r7))) ^ Avx2.PermuteVar8x32(high, top);
 
-    // The walk of r's low 29 bits: the first three bytes' entries and the top byte's entry for its low five bits.
+    // The walk of r's low 29 bits from a dimension's chunk tables (SobolMatrices.ChunkTables): four groups of six bits, one of five.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe uint Low29(uint* table, uint r) =>
-        table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)] ^ table[768 + ((r >> 24) & 31)];
+    private static unsafe uint Low29(uint* chunks, uint r) =>
+        chunks[r & 63] ^ chunks[64 + ((r >> 6) & 63)] ^ chunks[128 + ((r >> 12) & 63)] ^ chunks[192 + ((r >> 18) & 63)] ^ chunks[256 + ((r >> 24) & 31)];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
@@ -48,9 +49,14 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     private readonly uint[] _common = new uint[TabledDimensions];
     private readonly bool _scrambleCommon;
 
-    // Per pair and tile position, the level's seed word and its block shifted by the level (the index XOR).
-    private readonly uint[] _words = new uint[BlueNoiseSeedTable.Pairs * Positions];
-    private readonly uint[] _blocks = new uint[BlueNoiseSeedTable.Pairs * Positions];
+    // Per pair and tile position, four words: the level's scramble seeds of the pair's two dimensions
+    // (BlueNoiseSeedTable.ScrambleSeeds of its seed word), its block shifted by the level (the index XOR), and one unused,
+    // so that a batch reads one entry in one cache line.
+    private readonly uint[] _entries = new uint[BlueNoiseSeedTable.Pairs * Positions * EntryWords];
+    private const int EntryWords = 4;
+
+    // Dimensions the eight-lane forms can walk (those with byte tables).
+    private readonly int _walked;
 
     /// <summary>Creates the sampler.</summary>
     public BlueNoiseSobolSampler(SamplerSpec spec) : base(spec)
@@ -62,6 +68,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
         }
 
         Level = BlueNoiseRankingTable.LevelFor(spec.Count);
+        _walked = Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions);
         BlueNoiseSeedTable seeds = BlueNoiseSeedTable.Default;
         BlueNoiseRankingTable ranking = BlueNoiseRankingTable.Default;
         for (int pair = 0; pair < BlueNoiseSeedTable.Pairs; pair++)
@@ -69,8 +76,9 @@ public sealed class BlueNoiseSobolSampler : PointSampler
             for (int q = 0; q < Positions; q++)
             {
                 uint word = seeds.Word(pair, ranking.Key(Level, pair, q));
-                _words[(pair * Positions) + q] = word;
-                _blocks[(pair * Positions) + q] = BlueNoiseRankingTable.Block(word) << Level;
+                int at = ((pair * Positions) + q) * EntryWords;
+                (_entries[at], _entries[at + 1]) = BlueNoiseSeedTable.ScrambleSeeds(word);
+                _entries[at + 2] = BlueNoiseRankingTable.Block(word) << Level;
             }
         }
     }
@@ -82,7 +90,7 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     public override int MaxDimensions => _matrices.Dimensions;
 
     /// <inheritdoc/>
-    /// <remarks>Eight on AVX2: groups of eight points from neighbouring table entries (<see cref="OwenSobolBatch.BlockRun"/>; a run's last part-group on all lanes).</remarks>
+    /// <remarks>Eight on AVX2: groups of eight points from neighbouring table entries (<see cref="OwenSobolBatch.BlockLanes"/>; a run's last part-group on all lanes).</remarks>
     public override int PointsAtOnce => Avx2.IsSupported ? 8 : 1;
 
     /// <summary>
@@ -113,13 +121,11 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     {
         if (dimension >= TabledDimensions)
         {
-            uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            return ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(index), dimension), seed));
+            return Padded(index, dimension, PaddingSeed(pixel, dimension));
         }
 
-        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
-        return Tabled(BitReversal.Reverse(index ^ _blocks[entry]), dimension, (dimension & 1) == 0 ? sx : sy);
+        int entry = Entry(pixel, dimension);
+        return Tabled(BitReversal.Reverse(index ^ _entries[entry + 2]), dimension, _entries[entry + (dimension & 1)]);
     }
 
     /// <inheritdoc/>
@@ -130,11 +136,10 @@ public sealed class BlueNoiseSobolSampler : PointSampler
             return base.Sample2D(pixel, index, dimension);
         }
 
-        // The pair shares one table word and one index reversal.
-        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
-        uint reversedIndex = BitReversal.Reverse(index ^ _blocks[entry]);
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
-        return (Tabled(reversedIndex, dimension, sx), Tabled(reversedIndex, dimension + 1, sy));
+        // The pair shares one table entry and one index reversal.
+        int entry = Entry(pixel, dimension);
+        uint reversedIndex = BitReversal.Reverse(index ^ _entries[entry + 2]);
+        return (Tabled(reversedIndex, dimension, _entries[entry]), Tabled(reversedIndex, dimension + 1, _entries[entry + 1]));
     }
 
     /// <inheritdoc/>
@@ -143,59 +148,114 @@ public sealed class BlueNoiseSobolSampler : PointSampler
     {
         if (dimension >= TabledDimensions)
         {
-            uint seed = SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
-            int vectored = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), default, firstIndex, 0, new OwenSobolBatch.Scramble(seed), default, xs, default) : 0;
-            for (int i = vectored; i < xs.Length; i++)
-            {
-                xs[i] = ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(firstIndex + (uint)i), dimension), seed));
-            }
-
+            PaddedBatch(pixel, firstIndex, dimension, xs, default);
             return;
         }
 
-        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
-        uint pixelSeed = (dimension & 1) == 0 ? sx : sy;
-        uint block = _blocks[entry];
-        int done = Walked(dimension) ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), default, firstIndex, block, Scramble(pixelSeed, dimension), default, xs, default) : 0;
-        for (int i = done; i < xs.Length; i++)
-        {
-            xs[i] = Tabled(BitReversal.Reverse((firstIndex + (uint)i) ^ block), dimension, pixelSeed);
-        }
+        Batch(pixel, firstIndex, dimension, xs, default);
     }
 
     /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
-        if ((dimension & 1) != 0 || dimension >= TabledDimensions)
-        {
-            // Sample2D is two single coordinates here.
-            PairBySingles(pixel, firstIndex, dimension, xs, ys);
-            return;
-        }
-
         RequireSameLength(xs, ys);
-        int entry = ((dimension >> 1) * Positions) + (int)(pixel & 0xFFF);
-        (uint sx, uint sy) = BlueNoiseSeedTable.ScrambleSeeds(_words[entry]);
-        uint block = _blocks[entry];
-        int done = Walked(dimension + 1)
-            ? OwenSobolBatch.BlockRun(_matrices.ReversedValueTables(dimension), _matrices.ReversedValueTables(dimension + 1), firstIndex, block, Scramble(sx, dimension), Scramble(sy, dimension + 1), xs, ys)
-            : 0;
-        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the eight-lane form is tested against.
-        for (int i = done; i < xs.Length; i++)
+        if (dimension >= TabledDimensions)
         {
-            uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);
-            xs[i] = Tabled(reversedIndex, dimension, sx);
-            ys[i] = Tabled(reversedIndex, dimension + 1, sy);
+            // Two single coordinates (Sample2D's), both by one kernel, which shares the index's bytes between them.
+            PaddedBatch(pixel, firstIndex, dimension, xs, ys);
+        }
+        else if ((dimension & 1) != 0)
+        {
+            // Two single coordinates of two tabled pairs, or of the last tabled pair and the first hashed dimension.
+            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+        }
+        else
+        {
+            Batch(pixel, firstIndex, dimension, xs, ys);
         }
     }
 
-    // Whether the eight-lane form can walk this dimension's byte tables.
-    private bool Walked(int dimension) => dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions);
+    // A dimension past the tabled pairs (seeded by the padding hash of the pixel key and the dimension, no index XOR)
+    // into xs and, when ys is not empty, the next into ys.
+    [MethodImpl(InliningOptions.Kernel)]
+    private void PaddedBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        bool pair = !ys.IsEmpty;
+        uint seedX = PaddingSeed(pixel, dimension), seedY = pair ? PaddingSeed(pixel, dimension + 1) : 0;
+        int count = pair ? 2 : 1;
+        if (Avx2.IsSupported && xs.Length >= 2 && dimension + count <= _walked)
+        {
+            OwenSobolBatch.BlockLanes<OwenSobolBatch.Once>(_matrices.ReversedValueTables(dimension, count), firstIndex, 0, seedX, 0, seedY, 0, xs, ys);
+            return;
+        }
 
-    // A tabled dimension's scramble for the eight-lane form: the pixel's seed, then the common one when the sampler has it.
-    private OwenSobolBatch.Scramble Scramble(uint pixelSeed, int dimension) =>
-        _scrambleCommon ? new(pixelSeed, true, _common[dimension]) : new(pixelSeed);
+        for (int i = 0; i < xs.Length; i++)
+        {
+            xs[i] = Padded(firstIndex + (uint)i, dimension, seedX);
+        }
+
+        for (int i = 0; i < ys.Length; i++)
+        {
+            ys[i] = Padded(firstIndex + (uint)i, dimension + 1, seedY);
+        }
+    }
+
+    private static uint PaddingSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.BlueNoisePadding, (ulong)dimension);
+
+    private double Padded(uint index, int dimension, uint seed) =>
+        ToUnit(OwenScrambler.LaineKarrasPermutation(_matrices.SampleReversed(BitReversal.Reverse(index), dimension), seed));
+
+    // A tabled dimension d into xs and, when ys is not empty (d even), d + 1 into ys: one kernel for each randomization
+    // (with and without the common scramble), each with its own code and dynamic-PGO profile.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private void Batch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (_scrambleCommon)
+        {
+            TabledBatch<OwenSobolBatch.Twice>(pixel, firstIndex, dimension, xs, ys);
+        }
+        else
+        {
+            TabledBatch<OwenSobolBatch.Once>(pixel, firstIndex, dimension, xs, ys);
+        }
+    }
+
+    [MethodImpl(InliningOptions.Kernel)]
+    private void TabledBatch<TCommon>(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+        where TCommon : struct
+    {
+        bool pair = !ys.IsEmpty;
+        int entry = Entry(pixel, dimension);
+        uint seedX = _entries[entry + (dimension & 1)], seedY = _entries[entry + 1], block = _entries[entry + 2];
+        uint commonX = 0, commonY = 0;
+        if (typeof(TCommon) == typeof(OwenSobolBatch.Twice))
+        {
+            commonX = _common[dimension];
+            commonY = pair ? _common[dimension + 1] : 0;
+        }
+
+        int count = pair ? 2 : 1;
+        if (Avx2.IsSupported && xs.Length >= 2 && dimension + count <= _walked)
+        {
+            OwenSobolBatch.BlockLanes<TCommon>(_matrices.ReversedValueTables(dimension, count), firstIndex, block, seedX, commonX, seedY, commonY, xs, ys);
+            return;
+        }
+
+        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the eight-lane form is tested against.
+        for (int i = 0; i < xs.Length; i++)
+        {
+            uint reversedIndex = BitReversal.Reverse((firstIndex + (uint)i) ^ block);
+            xs[i] = Tabled(reversedIndex, dimension, seedX);
+            if (pair)
+            {
+                ys[i] = Tabled(reversedIndex, dimension + 1, seedY);
+            }
+        }
+    }
+
+    // The first word of a tabled dimension's entry for the pixel's tile position (the key's low 12 bits).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static int Entry(ulong pixel, int dimension) => (((dimension >> 1) * Positions) + (int)(pixel & 0xFFF)) * EntryWords;
 
     private double Tabled(uint reversedIndex, int dimension, uint pixelSeed) =>
         ToUnit(ScrambledReversed(_matrices, reversedIndex, dimension, pixelSeed, _scrambleCommon ? _common[dimension] : null));

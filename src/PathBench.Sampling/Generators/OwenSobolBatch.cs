@@ -20,33 +20,22 @@ internal static class OwenSobolBatch
 {
     private const double Scale = 1.0 / 4294967296.0;
 
-    /// <summary>A coordinate's scramble: Laine–Karras under <paramref name="Seed"/>, then under <paramref name="Common"/> when <paramref name="Twice"/> (blue noise's scramble common to all pixels).</summary>
-    public readonly record struct Scramble(uint Seed, bool Twice = false, uint Common = 0);
-
-    /// <summary>A dimension's tables for <see cref="Run"/>: the reversed byte tables and the reordered top-byte table.</summary>
-    /// <param name="Reversed"><see cref="Sequences.SobolMatrices.ReversedTables"/>.</param>
-    /// <param name="Groups"><see cref="Sequences.SobolMatrices.GroupTable"/>.</param>
-    public readonly ref struct Tables(ReadOnlySpan<uint> Reversed, ReadOnlySpan<uint> Groups)
-    {
-        /// <summary>The reversed byte tables.</summary>
-        public ReadOnlySpan<uint> Reversed { get; } = Reversed;
-
-        /// <summary>The reordered top-byte table.</summary>
-        public ReadOnlySpan<uint> Groups { get; } = Groups;
-    }
-
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
-    /// reversed index under <paramref name="seedIndex"/>), then the reversed tables walked without gathers. Laine–Karras
+    /// reversed index under <paramref name="seedIndex"/>), then the reversed walk without gathers. Laine–Karras
     /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
     /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
-    /// their low 29 bits: their walks share the first three bytes' entries, and their top bytes' entries are eight
-    /// neighbouring ones of the reordered table, picked per lane by r's top three bits (vpermd). Eight consecutive
-    /// indices lie in at most two aligned groups (lanes 0 and 7 stand for them), so each coordinate is two such lookups
-    /// and a select: the same table entries the scalar walk XORs.
+    /// their low 29 bits and differ in their top three. The walk is linear over GF(2) (an XOR of the generator matrix's
+    /// columns picked by the index's bits; Sobol 1967), so a lane's walk is the walk of the group's low 29 bits, shared,
+    /// XOR the walk of the lane's top three bits, picked from the dimension's eight such entries by vpermd. Eight
+    /// consecutive indices lie in at most two aligned groups (lanes 0 and 7 stand for them): two shared walks and a
+    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.ChunkTables"/> of the first dimension, or,
+    /// for a pair, of both (the second's after the first's): the walk by groups of six bits, whose small tables the
+    /// random scrambled indices find in the level-one cache more often than the byte tables.
     /// </summary>
-    public static unsafe int Run(Tables x, Tables y, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe int Run(ReadOnlySpan<uint> chunks, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         if (!Avx2.IsSupported || xs.Length < 2)
         {
@@ -54,10 +43,11 @@ internal static class OwenSobolBatch
         }
 
         bool pair = !ys.IsEmpty;
-        Scramble scrambleX = new(seedX), scrambleY = new(seedY);
-        fixed (uint* tx = x.Reversed, gx = x.Groups, ty = y.Reversed, gy = y.Groups)
+        fixed (uint* tx = chunks)
         fixed (double* px = xs, py = ys)
         {
+            uint* ty = tx + Sequences.SobolMatrices.ChunkStride;
+            Vector256<uint> hx = Vector256.Load(tx + 288), hy = pair ? Vector256.Load(ty + 288) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
@@ -65,10 +55,10 @@ internal static class OwenSobolBatch
                 Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
                 uint r0 = r.ToScalar(), r7 = r.GetElement(7);
                 Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
-                Store(ToDoubles(Reverse(Scrambled(Grouped(tx, gx, r0, r7, top, first), scrambleX))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(tx, hx, r0, r7, top, first), seedX, 0))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Grouped(ty, gy, r0, r7, top, first), scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(ty, hy, r0, r7, top, first), seedY, 0))), py + i, xs.Length - i);
                 }
             }
         }
@@ -77,18 +67,15 @@ internal static class OwenSobolBatch
     }
 
     // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
-    // per group the first three bytes' entries, shared, and the top byte's entry by lane from the reordered table.
+    // per group the walk of the low 29 bits, shared, XOR by lane the top three bits' entry from high (picked by top).
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe Vector256<uint> Grouped(uint* tables, uint* groups, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first)
-    {
-        Vector256<uint> a = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r0 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r0));
-        Vector256<uint> b = Avx2.PermuteVar8x32(Vector256.Load(groups + (((r7 >> 24) & 31) << 3)), top) ^ Vector256.Create(LowBytes(tables, r7));
-        return Vector256.ConditionalSelect(first, a, b);
-    }
+    private static unsafe Vector256<uint> Grouped(uint* tables, Vector256<uint> high, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first) =>
+        Vector256.ConditionalSelect(first, Vector256.Create(Low29(tables, r0)), Vector256.Create(Low29(tables, r7))) ^ Avx2.PermuteVar8x32(high, top);
 
-    // The first three bytes' entries of a walk.
+    // The walk of r's low 29 bits from a dimension's chunk tables (SobolMatrices.ChunkTables): four groups of six bits, one of five.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe uint LowBytes(uint* table, uint r) => table[r & 0xFF] ^ table[256 + ((r >> 8) & 0xFF)] ^ table[512 + ((r >> 16) & 0xFF)];
+    private static unsafe uint Low29(uint* chunks, uint r) =>
+        chunks[r & 63] ^ chunks[64 + ((r >> 6) & 63)] ^ chunks[128 + ((r >> 12) & 63)] ^ chunks[192 + ((r >> 18) & 63)] ^ chunks[256 + ((r >> 24) & 31)];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with
@@ -100,30 +87,46 @@ internal static class OwenSobolBatch
     /// directly: eight consecutive Reverse(T(i)) by one load (<see cref="Consecutive"/>), Reverse(T(block)) once a run,
     /// no vector reversal before the scramble, no gathers.
     /// </summary>
-    public static unsafe int BlockRun(ReadOnlySpan<uint> reversedX, ReadOnlySpan<uint> reversedY, uint firstIndex, uint block, Scramble scrambleX, Scramble scrambleY, Span<double> xs, Span<double> ys)
+    /// <remarks>
+    /// <typeparamref name="TCommon"/> is <see cref="Once"/> (Laine–Karras under the pixel's seed) or <see cref="Twice"/>
+    /// (then under the seed common to all pixels as well: the <c>owen</c> randomization). <paramref name="tables"/> holds
+    /// the first dimension's tables, or, for a pair, both dimensions' (the second's after the first's). The caller checks
+    /// AVX2 and a run of at least two points.
+    /// </remarks>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe void BlockLanes<TCommon>(ReadOnlySpan<uint> tables, uint firstIndex, uint block, uint seedX, uint commonX, uint seedY, uint commonY, Span<double> xs, Span<double> ys)
+        where TCommon : struct
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
-        {
-            return 0;
-        }
-
         bool pair = !ys.IsEmpty;
-        fixed (uint* tx = reversedX, ty = reversedY)
+        fixed (uint* tx = tables)
         fixed (double* px = xs, py = ys)
         {
+            uint* ty = tx + 1024;
             Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
                 uint s = firstIndex + (uint)i;
-                Store(ToDoubles(Reverse(Scrambled(Consecutive(tx, s) ^ bx, scrambleX))), px + i, xs.Length - i);
+                Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(tx, s) ^ bx, seedX, commonX))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled(Consecutive(ty, s) ^ by, scrambleY))), py + i, xs.Length - i);
+                    Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(ty, s) ^ by, seedY, commonY))), py + i, xs.Length - i);
                 }
             }
         }
+    }
 
-        return xs.Length;
+    /// <summary>Blue noise's scramble under the pixel's seed only (<see cref="BlockLanes"/>).</summary>
+    internal readonly struct Once;
+
+    /// <summary>Blue noise's scramble under the pixel's seed, then the seed common to all pixels (<see cref="BlockLanes"/>).</summary>
+    internal readonly struct Twice;
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<uint> Scrambled<TCommon>(Vector256<uint> x, uint seed, uint common)
+        where TCommon : struct
+    {
+        x = LaineKarras(x, Vector256.Create(seed));
+        return typeof(TCommon) == typeof(Twice) ? LaineKarras(x, Vector256.Create(common)) : x;
     }
 
     // ShortMethod as a property getter: the JIT may otherwise leave it a call in a block the profile says is cold.
@@ -158,60 +161,74 @@ internal static class OwenSobolBatch
         return Walk(table, Vector256.Create(s) + Lane);
     }
 
-    /// <summary>How <see cref="PlainRun"/> finishes a Sobol coordinate v (a 32-bit fixed-point value).</summary>
-    public enum Finish
-    {
-        /// <summary>v · 2^-32.</summary>
-        None,
-
-        /// <summary>((v xor shift) + 0.5) · 2^-32 (<see cref="PointRandomizations.DigitalShift"/>'s form, as Sobol makes it).</summary>
-        DigitalShift,
-
-        /// <summary><see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset).</summary>
-        Rotation,
-    }
-
     /// <summary>
-    /// One Sobol dimension without scrambling, eight points at a time with AVX2: the byte-table walk of the index (the
-    /// scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group (<see cref="Consecutive"/>), then <paramref name="finish"/> with
-    /// the scalar code's operations. Returns how many points it wrote: the whole run, or zero without AVX2 or for a
-    /// single point.
+    /// One Sobol dimension without scrambling (or, with a non-empty <paramref name="ys"/>, the next dimension too, whose
+    /// byte tables follow <paramref name="tables"/>' first 1024 entries), eight points at a time with AVX2: the byte-table
+    /// walk of the index (the scalar <see cref="Sequences.SobolMatrices.Sample"/>'s four lookups) by one load a group and
+    /// dimension (<see cref="Consecutive"/>), then finished as <typeparamref name="TFinish"/> says with the scalar code's
+    /// operations: <see cref="Bare"/> v · 2^-32, <see cref="Shifted"/> ((v xor shift) + 0.5) · 2^-32 (Sobol's digital
+    /// shift), <see cref="Rotated"/> <see cref="PointRandomizations.Rotate"/>(v · 2^-32, offset). The caller checks AVX2
+    /// and a run of at least two points; the two dimensions share the index's bytes and the test of the group's low byte.
     /// </summary>
-    public static unsafe int PlainRun(ReadOnlySpan<uint> tables, uint firstIndex, Finish finish, uint shift, double offset, Span<double> xs)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static unsafe void PlainLanes<TFinish>(ReadOnlySpan<uint> tables, uint firstIndex, uint shiftX, double offsetX, uint shiftY, double offsetY, Span<double> xs, Span<double> ys)
+        where TFinish : struct
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
+        bool pair = !ys.IsEmpty;
+        fixed (uint* tx = tables)
+        fixed (double* px = xs, py = ys)
         {
-            return 0;
-        }
-
-        Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
-        fixed (uint* t = tables)
-        fixed (double* px = xs)
-        {
+            uint* ty = tx + 1024;
             for (int i = 0; i < xs.Length; i += 8)
             {
-                Vector256<uint> v = Consecutive(t, firstIndex + (uint)i);
-                (Vector256<double> Low, Vector256<double> High) d;
-                if (finish == Finish.DigitalShift)
+                uint s = firstIndex + (uint)i;
+                uint low = s & 0xFF;
+                int left = xs.Length - i;
+                if (low <= 248)
                 {
-                    d = ToDoubles(v ^ Vector256.Create(shift));
+                    // The eight indices share their upper three bytes (Consecutive's remarks).
+                    uint b1 = 256 + ((s >> 8) & 0xFF), b2 = 512 + ((s >> 16) & 0xFF), b3 = 768 + (s >> 24);
+                    Vector256<uint> x = Vector256.Load(tx + low) ^ Vector256.Create(tx[b1] ^ tx[b2] ^ tx[b3]);
+                    Store(Finished<TFinish>(x, shiftX, offsetX), px + i, left);
+                    if (pair)
+                    {
+                        Vector256<uint> y = Vector256.Load(ty + low) ^ Vector256.Create(ty[b1] ^ ty[b2] ^ ty[b3]);
+                        Store(Finished<TFinish>(y, shiftY, offsetY), py + i, left);
+                    }
                 }
                 else
                 {
-                    d = Unit(v);
-                    if (finish == Finish.Rotation)
+                    Vector256<uint> r = Vector256.Create(s) + Lane;
+                    Store(Finished<TFinish>(Walk(tx, r), shiftX, offsetX), px + i, left);
+                    if (pair)
                     {
-                        // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
-                        Vector256<double> sl = d.Low + o, sh = d.High + o;
-                        d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+                        Store(Finished<TFinish>(Walk(ty, r), shiftY, offsetY), py + i, left);
                     }
                 }
-
-                Store(d, px + i, xs.Length - i);
             }
         }
+    }
 
-        return xs.Length;
+    // PlainLanes' finish of eight Sobol words.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static (Vector256<double> Low, Vector256<double> High) Finished<TFinish>(Vector256<uint> v, uint shift, double offset)
+        where TFinish : struct
+    {
+        if (typeof(TFinish) == typeof(Shifted))
+        {
+            return ToDoubles(v ^ Vector256.Create(shift));
+        }
+
+        (Vector256<double> Low, Vector256<double> High) d = Unit(v);
+        if (typeof(TFinish) == typeof(Rotated))
+        {
+            // s − 1 where s ≥ 1, else s − 0: the same bits as the scalar Rotate's flag.
+            Vector256<double> one = Vector256<double>.One, o = Vector256.Create(offset);
+            Vector256<double> sl = d.Low + o, sh = d.High + o;
+            d = (sl - (Vector256.GreaterThanOrEqual(sl, one) & one), sh - (Vector256.GreaterThanOrEqual(sh, one) & one));
+        }
+
+        return d;
     }
 
     /// <summary>How <see cref="TableRun"/> randomizes a table entry v (a 32-bit fixed-point value).</summary>
@@ -306,18 +323,16 @@ internal static class OwenSobolBatch
         }
     }
 
-    private readonly struct Bare;
+    /// <summary>No randomization: the bare value, v · 2^-32.</summary>
+    internal readonly struct Bare;
 
-    private readonly struct Shifted;
+    /// <summary>A random digital shift: ((v xor shift) + 0.5) · 2^-32.</summary>
+    internal readonly struct Shifted;
+
+    /// <summary>A Cranley–Patterson rotation of v · 2^-32.</summary>
+    internal readonly struct Rotated;
 
     private readonly struct Nested;
-
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> Scrambled(Vector256<uint> x, Scramble scramble)
-    {
-        x = LaineKarras(x, Vector256.Create(scramble.Seed));
-        return scramble.Twice ? LaineKarras(x, Vector256.Create(scramble.Common)) : x;
-    }
 
     // OwenScrambler.LaineKarrasPermutation's multipliers.
     private const uint K0 = 0x6c50b47cu, K1 = 0xb82f1e52u, K2 = 0xc7afe638u, K3 = 0x8d22f6e6u;

@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics.X86;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
@@ -18,6 +19,10 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 {
     private const double Scale = 1.0 / 4294967296.0;
     private readonly SobolMatrices _matrices = SobolMatrices.Default;
+    private readonly Randomization _randomize = spec.Randomize;
+
+    // Dimensions below this have byte tables (the eight-lane forms walk them).
+    private readonly int _tabled = Math.Min(SobolMatrices.Default.Dimensions, SobolMatrices.TabulatedDimensions);
 
     /// <inheritdoc/>
     public override int MaxDimensions => _matrices.Dimensions;
@@ -34,8 +39,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             case Randomization.Owen:
                 return Owen(pixel, ReversedShuffledIndex(pixel, index), dimension);
             case Randomization.DigitalShift:
-                uint shift = SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
-                return ((_matrices.Sample(index, dimension) ^ shift) + 0.5) * Scale;
+                return ((_matrices.Sample(index, dimension) ^ DigitalShift(pixel, dimension)) + 0.5) * Scale;
             case Randomization.CranleyPatterson:
                 return Rotation.Apply(_matrices.Sample(index, dimension) * Scale, pixel, dimension);
             default:
@@ -64,89 +68,127 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
     /// <inheritdoc/>
     /// <remarks>A dimension's randomization (seed, shift or offset) is computed once per batch.</remarks>
-    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) => Batch(pixel, firstIndex, dimension, xs, default);
+
+    /// <inheritdoc/>
+    /// <remarks>Without Owen scrambling Sample2D is two single coordinates: both dimensions by one kernel, which shares the index's bytes between them.</remarks>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
-        switch (Spec.Randomize)
+        RequireSameLength(xs, ys);
+        if (!xs.IsEmpty)
+        {
+            Batch(pixel, firstIndex, dimension, xs, ys);
+        }
+    }
+
+    // Dimension d into xs and, when ys is not empty, d + 1 into ys, by one kernel per randomization (each with its own
+    // code and dynamic-PGO profile: a batch method shared by the four was compiled by the profile of whichever the
+    // process ran first, the others' branches laid out as cold).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private void Batch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        switch (_randomize)
         {
             case Randomization.Owen:
-                uint seed = (uint)(PairSeeds(pixel, dimension) >> (32 * (dimension & 1)));
-                int done = 0;
-                if (dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
-                {
-                    done = OwenSobolBatch.Run(Tables(dimension), default, firstIndex, (uint)(pixel >> 32), seed, 0, xs, default);
-                }
-
-                for (int i = done; i < xs.Length; i++)
-                {
-                    xs[i] = OwenCoordinate(ReversedShuffledIndex(pixel, firstIndex + (uint)i), dimension, seed);
-                }
-
+                OwenBatch(pixel, firstIndex, dimension, xs, ys);
                 return;
-            // The unscrambled forms on eight lanes where the dimension is tabled (OwenSobolBatch.PlainRun), the rest (a
-            // single point, no AVX2) by the scalar loops: the reference the lanes are tested against.
             case Randomization.DigitalShift:
-                uint shift = SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
-                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.DigitalShift, shift, 0, xs); i < xs.Length; i++)
-                {
-                    xs[i] = ((_matrices.Sample(firstIndex + (uint)i, dimension) ^ shift) + 0.5) * Scale;
-                }
-
+                PlainBatch<OwenSobolBatch.Shifted>(pixel, firstIndex, dimension, xs, ys);
                 return;
             case Randomization.CranleyPatterson:
-                double offset = PointRandomizations.RotationOffset(pixel, dimension);
-                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.Rotation, 0, offset, xs); i < xs.Length; i++)
-                {
-                    xs[i] = PointRandomizations.Rotate(_matrices.Sample(firstIndex + (uint)i, dimension) * Scale, offset);
-                }
-
+                PlainBatch<OwenSobolBatch.Rotated>(pixel, firstIndex, dimension, xs, ys);
                 return;
             default:
-                for (int i = Plain(firstIndex, dimension, OwenSobolBatch.Finish.None, 0, 0, xs); i < xs.Length; i++)
-                {
-                    xs[i] = _matrices.Sample(firstIndex + (uint)i, dimension) * Scale;
-                }
-
+                PlainBatch<OwenSobolBatch.Bare>(pixel, firstIndex, dimension, xs, ys);
                 return;
         }
     }
 
-    /// <inheritdoc/>
-    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    // Dimension d of the run into xs and, when ys is not empty, dimension d + 1 into ys (as many): the unscrambled forms
+    // (TFinish: OwenSobolBatch.Bare, Shifted or Rotated) on eight lanes where the dimensions are tabled
+    // (OwenSobolBatch.PlainLanes), the rest (a single point, no AVX2, an untabled dimension) by the scalar loops: the
+    // reference the lanes are tested against.
+    [MethodImpl(InliningOptions.Kernel)]
+    private void PlainBatch<TFinish>(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+        where TFinish : struct
     {
-        if (Spec.Randomize != Randomization.Owen)
+        bool pair = !ys.IsEmpty;
+        uint shiftX = 0, shiftY = 0;
+        double offsetX = 0, offsetY = 0;
+        if (typeof(TFinish) == typeof(OwenSobolBatch.Shifted))
         {
-            // Sample2D is two single coordinates for these.
-            PairBySingles(pixel, firstIndex, dimension, xs, ys);
+            shiftX = DigitalShift(pixel, dimension);
+            shiftY = pair ? DigitalShift(pixel, dimension + 1) : 0;
+        }
+        else if (typeof(TFinish) == typeof(OwenSobolBatch.Rotated))
+        {
+            offsetX = PointRandomizations.RotationOffset(pixel, dimension);
+            offsetY = pair ? PointRandomizations.RotationOffset(pixel, dimension + 1) : 0;
+        }
+
+        int count = pair ? 2 : 1;
+        if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
+        {
+            OwenSobolBatch.PlainLanes<TFinish>(_matrices.Tables(dimension, count), firstIndex, shiftX, offsetX, shiftY, offsetY, xs, ys);
             return;
         }
 
-        if ((dimension & 1) != 0 || dimension + 1 >= Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions))
+        for (int i = 0; i < xs.Length; i++)
         {
-            base.Sample2DBatch(pixel, firstIndex, dimension, xs, ys);
+            xs[i] = Finished<TFinish>(_matrices.Sample(firstIndex + (uint)i, dimension), shiftX, offsetX);
+        }
+
+        for (int i = 0; i < ys.Length; i++)
+        {
+            ys[i] = Finished<TFinish>(_matrices.Sample(firstIndex + (uint)i, dimension + 1), shiftY, offsetY);
+        }
+    }
+
+    // The scalar finish of a Sobol word: Sample's arithmetic for each unscrambled randomization.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static double Finished<TFinish>(uint v, uint shift, double offset)
+        where TFinish : struct
+    {
+        if (typeof(TFinish) == typeof(OwenSobolBatch.Shifted))
+        {
+            return ((v ^ shift) + 0.5) * Scale;
+        }
+
+        return typeof(TFinish) == typeof(OwenSobolBatch.Rotated) ? PointRandomizations.Rotate(v * Scale, offset) : v * Scale;
+    }
+
+    // Owen-scrambled dimension d of the run into xs and, when ys is not empty, d + 1 into ys: the pair on eight lanes
+    // (OwenSobolBatch.Run) where d is even and both are tabled, one dimension where it is tabled; the rest (a
+    // single point, no AVX2, an untabled dimension) by the scalar form, the reference the vector code is tested against.
+    [MethodImpl(InliningOptions.Kernel)]
+    private void OwenBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (!ys.IsEmpty && (dimension & 1) != 0)
+        {
+            // An odd pair straddles two seed pairs: two single dimensions (Sample2D's values, which are Sample's).
+            OwenBatch(pixel, firstIndex, dimension, xs, default);
+            OwenBatch(pixel, firstIndex, dimension + 1, ys, default);
             return;
         }
 
-        RequireSameLength(xs, ys);
         ulong seeds = PairSeeds(pixel, dimension);
-        int done = OwenSobolBatch.Run(
-            Tables(dimension), Tables(dimension + 1),
-            firstIndex, (uint)(pixel >> 32), (uint)seeds, (uint)(seeds >> 32), xs, ys);
-        // The scalar form (a one-point run, and the whole batch without AVX2): the reference the vector code is tested against.
+        uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
+        int count = ys.IsEmpty ? 1 : 2;
+        int done = (uint)(dimension + count) <= (uint)_tabled
+            ? OwenSobolBatch.Run(_matrices.ChunkTables(dimension, count), firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys)
+            : 0;
         for (int i = done; i < xs.Length; i++)
         {
             uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);
-            xs[i] = OwenCoordinate(reversed, dimension, (uint)seeds);
-            ys[i] = OwenCoordinate(reversed, dimension + 1, (uint)(seeds >> 32));
+            xs[i] = OwenCoordinate(reversed, dimension, seedX);
+            if (!ys.IsEmpty)
+            {
+                ys[i] = OwenCoordinate(reversed, dimension + 1, seedY);
+            }
         }
     }
 
-    private OwenSobolBatch.Tables Tables(int dimension) => new(_matrices.ReversedTables(dimension), _matrices.GroupTable(dimension));
-
-    // How many of the run the lanes made (none for an untabled dimension).
-    private int Plain(uint firstIndex, int dimension, OwenSobolBatch.Finish finish, uint shift, double offset, Span<double> xs) =>
-        dimension < Math.Min(_matrices.Dimensions, SobolMatrices.TabulatedDimensions)
-            ? OwenSobolBatch.PlainRun(_matrices.Tables(dimension), firstIndex, finish, shift, offset, xs)
-            : 0;
+    private static uint DigitalShift(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.DigitalShift, (ulong)dimension);
 
     // The nested scramble of the index (Burley 2020), kept bit-reversed for SampleReversed.
     // Its seed is the pixel key's upper half: the key is already a full-avalanche hash, and

@@ -37,22 +37,24 @@ public sealed class SobolMatrices
     // reversed index gives the reversed coordinate with no reversal in between.
     private readonly uint[] _reversedByteTables;
 
-    // The reversed table of byte 3 (the reversed index's top byte) reordered for eight-lane lookups: entry
-    // [d * 256 + (c << 3 | t)] is reversed entry [(d * 4 + 3) * 256 + (c | t << 5)], so the eight values of a top byte
-    // whose low five bits c are fixed and top three bits t run over 0..7 are eight neighbouring entries.
-    private readonly uint[] _groupTables;
+    // The reversed walk by smaller bit groups of the reversed index (ChunkTables): ChunkStride entries a dimension.
+    private readonly uint[] _chunkTables;
 
     // The byte tables with their values bit-reversed: entry [(d * 4 + b) * 256 + x] is Reverse(_byteTables[the same]).
     private readonly uint[] _reversedValueTables;
+
+    // How many dimensions have the tables above: Min(Dimensions, TabulatedDimensions).
+    private readonly int _tabulated;
 
     private SobolMatrices(uint[] columns, int dimensions)
     {
         _columns = columns;
         Dimensions = dimensions;
         int tabulated = Math.Min(dimensions, TabulatedDimensions);
+        _tabulated = tabulated;
         _byteTables = new uint[tabulated * 4 * 256];
         _reversedByteTables = new uint[tabulated * 4 * 256];
-        _groupTables = new uint[tabulated * 256];
+        _chunkTables = new uint[tabulated * ChunkStride];
         _reversedValueTables = new uint[tabulated * 4 * 256];
         for (int d = 0; d < tabulated; d++)
         {
@@ -81,11 +83,25 @@ public sealed class SobolMatrices
                 }
             }
 
-            ReadOnlySpan<uint> top = _reversedByteTables.AsSpan((d * 4 + 3) * 256, 256);
-            Span<uint> groups = _groupTables.AsSpan(d * 256, 256);
-            for (int x = 0; x < 256; x++)
+            // The walk is linear over GF(2) (an XOR of columns picked by the index's bits), so a group of bits' entry is
+            // the walk of the index holding those bits alone.
+            Span<uint> chunks = _chunkTables.AsSpan(d * ChunkStride, ChunkStride);
+            for (int k = 0; k < 4; k++)
             {
-                groups[((x & 31) << 3) | (x >> 5)] = top[x];
+                for (int x = 0; x < 64; x++)
+                {
+                    chunks[(64 * k) + x] = SampleReversed((uint)x << (6 * k), d);
+                }
+            }
+
+            for (int x = 0; x < 32; x++)
+            {
+                chunks[256 + x] = SampleReversed((uint)x << 24, d);
+            }
+
+            for (int x = 0; x < 8; x++)
+            {
+                chunks[288 + x] = SampleReversed((uint)x << 29, d);
             }
         }
     }
@@ -142,31 +158,50 @@ public sealed class SobolMatrices
     }
 
     /// <summary>The four 256-entry byte tables behind <see cref="Sample"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> Tables(int dimension) => TablesOf(_byteTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> Tables(int dimension, int count = 1) => TablesOf(_byteTables, dimension, 1024, count);
 
     /// <summary>The four 256-entry byte tables behind <see cref="SampleReversed"/> for a dimension below <see cref="TabulatedDimensions"/>.</summary>
-    public ReadOnlySpan<uint> ReversedTables(int dimension) => TablesOf(_reversedByteTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> ReversedTables(int dimension, int count = 1) => TablesOf(_reversedByteTables, dimension, 1024, count);
 
     /// <summary>
     /// <see cref="Tables"/> with each value bit-reversed (4 KiB a dimension): the walk is an XOR of entries and the
     /// reversal distributes over XOR, so walking these with index i gives Reverse(Sample(i, d)) with no reversal.
     /// </summary>
-    public ReadOnlySpan<uint> ReversedValueTables(int dimension) => TablesOf(_reversedValueTables, dimension, 1024);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> ReversedValueTables(int dimension, int count = 1) => TablesOf(_reversedValueTables, dimension, 1024, count);
 
     /// <summary>
-    /// The reversed table of the reversed index's top byte (<see cref="ReversedTables"/>' last 256 entries) reordered:
-    /// entry (c · 8 + t) is that table's entry (c + 32 · t), for c below 32 and t below 8. The eight reversed indices of
-    /// an aligned group of eight scrambled indices differ only in their top three bits (see
-    /// <c>OwenSobolBatch.Run</c>), so their entries are eight neighbouring ones here.
+    /// <see cref="SampleReversed"/>'s walk by smaller groups of the reversed index's bits, <see cref="ChunkStride"/> entries
+    /// a dimension: at 64·k + x (k below 4, x below 64) the walk of x · 2^(6k) (bits 6k to 6k + 5), at 256 + x (x below
+    /// 32) of x · 2^24 (bits 24 to 28), at 288 + t (t below 8) of t · 2^29 (the top three bits). The walk is linear over
+    /// GF(2), so SampleReversed(r) is the XOR of the six groups' entries. 1 184 bytes a dimension against the byte
+    /// tables' 4 KiB: the eight-lane Owen walk (<c>OwenSobolBatch.Run</c>), whose scrambled indices pick entries at
+    /// random, finds more of them in the level-one cache.
     /// </summary>
-    public ReadOnlySpan<uint> GroupTable(int dimension) => TablesOf(_groupTables, dimension, 256);
+    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
+    public ReadOnlySpan<uint> ChunkTables(int dimension, int count = 1) => TablesOf(_chunkTables, dimension, ChunkStride, count);
 
-    // A tabulated dimension's slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension).
-    private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length)
+    /// <summary>Entries a dimension of <see cref="ChunkTables"/>.</summary>
+    public const int ChunkStride = 296;
+
+    // The slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension) for <paramref name="count"/>
+    // tabulated dimensions from <paramref name="dimension"/>: two comparisons (the batches ask once a call), then no
+    // further check, the slice being inside the table.
+    private ReadOnlySpan<uint> TablesOf(uint[] tables, int dimension, int length, int count)
     {
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(dimension, Math.Min(Dimensions, TabulatedDimensions));
-        return new ReadOnlySpan<uint>(tables, dimension * length, length);
+        if ((uint)dimension >= (uint)_tabulated || (uint)(count - 1) >= (uint)(_tabulated - dimension))
+        {
+            ThrowNotTabulated(dimension, count);
+        }
+
+        return MemoryMarshal.CreateReadOnlySpan(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(tables), dimension * length), count * length);
     }
+
+    [MethodImpl(InliningOptions.ColdPath)]
+    private void ThrowNotTabulated(int dimension, int count) =>
+        throw new ArgumentOutOfRangeException(nameof(dimension), dimension, $"dimensions {dimension} to {dimension + count - 1} are not all below the {_tabulated} tabulated ones");
 
     /// <summary>Builds matrices from Joe–Kuo rows; exposed for tests that check the recurrence.</summary>
     /// <param name="rows">Per dimension from the second on: degree s, inner coefficients a, initial m_1..m_s.</param>

@@ -101,6 +101,13 @@ public sealed class BatchTests
         { "sobol", "none", 0 }, { "sobol", "cranley-patterson", 5 }, { "bluenoise", "none", 0 }, { "bluenoise", "owen", 3 },
         { "bluenoise", "owen", 30 }, { "lattice", "cranley-patterson", 7 }, { "hammersley", "none", 0 },
         { "hammersley", "cranley-patterson", 3 }, { "halton", "none", 2 }, { "halton", "cranley-patterson", 9 },
+        // Sobol's unscrambled pairs in one pass (both dimensions tabled, and a pair across the last tabled dimension),
+        // and an odd Owen pair (two seed pairs).
+        { "sobol", "cranley-patterson", 4 }, { "sobol", "none", 1022 }, { "sobol", "digital-shift", 1023 }, { "sobol", "owen", 5 },
+        { "sobol", "cranley-patterson", 1023 },
+        // Blue noise's hashed dimensions as pairs by one kernel (even and odd), the last tabled pair's odd straddle, and a
+        // pair across the last dimension with byte tables.
+        { "bluenoise", "none", 12 }, { "bluenoise", "owen", 13 }, { "bluenoise", "owen", 11 }, { "bluenoise", "none", 1023 },
     };
 
     [Theory]

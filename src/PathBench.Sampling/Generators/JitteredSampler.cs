@@ -30,7 +30,7 @@ public sealed class JitteredSampler : PointSampler
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
-        Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
+        Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
@@ -55,9 +55,11 @@ public sealed class JitteredSampler : PointSampler
     private void Fill(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         uint seed = PairSeed(pixel, dimension);
+        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
+        ulong next = ys.IsEmpty ? 0 : JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
-            Batch8(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8(firstIndex, dimension, seed, stream, next, xs, ys);
             return;
         }
 
@@ -65,10 +67,10 @@ public sealed class JitteredSampler : PointSampler
         {
             uint index = firstIndex + (uint)i;
             uint cell = KenslerPermutation.Permute(index, (uint)Count, seed);
-            xs[i] = Coordinate(pixel, index, dimension, cell);
+            xs[i] = Coordinate(stream, index, dimension, cell);
             if (!ys.IsEmpty)
             {
-                ys[i] = Coordinate(pixel, index, dimension + 1, cell);
+                ys[i] = Coordinate(next, index, dimension + 1, cell);
             }
         }
     }
@@ -78,21 +80,21 @@ public sealed class JitteredSampler : PointSampler
     // Eight points at a time: the cell permutation on eight lanes, then dimension's coordinates into xs and, when ys is
     // not empty (an even-aligned pair), the next dimension's from the same cells into ys, on eight lanes of the form's
     // doubles (one 512-bit vector on Wide, two 256-bit halves on Narrow).
-    private void Batch8(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+    private void Batch8(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
     {
         if (Width == LaneWidth.Wide)
         {
-            Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8<WideLanes, Vector512<double>>(firstIndex, dimension, seed, stream, next, xs, ys);
         }
         else
         {
-            Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8<NarrowLanes, Doubles8>(firstIndex, dimension, seed, stream, next, xs, ys);
         }
     }
 
     // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+    private void Batch8<TForm, TDoubles>(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
@@ -102,30 +104,31 @@ public sealed class JitteredSampler : PointSampler
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
             (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-            TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension, row, column), xs.Slice(at, n));
+            TForm.Store(Coordinates8<TForm, TDoubles>(stream, firstIndex + (uint)at, dimension, row, column), xs.Slice(at, n));
             if (!ys.IsEmpty)
             {
-                TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension + 1, row, column), ys.Slice(at, n));
+                TForm.Store(Coordinates8<TForm, TDoubles>(next, firstIndex + (uint)at, dimension + 1, row, column), ys.Slice(at, n));
             }
         }
     }
 
     // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Coordinates8<TForm, TDoubles>(ulong pixel, uint first, int dimension, Vector256<uint> row, Vector256<uint> column)
+    private TDoubles Coordinates8<TForm, TDoubles>(ulong stream, uint first, int dimension, Vector256<uint> row, Vector256<uint> column)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        TDoubles jitter = TForm.UniformRun(pixel ^ Salts.Jitter, first, dimension);
+        TDoubles jitter = TForm.JitterRun(stream, first);
         TDoubles x = (dimension & 1) == 0
             ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
             : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);
         return TForm.Clamp(x);
     }
 
-    private double Coordinate(ulong pixel, uint index, int dimension, uint cell)
+    // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.
+    private double Coordinate(ulong stream, uint index, int dimension, uint cell)
     {
-        double jitter = SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension);
+        double jitter = JitterHash.Uniform(stream, index);
         double x = (dimension & 1) == 0
             ? (cell % (uint)_grid.Columns + jitter) / _grid.Columns
             : (cell / (uint)_grid.Columns + jitter) / _grid.Rows;

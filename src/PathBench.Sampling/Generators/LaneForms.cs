@@ -20,14 +20,14 @@ internal interface ILaneForm<TDoubles>
     /// <summary>The lanes, each below 2^31 (a Kensler image, stratum, row or column of a set of at most int.MaxValue points), as doubles (exact).</summary>
     static abstract TDoubles ToDouble(Vector256<uint> v);
 
-    /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
-    static abstract TDoubles Uniform(ulong key, Vector256<uint> index, int dimension);
+    /// <summary><see cref="JitterHash.Uniform"/>(stream, index) per lane: the jitters of a stream (<see cref="JitterHash.Stream"/>).</summary>
+    static abstract TDoubles Jitter(ulong stream, Vector256<uint> index);
 
     /// <summary>
-    /// <see cref="SampleHash.Uniform"/>(key, first + k, dimension) in lane k: a run of indices (inside a set of at most
-    /// int.MaxValue points, so first + 7 does not wrap); the stored lanes equal <see cref="Uniform"/> of <see cref="Lanes.Run"/>.
+    /// <see cref="JitterHash.Uniform"/>(stream, first + k) in lane k: a run of indices; the lanes equal <see cref="Jitter"/>
+    /// of <see cref="Lanes.Run"/>(first, 8).
     /// </summary>
-    static abstract TDoubles UniformRun(ulong key, uint first, int dimension);
+    static abstract TDoubles JitterRun(ulong stream, uint first);
 
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
@@ -52,10 +52,17 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
     public static Vector512<double> ToDouble(Vector256<uint> v) => Lanes.ToDouble(v);
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> Uniform(ulong key, Vector256<uint> index, int dimension) => SampleHash.Uniform8(key, index, dimension);
+    public static Vector512<double> Jitter(ulong stream, Vector256<uint> index) =>
+        Avx2.IsSupported ? Unit(JitterHash.Bits8(stream, index)) : Lanes.Jitter8Scalar(stream, index);
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> UniformRun(ulong key, uint first, int dimension) => SampleHash.Uniform8(key, Lanes.Run(first, Lanes.Count), dimension);
+    public static Vector512<double> JitterRun(ulong stream, uint first) =>
+        Avx2.IsSupported ? Unit(JitterHash.Bits8Run(stream, first)) : Lanes.Jitter8Scalar(stream, Lanes.Run(first, Lanes.Count));
+
+    /// <summary>The bits·2^-32 (exact: every 32-bit integer is a double, and the scaling is by a power of two).</summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<double> Unit(Vector256<uint> bits) =>
+        (Avx512F.IsSupported ? Avx512F.ConvertToVector512Double(bits) : Lanes.ToDouble(bits)) * Vector512.Create(JitterHash.Scale);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
@@ -77,7 +84,7 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 internal readonly record struct Doubles8(Vector256<double> Low, Vector256<double> High);
 
 /// <summary>
-/// The AVX2 form: the doubles on two 256-bit halves, the 64-bit hashes four lanes at a time (<see cref="SampleHash.Uniform4"/>),
+/// The AVX2 form: the doubles on two 256-bit halves, the 32-bit jitter hashes eight lanes at a time (<see cref="JitterHash.Bits8"/>),
 /// the conversions between 32-bit integers and doubles without AVX-512's conversion instructions (exact: see each step).
 /// Without AVX2 (a test forcing this form on such a machine) the hashes and conversions run lane by lane, the same bits.
 /// </summary>
@@ -111,35 +118,31 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     }
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 Uniform(ulong key, Vector256<uint> index, int dimension)
-    {
-        if (!Avx2.IsSupported)
-        {
-            return new Doubles8(Scalar4(key, index, 0, dimension), Scalar4(key, index, 4, dimension));
-        }
+    public static Doubles8 Jitter(ulong stream, Vector256<uint> index) =>
+        Avx2.IsSupported ? Unit(JitterHash.Bits8(stream, index)) : Split(Lanes.Jitter8Scalar(stream, index));
 
-        return new Doubles8(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
-    }
-
-    /// <remarks>
-    /// The hash's input of lane k is v + k with v = dimension·2^32 + first (no carry into the dimension), so its product with
-    /// <see cref="SampleHash.ValueMultiplier"/> M is v·M + k·M modulo 2^64: one scalar product a run and one addition a
-    /// half, where <see cref="Uniform"/> multiplies each lane's index.
-    /// </remarks>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 UniformRun(ulong key, uint first, int dimension)
-    {
-        if (!Avx2.IsSupported)
-        {
-            return Uniform(key, Lanes.Run(first, Lanes.Count), dimension);
-        }
+    public static Doubles8 JitterRun(ulong stream, uint first) =>
+        Avx2.IsSupported ? Unit(JitterHash.Bits8Run(stream, first)) : Split(Lanes.Jitter8Scalar(stream, Lanes.Run(first, Lanes.Count)));
 
-        const ulong M = SampleHash.ValueMultiplier;
-        Vector256<ulong> product = Vector256.Create((((ulong)(uint)dimension << 32) | first) * M);
-        Vector256<ulong> low = product + Vector256.Create(0, M, unchecked(2 * M), unchecked(3 * M));
-        Vector256<ulong> high = product + Vector256.Create(unchecked(4 * M), unchecked(5 * M), unchecked(6 * M), unchecked(7 * M));
-        return new Doubles8(SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, low)), SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, high)));
+    /// <summary>
+    /// The bits b·2^-32 without AVX-512's unsigned conversion: b ⊕ 2^31 read as a signed integer is b − 2^31, converted
+    /// exactly (vcvtdq2pd), and (b − 2^31)·2^-32 + 1/2 is b·2^-32, a multiple of 2^-32 in [0, 1) and so a double: the
+    /// fused and the separate multiply-add both give it exactly.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Doubles8 Unit(Vector256<uint> bits)
+    {
+        Vector256<int> signed = (bits ^ Vector256.Create(0x80000000u)).AsInt32();
+        Vector256<double> scale = Vector256.Create(JitterHash.Scale), half = Vector256.Create(0.5);
+        Vector256<double> low = Avx.ConvertToVector256Double(signed.GetLower()), high = Avx.ConvertToVector256Double(signed.GetUpper());
+        return Fma.IsSupported
+            ? new Doubles8(Fma.MultiplyAdd(low, scale, half), Fma.MultiplyAdd(high, scale, half))
+            : new Doubles8((low * scale) + half, (high * scale) + half);
     }
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Doubles8 Split(Vector512<double> v) => new(v.GetLower(), v.GetUpper());
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
@@ -207,11 +210,4 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     private static Vector256<double> Clamp(Vector256<double> x) =>
         Avx.IsSupported ? Avx.Min(x, Vector256.Create(UnitInterval.BelowOne))
         : Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
-
-    [MethodImpl(InliningOptions.ColdPath)]
-    private static Vector256<double> Scalar4(ulong key, Vector256<uint> index, int from, int dimension) => Vector256.Create(
-        SampleHash.Uniform(key, index.GetElement(from), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 1), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 2), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 3), dimension));
 }

@@ -62,6 +62,14 @@ internal static class Lanes
         return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count), l, p) : low);
     }
 
+    /// <summary><see cref="JitterHash.Uniform"/>(stream, index[k]) lane by lane: the lane forms without AVX2 (tests forcing a form).</summary>
+    [MethodImpl(InliningOptions.ColdPath)]
+    public static Vector512<double> Jitter8Scalar(ulong stream, Vector256<uint> index) => Vector512.Create(
+        JitterHash.Uniform(stream, index.GetElement(0)), JitterHash.Uniform(stream, index.GetElement(1)),
+        JitterHash.Uniform(stream, index.GetElement(2)), JitterHash.Uniform(stream, index.GetElement(3)),
+        JitterHash.Uniform(stream, index.GetElement(4)), JitterHash.Uniform(stream, index.GetElement(5)),
+        JitterHash.Uniform(stream, index.GetElement(6)), JitterHash.Uniform(stream, index.GetElement(7)));
+
     /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> ToDouble(Vector256<uint> v) => Vector512.ConvertToDouble(Vector512.WidenLower(v.ToVector512Unsafe()));
@@ -164,11 +172,11 @@ internal enum LaneWidth
     Scalar,
 
     /// <summary>
-    /// Everything on 256-bit vectors (AVX2): the permutations on eight 32-bit lanes, the 64-bit jitter hashes four lanes
-    /// at a time, the coordinates' doubles as two halves of four (<see cref="NarrowLanes"/>).
+    /// Everything on 256-bit vectors (AVX2): the permutations and the 32-bit jitter hashes on eight 32-bit lanes, the
+    /// coordinates' doubles as two halves of four (<see cref="NarrowLanes"/>).
     /// </summary>
     Narrow,
 
-    /// <summary>Everything on eight lanes: the permutations on 256 bits, the 64-bit hashes and the doubles on 512 bits (AVX-512).</summary>
+    /// <summary>Everything on eight lanes: the permutations and the jitter hashes on 256 bits, the doubles on 512 bits (AVX-512).</summary>
     Wide,
 }

@@ -18,7 +18,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
-        return Coordinate(pixel, index, dimension, stratum);
+        return Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, stratum);
     }
 
     /// <inheritdoc/>
@@ -29,17 +29,18 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             // Eight points at a time: the stratum permutation on eight lanes, then the jitter hashes and the doubles on the
             // form's eight lanes, the same operations per lane as below.
             if (Width == LaneWidth.Wide)
             {
-                Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs);
+                Batch8<WideLanes, Vector512<double>>(firstIndex, seed, stream, xs);
             }
             else
             {
-                Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs);
+                Batch8<NarrowLanes, Doubles8>(firstIndex, seed, stream, xs);
             }
 
             return;
@@ -48,13 +49,13 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;
-            xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
+            xs[i] = Coordinate(stream, index, KenslerPermutation.Permute(index, (uint)Count, seed));
         }
     }
 
     // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs)
+    private void Batch8<TForm, TDoubles>(uint firstIndex, uint seed, ulong stream, Span<double> xs)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
@@ -63,12 +64,13 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
             int n = Math.Min(8, xs.Length - at);
             Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
             TDoubles stratum = TForm.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
-            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.UniformRun(pixel ^ Salts.Jitter, firstIndex + (uint)at, dimension)), Count)), xs.Slice(at, n));
+            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.JitterRun(stream, firstIndex + (uint)at)), Count)), xs.Slice(at, n));
         }
     }
 
-    private double Coordinate(ulong pixel, uint index, int dimension, uint stratum) =>
-        UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
+    // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
+    private double Coordinate(ulong stream, uint index, uint stratum) =>
+        UnitInterval.Clamp((stratum + JitterHash.Uniform(stream, index)) / Count);
 
     /// <inheritdoc/>
     public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>

@@ -92,23 +92,51 @@ public sealed class JitteredSampler : PointSampler
         }
     }
 
-    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
+    // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers),
+    // half the walks of eight-lane steps; the wide form keeps one eight-lane walk a step.
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Batch8<TForm, TDoubles>(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
+        if (typeof(TForm) == typeof(NarrowLanes))
+        {
+            for (int at = 0; at < xs.Length; at += 16)
+            {
+                int n = Math.Min(16, xs.Length - at);
+                (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, seed);
+                int run = Math.Min(8, n);
+                Points8<TForm, TDoubles>(firstIndex + (uint)at, dimension, stream, next, low, xs.Slice(at, run), ys.IsEmpty ? ys : ys.Slice(at, run));
+                if (n > 8)
+                {
+                    Points8<TForm, TDoubles>(firstIndex + (uint)at + 8, dimension, stream, next, high, xs.Slice(at + 8, n - 8), ys.IsEmpty ? ys : ys.Slice(at + 8, n - 8));
+                }
+            }
+
+            return;
+        }
+
         for (int at = 0; at < xs.Length; at += 8)
         {
             int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-            Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
-            (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-            TForm.Store(Coordinates8<TForm, TDoubles>(stream, firstIndex + (uint)at, dimension, row, column), xs.Slice(at, n));
-            if (!ys.IsEmpty)
-            {
-                TForm.Store(Coordinates8<TForm, TDoubles>(next, firstIndex + (uint)at, dimension + 1, row, column), ys.Slice(at, n));
-            }
+            Vector256<uint> cell = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, n), (uint)Count, seed);
+            Points8<TForm, TDoubles>(firstIndex + (uint)at, dimension, stream, next, cell, xs.Slice(at, n), ys.IsEmpty ? ys : ys.Slice(at, n));
+        }
+    }
+
+    // The points first, first + 1, … in the given cells: dimension's coordinates into xs and, when ys is not empty (an
+    // even-aligned pair), the next dimension's from the same cells into ys.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private void Points8<TForm, TDoubles>(uint first, int dimension, ulong stream, ulong next, Vector256<uint> cell, Span<double> xs, Span<double> ys)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
+    {
+        (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
+        TForm.Store(Coordinates8<TForm, TDoubles>(stream, first, dimension, row, column), xs);
+        if (!ys.IsEmpty)
+        {
+            TForm.Store(Coordinates8<TForm, TDoubles>(next, first, dimension + 1, row, column), ys);
         }
     }
 

@@ -53,20 +53,44 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         }
     }
 
-    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
+    // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers).
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Batch8<TForm, TDoubles>(uint firstIndex, uint seed, ulong stream, Span<double> xs)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
+        if (typeof(TForm) == typeof(NarrowLanes))
+        {
+            for (int at = 0; at < xs.Length; at += 16)
+            {
+                int n = Math.Min(16, xs.Length - at);
+                (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, seed);
+                int run = Math.Min(8, n);
+                TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at, stream, low), xs.Slice(at, run));
+                if (n > 8)
+                {
+                    TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at + 8, stream, high), xs.Slice(at + 8, n - 8));
+                }
+            }
+
+            return;
+        }
+
         for (int at = 0; at < xs.Length; at += 8)
         {
             int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-            TDoubles stratum = TForm.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
-            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.JitterRun(stream, firstIndex + (uint)at)), Count)), xs.Slice(at, n));
+            Vector256<uint> stratum = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, n), (uint)Count, seed);
+            TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at, stream, stratum), xs.Slice(at, n));
         }
     }
+
+    // The coordinates of the points first, first + 1, … in the given strata.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private TDoubles Points8<TForm, TDoubles>(uint first, ulong stream, Vector256<uint> stratum)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct =>
+        TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(stratum), TForm.JitterRun(stream, first)), Count));
 
     // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
     private double Coordinate(ulong stream, uint index, uint stratum) =>

@@ -1,3 +1,4 @@
+using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 
@@ -159,7 +160,7 @@ public static class KenslerPermutation
             return Vector256<uint>.Zero;
         }
 
-        return AddReduced(Walk8(i, l, Vector256.Create(p)), l, Vector256.Create(p % l));
+        return AddReduced(Walk8(i, l, Vector256.Create(p)), l, Vector256.Create(Remainder(p, l)));
     }
 
     /// <summary>
@@ -217,7 +218,7 @@ public static class KenslerPermutation
         while (walking != Vector256<ushort>.Zero);
 
         // (i + q) mod l with q = p mod l: the sum is below 2l ≤ 2^16; where it reaches l, sum − l is the smaller (unsigned).
-        Vector256<ushort> sum = i + Vector256.Create((ushort)(p % l));
+        Vector256<ushort> sum = i + Vector256.Create((ushort)Remainder(p, l));
         return Vector256.Min(sum, sum - Vector256.Create((ushort)l));
     }
 
@@ -228,8 +229,13 @@ public static class KenslerPermutation
     internal static (Vector256<uint> A, Vector256<uint> B) Permute8Pair(Vector256<uint> a, uint la, uint pa, Vector256<uint> b, uint lb, uint pb)
     {
         Walk(ref a, la, Vector256.Create(pa), ref b, lb, Vector256.Create(pb));
-        return (AddReduced(a, la, Vector256.Create(pa % la)), AddReduced(b, lb, Vector256.Create(pb % lb)));
+        return (AddReduced(a, la, Vector256.Create(Remainder(pa, la))), AddReduced(b, lb, Vector256.Create(Remainder(pb, lb))));
     }
+
+    // p % l (l ≥ 1): a mask where l is a power of two (the same integer), else the division. The lane forms take it once a
+    // walk; a hardware division (tens of cycles, not pipelined) was three of a multi-jittered batch's critical resources.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static uint Remainder(uint p, uint l) => BitOperations.IsPow2(l) ? p & (l - 1) : p % l;
 
     // ((ulong)i + p) % l with i < l, per lane, given q = p % l: the same integer as (i + q) % l, and i + q < 2l, so l is
     // subtracted once where the true sum reaches l, that is where the 32-bit sum is at least l or has wrapped past

@@ -46,7 +46,7 @@ internal static class Lanes
     /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
     /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
     /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
-    /// (<see cref="KenslerPermutation.Permute16"/>), else eight 32-bit lanes a walk.
+    /// (<see cref="KenslerPermutation.Permute16(Vector256{ushort}, uint, uint)"/>), else eight 32-bit lanes a walk.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p)

@@ -97,6 +97,44 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         UnitInterval.Clamp((stratum + JitterHash.Uniform(stream, index)) / Count);
 
     /// <inheritdoc/>
-    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+    /// <remarks>
+    /// The AVX2 form's usual pair (a run of up to sixteen points of a set of at most 2^15 − 1) walks the two dimensions'
+    /// permutations together (<see cref="PairRun"/>); otherwise one dimension after the other.
+    /// </remarks>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (Width == LaneWidth.Narrow && xs.Length == ys.Length && xs.Length is > 0 and <= 16
+            && Count <= KenslerPermutation.ShortLength && Lanes.Inside(firstIndex, xs.Length, Count))
+        {
+            PairRun(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
         PairBySingles(pixel, firstIndex, dimension, xs, ys);
+    }
+
+    // Dimensions dimension and dimension + 1 of the run: their strata from two 16-bit walks walked together
+    // (KenslerPermutation.Permute16Pair, the same integers as Lanes.Permute16), so the two chains overlap.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void PairRun(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        uint l = (uint)Count;
+        uint seedX = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        uint seedY = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension + 1));
+        ulong streamX = JitterHash.Stream(pixel ^ Salts.Jitter, dimension), streamY = JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
+        int run = xs.Length;
+        Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
+        Vector256<ushort> index = Vector256.Create((ushort)firstIndex) + Vector256.Min(lane, Vector256.Create((ushort)(run - 1)));
+        (Vector256<ushort> x, Vector256<ushort> y) = l <= 1
+            ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
+            : KenslerPermutation.Permute16Pair(index, new KenslerPermutation.Seeds16(l, seedX, l, seedX), index, new KenslerPermutation.Seeds16(l, seedY, l, seedY));
+        int low = Math.Min(8, run);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex, streamX, Vector256.WidenLower(x)), xs[..low]);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex, streamY, Vector256.WidenLower(y)), ys[..low]);
+        if (run > 8)
+        {
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex + 8, streamX, Vector256.WidenUpper(x)), xs[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex + 8, streamY, Vector256.WidenUpper(y)), ys[8..]);
+        }
+    }
 }

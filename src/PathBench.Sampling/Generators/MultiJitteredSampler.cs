@@ -70,7 +70,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
             // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
-            (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
+            (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Tables(p) : default;
             if (Width == LaneWidth.Wide)
             {
                 WideBatch(Streams(pixel, pair), firstIndex, p, tabled, columnTable, rowTable, xs, ys);
@@ -177,6 +177,19 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         int m = _grid.Columns, n = _grid.Rows;
         TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.Over(TForm.Add(sy, jx), n)), m)), xs);
         TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.Over(TForm.Add(sx, jy), m)), n)), ys);
+    }
+
+    // The column and row shuffles of a grid of at most 8 × 8, whole: the column shuffle of 0 … m − 1 in the first table's
+    // lanes and the row shuffle of 0 … n − 1 in the second's (each padded with its last), from one walk of sixteen 16-bit
+    // lanes, the columns in its low half and the rows in its high half (KenslerPermutation.Seeds16: the same integers).
+    private (Vector256<uint> Columns, Vector256<uint> Rows) Tables(uint p)
+    {
+        uint m = (uint)_grid.Columns, n = (uint)_grid.Rows;
+        Vector256<ushort> lanes = Vector256.Min(
+            Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 0, 1, 2, 3, 4, 5, 6, 7),
+            Vector256.Create(Vector128.Create((ushort)(m - 1)), Vector128.Create((ushort)(n - 1))));
+        Vector256<ushort> image = KenslerPermutation.Permute16(lanes, new KenslerPermutation.Seeds16(m, p * 0x68bc21ebu, n, p * 0x02e5be93u));
+        return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
     }
 
     // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked

@@ -94,59 +94,55 @@ public sealed class JitteredSampler : PointSampler
 
     // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
     // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers),
-    // half the walks of eight-lane steps; the wide form keeps one eight-lane walk a step.
+    // half the walks of eight-lane steps; the wide form keeps one eight-lane walk a step. The jitter bits come first: they
+    // do not depend on the walk, and issued before it they overlap it (issued after, they measured as waiting on it).
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Batch8<TForm, TDoubles>(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        if (typeof(TForm) == typeof(NarrowLanes))
+        int step = typeof(TForm) == typeof(NarrowLanes) ? 16 : 8;
+        bool pair = !ys.IsEmpty;
+        for (int at = 0; at < xs.Length; at += step)
         {
-            for (int at = 0; at < xs.Length; at += 16)
+            int n = Math.Min(step, xs.Length - at);
+            uint first = firstIndex + (uint)at;
+            Vector256<uint> x0 = JitterHash.Bits8Run(stream, first), y0 = pair ? JitterHash.Bits8Run(next, first) : default;
+            Vector256<uint> x1 = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
+            Vector256<uint> y1 = pair && n > 8 ? JitterHash.Bits8Run(next, first + 8) : default;
+            (Vector256<uint> low, Vector256<uint> high) = step == 16
+                ? Lanes.Permute16(first, n, (uint)Count, seed)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+            int run = Math.Min(8, n);
+            Points8<TForm, TDoubles>(dimension, low, x0, y0, xs.Slice(at, run), pair ? ys.Slice(at, run) : ys);
+            if (n > 8)
             {
-                int n = Math.Min(16, xs.Length - at);
-                (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, seed);
-                int run = Math.Min(8, n);
-                Points8<TForm, TDoubles>(firstIndex + (uint)at, dimension, stream, next, low, xs.Slice(at, run), ys.IsEmpty ? ys : ys.Slice(at, run));
-                if (n > 8)
-                {
-                    Points8<TForm, TDoubles>(firstIndex + (uint)at + 8, dimension, stream, next, high, xs.Slice(at + 8, n - 8), ys.IsEmpty ? ys : ys.Slice(at + 8, n - 8));
-                }
+                Points8<TForm, TDoubles>(dimension, high, x1, y1, xs.Slice(at + 8, n - 8), pair ? ys.Slice(at + 8, n - 8) : ys);
             }
-
-            return;
-        }
-
-        for (int at = 0; at < xs.Length; at += 8)
-        {
-            int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> cell = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, n), (uint)Count, seed);
-            Points8<TForm, TDoubles>(firstIndex + (uint)at, dimension, stream, next, cell, xs.Slice(at, n), ys.IsEmpty ? ys : ys.Slice(at, n));
         }
     }
 
-    // The points first, first + 1, … in the given cells: dimension's coordinates into xs and, when ys is not empty (an
-    // even-aligned pair), the next dimension's from the same cells into ys.
+    // The points in the given cells with the given jitter bits: dimension's coordinates into xs and, when ys is not empty
+    // (an even-aligned pair), the next dimension's from the same cells into ys.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private void Points8<TForm, TDoubles>(uint first, int dimension, ulong stream, ulong next, Vector256<uint> cell, Span<double> xs, Span<double> ys)
+    private void Points8<TForm, TDoubles>(int dimension, Vector256<uint> cell, Vector256<uint> xBits, Vector256<uint> yBits, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
         (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-        TForm.Store(Coordinates8<TForm, TDoubles>(stream, first, dimension, row, column), xs);
+        TForm.Store(Coordinates8<TForm, TDoubles>(TForm.Jitter(xBits), dimension, row, column), xs);
         if (!ys.IsEmpty)
         {
-            TForm.Store(Coordinates8<TForm, TDoubles>(next, first, dimension + 1, row, column), ys);
+            TForm.Store(Coordinates8<TForm, TDoubles>(TForm.Jitter(yBits), dimension + 1, row, column), ys);
         }
     }
 
     // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Coordinates8<TForm, TDoubles>(ulong stream, uint first, int dimension, Vector256<uint> row, Vector256<uint> column)
+    private TDoubles Coordinates8<TForm, TDoubles>(TDoubles jitter, int dimension, Vector256<uint> row, Vector256<uint> column)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        TDoubles jitter = TForm.JitterRun(stream, first);
         TDoubles x = (dimension & 1) == 0
             ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
             : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);

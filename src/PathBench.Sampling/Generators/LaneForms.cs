@@ -20,14 +20,8 @@ internal interface ILaneForm<TDoubles>
     /// <summary>The lanes, each below 2^31 (a Kensler image, stratum, row or column of a set of at most int.MaxValue points), as doubles (exact).</summary>
     static abstract TDoubles ToDouble(Vector256<uint> v);
 
-    /// <summary><see cref="JitterHash.Uniform"/>(stream, index) per lane: the jitters of a stream (<see cref="JitterHash.Stream"/>).</summary>
-    static abstract TDoubles Jitter(ulong stream, Vector256<uint> index);
-
-    /// <summary>
-    /// <see cref="JitterHash.Uniform"/>(stream, first + k) in lane k: a run of indices; the lanes equal <see cref="Jitter"/>
-    /// of <see cref="Lanes.Run"/>(first, 8).
-    /// </summary>
-    static abstract TDoubles JitterRun(ulong stream, uint first);
+    /// <summary>Jitter bits (<see cref="JitterHash.Bits8"/>) as the values of <see cref="JitterHash.Uniform"/>: bits·2^-32 per lane (exact).</summary>
+    static abstract TDoubles Jitter(Vector256<uint> bits);
 
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
@@ -51,17 +45,9 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> ToDouble(Vector256<uint> v) => Lanes.ToDouble(v);
 
-    [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> Jitter(ulong stream, Vector256<uint> index) =>
-        Avx2.IsSupported ? Unit(JitterHash.Bits8(stream, index)) : Lanes.Jitter8Scalar(stream, index);
-
-    [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> JitterRun(ulong stream, uint first) =>
-        Avx2.IsSupported ? Unit(JitterHash.Bits8Run(stream, first)) : Lanes.Jitter8Scalar(stream, Lanes.Run(first, Lanes.Count));
-
     /// <summary>The bits·2^-32 (exact: every 32-bit integer is a double, and the scaling is by a power of two).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static Vector512<double> Unit(Vector256<uint> bits) =>
+    public static Vector512<double> Jitter(Vector256<uint> bits) =>
         (Avx512F.IsSupported ? Avx512F.ConvertToVector512Double(bits) : Lanes.ToDouble(bits)) * Vector512.Create(JitterHash.Scale);
 
     [MethodImpl(InliningOptions.ShortMethod)]
@@ -117,32 +103,24 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         return Vector256.Narrow((x.Low + shift).AsUInt64(), (x.High + shift).AsUInt64());
     }
 
-    [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 Jitter(ulong stream, Vector256<uint> index) =>
-        Avx2.IsSupported ? Unit(JitterHash.Bits8(stream, index)) : Split(Lanes.Jitter8Scalar(stream, index));
-
-    [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 JitterRun(ulong stream, uint first) =>
-        Avx2.IsSupported ? Unit(JitterHash.Bits8Run(stream, first)) : Split(Lanes.Jitter8Scalar(stream, Lanes.Run(first, Lanes.Count)));
-
     /// <summary>
     /// The bits b·2^-32 without AVX-512's unsigned conversion: b ⊕ 2^31 read as a signed integer is b − 2^31, converted
     /// exactly (vcvtdq2pd), and (b − 2^31)·2^-32 + 1/2 is b·2^-32, a multiple of 2^-32 in [0, 1) and so a double: the
     /// fused and the separate multiply-add both give it exactly.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static Doubles8 Unit(Vector256<uint> bits)
+    public static Doubles8 Jitter(Vector256<uint> bits)
     {
         Vector256<int> signed = (bits ^ Vector256.Create(0x80000000u)).AsInt32();
         Vector256<double> scale = Vector256.Create(JitterHash.Scale), half = Vector256.Create(0.5);
-        Vector256<double> low = Avx.ConvertToVector256Double(signed.GetLower()), high = Avx.ConvertToVector256Double(signed.GetUpper());
+        (Vector256<double> low, Vector256<double> high) = Avx.IsSupported
+            ? (Avx.ConvertToVector256Double(signed.GetLower()), Avx.ConvertToVector256Double(signed.GetUpper()))
+            : (Vector256.ConvertToDouble(Vector256.WidenLower(signed)), Vector256.ConvertToDouble(Vector256.WidenUpper(signed)));
+
         return Fma.IsSupported
             ? new Doubles8(Fma.MultiplyAdd(low, scale, half), Fma.MultiplyAdd(high, scale, half))
             : new Doubles8((low * scale) + half, (high * scale) + half);
     }
-
-    [MethodImpl(InliningOptions.ShortMethod)]
-    private static Doubles8 Split(Vector512<double> v) => new(v.GetLower(), v.GetUpper());
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);

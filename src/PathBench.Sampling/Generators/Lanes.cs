@@ -62,14 +62,6 @@ internal static class Lanes
         return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count), l, p) : low);
     }
 
-    /// <summary><see cref="JitterHash.Uniform"/>(stream, index[k]) lane by lane: the lane forms without AVX2 (tests forcing a form).</summary>
-    [MethodImpl(InliningOptions.ColdPath)]
-    public static Vector512<double> Jitter8Scalar(ulong stream, Vector256<uint> index) => Vector512.Create(
-        JitterHash.Uniform(stream, index.GetElement(0)), JitterHash.Uniform(stream, index.GetElement(1)),
-        JitterHash.Uniform(stream, index.GetElement(2)), JitterHash.Uniform(stream, index.GetElement(3)),
-        JitterHash.Uniform(stream, index.GetElement(4)), JitterHash.Uniform(stream, index.GetElement(5)),
-        JitterHash.Uniform(stream, index.GetElement(6)), JitterHash.Uniform(stream, index.GetElement(7)));
-
     /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> ToDouble(Vector256<uint> v) => Vector512.ConvertToDouble(Vector512.WidenLower(v.ToVector512Unsafe()));

@@ -55,42 +55,35 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
 
     // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
     // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers).
+    // The jitter bits come first: they do not depend on the walk, and issued before it they overlap it.
     [MethodImpl(MethodImplOptions.NoInlining)]
     private void Batch8<TForm, TDoubles>(uint firstIndex, uint seed, ulong stream, Span<double> xs)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        if (typeof(TForm) == typeof(NarrowLanes))
+        int step = typeof(TForm) == typeof(NarrowLanes) ? 16 : 8;
+        for (int at = 0; at < xs.Length; at += step)
         {
-            for (int at = 0; at < xs.Length; at += 16)
+            int n = Math.Min(step, xs.Length - at);
+            uint first = firstIndex + (uint)at;
+            Vector256<uint> bits = JitterHash.Bits8Run(stream, first), more = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
+            (Vector256<uint> low, Vector256<uint> high) = step == 16
+                ? Lanes.Permute16(first, n, (uint)Count, seed)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+            TForm.Store(Points8<TForm, TDoubles>(low, bits), xs.Slice(at, Math.Min(8, n)));
+            if (n > 8)
             {
-                int n = Math.Min(16, xs.Length - at);
-                (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, seed);
-                int run = Math.Min(8, n);
-                TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at, stream, low), xs.Slice(at, run));
-                if (n > 8)
-                {
-                    TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at + 8, stream, high), xs.Slice(at + 8, n - 8));
-                }
+                TForm.Store(Points8<TForm, TDoubles>(high, more), xs.Slice(at + 8, n - 8));
             }
-
-            return;
-        }
-
-        for (int at = 0; at < xs.Length; at += 8)
-        {
-            int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> stratum = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, n), (uint)Count, seed);
-            TForm.Store(Points8<TForm, TDoubles>(firstIndex + (uint)at, stream, stratum), xs.Slice(at, n));
         }
     }
 
-    // The coordinates of the points first, first + 1, … in the given strata.
+    // The coordinates of the points in the given strata with the given jitter bits.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Points8<TForm, TDoubles>(uint first, ulong stream, Vector256<uint> stratum)
+    private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct =>
-        TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(stratum), TForm.JitterRun(stream, first)), Count));
+        TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(stratum), TForm.Jitter(bits)), Count));
 
     // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
     private double Coordinate(ulong stream, uint index, uint stratum) =>
@@ -123,18 +116,21 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         uint seedY = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension + 1));
         ulong streamX = JitterHash.Stream(pixel ^ Salts.Jitter, dimension), streamY = JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
         int run = xs.Length;
+        Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex), y0 = JitterHash.Bits8Run(streamY, firstIndex);
+        Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8) : default;
+        Vector256<uint> y1 = run > 8 ? JitterHash.Bits8Run(streamY, firstIndex + 8) : default;
         Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
         Vector256<ushort> index = Vector256.Create((ushort)firstIndex) + Vector256.Min(lane, Vector256.Create((ushort)(run - 1)));
         (Vector256<ushort> x, Vector256<ushort> y) = l <= 1
             ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
-            : KenslerPermutation.Permute16Pair(index, new KenslerPermutation.Seeds16(l, seedX, l, seedX), index, new KenslerPermutation.Seeds16(l, seedY, l, seedY));
+            : KenslerPermutation.Permute16Pair(index, KenslerPermutation.Seeds16.Of(l, seedX), index, KenslerPermutation.Seeds16.Of(l, seedY));
         int low = Math.Min(8, run);
-        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex, streamX, Vector256.WidenLower(x)), xs[..low]);
-        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex, streamY, Vector256.WidenLower(y)), ys[..low]);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(x), x0), xs[..low]);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(y), y0), ys[..low]);
         if (run > 8)
         {
-            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex + 8, streamX, Vector256.WidenUpper(x)), xs[8..]);
-            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(firstIndex + 8, streamY, Vector256.WidenUpper(y)), ys[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(x), x1), xs[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(y), y1), ys[8..]);
         }
     }
 }

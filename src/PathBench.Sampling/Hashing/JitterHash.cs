@@ -66,24 +66,34 @@ public static class JitterHash
     public static double Uniform(ulong stream, uint index) => Bits(stream, index) * Scale;
 
     /// <summary>
-    /// <see cref="Bits"/> per lane (AVX2: callers check <see cref="Avx2.IsSupported"/>): the same 32-bit steps, the
-    /// products modulo 2^32 (vpmulld), the data-dependent shift per lane (vpsrlvd).
+    /// <see cref="Bits"/> per lane: with AVX2 the same 32-bit steps on eight lanes, the products modulo 2^32 (vpmulld), the
+    /// data-dependent shift per lane (vpsrlvd); without it (a test forcing a lane form) lane by lane.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<uint> Bits8(ulong stream, Vector256<uint> index) =>
-        Second(stream, Output8(((index + Vector256.Create((uint)stream)) * Vector256.Create(LcgMultiplier)) + Vector256.Create(LcgIncrement)));
+    public static Vector256<uint> Bits8(ulong stream, Vector256<uint> index) => !Avx2.IsSupported ? Scalar8(stream, index)
+        : Second(stream, Output8(((index + Vector256.Create((uint)stream)) * Vector256.Create(LcgMultiplier)) + Vector256.Create(LcgIncrement)));
 
     /// <summary>
-    /// <see cref="Bits8"/> of the run <paramref name="first"/> + k in lane k (AVX2): the first round's LCG state is
-    /// (first + K_lo)·a + c + k·a modulo 2^32, one scalar product a run and one vector addition.
+    /// <see cref="Bits8"/> of the run <paramref name="first"/> + k in lane k (indices wrapping past 2^32 − 1 as uint): the
+    /// first round's LCG state is (first + K_lo)·a + c + k·a modulo 2^32, one scalar product a run and one vector addition.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector256<uint> Bits8Run(ulong stream, uint first)
     {
+        if (!Avx2.IsSupported)
+        {
+            return Scalar8(stream, Vector256.Create(first) + Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7));
+        }
+
         const uint A = LcgMultiplier;
         Vector256<uint> step = Vector256.Create(0u, A, unchecked(2 * A), unchecked(3 * A), unchecked(4 * A), unchecked(5 * A), unchecked(6 * A), unchecked(7 * A));
         return Second(stream, Output8(Vector256.Create(((first + (uint)stream) * A) + LcgIncrement) + step));
     }
+
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static Vector256<uint> Scalar8(ulong stream, Vector256<uint> index) => Vector256.Create(
+        Bits(stream, index.GetElement(0)), Bits(stream, index.GetElement(1)), Bits(stream, index.GetElement(2)), Bits(stream, index.GetElement(3)),
+        Bits(stream, index.GetElement(4)), Bits(stream, index.GetElement(5)), Bits(stream, index.GetElement(6)), Bits(stream, index.GetElement(7)));
 
     // The second round: the first round's output xor K_hi, through P.
     [MethodImpl(InliningOptions.ShortMethod)]

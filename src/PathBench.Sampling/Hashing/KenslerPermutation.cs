@@ -113,15 +113,8 @@ public static class KenslerPermutation
 
     // The smallest 2^k − 1 at or above l − 1: the bits the permutation works on before cycle-walking into [0, l).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static uint MaskBelow(uint l)
-    {
-        uint w = l - 1;
-        w |= w >> 1;
-        w |= w >> 2;
-        w |= w >> 4;
-        w |= w >> 8;
-        return w | (w >> 16);
-    }
+    // (2^(bit length of l − 1)) − 1 by one leading-zero count, the shift by 32 − lzcnt(l − 1) ≤ 32 on 64 bits (0 for l = 1).
+    private static uint MaskBelow(uint l) => (uint)((1UL << (32 - BitOperations.LeadingZeroCount(l - 1))) - 1);
 
     /// <summary>
     /// <see cref="Permute"/>(i + k, l, p) for k = 0 … <c>images.Length</c> − 1 into <paramref name="images"/>: one seed,
@@ -185,7 +178,7 @@ public static class KenslerPermutation
         }
 
         ArgumentOutOfRangeException.ThrowIfGreaterThan(l, ShortLength);
-        return Permute16(i, new Seeds16(l, p, l, p));
+        return Permute16(i, Seeds16.Of(l, p));
     }
 
     /// <summary>
@@ -260,21 +253,34 @@ public static class KenslerPermutation
         public readonly Vector256<ushort> P, P16, P8, P23, P27, Mask, Length, Remainder;
         public readonly Vector256<short> Limit;
 
+        /// <summary>Lanes 0–7 permute [0, lLow) by pLow, lanes 8–15 [0, lHigh) by pHigh (each length 1 to <see cref="ShortLength"/>).</summary>
         public Seeds16(uint lLow, uint pLow, uint lHigh, uint pHigh)
+            : this(Halves(pLow, pHigh), Halves(pLow >> 16, pHigh >> 16), Halves(pLow >> 8, pHigh >> 8), Halves(pLow >> 23, pHigh >> 23),
+                Halves((pLow >> 27) | 1, (pHigh >> 27) | 1), Halves(MaskBelow(lLow), MaskBelow(lHigh)), Halves(Checked(lLow), Checked(lHigh)),
+                Halves(KenslerPermutation.Remainder(pLow, lLow), KenslerPermutation.Remainder(pHigh, lHigh)))
         {
-            ArgumentOutOfRangeException.ThrowIfZero(lLow);
-            ArgumentOutOfRangeException.ThrowIfZero(lHigh);
-            ArgumentOutOfRangeException.ThrowIfGreaterThan(Math.Max(lLow, lHigh), ShortLength);
-            P = Halves(pLow, pHigh);
-            P16 = Halves(pLow >> 16, pHigh >> 16);
-            P8 = Halves(pLow >> 8, pHigh >> 8);
-            P23 = Halves(pLow >> 23, pHigh >> 23);
-            P27 = Halves((pLow >> 27) | 1, (pHigh >> 27) | 1);
-            Mask = Halves(MaskBelow(lLow), MaskBelow(lHigh));
-            Length = Halves(lLow, lHigh);
-            Remainder = Halves(KenslerPermutation.Remainder(pLow, lLow), KenslerPermutation.Remainder(pHigh, lHigh));
-            Limit = Length.AsInt16();
         }
+
+        private Seeds16(Vector256<ushort> p, Vector256<ushort> p16, Vector256<ushort> p8, Vector256<ushort> p23, Vector256<ushort> p27, Vector256<ushort> mask, Vector256<ushort> length, Vector256<ushort> remainder)
+        {
+            (P, P16, P8, P23, P27, Mask, Length, Remainder) = (p, p16, p8, p23, p27, mask, length, remainder);
+            Limit = length.AsInt16();
+        }
+
+        /// <summary>One permutation of [0, l) by p in all sixteen lanes: whole-register broadcasts.</summary>
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Seeds16 Of(uint l, uint p) => new(
+            Both(p), Both(p >> 16), Both(p >> 8), Both(p >> 23), Both((p >> 27) | 1), Both(MaskBelow(l)), Both(Checked(l)), Both(KenslerPermutation.Remainder(p, l)));
+
+        private static uint Checked(uint l)
+        {
+            ArgumentOutOfRangeException.ThrowIfZero(l);
+            ArgumentOutOfRangeException.ThrowIfGreaterThan(l, ShortLength);
+            return l;
+        }
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static Vector256<ushort> Both(uint v) => Vector256.Create((ushort)v);
 
         /// <summary>
         /// (i + p mod l) mod l per lane, i below l: the sum is below 2l ≤ 2^16; where it reaches l, sum − l is the smaller
@@ -288,8 +294,7 @@ public static class KenslerPermutation
         }
 
         [MethodImpl(InliningOptions.ShortMethod)]
-        private static Vector256<ushort> Halves(uint low, uint high) =>
-            Vector256.Create(Vector128.Create((ushort)low), Vector128.Create((ushort)high));
+        private static Vector256<ushort> Halves(uint low, uint high) => Vector256.Create(Vector128.Create((ushort)low), Vector128.Create((ushort)high));
     }
 
     /// <summary>

@@ -130,23 +130,22 @@ public sealed class JitteredSampler : PointSampler
         where TDoubles : struct
     {
         (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-        TForm.Store(Coordinates8<TForm, TDoubles>(TForm.Jitter(xBits), dimension, row, column), xs);
+        TForm.Store(Coordinates8<TForm, TDoubles>(xBits, dimension, row, column), xs);
         if (!ys.IsEmpty)
         {
-            TForm.Store(Coordinates8<TForm, TDoubles>(TForm.Jitter(yBits), dimension + 1, row, column), ys);
+            TForm.Store(Coordinates8<TForm, TDoubles>(yBits, dimension + 1, row, column), ys);
         }
     }
 
-    // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
+    // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %) and the
+    // jitter bits; the sum and the division by TForm.JitteredOver.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Coordinates8<TForm, TDoubles>(TDoubles jitter, int dimension, Vector256<uint> row, Vector256<uint> column)
+    private TDoubles Coordinates8<TForm, TDoubles>(Vector256<uint> bits, int dimension, Vector256<uint> row, Vector256<uint> column)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        TDoubles x = (dimension & 1) == 0
-            ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
-            : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);
-        return TForm.Clamp(x);
+        (Vector256<uint> whole, int divisor) = (dimension & 1) == 0 ? (column, _grid.Columns) : (row, _grid.Rows);
+        return TForm.Clamp(TForm.JitteredOver(whole, bits, divisor));
     }
 
     // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.

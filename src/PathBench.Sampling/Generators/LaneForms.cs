@@ -23,6 +23,12 @@ internal interface ILaneForm<TDoubles>
     /// <summary>Jitter bits (<see cref="JitterHash.Bits8"/>) as the values of <see cref="JitterHash.Uniform"/>: bits·2^-32 per lane (exact).</summary>
     static abstract TDoubles Jitter(Vector256<uint> bits);
 
+    /// <summary>
+    /// (whole + <see cref="Jitter"/>(bits)) / divisor per lane, as <see cref="Over"/>(<see cref="Add"/>(<see cref="ToDouble"/>(whole),
+    /// <see cref="Jitter"/>(bits)), divisor) gives it; every lane's whole is below the divisor.
+    /// </summary>
+    static abstract TDoubles JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor);
+
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
 
@@ -49,6 +55,9 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Jitter(Vector256<uint> bits) =>
         (Avx512F.IsSupported ? Avx512F.ConvertToVector512Double(bits) : Lanes.ToDouble(bits)) * Vector512.Create(JitterHash.Scale);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(ToDouble(whole) + Jitter(bits), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
@@ -121,6 +130,34 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
             ? new Doubles8(Fma.MultiplyAdd(low, scale, half), Fma.MultiplyAdd(high, scale, half))
             : new Doubles8((low * scale) + half, (high * scale) + half);
     }
+
+    /// <remarks>
+    /// With AVX2 and a divisor up to 2^20 (so whole &lt; 2^20): the 64-bit word (0x433 · 2^52) | (whole · 2^32) | bits is the
+    /// double 2^52 + whole·2^32 + bits (exponent 2^52, the 52 significand bits whole and bits), built from 32-bit lanes by
+    /// in-lane unpacks (after a 64-bit permute that puts lanes 0–3 in the low result and 4–7 in the high one); times
+    /// 2^-32/d minus 2^20/d it is (whole + bits·2^-32)/d. For a power-of-two d the fused multiply-add is exact: the product
+    /// only rescales, and the result, whole + bits·2^-32 (at most 52 significant bits) rescaled, is a double, as the scalar
+    /// form's exact sum divided by d is. Other divisors take the sum and the division, as the scalar form does.
+    /// </remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor)
+    {
+        if (!Avx2.IsSupported || !Fma.IsSupported || !BitOperations.IsPow2(divisor) || divisor > 1 << 20)
+        {
+            return JitteredOverDividing(whole, bits, divisor);
+        }
+
+        Vector256<uint> high = Avx2.Permute4x64((whole | Vector256.Create(0x43300000u)).AsUInt64(), 0b11_01_10_00).AsUInt32();
+        Vector256<uint> low = Avx2.Permute4x64(bits.AsUInt64(), 0b11_01_10_00).AsUInt32();
+        double r = Lanes.Reciprocal(divisor);
+        Vector256<double> scale = Vector256.Create(JitterHash.Scale * r), offset = Vector256.Create(-1048576.0 * r);
+        return new Doubles8(Fma.MultiplyAdd(Avx2.UnpackLow(low, high).AsDouble(), scale, offset), Fma.MultiplyAdd(Avx2.UnpackHigh(low, high).AsDouble(), scale, offset));
+    }
+
+    // JitteredOver's other cases, out of line (inlined, they took the batches past the JIT's inlining budget): the sum, then
+    // the division.
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static Doubles8 JitteredOverDividing(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(Add(ToDouble(whole), Jitter(bits)), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);

@@ -83,7 +83,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct =>
-        TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(stratum), TForm.Jitter(bits)), Count));
+        TForm.Clamp(TForm.JitteredOver(stratum, bits, Count));
 
     // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
     private double Coordinate(ulong stream, uint index, uint stratum) =>

@@ -189,13 +189,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
             ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
             : Shuffles(column, row, p);
-        TDoubles sx = TForm.ToDouble(columnShuffle);
-        TDoubles sy = TForm.ToDouble(rowShuffle);
-        TDoubles jx = TForm.Jitter(xBits), jy = TForm.Jitter(yBits);
-
         int m = _grid.Columns, n = _grid.Rows;
-        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.Over(TForm.Add(sy, jx), n)), m)), xs);
-        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.Over(TForm.Add(sx, jy), m)), n)), ys);
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.JitteredOver(rowShuffle, xBits, n)), m)), xs);
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.JitteredOver(columnShuffle, yBits, m)), n)), ys);
     }
 
     // The column and row shuffles of a grid of at most 8 × 8, whole: the column shuffle of 0 … m − 1 in the first table's

@@ -45,7 +45,7 @@ internal interface ILaneForm<TDoubles>
     static abstract void Store(TDoubles v, Span<double> destination);
 }
 
-/// <summary>The AVX-512 form: eight doubles and eight 64-bit hashes in one 512-bit vector (<see cref="Lanes"/>).</summary>
+/// <summary>The AVX-512 form: eight doubles in one 512-bit vector, the 32-bit jitter hashes on 256 bits (<see cref="Lanes"/>).</summary>
 internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 {
     [MethodImpl(InliningOptions.ShortMethod)]

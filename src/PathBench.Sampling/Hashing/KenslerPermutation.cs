@@ -186,6 +186,7 @@ public static class KenslerPermutation
     /// permutations in one walk, each as <see cref="Permute16(Vector256{ushort}, uint, uint)"/> would give it (a lane
     /// whose length is 1 walks to 0, the scalar form's image).
     /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
     internal static Vector256<ushort> Permute16(Vector256<ushort> i, in Seeds16 s)
     {
         Vector256<ushort> walking = Vector256<ushort>.AllBitsSet;
@@ -204,6 +205,7 @@ public static class KenslerPermutation
     /// Two sets of sixteen 16-bit lanes, <see cref="Permute16(Vector256{ushort}, in Seeds16)"/> of each, walked together so
     /// their dependency chains overlap.
     /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
     internal static (Vector256<ushort> A, Vector256<ushort> B) Permute16Pair(Vector256<ushort> a, in Seeds16 sa, Vector256<ushort> b, in Seeds16 sb)
     {
         Vector256<ushort> walkingA = Vector256<ushort>.AllBitsSet, walkingB = Vector256<ushort>.AllBitsSet;
@@ -272,6 +274,7 @@ public static class KenslerPermutation
         public static Seeds16 Of(uint l, uint p) => new(
             Both(p), Both(p >> 16), Both(p >> 8), Both(p >> 23), Both((p >> 27) | 1), Both(MaskBelow(l)), Both(Checked(l)), Both(KenslerPermutation.Remainder(p, l)));
 
+        [MethodImpl(InliningOptions.ShortMethod)]
         private static uint Checked(uint l)
         {
             ArgumentOutOfRangeException.ThrowIfZero(l);

@@ -30,7 +30,7 @@ public sealed class JitteredSampler : PointSampler
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
-        Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
+        Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
@@ -55,9 +55,11 @@ public sealed class JitteredSampler : PointSampler
     private void Fill(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         uint seed = PairSeed(pixel, dimension);
+        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
+        ulong next = ys.IsEmpty ? 0 : JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
-            Batch8(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8(firstIndex, dimension, seed, stream, next, xs, ys);
             return;
         }
 
@@ -65,10 +67,10 @@ public sealed class JitteredSampler : PointSampler
         {
             uint index = firstIndex + (uint)i;
             uint cell = KenslerPermutation.Permute(index, (uint)Count, seed);
-            xs[i] = Coordinate(pixel, index, dimension, cell);
+            xs[i] = Coordinate(stream, index, dimension, cell);
             if (!ys.IsEmpty)
             {
-                ys[i] = Coordinate(pixel, index, dimension + 1, cell);
+                ys[i] = Coordinate(next, index, dimension + 1, cell);
             }
         }
     }
@@ -78,54 +80,78 @@ public sealed class JitteredSampler : PointSampler
     // Eight points at a time: the cell permutation on eight lanes, then dimension's coordinates into xs and, when ys is
     // not empty (an even-aligned pair), the next dimension's from the same cells into ys, on eight lanes of the form's
     // doubles (one 512-bit vector on Wide, two 256-bit halves on Narrow).
-    private void Batch8(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+    private void Batch8(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
     {
         if (Width == LaneWidth.Wide)
         {
-            Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8<WideLanes, Vector512<double>>(firstIndex, dimension, seed, stream, next, xs, ys);
         }
         else
         {
-            Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs, ys);
+            Batch8<NarrowLanes, Doubles8>(firstIndex, dimension, seed, stream, next, xs, ys);
         }
     }
 
-    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
+    // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers),
+    // half the walks of eight-lane steps; the wide form keeps one eight-lane walk a step. The jitter bits come first: they
+    // do not depend on the walk, and issued before it they overlap it (issued after, they measured as waiting on it).
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs, Span<double> ys)
+    private void Batch8<TForm, TDoubles>(uint firstIndex, int dimension, uint seed, ulong stream, ulong next, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        for (int at = 0; at < xs.Length; at += 8)
+        int step = typeof(TForm) == typeof(NarrowLanes) ? 16 : 8;
+        bool pair = !ys.IsEmpty;
+        for (int at = 0; at < xs.Length; at += step)
         {
-            int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-            Vector256<uint> cell = KenslerPermutation.Permute8(index, (uint)Count, seed);
-            (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
-            TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension, row, column), xs.Slice(at, n));
-            if (!ys.IsEmpty)
+            int n = Math.Min(step, xs.Length - at);
+            uint first = firstIndex + (uint)at;
+            Vector256<uint> x0 = JitterHash.Bits8Run(stream, first), y0 = pair ? JitterHash.Bits8Run(next, first) : default;
+            Vector256<uint> x1 = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
+            Vector256<uint> y1 = pair && n > 8 ? JitterHash.Bits8Run(next, first + 8) : default;
+            (Vector256<uint> low, Vector256<uint> high) = step == 16
+                ? Lanes.Permute16(first, n, (uint)Count, seed)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+            int run = Math.Min(8, n);
+            Points8<TForm, TDoubles>(dimension, low, x0, y0, xs.Slice(at, run), pair ? ys.Slice(at, run) : ys);
+            if (n > 8)
             {
-                TForm.Store(Coordinates8<TForm, TDoubles>(pixel, firstIndex + (uint)at, dimension + 1, row, column), ys.Slice(at, n));
+                Points8<TForm, TDoubles>(dimension, high, x1, y1, xs.Slice(at + 8, n - 8), pair ? ys.Slice(at + 8, n - 8) : ys);
             }
         }
     }
 
-    // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %); the division by TForm.Over.
+    // The points in the given cells with the given jitter bits: dimension's coordinates into xs and, when ys is not empty
+    // (an even-aligned pair), the next dimension's from the same cells into ys.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private TDoubles Coordinates8<TForm, TDoubles>(ulong pixel, uint first, int dimension, Vector256<uint> row, Vector256<uint> column)
+    private void Points8<TForm, TDoubles>(int dimension, Vector256<uint> cell, Vector256<uint> xBits, Vector256<uint> yBits, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        TDoubles jitter = TForm.UniformRun(pixel ^ Salts.Jitter, first, dimension);
-        TDoubles x = (dimension & 1) == 0
-            ? TForm.Over(TForm.Add(TForm.ToDouble(column), jitter), _grid.Columns)
-            : TForm.Over(TForm.Add(TForm.ToDouble(row), jitter), _grid.Rows);
-        return TForm.Clamp(x);
+        (Vector256<uint> row, Vector256<uint> column) = TForm.DivRem(cell, _grid.Columns);
+        TForm.Store(Coordinates8<TForm, TDoubles>(xBits, dimension, row, column), xs);
+        if (!ys.IsEmpty)
+        {
+            TForm.Store(Coordinates8<TForm, TDoubles>(yBits, dimension + 1, row, column), ys);
+        }
     }
 
-    private double Coordinate(ulong pixel, uint index, int dimension, uint cell)
+    // Coordinate on eight lanes, given the cell's row and column (TForm.DivRem: the same integers as / and %) and the
+    // jitter bits; the sum and the division by TForm.JitteredOver.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private TDoubles Coordinates8<TForm, TDoubles>(Vector256<uint> bits, int dimension, Vector256<uint> row, Vector256<uint> column)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct
     {
-        double jitter = SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension);
+        (Vector256<uint> whole, int divisor) = (dimension & 1) == 0 ? (column, _grid.Columns) : (row, _grid.Rows);
+        return TForm.Clamp(TForm.JitteredOver(whole, bits, divisor));
+    }
+
+    // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.
+    private double Coordinate(ulong stream, uint index, int dimension, uint cell)
+    {
+        double jitter = JitterHash.Uniform(stream, index);
         double x = (dimension & 1) == 0
             ? (cell % (uint)_grid.Columns + jitter) / _grid.Columns
             : (cell / (uint)_grid.Columns + jitter) / _grid.Rows;

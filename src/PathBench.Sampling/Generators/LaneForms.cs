@@ -20,14 +20,14 @@ internal interface ILaneForm<TDoubles>
     /// <summary>The lanes, each below 2^31 (a Kensler image, stratum, row or column of a set of at most int.MaxValue points), as doubles (exact).</summary>
     static abstract TDoubles ToDouble(Vector256<uint> v);
 
-    /// <summary><see cref="SampleHash.Uniform"/>(key, index, dimension) per lane.</summary>
-    static abstract TDoubles Uniform(ulong key, Vector256<uint> index, int dimension);
+    /// <summary>Jitter bits (<see cref="JitterHash.Bits8"/>) as the values of <see cref="JitterHash.Uniform"/>: bits·2^-32 per lane (exact).</summary>
+    static abstract TDoubles Jitter(Vector256<uint> bits);
 
     /// <summary>
-    /// <see cref="SampleHash.Uniform"/>(key, first + k, dimension) in lane k: a run of indices (inside a set of at most
-    /// int.MaxValue points, so first + 7 does not wrap); the stored lanes equal <see cref="Uniform"/> of <see cref="Lanes.Run"/>.
+    /// (whole + <see cref="Jitter"/>(bits)) / divisor per lane, as <see cref="Over"/>(<see cref="Add"/>(<see cref="ToDouble"/>(whole),
+    /// <see cref="Jitter"/>(bits)), divisor) gives it; every lane's whole is below the divisor.
     /// </summary>
-    static abstract TDoubles UniformRun(ulong key, uint first, int dimension);
+    static abstract TDoubles JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor);
 
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
@@ -45,17 +45,19 @@ internal interface ILaneForm<TDoubles>
     static abstract void Store(TDoubles v, Span<double> destination);
 }
 
-/// <summary>The AVX-512 form: eight doubles and eight 64-bit hashes in one 512-bit vector (<see cref="Lanes"/>).</summary>
+/// <summary>The AVX-512 form: eight doubles in one 512-bit vector, the 32-bit jitter hashes on 256 bits (<see cref="Lanes"/>).</summary>
 internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 {
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> ToDouble(Vector256<uint> v) => Lanes.ToDouble(v);
 
+    /// <summary>The bits·2^-32 (exact: every 32-bit integer is a double, and the scaling is by a power of two).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> Uniform(ulong key, Vector256<uint> index, int dimension) => SampleHash.Uniform8(key, index, dimension);
+    public static Vector512<double> Jitter(Vector256<uint> bits) =>
+        (Avx512F.IsSupported ? Avx512F.ConvertToVector512Double(bits) : Lanes.ToDouble(bits)) * Vector512.Create(JitterHash.Scale);
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> UniformRun(ulong key, uint first, int dimension) => SampleHash.Uniform8(key, Lanes.Run(first, Lanes.Count), dimension);
+    public static Vector512<double> JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(ToDouble(whole) + Jitter(bits), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
@@ -77,7 +79,7 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 internal readonly record struct Doubles8(Vector256<double> Low, Vector256<double> High);
 
 /// <summary>
-/// The AVX2 form: the doubles on two 256-bit halves, the 64-bit hashes four lanes at a time (<see cref="SampleHash.Uniform4"/>),
+/// The AVX2 form: the doubles on two 256-bit halves, the 32-bit jitter hashes eight lanes at a time (<see cref="JitterHash.Bits8"/>),
 /// the conversions between 32-bit integers and doubles without AVX-512's conversion instructions (exact: see each step).
 /// Without AVX2 (a test forcing this form on such a machine) the hashes and conversions run lane by lane, the same bits.
 /// </summary>
@@ -110,36 +112,52 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
         return Vector256.Narrow((x.Low + shift).AsUInt64(), (x.High + shift).AsUInt64());
     }
 
+    /// <summary>
+    /// The bits b·2^-32 without AVX-512's unsigned conversion: b ⊕ 2^31 read as a signed integer is b − 2^31, converted
+    /// exactly (vcvtdq2pd), and (b − 2^31)·2^-32 + 1/2 is b·2^-32, a multiple of 2^-32 in [0, 1) and so a double: the
+    /// fused and the separate multiply-add both give it exactly.
+    /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 Uniform(ulong key, Vector256<uint> index, int dimension)
+    public static Doubles8 Jitter(Vector256<uint> bits)
     {
-        if (!Avx2.IsSupported)
-        {
-            return new Doubles8(Scalar4(key, index, 0, dimension), Scalar4(key, index, 4, dimension));
-        }
+        Vector256<int> signed = (bits ^ Vector256.Create(0x80000000u)).AsInt32();
+        Vector256<double> scale = Vector256.Create(JitterHash.Scale), half = Vector256.Create(0.5);
+        (Vector256<double> low, Vector256<double> high) = Avx.IsSupported
+            ? (Avx.ConvertToVector256Double(signed.GetLower()), Avx.ConvertToVector256Double(signed.GetUpper()))
+            : (Vector256.ConvertToDouble(Vector256.WidenLower(signed)), Vector256.ConvertToDouble(Vector256.WidenUpper(signed)));
 
-        return new Doubles8(SampleHash.Uniform4(key, index.GetLower(), dimension), SampleHash.Uniform4(key, index.GetUpper(), dimension));
+        return Fma.IsSupported
+            ? new Doubles8(Fma.MultiplyAdd(low, scale, half), Fma.MultiplyAdd(high, scale, half))
+            : new Doubles8((low * scale) + half, (high * scale) + half);
     }
 
     /// <remarks>
-    /// The hash's input of lane k is v + k with v = dimension·2^32 + first (no carry into the dimension), so its product with
-    /// <see cref="SampleHash.ValueMultiplier"/> M is v·M + k·M modulo 2^64: one scalar product a run and one addition a
-    /// half, where <see cref="Uniform"/> multiplies each lane's index.
+    /// With AVX2 and a divisor up to 2^20 (so whole &lt; 2^20): the 64-bit word (0x433 · 2^52) | (whole · 2^32) | bits is the
+    /// double 2^52 + whole·2^32 + bits (exponent 2^52, the 52 significand bits whole and bits), built from 32-bit lanes by
+    /// in-lane unpacks (after a 64-bit permute that puts lanes 0–3 in the low result and 4–7 in the high one); times
+    /// 2^-32/d minus 2^20/d it is (whole + bits·2^-32)/d. For a power-of-two d the fused multiply-add is exact: the product
+    /// only rescales, and the result, whole + bits·2^-32 (at most 52 significant bits) rescaled, is a double, as the scalar
+    /// form's exact sum divided by d is. Other divisors take the sum and the division, as the scalar form does.
     /// </remarks>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 UniformRun(ulong key, uint first, int dimension)
+    public static Doubles8 JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor)
     {
-        if (!Avx2.IsSupported)
+        if (!Avx2.IsSupported || !Fma.IsSupported || !BitOperations.IsPow2(divisor) || divisor > 1 << 20)
         {
-            return Uniform(key, Lanes.Run(first, Lanes.Count), dimension);
+            return JitteredOverDividing(whole, bits, divisor);
         }
 
-        const ulong M = SampleHash.ValueMultiplier;
-        Vector256<ulong> product = Vector256.Create((((ulong)(uint)dimension << 32) | first) * M);
-        Vector256<ulong> low = product + Vector256.Create(0, M, unchecked(2 * M), unchecked(3 * M));
-        Vector256<ulong> high = product + Vector256.Create(unchecked(4 * M), unchecked(5 * M), unchecked(6 * M), unchecked(7 * M));
-        return new Doubles8(SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, low)), SampleHash.Unit4(SampleHash.Combine4Premultiplied(key, high)));
+        Vector256<uint> high = Avx2.Permute4x64((whole | Vector256.Create(0x43300000u)).AsUInt64(), 0b11_01_10_00).AsUInt32();
+        Vector256<uint> low = Avx2.Permute4x64(bits.AsUInt64(), 0b11_01_10_00).AsUInt32();
+        double r = Lanes.Reciprocal(divisor);
+        Vector256<double> scale = Vector256.Create(JitterHash.Scale * r), offset = Vector256.Create(-1048576.0 * r);
+        return new Doubles8(Fma.MultiplyAdd(Avx2.UnpackLow(low, high).AsDouble(), scale, offset), Fma.MultiplyAdd(Avx2.UnpackHigh(low, high).AsDouble(), scale, offset));
     }
+
+    // JitteredOver's other cases, out of line (inlined, they took the batches past the JIT's inlining budget): the sum, then
+    // the division.
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static Doubles8 JitteredOverDividing(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(Add(ToDouble(whole), Jitter(bits)), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
@@ -207,11 +225,4 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     private static Vector256<double> Clamp(Vector256<double> x) =>
         Avx.IsSupported ? Avx.Min(x, Vector256.Create(UnitInterval.BelowOne))
         : Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne));
-
-    [MethodImpl(InliningOptions.ColdPath)]
-    private static Vector256<double> Scalar4(ulong key, Vector256<uint> index, int from, int dimension) => Vector256.Create(
-        SampleHash.Uniform(key, index.GetElement(from), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 1), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 2), dimension),
-        SampleHash.Uniform(key, index.GetElement(from + 3), dimension));
 }

@@ -46,7 +46,7 @@ internal static class Lanes
     /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
     /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
     /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
-    /// (<see cref="KenslerPermutation.Permute16"/>), else eight 32-bit lanes a walk.
+    /// (<see cref="KenslerPermutation.Permute16(Vector256{ushort}, uint, uint)"/>), else eight 32-bit lanes a walk.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p)
@@ -164,11 +164,11 @@ internal enum LaneWidth
     Scalar,
 
     /// <summary>
-    /// Everything on 256-bit vectors (AVX2): the permutations on eight 32-bit lanes, the 64-bit jitter hashes four lanes
-    /// at a time, the coordinates' doubles as two halves of four (<see cref="NarrowLanes"/>).
+    /// Everything on 256-bit vectors (AVX2): the permutations and the 32-bit jitter hashes on eight 32-bit lanes, the
+    /// coordinates' doubles as two halves of four (<see cref="NarrowLanes"/>).
     /// </summary>
     Narrow,
 
-    /// <summary>Everything on eight lanes: the permutations on 256 bits, the 64-bit hashes and the doubles on 512 bits (AVX-512).</summary>
+    /// <summary>Everything on eight lanes: the permutations and the jitter hashes on 256 bits, the doubles on 512 bits (AVX-512).</summary>
     Wide,
 }

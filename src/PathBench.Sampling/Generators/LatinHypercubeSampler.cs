@@ -18,7 +18,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override double Sample(ulong pixel, uint index, int dimension)
     {
         uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
-        return Coordinate(pixel, index, dimension, stratum);
+        return Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, stratum);
     }
 
     /// <inheritdoc/>
@@ -29,17 +29,18 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             // Eight points at a time: the stratum permutation on eight lanes, then the jitter hashes and the doubles on the
             // form's eight lanes, the same operations per lane as below.
             if (Width == LaneWidth.Wide)
             {
-                Batch8<WideLanes, Vector512<double>>(pixel, firstIndex, dimension, seed, xs);
+                Batch8<WideLanes, Vector512<double>>(firstIndex, seed, stream, xs);
             }
             else
             {
-                Batch8<NarrowLanes, Doubles8>(pixel, firstIndex, dimension, seed, xs);
+                Batch8<NarrowLanes, Doubles8>(firstIndex, seed, stream, xs);
             }
 
             return;
@@ -48,29 +49,88 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         for (int i = 0; i < xs.Length; i++)
         {
             uint index = firstIndex + (uint)i;
-            xs[i] = Coordinate(pixel, index, dimension, KenslerPermutation.Permute(index, (uint)Count, seed));
+            xs[i] = Coordinate(stream, index, KenslerPermutation.Permute(index, (uint)Count, seed));
         }
     }
 
-    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls.
+    // Not inlined into the caller: inlined, the form's steps exceeded the JIT's inlining budget and some stayed calls. The
+    // narrow form (AVX2) permutes up to sixteen points in one walk on 16-bit lanes (Lanes.Permute16: the same integers).
+    // The jitter bits come first: they do not depend on the walk, and issued before it they overlap it.
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void Batch8<TForm, TDoubles>(ulong pixel, uint firstIndex, int dimension, uint seed, Span<double> xs)
+    private void Batch8<TForm, TDoubles>(uint firstIndex, uint seed, ulong stream, Span<double> xs)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        for (int at = 0; at < xs.Length; at += 8)
+        int step = typeof(TForm) == typeof(NarrowLanes) ? 16 : 8;
+        for (int at = 0; at < xs.Length; at += step)
         {
-            int n = Math.Min(8, xs.Length - at);
-            Vector256<uint> index = Lanes.Run(firstIndex + (uint)at, n);
-            TDoubles stratum = TForm.ToDouble(KenslerPermutation.Permute8(index, (uint)Count, seed));
-            TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(stratum, TForm.UniformRun(pixel ^ Salts.Jitter, firstIndex + (uint)at, dimension)), Count)), xs.Slice(at, n));
+            int n = Math.Min(step, xs.Length - at);
+            uint first = firstIndex + (uint)at;
+            Vector256<uint> bits = JitterHash.Bits8Run(stream, first), more = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
+            (Vector256<uint> low, Vector256<uint> high) = step == 16
+                ? Lanes.Permute16(first, n, (uint)Count, seed)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+            TForm.Store(Points8<TForm, TDoubles>(low, bits), xs.Slice(at, Math.Min(8, n)));
+            if (n > 8)
+            {
+                TForm.Store(Points8<TForm, TDoubles>(high, more), xs.Slice(at + 8, n - 8));
+            }
         }
     }
 
-    private double Coordinate(ulong pixel, uint index, int dimension, uint stratum) =>
-        UnitInterval.Clamp((stratum + SampleHash.Uniform(pixel ^ Salts.Jitter, index, dimension)) / Count);
+    // The coordinates of the points in the given strata with the given jitter bits.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
+        where TForm : struct, ILaneForm<TDoubles>
+        where TDoubles : struct =>
+        TForm.Clamp(TForm.JitteredOver(stratum, bits, Count));
+
+    // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
+    private double Coordinate(ulong stream, uint index, uint stratum) =>
+        UnitInterval.Clamp((stratum + JitterHash.Uniform(stream, index)) / Count);
 
     /// <inheritdoc/>
-    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys) =>
+    /// <remarks>
+    /// The AVX2 form's usual pair (a run of up to sixteen points of a set of at most 2^15 − 1) walks the two dimensions'
+    /// permutations together (<see cref="PairRun"/>); otherwise one dimension after the other.
+    /// </remarks>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (Width == LaneWidth.Narrow && xs.Length == ys.Length && xs.Length is > 0 and <= 16
+            && Count <= KenslerPermutation.ShortLength && Lanes.Inside(firstIndex, xs.Length, Count))
+        {
+            PairRun(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
         PairBySingles(pixel, firstIndex, dimension, xs, ys);
+    }
+
+    // Dimensions dimension and dimension + 1 of the run: their strata from two 16-bit walks walked together
+    // (KenslerPermutation.Permute16Pair, the same integers as Lanes.Permute16), so the two chains overlap.
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private void PairRun(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        uint l = (uint)Count;
+        uint seedX = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+        uint seedY = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension + 1));
+        ulong streamX = JitterHash.Stream(pixel ^ Salts.Jitter, dimension), streamY = JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
+        int run = xs.Length;
+        Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex), y0 = JitterHash.Bits8Run(streamY, firstIndex);
+        Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8) : default;
+        Vector256<uint> y1 = run > 8 ? JitterHash.Bits8Run(streamY, firstIndex + 8) : default;
+        Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
+        Vector256<ushort> index = Vector256.Create((ushort)firstIndex) + Vector256.Min(lane, Vector256.Create((ushort)(run - 1)));
+        (Vector256<ushort> x, Vector256<ushort> y) = l <= 1
+            ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
+            : KenslerPermutation.Permute16Pair(index, KenslerPermutation.Seeds16.Of(l, seedX), index, KenslerPermutation.Seeds16.Of(l, seedY));
+        int low = Math.Min(8, run);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(x), x0), xs[..low]);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(y), y0), ys[..low]);
+        if (run > 8)
+        {
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(x), x1), xs[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(y), y1), ys[8..]);
+        }
+    }
 }

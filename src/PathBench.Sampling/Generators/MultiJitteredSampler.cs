@@ -11,7 +11,10 @@ namespace PathBench.Sampling.Generators;
 /// once, with the sub-strata shuffled by one permutation per column and one per row
 /// ("correlated"). The grid is <see cref="StratumGrid"/> so that c·r = n exactly, which keeps
 /// the estimator unbiased for any n. Padded per 2-D pair like <see cref="JitteredSampler"/>:
-/// each pair draws its own pattern and point order.
+/// each pair draws its own pattern and point order. The jitters (<see cref="JitterHash"/>) are keyed by the
+/// point's index, where Kensler's listing keys them by its stratum: the index → stratum map is a bijection per
+/// pixel and pair, so they are the same family of independent uniform values relabelled (the same distribution
+/// of point sets), and they need not wait for the permutation.
 /// </summary>
 public sealed class MultiJitteredSampler : PairedPointSampler
 {
@@ -24,9 +27,10 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     /// <inheritdoc/>
     /// <remarks>
     /// True on the wide lane form (AVX-512): a batch of up to eight points is one chain of dependent vector multiplies
-    /// (the index's Kensler permutation, then the jitter hashes keyed by its result) after the grid's shuffle tables, so a
-    /// second group of eight overlaps the first: 16 points cost about 1.4 times 8 (110 → 150 ns a pair), less than the two
-    /// calls a block's deep dimension would otherwise often take. Not measured on the narrow form (AVX2), which keeps it off.
+    /// (the index's Kensler permutation, then, until the ninth round, the jitter hashes keyed by its result) after the grid's
+    /// shuffle tables, so a second group of eight overlaps the first: 16 points cost about 1.4 times 8 (110 → 150 ns a pair,
+    /// measured in the eighth round), less than the two calls a block's deep dimension would otherwise often take. Not
+    /// measured on the narrow form (AVX2), which keeps it off.
     /// </remarks>
     public override bool WholeRunsCostLittleMore => Width == LaneWidth.Wide;
 
@@ -45,7 +49,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint row = s / (uint)_grid.Columns;
         uint sx = KenslerPermutation.Permute(column, (uint)_grid.Columns, p * 0x68bc21ebu);
         uint sy = KenslerPermutation.Permute(row, (uint)_grid.Rows, p * 0x02e5be93u);
-        return Point(pixel, pair, s, sx, sy);
+        (ulong xStream, ulong yStream) = Streams(pixel, pair);
+        return Point(xStream, yStream, index, s, sx, sy);
     }
 
     /// <inheritdoc/>
@@ -65,14 +70,13 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
             // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
-            (Vector256<uint> columnTable, Vector256<uint> rowTable) = tabled ? Shuffles(Lanes.Run(0, (int)m), Lanes.Run(0, (int)n), p) : default;
             if (Width == LaneWidth.Wide)
             {
-                WideBatch(pixel, firstIndex, pair, p, tabled, columnTable, rowTable, xs, ys);
+                WideBatch(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
             }
             else
             {
-                NarrowBatch(pixel, firstIndex, pair, p, tabled, columnTable, rowTable, xs, ys);
+                NarrowBatch(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
             }
 
             return;
@@ -99,6 +103,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         Span<uint> rowShuffle = stackalloc uint[(int)n];
         columnShuffle.Fill(uint.MaxValue);
         rowShuffle.Fill(uint.MaxValue);
+        (ulong xStream, ulong yStream) = Streams(pixel, pair);
         for (int i = 0; i < xs.Length; i++)
         {
             uint s = KenslerPermutation.Permute(firstIndex + (uint)i, (uint)Count, p * 0x51633e2du);
@@ -116,50 +121,67 @@ public sealed class MultiJitteredSampler : PairedPointSampler
                 sy = KenslerPermutation.Permute(row, n, p * 0x02e5be93u);
             }
 
-            (xs[i], ys[i]) = Point(pixel, pair, s, sx, sy);
+            (xs[i], ys[i]) = Point(xStream, yStream, firstIndex + (uint)i, s, sx, sy);
         }
     }
 
-    // The AVX-512 form: sets of up to 16 points hash the jitters of every stratum once per batch, independent of the index
-    // permutation, so the points' chain is the permutation and a lane permute instead of the permutation and the hashes
-    // keyed by its result (the same hashes, looked up by stratum).
+    // The AVX-512 form: the strata of eight points a walk. The jitter bits of each step come before its walks (the shuffle
+    // tables' and the index's): they do not depend on them, and issued first they overlap them.
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void WideBatch(ulong pixel, uint firstIndex, int pair, uint p, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    private void WideBatch((ulong X, ulong Y) streams, uint firstIndex, uint p, bool tabled, Span<double> xs, Span<double> ys)
     {
-        var jitters = new JitterTable(pixel, pair, Count <= JitterTable.Strata && Avx512F.IsSupported);
+        Vector256<uint> columnTable = default, rowTable = default;
         for (int at = 0; at < xs.Length; at += 8)
         {
             int run = Math.Min(8, xs.Length - at);
-            Vector256<uint> s = KenslerPermutation.Permute8(Lanes.Run(firstIndex + (uint)at, run), (uint)Count, p * 0x51633e2du);
-            Points8<WideLanes, Vector512<double>>(pixel, pair, p, s, tabled, columnTable, rowTable, in jitters, xs.Slice(at, run), ys.Slice(at, run));
+            uint first = firstIndex + (uint)at;
+            (Vector256<uint> jx, Vector256<uint> jy) = (JitterHash.Bits8Run(streams.X, first), JitterHash.Bits8Run(streams.Y, first));
+            if (at == 0 && tabled)
+            {
+                (columnTable, rowTable) = Tables(p);
+            }
+
+            Vector256<uint> s = KenslerPermutation.Permute8(Lanes.Run(first, run), (uint)Count, p * 0x51633e2du);
+            Points8<WideLanes, Vector512<double>>(jx, jy, p, s, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
         }
     }
 
-    // The AVX2 form: the strata of up to sixteen points from one permutation walk (Lanes.Permute16), no jitter table (its
-    // 32 hashes a batch cost more than the points' own on this throughput-bound form).
+    // The AVX2 form: the strata of up to sixteen points from one permutation walk (Lanes.Permute16), the jitter bits first
+    // as in WideBatch.
     [MethodImpl(MethodImplOptions.NoInlining)]
-    private void NarrowBatch(ulong pixel, uint firstIndex, int pair, uint p, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
+    private void NarrowBatch((ulong X, ulong Y) streams, uint firstIndex, uint p, bool tabled, Span<double> xs, Span<double> ys)
     {
+        Vector256<uint> columnTable = default, rowTable = default;
         for (int at = 0; at < xs.Length; at += 16)
         {
             int n = Math.Min(16, xs.Length - at);
-            (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(firstIndex + (uint)at, n, (uint)Count, p * 0x51633e2du);
+            uint first = firstIndex + (uint)at;
+            (Vector256<uint> x0, Vector256<uint> y0) = (JitterHash.Bits8Run(streams.X, first), JitterHash.Bits8Run(streams.Y, first));
+            (Vector256<uint> x1, Vector256<uint> y1) = n > 8 ? (JitterHash.Bits8Run(streams.X, first + 8), JitterHash.Bits8Run(streams.Y, first + 8)) : default;
+            if (at == 0 && tabled)
+            {
+                (columnTable, rowTable) = Tables(p);
+            }
+
+            (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(first, n, (uint)Count, p * 0x51633e2du);
             int run = Math.Min(8, n);
-            Points8<NarrowLanes, Doubles8>(pixel, pair, p, low, tabled, columnTable, rowTable, in JitterTable.None, xs.Slice(at, run), ys.Slice(at, run));
+            Points8<NarrowLanes, Doubles8>(x0, y0, p, low, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
             if (n > 8)
             {
-                Points8<NarrowLanes, Doubles8>(pixel, pair, p, high, tabled, columnTable, rowTable, in JitterTable.None, xs.Slice(at + 8, n - 8), ys.Slice(at + 8, n - 8));
+                Points8<NarrowLanes, Doubles8>(x1, y1, p, high, tabled, columnTable, rowTable, xs.Slice(at + 8, n - 8), ys.Slice(at + 8, n - 8));
             }
         }
     }
 
-    // Point for eight indices at once (their images s under the index shuffle, the column and row shuffles
-    // from the batch's tables or by Permute8Pair, the form's Uniform for the jitters (or the batch's jitter table, Wide
-    // only), TForm.DivRem for the column and row, TForm.Over for the divisions): the same integers and the same IEEE-754
-    // results in the same order per lane as the scalar form; only the first xs.Length lanes are stored. Not inlined: inlined
-    // into a batch, the form's steps ran out of the JIT's inlining budget and stayed calls.
-    [MethodImpl(MethodImplOptions.NoInlining)]
-    private void Points8<TForm, TDoubles>(ulong pixel, int pair, uint p, Vector256<uint> s, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, in JitterTable jitters, Span<double> xs, Span<double> ys)
+    // Point for eight indices at once (their images s under the index shuffle, the column and row shuffles from the batch's
+    // tables or by Permute8Pair, the jitters from the bits of the indices in the pair's two streams (keyed by the index,
+    // so they do not wait for the permutation), TForm.DivRem for the column and row, TForm.Over for the divisions): the
+    // same integers and the same IEEE-754
+    // results in the same order per lane as the scalar form; only the first xs.Length lanes are stored. Inlined into the
+    // batches (the JIT's output keeps only the untabled shuffles a call): a call of its own twice a batch measured about
+    // 1 ms of multi-jittered's 16 ms replay.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private void Points8<TForm, TDoubles>(Vector256<uint> xBits, Vector256<uint> yBits, uint p, Vector256<uint> s, bool tabled, Vector256<uint> columnTable, Vector256<uint> rowTable, Span<double> xs, Span<double> ys)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
@@ -167,22 +189,22 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         (Vector256<uint> columnShuffle, Vector256<uint> rowShuffle) = tabled
             ? (Avx2.PermuteVar8x32(columnTable, column), Avx2.PermuteVar8x32(rowTable, row))
             : Shuffles(column, row, p);
-        TDoubles sx = TForm.ToDouble(columnShuffle);
-        TDoubles sy = TForm.ToDouble(rowShuffle);
-        TDoubles jx, jy;
-        if (typeof(TDoubles) == typeof(Vector512<double>) && jitters.Tabled)
-        {
-            (Vector512<double> x, Vector512<double> y) = jitters.For(s);
-            (jx, jy) = (Unsafe.As<Vector512<double>, TDoubles>(ref x), Unsafe.As<Vector512<double>, TDoubles>(ref y));
-        }
-        else
-        {
-            (jx, jy) = (TForm.Uniform(pixel ^ Salts.Jitter, s, 2 * pair), TForm.Uniform(pixel ^ Salts.Jitter, s, 2 * pair + 1));
-        }
-
         int m = _grid.Columns, n = _grid.Rows;
-        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.Over(TForm.Add(sy, jx), n)), m)), xs);
-        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.Over(TForm.Add(sx, jy), m)), n)), ys);
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(column), TForm.JitteredOver(rowShuffle, xBits, n)), m)), xs);
+        TForm.Store(TForm.Clamp(TForm.Over(TForm.Add(TForm.ToDouble(row), TForm.JitteredOver(columnShuffle, yBits, m)), n)), ys);
+    }
+
+    // The column and row shuffles of a grid of at most 8 × 8, whole: the column shuffle of 0 … m − 1 in the first table's
+    // lanes and the row shuffle of 0 … n − 1 in the second's (each padded with its last), from one walk of sixteen 16-bit
+    // lanes, the columns in its low half and the rows in its high half (KenslerPermutation.Seeds16: the same integers).
+    private (Vector256<uint> Columns, Vector256<uint> Rows) Tables(uint p)
+    {
+        uint m = (uint)_grid.Columns, n = (uint)_grid.Rows;
+        Vector256<ushort> lanes = Vector256.Min(
+            Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 0, 1, 2, 3, 4, 5, 6, 7),
+            Vector256.Create(Vector128.Create((ushort)(m - 1)), Vector128.Create((ushort)(n - 1))));
+        Vector256<ushort> image = KenslerPermutation.Permute16(lanes, new KenslerPermutation.Seeds16(m, p * 0x68bc21ebu, n, p * 0x02e5be93u));
+        return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
     }
 
     // The column shuffle of the column lanes and the row shuffle of the row lanes (each below its length), walked
@@ -195,56 +217,21 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             : (KenslerPermutation.Permute8(column, m, p * 0x68bc21ebu), KenslerPermutation.Permute8(row, n, p * 0x02e5be93u));
     }
 
-    /// <summary>
-    /// The x and y jitters of strata 0–15 of a pixel and pair (<see cref="SampleHash.Uniform8"/>, keyed as in
-    /// <see cref="Points8"/>), looked up per point by a two-register lane permute (AVX-512F); empty unless
-    /// <see cref="Tabled"/>.
-    /// </summary>
-    private readonly struct JitterTable
-    {
-        public const int Strata = 16;
-
-        /// <summary>No table (the AVX2 form), shared: a table is four 512-bit vectors, which a local would clear per batch.</summary>
-        public static readonly JitterTable None = new(0, 0, false);
-
-        private readonly Vector512<double> _xLow, _xHigh, _yLow, _yHigh;
-
-        public JitterTable(ulong pixel, int pair, bool tabled)
-        {
-            Tabled = tabled;
-            if (!tabled)
-            {
-                return;
-            }
-
-            ulong key = pixel ^ Salts.Jitter;
-            Vector256<uint> low = Lanes.Run(0, 8), high = Lanes.Run(8, 8);
-            _xLow = SampleHash.Uniform8(key, low, 2 * pair);
-            _xHigh = SampleHash.Uniform8(key, high, 2 * pair);
-            _yLow = SampleHash.Uniform8(key, low, 2 * pair + 1);
-            _yHigh = SampleHash.Uniform8(key, high, 2 * pair + 1);
-        }
-
-        public bool Tabled { get; }
-
-        /// <summary>The jitters of strata <paramref name="s"/> (each below <see cref="Strata"/>).</summary>
-        public (Vector512<double> X, Vector512<double> Y) For(Vector256<uint> s)
-        {
-            Vector512<long> at = Vector512.WidenLower(s.ToVector512Unsafe()).AsInt64();
-            return (Avx512F.PermuteVar8x64x2(_xLow, at, _xHigh), Avx512F.PermuteVar8x64x2(_yLow, at, _yHigh));
-        }
-    }
-
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);
 
-    private (double X, double Y) Point(ulong pixel, int pair, uint s, uint sx, uint sy)
+    // The jitter streams of the pair's x and y dimensions (2·pair and 2·pair + 1), once per batch.
+    private static (ulong X, ulong Y) Streams(ulong pixel, int pair) =>
+        (JitterHash.Stream(pixel ^ Salts.Jitter, 2 * pair), JitterHash.Stream(pixel ^ Salts.Jitter, (2 * pair) + 1));
+
+    // The point with this index in stratum s (its column and row) at sub-strata sx, sy, jittered by the index in the two streams.
+    private (double X, double Y) Point(ulong xStream, ulong yStream, uint index, uint s, uint sx, uint sy)
     {
         uint m = (uint)_grid.Columns;
         uint n = (uint)_grid.Rows;
         uint column = s % m;
         uint row = s / m;
-        double jx = SampleHash.Uniform(pixel ^ Salts.Jitter, s, 2 * pair);
-        double jy = SampleHash.Uniform(pixel ^ Salts.Jitter, s, 2 * pair + 1);
+        double jx = JitterHash.Uniform(xStream, index);
+        double jy = JitterHash.Uniform(yStream, index);
         double x = (column + (sy + jx) / n) / m;
         double y = (row + (sx + jy) / m) / n;
         return (UnitInterval.Clamp(x), UnitInterval.Clamp(y));

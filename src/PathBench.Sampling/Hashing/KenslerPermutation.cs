@@ -1,3 +1,4 @@
+using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
 
@@ -112,15 +113,8 @@ public static class KenslerPermutation
 
     // The smallest 2^k − 1 at or above l − 1: the bits the permutation works on before cycle-walking into [0, l).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private static uint MaskBelow(uint l)
-    {
-        uint w = l - 1;
-        w |= w >> 1;
-        w |= w >> 2;
-        w |= w >> 4;
-        w |= w >> 8;
-        return w | (w >> 16);
-    }
+    // (2^(bit length of l − 1)) − 1 by one leading-zero count, the shift by 32 − lzcnt(l − 1) ≤ 32 on 64 bits (0 for l = 1).
+    private static uint MaskBelow(uint l) => (uint)((1UL << (32 - BitOperations.LeadingZeroCount(l - 1))) - 1);
 
     /// <summary>
     /// <see cref="Permute"/>(i + k, l, p) for k = 0 … <c>images.Length</c> − 1 into <paramref name="images"/>: one seed,
@@ -159,11 +153,11 @@ public static class KenslerPermutation
             return Vector256<uint>.Zero;
         }
 
-        return AddReduced(Walk8(i, l, Vector256.Create(p)), l, Vector256.Create(p % l));
+        return AddReduced(Walk8(i, l, Vector256.Create(p)), l, Vector256.Create(Remainder(p, l)));
     }
 
     /// <summary>
-    /// The longest permutation <see cref="Permute16"/> takes: 2^15 − 1, so l is a positive 16-bit signed integer (the walk's
+    /// The longest permutation <see cref="Permute16(Vector256{ushort}, uint, uint)"/> takes: 2^15 − 1, so l is a positive 16-bit signed integer (the walk's
     /// end test is a signed comparison) and a lane's index and offset sum stay below 2^16.
     /// </summary>
     internal const uint ShortLength = (1u << 15) - 1;
@@ -184,41 +178,126 @@ public static class KenslerPermutation
         }
 
         ArgumentOutOfRangeException.ThrowIfGreaterThan(l, ShortLength);
-        Vector256<ushort> pv = Vector256.Create((ushort)p);
-        Vector256<ushort> p27 = Vector256.Create((ushort)((p >> 27) | 1));
-        Vector256<ushort> p16 = Vector256.Create((ushort)(p >> 16)), p8 = Vector256.Create((ushort)(p >> 8)), p23 = Vector256.Create((ushort)(p >> 23));
-        Vector256<ushort> mask = Vector256.Create((ushort)MaskBelow(l));
-        Vector256<short> limit = Vector256.Create((short)l);
+        return Permute16(i, Seeds16.Of(l, p));
+    }
+
+    /// <summary>
+    /// <see cref="Permute"/>(i, l, p) on sixteen 16-bit lanes with a length and seed per half (<see cref="Seeds16"/>): two
+    /// permutations in one walk, each as <see cref="Permute16(Vector256{ushort}, uint, uint)"/> would give it (a lane
+    /// whose length is 1 walks to 0, the scalar form's image).
+    /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
+    internal static Vector256<ushort> Permute16(Vector256<ushort> i, in Seeds16 s)
+    {
         Vector256<ushort> walking = Vector256<ushort>.AllBitsSet;
         do
         {
-            Vector256<ushort> x = i ^ pv;
-            x *= Vector256.Create(unchecked((ushort)0xe170893du));
-            x ^= p16;
-            x ^= (x & mask) >>> 4;
-            x ^= p8;
-            x *= Vector256.Create(unchecked((ushort)0x0929eb3fu));
-            x ^= p23;
-            x ^= (x & mask) >>> 1;
-            x *= p27;
-            x *= Vector256.Create(unchecked((ushort)0x6935fa69u));
-            x ^= (x & mask) >>> 11;
-            x *= Vector256.Create(unchecked((ushort)0x74dcb303u));
-            x ^= (x & mask) >>> 2;
-            x *= Vector256.Create(unchecked((ushort)0x9e501cc3u));
-            x ^= (x & mask) >>> 2;
-            x *= Vector256.Create(unchecked((ushort)0xc860a3dfu));
-            x &= mask;
-            x ^= x >>> 5;
-            i = Vector256.ConditionalSelect(walking, x, i);
+            i = Vector256.ConditionalSelect(walking, Scramble16(i, s), i);
             // Values are below 2^15 and l below 2^15 too: the signed comparison is the unsigned one.
-            walking = Vector256.AndNot(walking, Vector256.LessThan(i.AsInt16(), limit).AsUInt16());
+            walking = Vector256.AndNot(walking, Vector256.LessThan(i.AsInt16(), s.Limit).AsUInt16());
         }
         while (walking != Vector256<ushort>.Zero);
 
-        // (i + q) mod l with q = p mod l: the sum is below 2l ≤ 2^16; where it reaches l, sum − l is the smaller (unsigned).
-        Vector256<ushort> sum = i + Vector256.Create((ushort)(p % l));
-        return Vector256.Min(sum, sum - Vector256.Create((ushort)l));
+        return s.Offset(i);
+    }
+
+    /// <summary>
+    /// Two sets of sixteen 16-bit lanes, <see cref="Permute16(Vector256{ushort}, in Seeds16)"/> of each, walked together so
+    /// their dependency chains overlap.
+    /// </summary>
+    [MethodImpl(InliningOptions.HotPath)]
+    internal static (Vector256<ushort> A, Vector256<ushort> B) Permute16Pair(Vector256<ushort> a, in Seeds16 sa, Vector256<ushort> b, in Seeds16 sb)
+    {
+        Vector256<ushort> walkingA = Vector256<ushort>.AllBitsSet, walkingB = Vector256<ushort>.AllBitsSet;
+        do
+        {
+            a = Vector256.ConditionalSelect(walkingA, Scramble16(a, sa), a);
+            b = Vector256.ConditionalSelect(walkingB, Scramble16(b, sb), b);
+            walkingA = Vector256.AndNot(walkingA, Vector256.LessThan(a.AsInt16(), sa.Limit).AsUInt16());
+            walkingB = Vector256.AndNot(walkingB, Vector256.LessThan(b.AsInt16(), sb.Limit).AsUInt16());
+        }
+        while ((walkingA | walkingB) != Vector256<ushort>.Zero);
+
+        return (sa.Offset(a), sb.Offset(b));
+    }
+
+    // One pass of the scalar loop's steps on sixteen 16-bit lanes (the low halves of the 32-bit steps).
+    [MethodImpl(InliningOptions.HotPath)]
+    private static Vector256<ushort> Scramble16(Vector256<ushort> i, in Seeds16 s)
+    {
+        Vector256<ushort> mask = s.Mask;
+        Vector256<ushort> x = i ^ s.P;
+        x *= Vector256.Create(unchecked((ushort)0xe170893du));
+        x ^= s.P16;
+        x ^= (x & mask) >>> 4;
+        x ^= s.P8;
+        x *= Vector256.Create(unchecked((ushort)0x0929eb3fu));
+        x ^= s.P23;
+        x ^= (x & mask) >>> 1;
+        x *= s.P27;
+        x *= Vector256.Create(unchecked((ushort)0x6935fa69u));
+        x ^= (x & mask) >>> 11;
+        x *= Vector256.Create(unchecked((ushort)0x74dcb303u));
+        x ^= (x & mask) >>> 2;
+        x *= Vector256.Create(unchecked((ushort)0x9e501cc3u));
+        x ^= (x & mask) >>> 2;
+        x *= Vector256.Create(unchecked((ushort)0xc860a3dfu));
+        x &= mask;
+        return x ^ (x >>> 5);
+    }
+
+    /// <summary>
+    /// The seed words, mask, length and offset of a 16-bit walk (<see cref="Permute16(Vector256{ushort}, in Seeds16)"/>), per
+    /// half: lanes 0–7 permute [0, lLow) by pLow, lanes 8–15 [0, lHigh) by pHigh (each length 1 to <see cref="ShortLength"/>).
+    /// </summary>
+    internal readonly struct Seeds16
+    {
+        public readonly Vector256<ushort> P, P16, P8, P23, P27, Mask, Length, Remainder;
+        public readonly Vector256<short> Limit;
+
+        /// <summary>Lanes 0–7 permute [0, lLow) by pLow, lanes 8–15 [0, lHigh) by pHigh (each length 1 to <see cref="ShortLength"/>).</summary>
+        public Seeds16(uint lLow, uint pLow, uint lHigh, uint pHigh)
+            : this(Halves(pLow, pHigh), Halves(pLow >> 16, pHigh >> 16), Halves(pLow >> 8, pHigh >> 8), Halves(pLow >> 23, pHigh >> 23),
+                Halves((pLow >> 27) | 1, (pHigh >> 27) | 1), Halves(MaskBelow(lLow), MaskBelow(lHigh)), Halves(Checked(lLow), Checked(lHigh)),
+                Halves(KenslerPermutation.Remainder(pLow, lLow), KenslerPermutation.Remainder(pHigh, lHigh)))
+        {
+        }
+
+        private Seeds16(Vector256<ushort> p, Vector256<ushort> p16, Vector256<ushort> p8, Vector256<ushort> p23, Vector256<ushort> p27, Vector256<ushort> mask, Vector256<ushort> length, Vector256<ushort> remainder)
+        {
+            (P, P16, P8, P23, P27, Mask, Length, Remainder) = (p, p16, p8, p23, p27, mask, length, remainder);
+            Limit = length.AsInt16();
+        }
+
+        /// <summary>One permutation of [0, l) by p in all sixteen lanes: whole-register broadcasts.</summary>
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public static Seeds16 Of(uint l, uint p) => new(
+            Both(p), Both(p >> 16), Both(p >> 8), Both(p >> 23), Both((p >> 27) | 1), Both(MaskBelow(l)), Both(Checked(l)), Both(KenslerPermutation.Remainder(p, l)));
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static uint Checked(uint l)
+        {
+            ArgumentOutOfRangeException.ThrowIfZero(l);
+            ArgumentOutOfRangeException.ThrowIfGreaterThan(l, ShortLength);
+            return l;
+        }
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static Vector256<ushort> Both(uint v) => Vector256.Create((ushort)v);
+
+        /// <summary>
+        /// (i + p mod l) mod l per lane, i below l: the sum is below 2l ≤ 2^16; where it reaches l, sum − l is the smaller
+        /// (unsigned).
+        /// </summary>
+        [MethodImpl(InliningOptions.ShortMethod)]
+        public Vector256<ushort> Offset(Vector256<ushort> i)
+        {
+            Vector256<ushort> sum = i + Remainder;
+            return Vector256.Min(sum, sum - Length);
+        }
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static Vector256<ushort> Halves(uint low, uint high) => Vector256.Create(Vector128.Create((ushort)low), Vector128.Create((ushort)high));
     }
 
     /// <summary>
@@ -228,8 +307,13 @@ public static class KenslerPermutation
     internal static (Vector256<uint> A, Vector256<uint> B) Permute8Pair(Vector256<uint> a, uint la, uint pa, Vector256<uint> b, uint lb, uint pb)
     {
         Walk(ref a, la, Vector256.Create(pa), ref b, lb, Vector256.Create(pb));
-        return (AddReduced(a, la, Vector256.Create(pa % la)), AddReduced(b, lb, Vector256.Create(pb % lb)));
+        return (AddReduced(a, la, Vector256.Create(Remainder(pa, la))), AddReduced(b, lb, Vector256.Create(Remainder(pb, lb))));
     }
+
+    // p % l (l ≥ 1): a mask where l is a power of two (the same integer), else the division. The lane forms take it once a
+    // walk; a hardware division (tens of cycles, not pipelined) was three of a multi-jittered batch's critical resources.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static uint Remainder(uint p, uint l) => BitOperations.IsPow2(l) ? p & (l - 1) : p % l;
 
     // ((ulong)i + p) % l with i < l, per lane, given q = p % l: the same integer as (i + q) % l, and i + q < 2l, so l is
     // subtracted once where the true sum reaches l, that is where the 32-bit sum is at least l or has wrapped past

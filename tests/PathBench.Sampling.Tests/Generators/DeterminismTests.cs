@@ -167,30 +167,33 @@ public sealed class BatchTests
     }
 
     /// <summary>
-    /// Multi-jittered with more than 2^15 − 1 points, where the lane forms' index permutation takes its two-walk path
+    /// The Kensler sets with more than 2^15 − 1 points, where the lane forms' index permutation takes its two-walk path
     /// (16-bit lanes hold lengths below 2^15 only): runs at the start, across the middle and at the end of the set, at
     /// each lane width, against the one-point form.
     /// </summary>
-    [Fact]
-    public void Multi_jittered_batches_past_the_16_bit_walk_equal_their_points()
+    [Theory]
+    [InlineData("multi-jittered")]
+    [InlineData("jittered")]
+    [InlineData("latin-hypercube")]
+    public void Kensler_sets_batches_past_the_16_bit_walk_equal_their_points(string generator)
     {
         const int Count = 40_000;
         var xs = new double[17];
         var ys = new double[17];
         foreach (LaneWidth width in new[] { LaneWidth.Wide, LaneWidth.Narrow, LaneWidth.Scalar })
         {
-            PointSampler s = SamplerCatalog.Create(new SamplerSpec("multi-jittered", Randomization.None, false, Count, 5), 12);
+            PointSampler s = SamplerCatalog.Create(new SamplerSpec(generator, Randomization.None, false, Count, 5), 12);
             s.Width = width;
             foreach (int first in new[] { 0, 8, 16_383, 32_760, 39_983 })
             {
                 ulong key = s.PixelKey(first, 3);
-                for (int d = 0; d < 6; d += 2)
+                for (int d = 0; d < 5; d++)
                 {
                     s.Sample2DBatch(key, (uint)first, d, xs, ys);
                     for (int i = 0; i < xs.Length; i++)
                     {
                         (double a, double b) = s.Sample2D(key, (uint)(first + i), d);
-                        Assert.True(a == xs[i] && b == ys[i], $"{width} dimensions {d}, {d + 1} point {first + i}");
+                        Assert.True(a == xs[i] && b == ys[i], $"{generator} {width} dimensions {d}, {d + 1} point {first + i}");
                     }
                 }
             }

@@ -184,7 +184,9 @@ public static class KenslerPermutation
     /// <summary>
     /// <see cref="Permute"/>(i, l, p) on sixteen 16-bit lanes with a length and seed per half (<see cref="Seeds16"/>): two
     /// permutations in one walk, each as <see cref="Permute16(Vector256{ushort}, uint, uint)"/> would give it (a lane
-    /// whose length is 1 walks to 0, the scalar form's image).
+    /// whose length is 1 walks to 0, the scalar form's image). Every lane's index must be below its half's length: the
+    /// scalar form refuses a larger one, but here a lane may start in a cycle of [0, mask] with no value below the length
+    /// and the walk would not end (callers pass indices inside the run, clamped below the length).
     /// </summary>
     [MethodImpl(InliningOptions.HotPath)]
     internal static Vector256<ushort> Permute16(Vector256<ushort> i, in Seeds16 s)
@@ -203,7 +205,7 @@ public static class KenslerPermutation
 
     /// <summary>
     /// Two sets of sixteen 16-bit lanes, <see cref="Permute16(Vector256{ushort}, in Seeds16)"/> of each, walked together so
-    /// their dependency chains overlap.
+    /// their dependency chains overlap; the same precondition (every index below its half's length).
     /// </summary>
     [MethodImpl(InliningOptions.HotPath)]
     internal static (Vector256<ushort> A, Vector256<ushort> B) Permute16Pair(Vector256<ushort> a, in Seeds16 sa, Vector256<ushort> b, in Seeds16 sb)

@@ -678,7 +678,8 @@ public static class RadicalInverse
     /// and the few later ones (a round of sixteen is collision-free for b = 67 about 17 % of the time, for b = 331
     /// about 70 %) one by one against the images held in two eight-lane registers (<see cref="KeepScanned"/>). The scalar
     /// form holds the taken values in a set of b bits on the stack. <paramref name="images"/> needs
-    /// 56 places (the first draws' kept values past the last image are written, and the draws kept from place 32 on).
+    /// 56 places (the first draws' kept values past the last image are written, and places 32–55 are the scratch of the
+    /// 24 first draws).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     internal static void ScanImagesForm(uint b, ulong positionKey, uint zero, uint last, Span<uint> images, Generators.LaneWidth width)
@@ -875,7 +876,7 @@ public static class RadicalInverse
         }
     }
 
-    // l·M for the lanes l = 0 … 15 (M = SampleHash.ValueMultiplier).
+    // l·M for the lanes l = 0 … 7 (M = SampleHash.ValueMultiplier).
     private static readonly Vector512<ulong> LaneProductsLow = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL) * SampleHash.ValueMultiplier;
 
     /// <summary>Points per run of <see cref="PermutedBatch"/>: bounds its stack tables.</summary>

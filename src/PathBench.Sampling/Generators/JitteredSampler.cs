@@ -30,7 +30,7 @@ public sealed class JitteredSampler : PointSampler
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
-        Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
+        Coordinate(JitterHash.PixelStream(pixel, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
@@ -55,8 +55,8 @@ public sealed class JitteredSampler : PointSampler
     private void Fill(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         uint seed = PairSeed(pixel, dimension);
-        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
-        ulong next = ys.IsEmpty ? 0 : JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
+        ulong stream = JitterHash.PixelStream(pixel, dimension);
+        ulong next = ys.IsEmpty ? 0 : JitterHash.PixelStream(pixel, dimension + 1);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             Batch8(firstIndex, dimension, seed, stream, next, xs, ys);

@@ -43,6 +43,14 @@ internal static class Lanes
         Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
 
     /// <summary>
+    /// <see cref="Run"/> on sixteen 16-bit lanes: first + k in lane k for k &lt; n (1 ≤ n ≤ 16), the last index in the lanes
+    /// past the run; the indices' low 16 bits (callers' runs lie below 2^15).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<ushort> Run16(uint first, int n) =>
+        Vector256.Create((ushort)first) + Vector256.Min(Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15), Vector256.Create((ushort)(n - 1)));
+
+    /// <summary>
     /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
     /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
     /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
@@ -53,8 +61,7 @@ internal static class Lanes
     {
         if (l <= KenslerPermutation.ShortLength)
         {
-            Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
-            Vector256<ushort> image = KenslerPermutation.Permute16(Vector256.Create((ushort)first) + Vector256.Min(lane, Vector256.Create((ushort)(n - 1))), l, p);
+            Vector256<ushort> image = KenslerPermutation.Permute16(Run16(first, n), l, p);
             return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
         }
 

@@ -17,8 +17,8 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
     {
-        uint stratum = KenslerPermutation.Permute(index, (uint)Count, SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension));
-        return Coordinate(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index, stratum);
+        uint stratum = KenslerPermutation.Permute(index, (uint)Count, StratumSeed(pixel, dimension));
+        return Coordinate(JitterHash.PixelStream(pixel, dimension), index, stratum);
     }
 
     /// <inheritdoc/>
@@ -28,8 +28,8 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
-        uint seed = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
-        ulong stream = JitterHash.Stream(pixel ^ Salts.Jitter, dimension);
+        uint seed = StratumSeed(pixel, dimension);
+        ulong stream = JitterHash.PixelStream(pixel, dimension);
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             // Eight points at a time: the stratum permutation on eight lanes, then the jitter hashes and the doubles on the
@@ -78,6 +78,9 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         }
     }
 
+    // The seed of a pixel's dimension's stratum permutation.
+    private static uint StratumSeed(ulong pixel, int dimension) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
+
     // The coordinates of the points in the given strata with the given jitter bits.
     [MethodImpl(InliningOptions.ShortMethod)]
     private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
@@ -112,15 +115,14 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     private void PairRun(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         uint l = (uint)Count;
-        uint seedX = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)dimension);
-        uint seedY = SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)(dimension + 1));
-        ulong streamX = JitterHash.Stream(pixel ^ Salts.Jitter, dimension), streamY = JitterHash.Stream(pixel ^ Salts.Jitter, dimension + 1);
+        uint seedX = StratumSeed(pixel, dimension);
+        uint seedY = StratumSeed(pixel, dimension + 1);
+        ulong streamX = JitterHash.PixelStream(pixel, dimension), streamY = JitterHash.PixelStream(pixel, dimension + 1);
         int run = xs.Length;
         Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex), y0 = JitterHash.Bits8Run(streamY, firstIndex);
         Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8) : default;
         Vector256<uint> y1 = run > 8 ? JitterHash.Bits8Run(streamY, firstIndex + 8) : default;
-        Vector256<ushort> lane = Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
-        Vector256<ushort> index = Vector256.Create((ushort)firstIndex) + Vector256.Min(lane, Vector256.Create((ushort)(run - 1)));
+        Vector256<ushort> index = Lanes.Run16(firstIndex, run);
         (Vector256<ushort> x, Vector256<ushort> y) = l <= 1
             ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
             : KenslerPermutation.Permute16Pair(index, KenslerPermutation.Seeds16.Of(l, seedX), index, KenslerPermutation.Seeds16.Of(l, seedY));

@@ -221,7 +221,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
 
     // The jitter streams of the pair's x and y dimensions (2·pair and 2·pair + 1), once per batch.
     private static (ulong X, ulong Y) Streams(ulong pixel, int pair) =>
-        (JitterHash.Stream(pixel ^ Salts.Jitter, 2 * pair), JitterHash.Stream(pixel ^ Salts.Jitter, (2 * pair) + 1));
+        (JitterHash.PixelStream(pixel, 2 * pair), JitterHash.PixelStream(pixel, (2 * pair) + 1));
 
     // The point with this index in stratum s (its column and row) at sub-strata sx, sy, jittered by the index in the two streams.
     private (double X, double Y) Point(ulong xStream, ulong yStream, uint index, uint s, uint sx, uint sy)

@@ -7,7 +7,7 @@ namespace PathBench.Sampling.Generators;
 /// </summary>
 /// <remarks>
 /// Public so that a plug-in generator (<see cref="IGeneratorPlugin"/>) can draw exactly what a
-/// built-in draws, e.g. <c>JitterHash.Uniform(JitterHash.Stream(pixel ^ Salts.Jitter, dimension), index)</c>
+/// built-in draws, e.g. <c>JitterHash.Uniform(JitterHash.PixelStream(pixel, dimension), index)</c>
 /// (the jitter of the jittered, Latin hypercube and multi-jittered sets); a plug-in that needs
 /// randomness of its own picks a new word, different from these.
 /// </remarks>

@@ -56,6 +56,13 @@ public static class JitterHash
     [MethodImpl(InliningOptions.ShortMethod)]
     public static ulong Stream(ulong key, int dimension) => SampleHash.Combine(key, (ulong)(uint)dimension);
 
+    /// <summary>
+    /// The jitter stream of a pixel's <paramref name="dimension"/> in the jittered, Latin hypercube and multi-jittered sets:
+    /// <see cref="Stream"/>(pixel key ⊕ <see cref="Generators.Salts.Jitter"/>, dimension), the one keying all three use.
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static ulong PixelStream(ulong pixel, int dimension) => Stream(pixel ^ Generators.Salts.Jitter, dimension);
+
     /// <summary>The 32 bits of <paramref name="index"/> in stream <paramref name="stream"/>.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     public static uint Bits(ulong stream, uint index) =>

@@ -223,21 +223,20 @@ public static class KenslerPermutation
         return (sa.Offset(a), sb.Offset(b));
     }
 
-    // One pass of the scalar loop's steps on sixteen 16-bit lanes (the low halves of the 32-bit steps).
+    // One pass of the scalar loop's steps on sixteen 16-bit lanes (the low halves of the 32-bit steps), with the seed's words
+    // folded where the steps are linear (Seeds16): x ^= p16; x ^= (x & w) >> 4; x ^= p8 is t ^ ((t & w) >> 4) ^ K1 for the
+    // product t (xor, the mask and the shift distribute over xor), x ^= p23; x ^= (x & w) >> 1 is t ^ ((t & w) >> 1) ^ K2,
+    // and the two products by p27 and the constant are one product by their product (modulo 2^16). The same integers; the
+    // constant xors run beside the shifts, so the walk's chain is three xors and a multiply shorter.
     [MethodImpl(InliningOptions.HotPath)]
     private static Vector256<ushort> Scramble16(Vector256<ushort> i, in Seeds16 s)
     {
         Vector256<ushort> mask = s.Mask;
-        Vector256<ushort> x = i ^ s.P;
-        x *= Vector256.Create(unchecked((ushort)0xe170893du));
-        x ^= s.P16;
-        x ^= (x & mask) >>> 4;
-        x ^= s.P8;
+        Vector256<ushort> x = (i ^ s.P) * Vector256.Create(unchecked((ushort)0xe170893du));
+        x = (x ^ s.K1) ^ ((x & mask) >>> 4);
         x *= Vector256.Create(unchecked((ushort)0x0929eb3fu));
-        x ^= s.P23;
-        x ^= (x & mask) >>> 1;
+        x = (x ^ s.K2) ^ ((x & mask) >>> 1);
         x *= s.P27;
-        x *= Vector256.Create(unchecked((ushort)0x6935fa69u));
         x ^= (x & mask) >>> 11;
         x *= Vector256.Create(unchecked((ushort)0x74dcb303u));
         x ^= (x & mask) >>> 2;
@@ -254,27 +253,41 @@ public static class KenslerPermutation
     /// </summary>
     internal readonly struct Seeds16
     {
-        public readonly Vector256<ushort> P, P16, P8, P23, P27, Mask, Length, Remainder;
+        /// <summary>p; K1 = p16 ⊕ ((p16 ∧ w) ≫ 4) ⊕ p8; K2 = p23 ⊕ ((p23 ∧ w) ≫ 1); P27 = (p27 | 1)·0x6935fa69 (see Scramble16); mask w, length, p mod l.</summary>
+        public readonly Vector256<ushort> P, K1, K2, P27, Mask, Length, Remainder;
         public readonly Vector256<short> Limit;
 
         /// <summary>Lanes 0–7 permute [0, lLow) by pLow, lanes 8–15 [0, lHigh) by pHigh (each length 1 to <see cref="ShortLength"/>).</summary>
         public Seeds16(uint lLow, uint pLow, uint lHigh, uint pHigh)
-            : this(Halves(pLow, pHigh), Halves(pLow >> 16, pHigh >> 16), Halves(pLow >> 8, pHigh >> 8), Halves(pLow >> 23, pHigh >> 23),
-                Halves((pLow >> 27) | 1, (pHigh >> 27) | 1), Halves(MaskBelow(lLow), MaskBelow(lHigh)), Halves(Checked(lLow), Checked(lHigh)),
+            : this(Halves(pLow, pHigh), Halves(K1Of(pLow, MaskBelow(lLow)), K1Of(pHigh, MaskBelow(lHigh))), Halves(K2Of(pLow, MaskBelow(lLow)), K2Of(pHigh, MaskBelow(lHigh))),
+                Halves(P27Of(pLow), P27Of(pHigh)), Halves(MaskBelow(lLow), MaskBelow(lHigh)), Halves(Checked(lLow), Checked(lHigh)),
                 Halves(KenslerPermutation.Remainder(pLow, lLow), KenslerPermutation.Remainder(pHigh, lHigh)))
         {
         }
 
-        private Seeds16(Vector256<ushort> p, Vector256<ushort> p16, Vector256<ushort> p8, Vector256<ushort> p23, Vector256<ushort> p27, Vector256<ushort> mask, Vector256<ushort> length, Vector256<ushort> remainder)
+        private Seeds16(Vector256<ushort> p, Vector256<ushort> k1, Vector256<ushort> k2, Vector256<ushort> p27, Vector256<ushort> mask, Vector256<ushort> length, Vector256<ushort> remainder)
         {
-            (P, P16, P8, P23, P27, Mask, Length, Remainder) = (p, p16, p8, p23, p27, mask, length, remainder);
+            (P, K1, K2, P27, Mask, Length, Remainder) = (p, k1, k2, p27, mask, length, remainder);
             Limit = length.AsInt16();
         }
 
         /// <summary>One permutation of [0, l) by p in all sixteen lanes: whole-register broadcasts.</summary>
         [MethodImpl(InliningOptions.ShortMethod)]
-        public static Seeds16 Of(uint l, uint p) => new(
-            Both(p), Both(p >> 16), Both(p >> 8), Both(p >> 23), Both((p >> 27) | 1), Both(MaskBelow(l)), Both(Checked(l)), Both(KenslerPermutation.Remainder(p, l)));
+        public static Seeds16 Of(uint l, uint p)
+        {
+            uint w = MaskBelow(l);
+            return new(Both(p), Both(K1Of(p, w)), Both(K2Of(p, w)), Both(P27Of(p)), Both(w), Both(Checked(l)), Both(KenslerPermutation.Remainder(p, l)));
+        }
+
+        // The seed's words folded into the steps' linear parts (Scramble16); only the low 16 bits are used.
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static uint K1Of(uint p, uint w) => (p >> 16) ^ (((p >> 16) & w) >> 4) ^ (p >> 8);
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static uint K2Of(uint p, uint w) => (p >> 23) ^ (((p >> 23) & w) >> 1);
+
+        [MethodImpl(InliningOptions.ShortMethod)]
+        private static uint P27Of(uint p) => ((p >> 27) | 1) * 0x6935fa69u;
 
         [MethodImpl(InliningOptions.ShortMethod)]
         private static uint Checked(uint l)

@@ -13,9 +13,14 @@ namespace PathBench.Sampling.Generators;
 public sealed class JitteredSampler : PointSampler
 {
     private readonly StratumGrid _grid;
+    private readonly LaneDivisor _columns, _rows;
 
     /// <summary>Creates the set for <see cref="PointSampler.Count"/> points.</summary>
-    public JitteredSampler(SamplerSpec spec) : base(spec) => _grid = StratumGrid.For(spec.Count);
+    public JitteredSampler(SamplerSpec spec) : base(spec)
+    {
+        _grid = StratumGrid.For(spec.Count);
+        (_columns, _rows) = (new LaneDivisor(_grid.Columns), new LaneDivisor(_grid.Rows));
+    }
 
     /// <inheritdoc/>
     public override int MaxDimensions => int.MaxValue;
@@ -144,8 +149,8 @@ public sealed class JitteredSampler : PointSampler
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct
     {
-        (Vector256<uint> whole, int divisor) = (dimension & 1) == 0 ? (column, _grid.Columns) : (row, _grid.Rows);
-        return TForm.Clamp(TForm.JitteredOver(whole, bits, divisor));
+        bool even = (dimension & 1) == 0;
+        return TForm.Clamp(TForm.JitteredOver(even ? column : row, bits, even ? _columns : _rows));
     }
 
     // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.

@@ -27,13 +27,16 @@ internal interface ILaneForm<TDoubles>
     /// (whole + <see cref="Jitter"/>(bits)) / divisor per lane, as <see cref="Over"/>(<see cref="Add"/>(<see cref="ToDouble"/>(whole),
     /// <see cref="Jitter"/>(bits)), divisor) gives it; every lane's whole is below the divisor.
     /// </summary>
-    static abstract TDoubles JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor);
+    static abstract TDoubles JitteredOver(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor);
 
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
 
-    /// <summary><see cref="Lanes.Over"/>: x / divisor as the scalar division.</summary>
-    static abstract TDoubles Over(TDoubles x, int divisor);
+    /// <summary>
+    /// x / divisor per lane, as the scalar division: by a power of two it is the product by its reciprocal, which gives the
+    /// same double (both scale the significand exactly; these values stay far from the subnormal and overflow ranges).
+    /// </summary>
+    static abstract TDoubles Over(TDoubles x, LaneDivisor divisor);
 
     /// <summary><see cref="UnitInterval.Clamp"/> per lane.</summary>
     static abstract TDoubles Clamp(TDoubles x);
@@ -57,13 +60,14 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
         (Avx512F.IsSupported ? Avx512F.ConvertToVector512Double(bits) : Lanes.ToDouble(bits)) * Vector512.Create(JitterHash.Scale);
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(ToDouble(whole) + Jitter(bits), divisor);
+    public static Vector512<double> JitteredOver(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor) => Over(ToDouble(whole) + Jitter(bits), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> Over(Vector512<double> x, int divisor) => Lanes.Over(x, divisor);
+    public static Vector512<double> Over(Vector512<double> x, LaneDivisor divisor) =>
+        divisor.PowerOfTwo ? x * Vector512.Create(divisor.Reciprocal) : x / Vector512.Create((double)divisor.Value);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Clamp(Vector512<double> x) => Lanes.Clamp(x);
@@ -73,6 +77,48 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static void Store(Vector512<double> v, Span<double> destination) => Lanes.Store(v, destination);
+}
+
+/// <summary>
+/// A divisor of the lane forms' <see cref="ILaneForm{TDoubles}.JitteredOver"/> and <see cref="ILaneForm{TDoubles}.Over"/> with the
+/// factors they use made once (a sampler keeps one per grid side), not in every batch: for a power of two d, 1/d built from its
+/// exponent (<see cref="Lanes.Reciprocal"/>), and <see cref="NarrowLanes.JitteredOver"/>'s scale 2^-32/d and offset −2^20/d.
+/// </summary>
+internal readonly struct LaneDivisor
+{
+    /// <summary>The factors of <paramref name="value"/> (≥ 1).</summary>
+    public LaneDivisor(int value)
+    {
+        ArgumentOutOfRangeException.ThrowIfLessThan(value, 1);
+        Value = value;
+        bool packed = BitOperations.IsPow2(value) && value <= 1 << 20;
+        Log2 = packed ? BitOperations.Log2((uint)value) : -1;
+        double reciprocal = packed ? Lanes.Reciprocal(value) : 0;
+        JitterScale = JitterHash.Scale * reciprocal;
+        JitterOffset = -1048576.0 * reciprocal;
+    }
+
+    /// <summary>The divisor.</summary>
+    public int Value { get; }
+
+    /// <summary>log2 <see cref="Value"/> where it is a power of two up to 2^20 (<see cref="Packed"/>), else −1.</summary>
+    /// <remarks>Four fields, so a copy passed by value stays in registers (a byref to a sampler's field made the batches zero their frames).</remarks>
+    public int Log2 { get; }
+
+    /// <summary>A power of two up to 2^20: <see cref="NarrowLanes.JitteredOver"/>'s one fused multiply-add a half applies.</summary>
+    public bool Packed => Log2 >= 0;
+
+    /// <summary>2^-32 / <see cref="Value"/> where <see cref="Packed"/>, else 0.</summary>
+    public double JitterScale { get; }
+
+    /// <summary>−2^20 / <see cref="Value"/> where <see cref="Packed"/>, else 0.</summary>
+    public double JitterOffset { get; }
+
+    /// <summary>Whether it is a power of two (then the product by <see cref="Reciprocal"/> is the division).</summary>
+    public bool PowerOfTwo => BitOperations.IsPow2(Value);
+
+    /// <summary>1 / <see cref="Value"/> of a power of two (exact): 2^-32/d scaled back where packed, else from the exponent.</summary>
+    public double Reciprocal => Packed ? JitterScale * 4294967296.0 : Lanes.Reciprocal(Value);
 }
 
 /// <summary>Eight doubles as two 256-bit halves: lanes 0–3 and 4–7.</summary>
@@ -140,38 +186,37 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     /// form's exact sum divided by d is. Other divisors take the sum and the division, as the scalar form does.
     /// </remarks>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 JitteredOver(Vector256<uint> whole, Vector256<uint> bits, int divisor)
+    public static Doubles8 JitteredOver(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor)
     {
-        if (!Avx2.IsSupported || !Fma.IsSupported || !BitOperations.IsPow2(divisor) || divisor > 1 << 20)
+        if (!Avx2.IsSupported || !Fma.IsSupported || !divisor.Packed)
         {
             return JitteredOverDividing(whole, bits, divisor);
         }
 
         Vector256<uint> high = Avx2.Permute4x64((whole | Vector256.Create(0x43300000u)).AsUInt64(), 0b11_01_10_00).AsUInt32();
         Vector256<uint> low = Avx2.Permute4x64(bits.AsUInt64(), 0b11_01_10_00).AsUInt32();
-        double r = Lanes.Reciprocal(divisor);
-        Vector256<double> scale = Vector256.Create(JitterHash.Scale * r), offset = Vector256.Create(-1048576.0 * r);
+        Vector256<double> scale = Vector256.Create(divisor.JitterScale), offset = Vector256.Create(divisor.JitterOffset);
         return new Doubles8(Fma.MultiplyAdd(Avx2.UnpackLow(low, high).AsDouble(), scale, offset), Fma.MultiplyAdd(Avx2.UnpackHigh(low, high).AsDouble(), scale, offset));
     }
 
     // JitteredOver's other cases, out of line (inlined, they took the batches past the JIT's inlining budget): the sum, then
     // the division.
     [MethodImpl(InliningOptions.ColdPath)]
-    private static Doubles8 JitteredOverDividing(Vector256<uint> whole, Vector256<uint> bits, int divisor) => Over(Add(ToDouble(whole), Jitter(bits)), divisor);
+    private static Doubles8 JitteredOverDividing(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor) => Over(Add(ToDouble(whole), Jitter(bits)), divisor);
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Doubles8 Add(Doubles8 a, Doubles8 b) => new(a.Low + b.Low, a.High + b.High);
 
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Doubles8 Over(Doubles8 x, int divisor)
+    public static Doubles8 Over(Doubles8 x, LaneDivisor divisor)
     {
-        if (BitOperations.IsPow2(divisor))
+        if (divisor.PowerOfTwo)
         {
-            Vector256<double> r = Vector256.Create(Lanes.Reciprocal(divisor));
+            Vector256<double> r = Vector256.Create(divisor.Reciprocal);
             return new Doubles8(x.Low * r, x.High * r);
         }
 
-        Vector256<double> d = Vector256.Create((double)divisor);
+        Vector256<double> d = Vector256.Create((double)divisor.Value);
         return new Doubles8(x.Low / d, x.High / d);
     }
 

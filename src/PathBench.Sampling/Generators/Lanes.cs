@@ -111,15 +111,6 @@ internal static class Lanes
     }
 
     /// <summary>
-    /// x / <paramref name="divisor"/> per lane, as the scalar division: by a power of two it is the multiplication by its
-    /// reciprocal, which gives the same double (both scale the significand exactly; these values stay far from the
-    /// subnormal and overflow ranges) at a fraction of a vector division's cost.
-    /// </summary>
-    [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector512<double> Over(Vector512<double> x, int divisor) =>
-        BitOperations.IsPow2(divisor) ? x * Vector512.Create(Reciprocal(divisor)) : x / Vector512.Create((double)divisor);
-
-    /// <summary>
     /// 1 / <paramref name="powerOfTwo"/> (2^k, k ≤ 30) built from its exponent bits (2^-k: biased exponent 1023 − k, zero
     /// significand): the double 1.0 / 2^k is, without a division in the batch's code (the divisor is a field, not a constant).
     /// </summary>

@@ -11,6 +11,8 @@ namespace PathBench.Sampling.Generators;
 /// </summary>
 public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
 {
+    private readonly LaneDivisor _strata = new(spec.Count);
+
     /// <inheritdoc/>
     public override int MaxDimensions => int.MaxValue;
 
@@ -86,7 +88,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct =>
-        TForm.Clamp(TForm.JitteredOver(stratum, bits, Count));
+        TForm.Clamp(TForm.JitteredOver(stratum, bits, _strata));
 
     // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
     private double Coordinate(ulong stream, uint index, uint stratum) =>

@@ -141,12 +141,13 @@ public sealed class BatchTests
     /// The batch forms of the sets built on Kensler permutations, each lane width (<see cref="LaneWidth"/>: the
     /// AVX-512 form, the AVX2 form and one point at a time, all run on this machine whatever it has: a width
     /// without the hardware runs in software, with the same bits), at the catalog test's 40 (a 5 × 8 grid), powers
-    /// of two (divisions by shifts and reciprocals: 16 is 4 × 4, 256 is 16 × 16, past the 8 × 8 tabled shuffles), a
+    /// of two (divisions by shifts and reciprocals: 16 is 4 × 4, 32 is 4 × 8, 256 is 16 × 16, past the 8 × 8 tabled shuffles), a
     /// prime (a 1 × 7 grid, the length-1 shuffle) and a single point.
     /// </summary>
     [Theory]
     [InlineData("multi-jittered", 16)]
     [InlineData("multi-jittered", 256)]
+    [InlineData("multi-jittered", 32)]
     [InlineData("multi-jittered", 40)]
     [InlineData("multi-jittered", 7)]
     [InlineData("multi-jittered", 1)]

@@ -60,8 +60,12 @@ public sealed class JitteredSampler : PointSampler
     private void Fill(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         uint seed = PairSeed(pixel, dimension);
-        ulong stream = JitterHash.PixelStream(pixel, dimension);
-        ulong next = ys.IsEmpty ? 0 : JitterHash.PixelStream(pixel, dimension + 1);
+        // Fill's pairs are even-aligned: dimension's and the next's streams are its pair's two (one SplitMix64 round).
+        (ulong stream, ulong next) = JitterHash.PixelPairStreams(pixel, dimension >> 1);
+        if ((dimension & 1) != 0)
+        {
+            stream = next;
+        }
         if (Width != LaneWidth.Scalar && Lanes.Inside(firstIndex, xs.Length, Count))
         {
             Batch8(firstIndex, dimension, seed, stream, next, xs, ys);

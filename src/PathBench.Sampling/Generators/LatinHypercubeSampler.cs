@@ -119,7 +119,9 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         uint l = (uint)Count;
         uint seedX = StratumSeed(pixel, dimension);
         uint seedY = StratumSeed(pixel, dimension + 1);
-        ulong streamX = JitterHash.PixelStream(pixel, dimension), streamY = JitterHash.PixelStream(pixel, dimension + 1);
+        (ulong streamX, ulong streamY) = (dimension & 1) == 0
+            ? JitterHash.PixelPairStreams(pixel, dimension >> 1)
+            : (JitterHash.PixelStream(pixel, dimension), JitterHash.PixelStream(pixel, dimension + 1));
         int run = xs.Length;
         Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex), y0 = JitterHash.Bits8Run(streamY, firstIndex);
         Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8) : default;

@@ -260,9 +260,9 @@ public sealed class MultiJitteredSampler : PairedPointSampler
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);
 
-    // The jitter streams of the pair's x and y dimensions (2·pair and 2·pair + 1), once per batch.
+    // The jitter streams of the pair's x and y dimensions (2·pair and 2·pair + 1), once per batch: one SplitMix64 round.
     private static (ulong X, ulong Y) Streams(ulong pixel, int pair) =>
-        (JitterHash.PixelStream(pixel, 2 * pair), JitterHash.PixelStream(pixel, (2 * pair) + 1));
+        JitterHash.PixelPairStreams(pixel, pair);
 
     // The point with this index in stratum s (its column and row) at sub-strata sx, sy, jittered by the index in the two streams.
     private (double X, double Y) Point(ulong xStream, ulong yStream, uint index, uint s, uint sx, uint sy)

@@ -11,9 +11,10 @@ namespace PathBench.Sampling.Hashing;
 /// </summary>
 /// <remarks>
 /// <para>
-/// Keys. Each (pixel key, dimension) has a 64-bit stream key K = <see cref="SampleHash.Combine"/>(pixel key,
-/// dimension), computed once per batch: a bijection of pixel key ⊕ dimension·M (SplitMix64's finaliser), so two
-/// distinct (pixel key, dimension) pairs of hashed pixel keys get the same K with probability 2^-64.
+/// Keys. Each (pixel key, pair of dimensions) has a 64-bit stream key K = <see cref="SampleHash.Combine"/>(pixel key,
+/// pair), computed once per batch: a bijection of pixel key ⊕ pair·M (SplitMix64's finaliser), so two distinct
+/// (pixel key, pair) of hashed pixel keys get the same K with probability 2^-64; the pair's second dimension takes
+/// K ⊕ <see cref="PairOffset"/> (<see cref="PixelPairStreams"/>).
 /// </para>
 /// <para>
 /// Per index i the bits are h = P(P(i + K_lo) ⊕ K_hi), with P the 32-bit "pcg" hash of Jarzynski &amp; Olano 2020,
@@ -57,11 +58,36 @@ public static class JitterHash
     public static ulong Stream(ulong key, int dimension) => SampleHash.Combine(key, (ulong)(uint)dimension);
 
     /// <summary>
-    /// The jitter stream of a pixel's <paramref name="dimension"/> in the jittered, Latin hypercube and multi-jittered sets:
-    /// <see cref="Stream"/>(pixel key ⊕ <see cref="Generators.Salts.Jitter"/>, dimension), the one keying all three use.
+    /// What the y stream of a pair differs from its x stream by (<see cref="PixelPairStreams"/>): SplitMix64's increment
+    /// 0x9E3779B97F4A7C15 (Steele, Lea &amp; Flood 2014, "Fast Splittable Pseudorandom Number Generators", OOPSLA), both
+    /// halves non-zero, so both rounds' keys differ.
+    /// </summary>
+    public const ulong PairOffset = 0x9E3779B97F4A7C15UL;
+
+    /// <summary>
+    /// The jitter streams of a pixel's dimensions 2·<paramref name="pair"/> (X) and 2·<paramref name="pair"/> + 1 (Y) in the
+    /// jittered, Latin hypercube and multi-jittered sets: X = <see cref="Stream"/>(pixel key ⊕ <see cref="Generators.Salts.Jitter"/>,
+    /// pair), Y = X ⊕ <see cref="PairOffset"/>. One SplitMix64 round a pair, not one a dimension (tenth round).
+    /// </summary>
+    /// <remarks>
+    /// Y ≠ X by construction. X is a bijection of pixel key ⊕ pair·M, so two distinct (pixel key, pair) of hashed pixel keys
+    /// give the same X, or one's X the other's Y, with probability about 2^-64 each, as the key per dimension did. Within a
+    /// pair both halves of the keys differ (both halves of the offset are non-zero), so the collision argument of the type's
+    /// remarks applies to X and Y as to any two streams; JitterHashTests checks their independence at the same index.
+    /// </remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static (ulong X, ulong Y) PixelPairStreams(ulong pixel, int pair)
+    {
+        ulong x = Stream(pixel ^ Generators.Salts.Jitter, pair);
+        return (x, x ^ PairOffset);
+    }
+
+    /// <summary>
+    /// The jitter stream of a pixel's <paramref name="dimension"/>: the X or Y stream of its pair (<see cref="PixelPairStreams"/>).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static ulong PixelStream(ulong pixel, int dimension) => Stream(pixel ^ Generators.Salts.Jitter, dimension);
+    public static ulong PixelStream(ulong pixel, int dimension) =>
+        Stream(pixel ^ Generators.Salts.Jitter, dimension >> 1) ^ ((dimension & 1) == 0 ? 0 : PairOffset);
 
     /// <summary>The 32 bits of <paramref name="index"/> in stream <paramref name="stream"/>.</summary>
     [MethodImpl(InliningOptions.ShortMethod)]

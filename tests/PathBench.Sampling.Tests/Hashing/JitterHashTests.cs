@@ -8,7 +8,8 @@ namespace PathBench.Sampling.Tests.Hashing;
 
 /// <summary>
 /// The jitter hash of the jittered, Latin hypercube and multi-jittered sets (<see cref="JitterHash"/>: the 32-bit
-/// "pcg" hash of Jarzynski &amp; Olano 2020, JCGT 9(3), twice, keyed by both halves of a 64-bit stream key) against
+/// "pcg" hash of Jarzynski &amp; Olano 2020, JCGT 9(3), twice, keyed by both halves of a 64-bit stream key, one key a
+/// pair of dimensions and the second dimension's the first's ⊕ <see cref="JitterHash.PairOffset"/>) against
 /// outside references: Pearson's chi-square goodness-of-fit test (Pearson 1900) of uniformity and of pairwise
 /// independence, with critical values from scipy.stats.chi2.ppf (recorded below, checked live against Debian's scipy
 /// in <see cref="Recorded_critical_values_are_scipys"/>), and the lane forms bit for bit against the scalar form.
@@ -16,7 +17,7 @@ namespace PathBench.Sampling.Tests.Hashing;
 /// <remarks>
 /// Every test uses fixed keys, so each outcome is fixed per commit. The level is α = 10^-6 per statistic: a hash whose
 /// values were truly independent uniform draws would fail a given statistic with probability 10^-6 (the stated false
-/// failure rate; nine statistics, so about 9·10^-6 for the class), while the defects these tests look for (a
+/// failure rate; twelve statistics, so about 1.2·10^-5 for the class), while the defects these tests look for (a
 /// stream key half that does not reach the value, correlated neighbours, bits that do not change) give statistics in
 /// the tens of thousands.
 /// </remarks>
@@ -132,19 +133,74 @@ public sealed class JitterHashTests
     [Fact]
     public void Neighbouring_dimensions_are_independent()
     {
-        // The same pixel and index in dimensions d and d + 1 (a jittered pair's x and y).
+        // The same pixel and index in dimensions d and d + 1: for even d a pair's X and Y streams (Y = X ⊕ PairOffset, one
+        // key a pair), for odd d the Y stream of one pair and the X stream of the next (keys from two SplitMix64 rounds).
+        foreach (int parity in new[] { 0, 1 })
+        {
+            var counts = new long[4096];
+            for (int p = 0; p < 4096 * PerCell / 16; p++)
+            {
+                int d = (2 * (p % 8)) + parity;
+                ulong a = JitterHash.PixelStream(PixelKey(p % 64, p / 64), d);
+                ulong b = JitterHash.PixelStream(PixelKey(p % 64, p / 64), d + 1);
+                for (uint i = 0; i < 16; i++)
+                {
+                    counts[Cell(JitterHash.Uniform(a, i), JitterHash.Uniform(b, i))]++;
+                }
+            }
+
+            AssertUniform(counts, Critical4095, parity == 0 ? "a pair's two dimensions" : "neighbouring pairs");
+        }
+    }
+
+    [Fact]
+    public void A_pairs_streams_are_its_dimensions_streams()
+    {
+        for (int pair = 0; pair < 64; pair++)
+        {
+            ulong pixel = PixelKey(pair, 3);
+            (ulong x, ulong y) = JitterHash.PixelPairStreams(pixel, pair);
+            Assert.Equal(JitterHash.PixelStream(pixel, 2 * pair), x);
+            Assert.Equal(JitterHash.PixelStream(pixel, (2 * pair) + 1), y);
+            Assert.Equal(JitterHash.Stream(pixel ^ Salts.Jitter, pair), x);
+            Assert.NotEqual(x, y);
+        }
+    }
+
+    [Fact]
+    public void A_pairs_streams_are_independent_at_indices_apart()
+    {
+        // A pair's X value at index i and its Y value at index (i + δ) mod 16 inside a 16-point set, δ = 1 … 15 fixed per
+        // stream (so every value is counted once): a Y stream that were the X stream shifted by a few indices (a key offset
+        // changing only the low half by a small amount: the same high half, i + K_lo + δ) would put these on the diagonal.
+        // The same-index case is Neighbouring_dimensions_are_independent.
         var counts = new long[4096];
         for (int p = 0; p < 4096 * PerCell / 16; p++)
         {
-            ulong a = JitterHash.PixelStream(PixelKey(p % 64, p / 64), 2 * (p % 8));
-            ulong b = JitterHash.PixelStream(PixelKey(p % 64, p / 64), (2 * (p % 8)) + 1);
+            (ulong x, ulong y) = JitterHash.PixelPairStreams(PixelKey(p % 64, p / 64), p % 7);
+            uint apart = 1 + (uint)(p % 15);
             for (uint i = 0; i < 16; i++)
             {
-                counts[Cell(JitterHash.Uniform(a, i), JitterHash.Uniform(b, i))]++;
+                counts[Cell(JitterHash.Uniform(x, i), JitterHash.Uniform(y, (i + apart) % 16))]++;
             }
         }
 
-        AssertUniform(counts, Critical4095, "neighbouring dimensions");
+        AssertUniform(counts, Critical4095, "a pair's streams at indices apart");
+    }
+
+    [Fact]
+    public void Low_bits_of_a_pairs_streams_are_independent()
+    {
+        // The low six bits of a pair's X and Y values at the same index over 262 144 consecutive indices, in 64 × 64 cells:
+        // the bits an xor-related pair of keys would most likely leave related.
+        (ulong x, ulong y) = JitterHash.PixelPairStreams(PixelKey(4, 7), 3);
+        var counts = new long[4096];
+        for (uint i = 0; i < 4096 * PerCell; i++)
+        {
+            counts[(int)(((JitterHash.Bits(x, i) & 63) * 64) + (JitterHash.Bits(y, i) & 63))]++;
+        }
+
+        AssertUniform(counts, Critical4095, "low six bits of a pair's streams");
     }
 
     [Fact]

@@ -116,12 +116,13 @@ public sealed class JitteredSampler : PointSampler
         {
             int n = Math.Min(step, xs.Length - at);
             uint first = firstIndex + (uint)at;
-            Vector256<uint> x0 = JitterHash.Bits8Run(stream, first), y0 = pair ? JitterHash.Bits8Run(next, first) : default;
-            Vector256<uint> x1 = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
-            Vector256<uint> y1 = pair && n > 8 ? JitterHash.Bits8Run(next, first + 8) : default;
+            bool order = TForm.Interleaved;
+            Vector256<uint> x0 = JitterHash.Bits8Run(stream, first, order), y0 = pair ? JitterHash.Bits8Run(next, first, order) : default;
+            Vector256<uint> x1 = n > 8 ? JitterHash.Bits8Run(stream, first + 8, order) : default;
+            Vector256<uint> y1 = pair && n > 8 ? JitterHash.Bits8Run(next, first + 8, order) : default;
             (Vector256<uint> low, Vector256<uint> high) = step == 16
-                ? Lanes.Permute16(first, n, (uint)Count, seed)
-                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+                ? Lanes.Permute16(first, n, (uint)Count, seed, order)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n, order), (uint)Count, seed), default);
             int run = Math.Min(8, n);
             Points8<TForm, TDoubles>(dimension, low, x0, y0, xs.Slice(at, run), pair ? ys.Slice(at, run) : ys);
             if (n > 8)

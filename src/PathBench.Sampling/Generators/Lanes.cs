@@ -36,37 +36,51 @@ internal static class Lanes
     /// <summary>
     /// Indices <paramref name="first"/>, <paramref name="first"/>+1, …, <paramref name="first"/>+<paramref name="n"/>−1 in the
     /// first <paramref name="n"/> lanes (1 ≤ n ≤ 8) and the last of them repeated in the rest: every lane a valid index, so a
-    /// permutation's cycle walk ends in every lane; only the first n lanes are stored.
+    /// permutation's cycle walk ends in every lane; only the first n lanes are stored. With <paramref name="interleaved"/> the
+    /// lanes hold the points in <see cref="NarrowLanes"/>' order (<see cref="Offsets"/>).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<uint> Run(uint first, int n) =>
-        Vector256.Create(first) + Vector256.Min(Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u), Vector256.Create((uint)(n - 1)));
+    public static Vector256<uint> Run(uint first, int n, bool interleaved = false) =>
+        Vector256.Create(first) + Vector256.Min(Offsets(interleaved), Vector256.Create((uint)(n - 1)));
 
     /// <summary>
-    /// <see cref="Run"/> on sixteen 16-bit lanes: first + k in lane k for k &lt; n (1 ≤ n ≤ 16), the last index in the lanes
-    /// past the run; the indices' low 16 bits (callers' runs lie below 2^15).
+    /// The point each lane holds, from the run's first: 0 … 7 in order, or with <paramref name="interleaved"/> 0, 1, 4, 5, 2, 3,
+    /// 6, 7 — the order in which <see cref="NarrowLanes"/> takes eight points, so that in-lane unpacks of each 128-bit half give
+    /// points 0–3 and 4–7 without a lane-crossing permute (the order is its own inverse).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<ushort> Run16(uint first, int n) =>
-        Vector256.Create((ushort)first) + Vector256.Min(Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15), Vector256.Create((ushort)(n - 1)));
+    public static Vector256<uint> Offsets(bool interleaved) =>
+        interleaved ? Vector256.Create(0u, 1u, 4u, 5u, 2u, 3u, 6u, 7u) : Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
+
+    /// <summary>
+    /// <see cref="Run"/> on sixteen 16-bit lanes: first + k for k &lt; n (1 ≤ n ≤ 16), the last index past the run, lanes 0–7
+    /// holding points 0–7 and lanes 8–15 points 8–15 in the order <paramref name="interleaved"/> selects (<see cref="Offsets"/>);
+    /// the indices' low 16 bits (callers' runs lie below 2^15).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector256<ushort> Run16(uint first, int n, bool interleaved = false) =>
+        Vector256.Create((ushort)first) + Vector256.Min(
+            interleaved ? Vector256.Create((ushort)0, 1, 4, 5, 2, 3, 6, 7, 8, 9, 12, 13, 10, 11, 14, 15) : Vector256.Create((ushort)0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15),
+            Vector256.Create((ushort)(n - 1)));
 
     /// <summary>
     /// The images of the run <paramref name="first"/> … <paramref name="first"/> + <paramref name="n"/> − 1 (1 ≤ n ≤ 16, inside
     /// [0, <paramref name="l"/>)) under <see cref="KenslerPermutation.Permute"/>(·, l, p): points 0–7 of the run in Low, 8–15
-    /// in High (lanes past the run: the last point's image). Sixteen 16-bit lanes in one walk where l allows
-    /// (<see cref="KenslerPermutation.Permute16(Vector256{ushort}, uint, uint)"/>), else eight 32-bit lanes a walk.
+    /// in High (lanes past the run: the last point's image; in the order <paramref name="interleaved"/> selects). Sixteen 16-bit
+    /// lanes in one walk where l allows (<see cref="KenslerPermutation.Permute16(Vector256{ushort}, uint, uint)"/>), else eight
+    /// 32-bit lanes a walk.
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p)
+    public static (Vector256<uint> Low, Vector256<uint> High) Permute16(uint first, int n, uint l, uint p, bool interleaved = false)
     {
         if (l <= KenslerPermutation.ShortLength)
         {
-            Vector256<ushort> image = KenslerPermutation.Permute16(Run16(first, n), l, p);
+            Vector256<ushort> image = KenslerPermutation.Permute16(Run16(first, n, interleaved), l, p);
             return (Vector256.WidenLower(image), Vector256.WidenUpper(image));
         }
 
-        Vector256<uint> low = KenslerPermutation.Permute8(Run(first, Math.Min(n, Count)), l, p);
-        return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count), l, p) : low);
+        Vector256<uint> low = KenslerPermutation.Permute8(Run(first, Math.Min(n, Count), interleaved), l, p);
+        return (low, n > Count ? KenslerPermutation.Permute8(Run(first + Count, n - Count, interleaved), l, p) : low);
     }
 
     /// <summary>The lanes as doubles (exact: every 32-bit integer is a double).</summary>

@@ -68,10 +68,11 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
         {
             int n = Math.Min(step, xs.Length - at);
             uint first = firstIndex + (uint)at;
-            Vector256<uint> bits = JitterHash.Bits8Run(stream, first), more = n > 8 ? JitterHash.Bits8Run(stream, first + 8) : default;
+            bool order = TForm.Interleaved;
+            Vector256<uint> bits = JitterHash.Bits8Run(stream, first, order), more = n > 8 ? JitterHash.Bits8Run(stream, first + 8, order) : default;
             (Vector256<uint> low, Vector256<uint> high) = step == 16
-                ? Lanes.Permute16(first, n, (uint)Count, seed)
-                : (KenslerPermutation.Permute8(Lanes.Run(first, n), (uint)Count, seed), default);
+                ? Lanes.Permute16(first, n, (uint)Count, seed, order)
+                : (KenslerPermutation.Permute8(Lanes.Run(first, n, order), (uint)Count, seed), default);
             TForm.Store(Points8<TForm, TDoubles>(low, bits), xs.Slice(at, Math.Min(8, n)));
             if (n > 8)
             {
@@ -123,10 +124,11 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
             ? JitterHash.PixelPairStreams(pixel, dimension >> 1)
             : (JitterHash.PixelStream(pixel, dimension), JitterHash.PixelStream(pixel, dimension + 1));
         int run = xs.Length;
-        Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex), y0 = JitterHash.Bits8Run(streamY, firstIndex);
-        Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8) : default;
-        Vector256<uint> y1 = run > 8 ? JitterHash.Bits8Run(streamY, firstIndex + 8) : default;
-        Vector256<ushort> index = Lanes.Run16(firstIndex, run);
+        // NarrowLanes' lane order (Lanes.Offsets) for the bits and the indices alike.
+        Vector256<uint> x0 = JitterHash.Bits8Run(streamX, firstIndex, NarrowLanes.Interleaved), y0 = JitterHash.Bits8Run(streamY, firstIndex, NarrowLanes.Interleaved);
+        Vector256<uint> x1 = run > 8 ? JitterHash.Bits8Run(streamX, firstIndex + 8, NarrowLanes.Interleaved) : default;
+        Vector256<uint> y1 = run > 8 ? JitterHash.Bits8Run(streamY, firstIndex + 8, NarrowLanes.Interleaved) : default;
+        Vector256<ushort> index = Lanes.Run16(firstIndex, run, NarrowLanes.Interleaved);
         (Vector256<ushort> x, Vector256<ushort> y) = l <= 1
             ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
             : KenslerPermutation.Permute16Pair(index, KenslerPermutation.Seeds16.Of(l, seedX), index, KenslerPermutation.Seeds16.Of(l, seedY));

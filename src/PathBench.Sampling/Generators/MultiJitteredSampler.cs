@@ -187,14 +187,16 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         {
             int n = Math.Min(16, xs.Length - at);
             uint first = firstIndex + (uint)at;
-            (Vector256<uint> x0, Vector256<uint> y0) = (JitterHash.Bits8Run(streams.X, first), JitterHash.Bits8Run(streams.Y, first));
-            (Vector256<uint> x1, Vector256<uint> y1) = n > 8 ? (JitterHash.Bits8Run(streams.X, first + 8), JitterHash.Bits8Run(streams.Y, first + 8)) : default;
+            // NarrowLanes' lane order (Lanes.Offsets) for the bits and the indices alike; the shuffles are per lane.
+            bool order = NarrowLanes.Interleaved;
+            (Vector256<uint> x0, Vector256<uint> y0) = (JitterHash.Bits8Run(streams.X, first, order), JitterHash.Bits8Run(streams.Y, first, order));
+            (Vector256<uint> x1, Vector256<uint> y1) = n > 8 ? (JitterHash.Bits8Run(streams.X, first + 8, order), JitterHash.Bits8Run(streams.Y, first + 8, order)) : default;
             if (at == 0 && tabled)
             {
                 (columnTable, rowTable) = Tables(p);
             }
 
-            (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(first, n, (uint)Count, p * 0x51633e2du);
+            (Vector256<uint> low, Vector256<uint> high) = Lanes.Permute16(first, n, (uint)Count, p * 0x51633e2du, order);
             int run = Math.Min(8, n);
             Points8<NarrowLanes, Doubles8, TCells>(x0, y0, p, low, tabled, columnTable, rowTable, xs.Slice(at, run), ys.Slice(at, run));
             if (n > 8)

@@ -109,17 +109,20 @@ public static class JitterHash
     /// <summary>
     /// <see cref="Bits8"/> of the run <paramref name="first"/> + k in lane k (indices wrapping past 2^32 − 1 as uint): the
     /// first round's LCG state is (first + K_lo)·a + c + k·a modulo 2^32, one scalar product a run and one vector addition.
+    /// With <paramref name="interleaved"/> lane j holds first + <see cref="Generators.Lanes.Offsets"/>(true)[j] (the AVX2 lane form's order).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
-    public static Vector256<uint> Bits8Run(ulong stream, uint first)
+    public static Vector256<uint> Bits8Run(ulong stream, uint first, bool interleaved = false)
     {
         if (!Avx2.IsSupported)
         {
-            return Scalar8(stream, Vector256.Create(first) + Vector256.Create(0u, 1, 2, 3, 4, 5, 6, 7));
+            return Scalar8(stream, Vector256.Create(first) + Generators.Lanes.Offsets(interleaved));
         }
 
         const uint A = LcgMultiplier;
-        Vector256<uint> step = Vector256.Create(0u, A, unchecked(2 * A), unchecked(3 * A), unchecked(4 * A), unchecked(5 * A), unchecked(6 * A), unchecked(7 * A));
+        Vector256<uint> step = interleaved
+            ? Vector256.Create(0u, A, unchecked(4 * A), unchecked(5 * A), unchecked(2 * A), unchecked(3 * A), unchecked(6 * A), unchecked(7 * A))
+            : Vector256.Create(0u, A, unchecked(2 * A), unchecked(3 * A), unchecked(4 * A), unchecked(5 * A), unchecked(6 * A), unchecked(7 * A));
         return Second(stream, Output8(Vector256.Create(((first + (uint)stream) * A) + LcgIncrement) + step));
     }
 

@@ -175,7 +175,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
         int count = ys.IsEmpty ? 1 : 2;
         int done = (uint)(dimension + count) <= (uint)_tabled
-            ? OwenSobolBatch.Run(_matrices.ChunkTables(dimension, count), firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys)
+            ? OwenSobolBatch.Run(_matrices.PairChunkTables(dimension), dimension & 1, firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys)
             : 0;
         for (int i = done; i < xs.Length; i++)
         {

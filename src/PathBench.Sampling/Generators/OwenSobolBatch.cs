@@ -495,8 +495,18 @@ internal static class OwenSobolBatch
     private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v, double add, double scale)
     {
         Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> a = Vector256.Create(add), s = Vector256.Create(scale);
-        return ((Avx.ConvertToVector256Double(signed.GetLower()) + a) * s, (Avx.ConvertToVector256Double(signed.GetUpper()) + a) * s);
+        Vector256<double> s = Vector256.Create(scale);
+        Vector256<double> low = Avx.ConvertToVector256Double(signed.GetLower()), high = Avx.ConvertToVector256Double(signed.GetUpper());
+        if (Fma.IsSupported)
+        {
+            // One rounding of c · scale + add · scale: the exact value (the two products are exact, scale being a power of
+            // two, and so is their sum, which needs at most 33 significant bits), as the two exact steps below.
+            Vector256<double> b = Vector256.Create(add * scale);
+            return (Fma.MultiplyAdd(low, s, b), Fma.MultiplyAdd(high, s, b));
+        }
+
+        Vector256<double> a = Vector256.Create(add);
+        return ((low + a) * s, (high + a) * s);
     }
 
     // Eight doubles to the run from destination, of which <left> points are left: a whole group by plain stores (which

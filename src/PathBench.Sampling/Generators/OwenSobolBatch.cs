@@ -10,9 +10,8 @@ namespace PathBench.Sampling.Generators;
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
 /// reversal) on eight 32-bit lanes; the table walk by loads of neighbouring table entries (Zen 2
 /// microcodes gathers; only a run's rare groups across a multiple of 256 in the unscrambled forms
-/// still gather). Returns how many points it
-/// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
-/// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
+/// still gather). The callers leave a single point to their scalar code (it cost less there: 20
+/// against 29 ns; from two points on the lanes cost less) and check AVX2.
 /// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
 /// empty <c>ys</c> it makes the first coordinate only (one dimension).
 /// </summary>
@@ -37,15 +36,11 @@ internal static class OwenSobolBatch
     /// <paramref name="seedIndex"/> and the group's first index only, and a pixel's block asks for dimension after
     /// dimension over the same run: they are kept per thread (<see cref="IndexMemo"/>) and reused when both match, so the
     /// walk's loads start from two loaded words instead of after the reversal, four multiplications and two lane moves.
+    /// The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe int Run(ReadOnlySpan<ulong> chunks, int half, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(ReadOnlySpan<ulong> chunks, int half, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
-        {
-            return 0;
-        }
-
         bool pair = !ys.IsEmpty;
         int shift = 32 * half;
         IndexMemo memo = t_memo ?? NewMemo();
@@ -89,8 +84,6 @@ internal static class OwenSobolBatch
                 }
             }
         }
-
-        return xs.Length;
     }
 
     // This thread's memo of Run's scrambled reversed indices (a class: a thread-static struct is boxed, one more runtime

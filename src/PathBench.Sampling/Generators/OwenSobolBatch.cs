@@ -39,11 +39,10 @@ internal static class OwenSobolBatch
     /// The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe void Run(ReadOnlySpan<ulong> chunks, int half, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(IndexMemo memo, ReadOnlySpan<ulong> chunks, int half, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
     {
         bool pair = !ys.IsEmpty;
         int shift = 32 * half;
-        IndexMemo memo = t_memo ?? NewMemo();
         fixed (ulong* t = chunks)
         fixed (double* px = xs, py = ys)
         {
@@ -91,6 +90,13 @@ internal static class OwenSobolBatch
     [ThreadStatic]
     private static IndexMemo? t_memo;
 
+    /// <summary>This thread's memo for <see cref="Run"/> (made on first use).</summary>
+    public static IndexMemo Memo
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => t_memo ?? NewMemo();
+    }
+
     [MethodImpl(InliningOptions.ColdPath)]
     private static IndexMemo NewMemo()
     {
@@ -112,7 +118,7 @@ internal static class OwenSobolBatch
     /// group's first index (low half), which are all the indices depend on. The renderer shares a sampler between threads;
     /// per thread, no entry is ever read while it is written.
     /// </summary>
-    private sealed class IndexMemo
+    internal sealed class IndexMemo
     {
         public TwoGroups Groups;
 
@@ -135,7 +141,7 @@ internal static class OwenSobolBatch
     // six bits, one of five; the pair's first dimension in the low half, the second in the high.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static unsafe ulong Low29(ulong* chunks, uint r) =>
-        chunks[r & 63] ^ chunks[64 + ((r >> 6) & 63)] ^ chunks[128 + ((r >> 12) & 63)] ^ chunks[192 + ((r >> 18) & 63)] ^ chunks[256 + ((r >> 24) & 31)];
+        chunks[r & 63] ^ (chunks + 64)[(r >> 6) & 63] ^ (chunks + 128)[(r >> 12) & 63] ^ (chunks + 192)[(r >> 18) & 63] ^ (chunks + 256)[(r >> 24) & 31];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with

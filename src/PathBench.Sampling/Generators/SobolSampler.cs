@@ -170,12 +170,14 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             return;
         }
 
+        // The memo first: the lanes' longest chain starts from it.
+        OwenSobolBatch.IndexMemo memo = OwenSobolBatch.Memo;
         ulong seeds = PairSeeds(pixel, dimension);
         uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
         int count = ys.IsEmpty ? 1 : 2;
         if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
         {
-            OwenSobolBatch.Run(_matrices.PairChunkTables(dimension), dimension & 1, firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys);
+            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), dimension & 1, firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys);
             return;
         }
 

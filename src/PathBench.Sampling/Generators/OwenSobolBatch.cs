@@ -22,27 +22,28 @@ internal static class OwenSobolBatch
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
-    /// reversed index under <paramref name="seedIndex"/>), then the reversed walk without gathers. Laine–Karras
+    /// reversed index under the index seed, <paramref name="pixel"/>'s upper half), then the reversed walk without gathers. Laine–Karras
     /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
     /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
     /// their low 29 bits and differ in their top three. The walk is linear over GF(2) (an XOR of the generator matrix's
     /// columns picked by the index's bits; Sobol 1967), so a lane's walk is the walk of the group's low 29 bits, shared,
     /// XOR the walk of the lane's top three bits, picked from the dimension's eight such entries by vpermd. Eight
     /// consecutive indices lie in at most two aligned groups (lanes 0 and 7 stand for them): two shared walks and a
-    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.PairChunkTables"/> of the first dimension's
-    /// pair, <paramref name="half"/> which of the pair it is (0 for a pair): the walk by groups of six bits, whose small
+    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.PairChunkTables"/> of
+    /// <paramref name="dimension"/>'s pair (for a pair, <paramref name="dimension"/> is even): the walk by groups of six bits, whose small
     /// tables the random scrambled indices find in the level-one cache more often than the byte tables, and both
     /// dimensions of a pair by one walk of 64-bit entries. The scrambled reversed indices of a group depend on
-    /// <paramref name="seedIndex"/> and the group's first index only, and a pixel's block asks for dimension after
+    /// the index seed and the group's first index only, and a pixel's block asks for dimension after
     /// dimension over the same run: they are kept per thread (<see cref="IndexMemo"/>) and reused when both match, so the
     /// walk's loads start from two loaded words instead of after the reversal, four multiplications and two lane moves.
-    /// The caller checks AVX2 and a run of at least two points.
+    /// The coordinates' seeds are the pair's (SobolSampler.PairSeeds). The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe void Run(IndexMemo memo, ReadOnlySpan<ulong> chunks, int half, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(IndexMemo memo, ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
     {
         bool pair = !ys.IsEmpty;
-        int shift = 32 * half;
+        int shift = 32 * (dimension & 1), half = dimension & 1;
+        uint seedIndex = (uint)(pixel >> 32);
         fixed (ulong* t = chunks)
         fixed (double* px = xs, py = ys)
         {
@@ -74,6 +75,10 @@ internal static class OwenSobolBatch
 
                 Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
                 ulong w0 = Low29(t, r0), w7 = Low29(t, r7);
+
+                // The coordinates' seeds (SobolSampler.PairSeeds) after the walks' loads: the scramble needs them last.
+                ulong seeds = SobolSampler.PairSeeds(pixel, dimension);
+                uint seedX = (uint)(seeds >> shift), seedY = (uint)(seeds >> 32);
                 Vector256<uint> x = Vector256.ConditionalSelect(first, Vector256.Create((uint)(w0 >> shift)), Vector256.Create((uint)(w7 >> shift)));
                 Store(ToDoubles(Reverse(Scrambled<Once>(x ^ Avx2.PermuteVar8x32(hx, top), seedX, 0))), px + i, xs.Length - i);
                 if (pair)

@@ -172,15 +172,15 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
         // The memo first: the lanes' longest chain starts from it.
         OwenSobolBatch.IndexMemo memo = OwenSobolBatch.Memo;
-        ulong seeds = PairSeeds(pixel, dimension);
-        uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
         int count = ys.IsEmpty ? 1 : 2;
         if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
         {
-            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), dimension & 1, firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys);
+            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
             return;
         }
 
+        ulong seeds = PairSeeds(pixel, dimension);
+        uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
         OwenPoints(pixel, firstIndex, dimension, seedX, seedY, xs, ys);
     }
 
@@ -216,7 +216,8 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(index), (uint)(pixel >> 32));
 
     // One hash gives the scramble seeds of a dimension pair (2k, 2k+1): low and high halves.
-    private static ulong PairSeeds(ulong pixel, int dimension) => SampleHash.Combine(pixel ^ Salts.OwenDimension, (ulong)(dimension >> 1));
+    [MethodImpl(InliningOptions.ShortMethod)]
+    internal static ulong PairSeeds(ulong pixel, int dimension) => SampleHash.Combine(pixel ^ Salts.OwenDimension, (ulong)(dimension >> 1));
 
     private double Owen(ulong pixel, uint reversedShuffledIndex, int dimension)
     {

@@ -10,9 +10,8 @@ namespace PathBench.Sampling.Generators;
 /// scalar path (bit reversal, Laine–Karras permutation, byte-table walk, permutation,
 /// reversal) on eight 32-bit lanes; the table walk by loads of neighbouring table entries (Zen 2
 /// microcodes gathers; only a run's rare groups across a multiple of 256 in the unscrambled forms
-/// still gather). Returns how many points it
-/// wrote: the whole run, or zero without AVX2 or for a single point, leaving it to the scalar
-/// code (one point costs less there: 20 against 29 ns; from two points on the lanes cost less).
+/// still gather). The callers leave a single point to their scalar code (it cost less there: 20
+/// against 29 ns; from two points on the lanes cost less) and check AVX2.
 /// A run's last part-group runs on all eight lanes and stores its own under a mask. With an
 /// empty <c>ys</c> it makes the first coordinate only (one dimension).
 /// </summary>
@@ -23,59 +22,131 @@ internal static class OwenSobolBatch
     /// <summary>
     /// Sobol's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>) of the consecutive points
     /// from <paramref name="firstIndex"/>: the index scrambled by its nested scramble (Burley 2020: Laine–Karras of the
-    /// reversed index under <paramref name="seedIndex"/>), then the reversed walk without gathers. Laine–Karras
+    /// reversed index under the index seed, <paramref name="pixel"/>'s upper half), then the reversed walk without gathers. Laine–Karras
     /// (x + seed, then x ^= x·k) makes each output bit from the input bits at and below it, so the scrambled reversed
     /// indices r of an aligned group of eight (the same index bits from 3 up, the same reversed bits below 29) share
     /// their low 29 bits and differ in their top three. The walk is linear over GF(2) (an XOR of the generator matrix's
     /// columns picked by the index's bits; Sobol 1967), so a lane's walk is the walk of the group's low 29 bits, shared,
     /// XOR the walk of the lane's top three bits, picked from the dimension's eight such entries by vpermd. Eight
     /// consecutive indices lie in at most two aligned groups (lanes 0 and 7 stand for them): two shared walks and a
-    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.ChunkTables"/> of the first dimension, or,
-    /// for a pair, of both (the second's after the first's): the walk by groups of six bits, whose small tables the
-    /// random scrambled indices find in the level-one cache more often than the byte tables.
+    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.PairChunkTables"/> of
+    /// <paramref name="dimension"/>'s pair (for a pair, <paramref name="dimension"/> is even): the walk by groups of six bits, whose small
+    /// tables the random scrambled indices find in the level-one cache more often than the byte tables, and both
+    /// dimensions of a pair by one walk of 64-bit entries. The scrambled reversed indices of a group depend on
+    /// the index seed and the group's first index only, and a pixel's block asks for dimension after
+    /// dimension over the same run: they are kept per thread (<see cref="IndexMemo"/>) and reused when both match, so the
+    /// walk's loads start from two loaded words instead of after the reversal, four multiplications and two lane moves.
+    /// The coordinates' seeds are the pair's (SobolSampler.PairSeeds). The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe int Run(ReadOnlySpan<uint> chunks, uint firstIndex, uint seedIndex, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(IndexMemo memo, ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
     {
-        if (!Avx2.IsSupported || xs.Length < 2)
-        {
-            return 0;
-        }
-
         bool pair = !ys.IsEmpty;
-        fixed (uint* tx = chunks)
+        int shift = 32 * (dimension & 1), half = dimension & 1;
+        uint seedIndex = (uint)(pixel >> 32);
+        fixed (ulong* t = chunks)
         fixed (double* px = xs, py = ys)
         {
-            uint* ty = tx + Sequences.SobolMatrices.ChunkStride;
-            Vector256<uint> hx = Vector256.Load(tx + 288), hy = pair ? Vector256.Load(ty + 288) : default;
+            uint* high = (uint*)(t + 288);
+            Vector256<uint> hx = Vector256.Load(high + (8 * half)), hy = pair ? Vector256.Load(high + 8) : default;
             for (int i = 0; i < xs.Length; i += 8)
             {
-                // A run's last part-group computes every lane (a lane's table reads are bytes of its own index, always
+                // A run's last part-group computes every lane (a lane's table reads are bits of its own index, always
                 // inside the tables) and stores those inside the run only.
-                Vector256<uint> r = LaineKarras(Reverse(Vector256.Create(firstIndex + (uint)i) + Lane), Vector256.Create(seedIndex));
-                uint r0 = r.ToScalar(), r7 = r.GetElement(7);
+                uint s = firstIndex + (uint)i;
+                ulong key = ((ulong)seedIndex << 32) | s;
+                ref IndexMemo.Entry e = ref memo.Groups[(i >> 3) & 1];
+                Vector256<uint> r;
+                uint r0, r7;
+                if (e.Key == key)
+                {
+                    r = e.R;
+                    r0 = Unsafe.As<Vector256<uint>, uint>(ref e.R);
+                    r7 = Unsafe.Add(ref Unsafe.As<Vector256<uint>, uint>(ref e.R), 7);
+                }
+                else
+                {
+                    r = LaineKarras(Reverse(Vector256.Create(s) + Lane), Vector256.Create(seedIndex));
+                    e.R = r;
+                    e.Key = key;
+                    r0 = r.ToScalar();
+                    r7 = r.GetElement(7);
+                }
+
                 Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
-                Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(tx, hx, r0, r7, top, first), seedX, 0))), px + i, xs.Length - i);
+                ulong w0 = Low29(t, r0), w7 = Low29(t, r7);
+
+                // The coordinates' seeds (SobolSampler.PairSeeds) after the walks' loads: the scramble needs them last.
+                ulong seeds = SobolSampler.PairSeeds(pixel, dimension);
+                uint seedX = (uint)(seeds >> shift), seedY = (uint)(seeds >> 32);
+                Vector256<uint> x = Vector256.ConditionalSelect(first, Vector256.Create((uint)(w0 >> shift)), Vector256.Create((uint)(w7 >> shift)));
+                Store(ToDoubles(Reverse(Scrambled<Once>(x ^ Avx2.PermuteVar8x32(hx, top), seedX, 0))), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled<Once>(Grouped(ty, hy, r0, r7, top, first), seedY, 0))), py + i, xs.Length - i);
+                    Vector256<uint> y = Vector256.ConditionalSelect(first, Vector256.Create((uint)(w0 >> 32)), Vector256.Create((uint)(w7 >> 32)));
+                    Store(ToDoubles(Reverse(Scrambled<Once>(y ^ Avx2.PermuteVar8x32(hy, top), seedY, 0))), py + i, xs.Length - i);
                 }
             }
         }
-
-        return xs.Length;
     }
 
-    // The reversed walk of eight scrambled reversed indices lying in the aligned groups of lanes 0 and 7 (Run's remarks):
-    // per group the walk of the low 29 bits, shared, XOR by lane the top three bits' entry from high (picked by top).
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe Vector256<uint> Grouped(uint* tables, Vector256<uint> high, uint r0, uint r7, Vector256<uint> top, Vector256<uint> first) =>
-        Vector256.ConditionalSelect(first, Vector256.Create(Low29(tables, r0)), Vector256.Create(Low29(tables, r7))) ^ Avx2.PermuteVar8x32(high, top);
+    // This thread's memo of Run's scrambled reversed indices (a class: a thread-static struct is boxed, one more runtime
+    // call an access; this is one call and three loads).
+    [ThreadStatic]
+    private static IndexMemo? t_memo;
 
-    // The walk of r's low 29 bits from a dimension's chunk tables (SobolMatrices.ChunkTables): four groups of six bits, one of five.
+    /// <summary>This thread's memo for <see cref="Run"/> (made on first use).</summary>
+    public static IndexMemo Memo
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        get => t_memo ?? NewMemo();
+    }
+
+    [MethodImpl(InliningOptions.ColdPath)]
+    private static IndexMemo NewMemo()
+    {
+        var memo = new IndexMemo();
+        for (int k = 0; k < 2; k++)
+        {
+            // Key 0 (seed 0, first index 0) with its true indices: no entry ever holds values that are not its key's.
+            memo.Groups[k].Key = 0;
+            memo.Groups[k].R = LaineKarras(Reverse(Lane), Vector256<uint>.Zero);
+        }
+
+        t_memo = memo;
+        return memo;
+    }
+
+    /// <summary>
+    /// One thread's scrambled reversed indices of the last groups Run made: the groups at even and odd multiples of eight
+    /// into a run (a block's run of sixteen is two groups), each under its key, the index seed (high half) and the
+    /// group's first index (low half), which are all the indices depend on. The renderer shares a sampler between threads;
+    /// per thread, no entry is ever read while it is written.
+    /// </summary>
+    internal sealed class IndexMemo
+    {
+        public TwoGroups Groups;
+
+        /// <summary>A group's indices R = LaineKarras(Reverse(first + lane), seed) under Key = seed · 2^32 + first.</summary>
+        public struct Entry
+        {
+            public Vector256<uint> R;
+            public ulong Key;
+        }
+
+        /// <summary>The two entries, inline.</summary>
+        [InlineArray(2)]
+        public struct TwoGroups
+        {
+            private Entry _entry;
+        }
+    }
+
+    // The walks of r's low 29 bits from a dimension pair's chunk tables (SobolMatrices.PairChunkTables): four groups of
+    // six bits, one of five; the pair's first dimension in the low half, the second in the high.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static unsafe uint Low29(uint* chunks, uint r) =>
-        chunks[r & 63] ^ chunks[64 + ((r >> 6) & 63)] ^ chunks[128 + ((r >> 12) & 63)] ^ chunks[192 + ((r >> 18) & 63)] ^ chunks[256 + ((r >> 24) & 31)];
+    private static unsafe ulong Low29(ulong* chunks, uint r) =>
+        chunks[r & 63] ^ (chunks + 64)[(r >> 6) & 63] ^ (chunks + 128)[(r >> 12) & 63] ^ (chunks + 192)[(r >> 18) & 63] ^ (chunks + 256)[(r >> 24) & 31];
 
     /// <summary>
     /// Blue noise's Owen-scrambled pair (or single coordinate with an empty <paramref name="ys"/>): the points with
@@ -428,8 +499,18 @@ internal static class OwenSobolBatch
     private static (Vector256<double> Low, Vector256<double> High) Exact(Vector256<uint> v, double add, double scale)
     {
         Vector256<int> signed = (v ^ Vector256.Create(0x80000000u)).AsInt32();
-        Vector256<double> a = Vector256.Create(add), s = Vector256.Create(scale);
-        return ((Avx.ConvertToVector256Double(signed.GetLower()) + a) * s, (Avx.ConvertToVector256Double(signed.GetUpper()) + a) * s);
+        Vector256<double> s = Vector256.Create(scale);
+        Vector256<double> low = Avx.ConvertToVector256Double(signed.GetLower()), high = Avx.ConvertToVector256Double(signed.GetUpper());
+        if (Fma.IsSupported)
+        {
+            // One rounding of c · scale + add · scale: the exact value (the two products are exact, scale being a power of
+            // two, and so is their sum, which needs at most 33 significant bits), as the two exact steps below.
+            Vector256<double> b = Vector256.Create(add * scale);
+            return (Fma.MultiplyAdd(low, s, b), Fma.MultiplyAdd(high, s, b));
+        }
+
+        Vector256<double> a = Vector256.Create(add);
+        return ((low + a) * s, (high + a) * s);
     }
 
     // Eight doubles to the run from destination, of which <left> points are left: a whole group by plain stores (which

@@ -160,24 +160,43 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     // Owen-scrambled dimension d of the run into xs and, when ys is not empty, d + 1 into ys: the pair on eight lanes
     // (OwenSobolBatch.Run) where d is even and both are tabled, one dimension where it is tabled; the rest (a
     // single point, no AVX2, an untabled dimension) by the scalar form, the reference the vector code is tested against.
+    // The other forms are calls of their own at the end, so nothing of theirs is kept across the lanes' path.
     [MethodImpl(InliningOptions.Kernel)]
     private void OwenBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         if (!ys.IsEmpty && (dimension & 1) != 0)
         {
-            // An odd pair straddles two seed pairs: two single dimensions (Sample2D's values, which are Sample's).
-            OwenBatch(pixel, firstIndex, dimension, xs, default);
-            OwenBatch(pixel, firstIndex, dimension + 1, ys, default);
+            OddOwenPair(pixel, firstIndex, dimension, xs, ys);
+            return;
+        }
+
+        // The memo first: the lanes' longest chain starts from it.
+        OwenSobolBatch.IndexMemo memo = OwenSobolBatch.Memo;
+        int count = ys.IsEmpty ? 1 : 2;
+        if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
+        {
+            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
             return;
         }
 
         ulong seeds = PairSeeds(pixel, dimension);
         uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
-        int count = ys.IsEmpty ? 1 : 2;
-        int done = (uint)(dimension + count) <= (uint)_tabled
-            ? OwenSobolBatch.Run(_matrices.ChunkTables(dimension, count), firstIndex, (uint)(pixel >> 32), seedX, seedY, xs, ys)
-            : 0;
-        for (int i = done; i < xs.Length; i++)
+        OwenPoints(pixel, firstIndex, dimension, seedX, seedY, xs, ys);
+    }
+
+    // An odd pair straddles two seed pairs: two single dimensions (Sample2D's values, which are Sample's).
+    [MethodImpl(InliningOptions.ColdPath)]
+    private void OddOwenPair(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    {
+        OwenBatch(pixel, firstIndex, dimension, xs, default);
+        OwenBatch(pixel, firstIndex, dimension + 1, ys, default);
+    }
+
+    // OwenBatch's scalar form, one point at a time.
+    [MethodImpl(InliningOptions.ColdPath)]
+    private void OwenPoints(ulong pixel, uint firstIndex, int dimension, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    {
+        for (int i = 0; i < xs.Length; i++)
         {
             uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);
             xs[i] = OwenCoordinate(reversed, dimension, seedX);
@@ -197,7 +216,8 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(index), (uint)(pixel >> 32));
 
     // One hash gives the scramble seeds of a dimension pair (2k, 2k+1): low and high halves.
-    private static ulong PairSeeds(ulong pixel, int dimension) => SampleHash.Combine(pixel ^ Salts.OwenDimension, (ulong)(dimension >> 1));
+    [MethodImpl(InliningOptions.ShortMethod)]
+    internal static ulong PairSeeds(ulong pixel, int dimension) => SampleHash.Combine(pixel ^ Salts.OwenDimension, (ulong)(dimension >> 1));
 
     private double Owen(ulong pixel, uint reversedShuffledIndex, int dimension)
     {

@@ -37,8 +37,9 @@ public sealed class SobolMatrices
     // reversed index gives the reversed coordinate with no reversal in between.
     private readonly uint[] _reversedByteTables;
 
-    // The reversed walk by smaller bit groups of the reversed index (ChunkTables): ChunkStride entries a dimension.
-    private readonly uint[] _chunkTables;
+    // The reversed walk by smaller bit groups of the reversed index, two dimensions to an entry (PairChunkTables):
+    // PairChunkStride entries a dimension pair.
+    private readonly ulong[] _pairChunkTables;
 
     // The byte tables with their values bit-reversed: entry [(d * 4 + b) * 256 + x] is Reverse(_byteTables[the same]).
     private readonly uint[] _reversedValueTables;
@@ -54,7 +55,7 @@ public sealed class SobolMatrices
         _tabulated = tabulated;
         _byteTables = new uint[tabulated * 4 * 256];
         _reversedByteTables = new uint[tabulated * 4 * 256];
-        _chunkTables = new uint[tabulated * ChunkStride];
+        _pairChunkTables = new ulong[(tabulated + 1) / 2 * PairChunkStride];
         _reversedValueTables = new uint[tabulated * 4 * 256];
         for (int d = 0; d < tabulated; d++)
         {
@@ -84,24 +85,27 @@ public sealed class SobolMatrices
             }
 
             // The walk is linear over GF(2) (an XOR of columns picked by the index's bits), so a group of bits' entry is
-            // the walk of the index holding those bits alone.
-            Span<uint> chunks = _chunkTables.AsSpan(d * ChunkStride, ChunkStride);
+            // the walk of the index holding those bits alone; dimension d's entries are the low (even d) or high (odd d)
+            // halves of its pair's, the top three bits' entries the pair's last sixteen words (even d's eight first).
+            Span<ulong> pairChunks = _pairChunkTables.AsSpan(d / 2 * PairChunkStride, PairChunkStride);
+            int half = 32 * (d & 1);
             for (int k = 0; k < 4; k++)
             {
                 for (int x = 0; x < 64; x++)
                 {
-                    chunks[(64 * k) + x] = SampleReversed((uint)x << (6 * k), d);
+                    pairChunks[(64 * k) + x] |= (ulong)SampleReversed((uint)x << (6 * k), d) << half;
                 }
             }
 
             for (int x = 0; x < 32; x++)
             {
-                chunks[256 + x] = SampleReversed((uint)x << 24, d);
+                pairChunks[256 + x] |= (ulong)SampleReversed((uint)x << 24, d) << half;
             }
 
+            Span<uint> top = MemoryMarshal.Cast<ulong, uint>(pairChunks[288..]);
             for (int x = 0; x < 8; x++)
             {
-                chunks[288 + x] = SampleReversed((uint)x << 29, d);
+                top[(8 * (d & 1)) + x] = SampleReversed((uint)x << 29, d);
             }
         }
     }
@@ -173,18 +177,28 @@ public sealed class SobolMatrices
     public ReadOnlySpan<uint> ReversedValueTables(int dimension, int count = 1) => TablesOf(_reversedValueTables, dimension, 1024, count);
 
     /// <summary>
-    /// <see cref="SampleReversed"/>'s walk by smaller groups of the reversed index's bits, <see cref="ChunkStride"/> entries
-    /// a dimension: at 64·k + x (k below 4, x below 64) the walk of x · 2^(6k) (bits 6k to 6k + 5), at 256 + x (x below
-    /// 32) of x · 2^24 (bits 24 to 28), at 288 + t (t below 8) of t · 2^29 (the top three bits). The walk is linear over
-    /// GF(2), so SampleReversed(r) is the XOR of the six groups' entries. 1 184 bytes a dimension against the byte
-    /// tables' 4 KiB: the eight-lane Owen walk (<c>OwenSobolBatch.Run</c>), whose scrambled indices pick entries at
-    /// random, finds more of them in the level-one cache.
+    /// <see cref="SampleReversed"/>'s walk by smaller groups of the reversed index's bits for the dimension pair
+    /// (2p, 2p + 1) holding <paramref name="dimension"/>, <see cref="PairChunkStride"/> entries: at 64·k + x (k below 4, x
+    /// below 64) the walks of x · 2^(6k) (bits 6k to 6k + 5), at 256 + x (x below 32) of x · 2^24 (bits 24 to 28), each
+    /// entry holding dimension 2p's walk in its low 32 bits and 2p + 1's in its high; the last eight entries, read as
+    /// sixteen words, hold the walks of t · 2^29 (t below 8, the top three bits), dimension 2p's eight then 2p + 1's. The
+    /// walk is linear over GF(2), so SampleReversed(r) is the XOR of the six groups' entries. 1 184 bytes a dimension
+    /// against the byte tables' 4 KiB: the eight-lane Owen walk (<c>OwenSobolBatch.Run</c>), whose scrambled indices
+    /// pick entries at random, finds more of them in the level-one cache, and a pair's two walks are one walk of 64-bit entries.
     /// </summary>
-    /// <remarks>With <paramref name="count"/> above one, the tables of that many consecutive dimensions (all tabulated), one after the other.</remarks>
-    public ReadOnlySpan<uint> ChunkTables(int dimension, int count = 1) => TablesOf(_chunkTables, dimension, ChunkStride, count);
+    /// <remarks>Dimension 2p + 1's halves are zero where it is not tabulated.</remarks>
+    public ReadOnlySpan<ulong> PairChunkTables(int dimension)
+    {
+        if ((uint)dimension >= (uint)_tabulated)
+        {
+            ThrowNotTabulated(dimension, 1);
+        }
 
-    /// <summary>Entries a dimension of <see cref="ChunkTables"/>.</summary>
-    public const int ChunkStride = 296;
+        return MemoryMarshal.CreateReadOnlySpan(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_pairChunkTables), dimension / 2 * PairChunkStride), PairChunkStride);
+    }
+
+    /// <summary>Entries a dimension pair of <see cref="PairChunkTables"/>.</summary>
+    public const int PairChunkStride = 296;
 
     // The slice of one of the per-dimension tables (<paramref name="length"/> entries a dimension) for <paramref name="count"/>
     // tabulated dimensions from <paramref name="dimension"/>: two comparisons (the batches ask once a call), then no

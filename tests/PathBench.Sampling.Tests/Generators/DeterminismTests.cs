@@ -138,6 +138,38 @@ public sealed class BatchTests
     }
 
     /// <summary>
+    /// Sobol/owen's batches keep a thread's scrambled indices of its last groups and reuse them when the index seed and the
+    /// group's first index match: calls that alternate between pixels, first indices and dimensions (hits and misses in
+    /// turn, runs of one and two groups and a part-group), on two threads sharing the sampler as the renderer's do, each
+    /// equal to the one-point method (Sample2D, which keeps nothing).
+    /// </summary>
+    [Fact]
+    public void Sobol_owen_batches_that_reuse_their_index_scramble_equal_their_points()
+    {
+        PointSampler s = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 64, 5), 40);
+        (int Px, uint First, int Count)[] runs = [(0, 0u, 16), (1, 0u, 16), (0, 0u, 16), (0, 8u, 8), (0, 3u, 13), (1, 3u, 5), (0, 0u, 16), (2, 16u, 16)];
+        Parallel.For(0, 2, thread =>
+        {
+            var xs = new double[16];
+            var ys = new double[16];
+            for (int round = 0; round < 50; round++)
+            {
+                foreach ((int px, uint first, int count) in runs)
+                {
+                    ulong key = s.PixelKey(px + thread, round % 3);
+                    int dimension = (round * 2 + px) % 38;
+                    s.Sample2DBatch(key, first, dimension, xs.AsSpan(0, count), ys.AsSpan(0, count));
+                    for (int i = 0; i < count; i++)
+                    {
+                        (double x, double y) = s.Sample2D(key, first + (uint)i, dimension);
+                        Assert.True(x == xs[i] && y == ys[i], $"pixel {px + thread}, dimension {dimension}, point {first + i}");
+                    }
+                }
+            }
+        });
+    }
+
+    /// <summary>
     /// The batch forms of the sets built on Kensler permutations, each lane width (<see cref="LaneWidth"/>: the
     /// AVX-512 form, the AVX2 form and one point at a time, all run on this machine whatever it has: a width
     /// without the hardware runs in software, with the same bits), at the catalog test's 40 (a 5 × 8 grid), powers

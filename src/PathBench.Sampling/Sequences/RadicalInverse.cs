@@ -474,23 +474,25 @@ public static class RadicalInverse
     [MethodImpl(InliningOptions.ShortMethod)] // into ShortRun: one method, one vzeroupper, for a large base's short run
     private static void OneDigitQuads(uint first, ReadOnlySpan<uint> images, double invBase, double below0, double below1, Span<double> xs)
     {
-        Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1);
+        // The clamp as Lanes.Clamp's (vminpd against the largest double below 1: x where x < 1); the loop without bounds
+        // checks (first + xs.Length ≤ 16 places of images, checked by the caller) and its constants outside it.
+        Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1), top = Vector256.Create(UnitInterval.BelowOne);
         ref uint image = ref Unsafe.Add(ref MemoryMarshal.GetReference(images), (int)first);
-        int i = 0;
-        for (; i + 4 <= xs.Length; i += 4)
+        ref double x = ref MemoryMarshal.GetReference(xs);
+        int n = xs.Length, i = 0;
+        for (; i <= n - 4; i += 4)
         {
-            Vector256<double> x = (Avx.ConvertToVector256Double(Vector128.LoadUnsafe(ref image, (nuint)i).AsInt32()) * scale) + below;
-            Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne)).CopyTo(xs[i..]);
+            Avx.Min((Avx.ConvertToVector256Double(Vector128.LoadUnsafe(ref image, (nuint)i).AsInt32()) * scale) + below, top).StoreUnsafe(ref x, (nuint)i);
         }
 
-        for (; i < xs.Length; i++)
+        for (; i < n; i++)
         {
-            xs[i] = UnitInterval.Clamp((Unsafe.Add(ref image, i) * invBase) + below1);
+            Unsafe.Add(ref x, i) = UnitInterval.Clamp((Unsafe.Add(ref image, i) * invBase) + below1);
         }
 
         if (first == 0)
         {
-            xs[0] = UnitInterval.Clamp(below0);
+            x = UnitInterval.Clamp(below0);
         }
     }
 
@@ -747,26 +749,32 @@ public static class RadicalInverse
         d2.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 16);
         Vector256<uint> z = Vector256.Create(zero);
         Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z), taken2 = Vector256.Equals(d2, z);
+        // Written out (constant places and masks: no loop counters or index arithmetic).
+        ref uint draw = ref MemoryMarshal.GetReference(draws);
         ref uint later = ref MemoryMarshal.GetReference(LaterLanes);
-        for (int j = 0; j < 8; j++)
-        {
-            Vector256<uint> w = Vector256.Create(draws[j]);
-            taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
-            taken1 |= Vector256.Equals(d1, w);
-            taken2 |= Vector256.Equals(d2, w);
-        }
-
-        for (int j = 8; j < 16; j++)
-        {
-            Vector256<uint> w = Vector256.Create(draws[j]);
-            taken1 |= Vector256.Equals(d1, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
-            taken2 |= Vector256.Equals(d2, w);
-        }
-
-        for (int j = 16; j < FirstDrawCount - 1; j++)
-        {
-            taken2 |= Vector256.Equals(d2, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 16)));
-        }
+        FirstThird(ref draw, ref later, 0, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 1, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 2, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 3, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 4, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 5, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 6, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 7, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 0, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 1, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 2, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 3, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 4, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 5, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 6, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 7, d1, d2, ref taken1, ref taken2);
+        LastThird(ref draw, ref later, 0, d2, ref taken2);
+        LastThird(ref draw, ref later, 1, d2, ref taken2);
+        LastThird(ref draw, ref later, 2, d2, ref taken2);
+        LastThird(ref draw, ref later, 3, d2, ref taken2);
+        LastThird(ref draw, ref later, 4, d2, ref taken2);
+        LastThird(ref draw, ref later, 5, d2, ref taken2);
+        LastThird(ref draw, ref later, 6, d2, ref taken2);
 
         uint fresh0 = ~Vector256.ExtractMostSignificantBits(taken0) & 0xFF, fresh1 = ~Vector256.ExtractMostSignificantBits(taken1) & 0xFF;
         uint fresh2 = ~Vector256.ExtractMostSignificantBits(taken2) & 0xFF;
@@ -780,6 +788,30 @@ public static class RadicalInverse
         Avx2.PermuteVar8x32(d2, LeftPackIndices(fresh2)).StoreUnsafe(ref image, count);
         return count + (uint)BitOperations.PopCount(fresh2);
     }
+
+    // FirstDraws' comparisons of draw j (< 8) with the lanes after it in the first third and all lanes of the other two.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void FirstThird(ref uint draw, ref uint later, int j, Vector256<uint> d0, Vector256<uint> d1, Vector256<uint> d2, ref Vector256<uint> taken0, ref Vector256<uint> taken1, ref Vector256<uint> taken2)
+    {
+        Vector256<uint> w = Vector256.Create(Unsafe.Add(ref draw, j));
+        taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+        taken1 |= Vector256.Equals(d1, w);
+        taken2 |= Vector256.Equals(d2, w);
+    }
+
+    // Draw 8 + j against the lanes after it in the second third and all of the last.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void SecondThird(ref uint draw, ref uint later, int j, Vector256<uint> d1, Vector256<uint> d2, ref Vector256<uint> taken1, ref Vector256<uint> taken2)
+    {
+        Vector256<uint> w = Vector256.Create(Unsafe.Add(ref draw, 8 + j));
+        taken1 |= Vector256.Equals(d1, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+        taken2 |= Vector256.Equals(d2, w);
+    }
+
+    // Draw 16 + j against the lanes after it in the last third.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void LastThird(ref uint draw, ref uint later, int j, Vector256<uint> d2, ref Vector256<uint> taken2) =>
+        taken2 |= Vector256.Equals(d2, Vector256.Create(Unsafe.Add(ref draw, 16 + j))) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
 
     // Draws FirstDraws makes at once (three groups of eight), and where in the images' storage it keeps them.
     private const int FirstDrawCount = 24;

@@ -220,7 +220,8 @@ public static class RadicalInverse
     /// drawn digits left, in increasing order (σ_k's single images are uniform, but pairs of neighbouring digits are
     /// not: measured 3–6 % from uniform in total variation for lengths near 51–111, so those digits are only
     /// approximately a uniformly random permutation; the previous construction hashed every digit this way). Draw n of
-    /// position k (<see cref="DigitMap.DrawOne"/>) is the 32-bit half v of the 64-bit hash h = Combine(Combine(key, k), ⌊n / 2⌋),
+    /// position k (<see cref="DigitMap.DrawOne"/>) is the 32-bit half v of the 64-bit hash h = <see cref="DrawHash"/>(Combine(key, k), ⌊n / 2⌋)
+    /// (one multiply: a bijection of the position key ⊕ ⌊n / 2⌋·M, so each half is exactly uniform for a uniform key),
     /// the low half for even n and the high half for odd n, taken into a range of m values by ⌊v·m / 2^32⌋ (Lemire 2019,
     /// "Fast Random Integer Generation in an Interval", ACM TOMACS 29(1): the multiply-shift without its rejection step;
     /// integer arithmetic, the same in every lane form): of the 2^32 values of v, each result takes ⌊2^32 / m⌋ or
@@ -650,7 +651,7 @@ public static class RadicalInverse
         {
             // Lane l ≥ count takes draw next + l − count: the sixteen draws of pairs ⌊next / 2⌋ … + 7 (draws from
             // 2·⌊next / 2⌋) moved up by count − (next mod 2) lanes (index l − count + (next mod 2) ≤ 15, as count ≥ 1).
-            // Combine's value·M for pair s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
+            // DrawHash's pair·M for pair s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
             Vector512<ulong> n = Vector512.Create(unchecked((next >> 1) * SampleHash.ValueMultiplier));
             Vector512<uint> w = Draw16(positionKey, n + LaneProductsLow, m, m);
             w = Avx512F.PermuteVar16x32(w, lanes - Vector512.Create(count - (uint)(next & 1)));
@@ -1261,8 +1262,8 @@ public static class RadicalInverse
             }
             else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
             {
-                // Four hashes on 256-bit lanes (AVX2, SampleHash.Combine4), their eight halves' draws by Draw8. Combine's
-                // value·M for pair s + l is s·M + l·M modulo 2^64 (as in ConflictImages). On the table, m = b − 1 − n per
+                // Four hashes on 256-bit lanes (AVX2, DrawHash4), their eight halves' draws by Draw8. DrawHash's
+                // pair·M for pair s + l is s·M + l·M modulo 2^64 (as in ConflictImages). On the table, m = b − 1 − n per
                 // 32-bit lane while n < b − 1 (then n and m are below 2^31: signed 32-bit arithmetic), else 1.
                 Vector256<uint> m = Vector256.Create(b);
                 Vector256<ulong> product = Vector256.Create(unchecked(((first + (ulong)k) >> 1) * SampleHash.ValueMultiplier)) + DrawLaneProducts;
@@ -1292,32 +1293,73 @@ public static class RadicalInverse
 
         /// <summary>
         /// Draw number <paramref name="n"/> of a position, uniform on 0 … m − 1 up to a bias below 2^−32 a value: the
-        /// 32-bit half v of h = Combine(position key, ⌊n / 2⌋) (the low half for even n, the high half for odd n) taken
-        /// to ⌊v·m / 2^32⌋, Lemire's (2019) multiply-shift without its rejection step.
+        /// 32-bit half v of h = <see cref="DrawHash"/>(position key, ⌊n / 2⌋) (the low half for even n, the high half for
+        /// odd n) taken to ⌊v·m / 2^32⌋, Lemire's (2019) multiply-shift without its rejection step.
         /// </summary>
         [MethodImpl(InliningOptions.ShortMethod)]
         public static uint DrawOne(ulong positionKey, ulong n, uint m) =>
-            (uint)(((ulong)(uint)(SampleHash.Combine(positionKey, n >> 1) >> (int)(32 * (n & 1))) * m) >> 32);
+            (uint)(((ulong)(uint)(DrawHash(positionKey, n >> 1) >> (int)(32 * (n & 1))) * m) >> 32);
+    }
+
+    /// <summary>
+    /// The hash of a digit position's draw pair <paramref name="pair"/> (its two 32-bit halves are draws 2·pair and
+    /// 2·pair + 1): x = key ⊕ pair·M (M = <see cref="SampleHash.ValueMultiplier"/>, as <see cref="SampleHash.Combine"/>
+    /// keys its value), then x ⊕= x ≫ 32, x ·= <see cref="DrawMultiplier"/> (mod 2^64), x ⊕= x ≫ 32: one multiply where
+    /// SplitMix64's finaliser has two (on AVX2 each 64-bit product is six instructions). Each step is a bijection of
+    /// 64-bit words, so for a uniformly random position key (itself a SplitMix64 hash of the pixel's key, dimension and
+    /// position) every draw's hash is uniform on 2^64 and its halves exactly uniform on 2^32: each draw is still within
+    /// 2^−32 of uniform on 0 … m − 1 (Lemire's bound), and the key stays 64 bits wide (two positions share their draws
+    /// only where their 64-bit keys are equal). What one multiply gives up is mixing between the draws of one position
+    /// (pairs whose x differ by a fixed xor); the tests check the images' pairs within and across hashes
+    /// (<c>Digit_images_and_pairs_are_uniform_against_scipy_critical_values</c>).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    internal static ulong DrawHash(ulong positionKey, ulong pair)
+    {
+        ulong x = positionKey ^ (pair * SampleHash.ValueMultiplier);
+        x = (x ^ (x >> 32)) * DrawMultiplier;
+        return x ^ (x >> 32);
+    }
+
+    /// <summary>The odd multiplier of <see cref="DrawHash"/>: SplitMix64's first finaliser multiplier (Steele, Lea &amp; Flood 2014).</summary>
+    internal const ulong DrawMultiplier = 0xBF58476D1CE4E5B9UL;
+
+    // DrawHash per 64-bit lane on AVX2, given each lane's pair times M (the 64-bit product by SampleHash.MultiplyLow4).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<ulong> DrawHash4(ulong positionKey, Vector256<ulong> product)
+    {
+        Vector256<ulong> x = Vector256.Create(positionKey) ^ product;
+        x = SampleHash.MultiplyLow4(x ^ (x >>> 32), DrawMultiplier);
+        return x ^ (x >>> 32);
+    }
+
+    // DrawHash per 64-bit lane on 512-bit lanes, given each lane's pair times M.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<ulong> DrawHash8(ulong positionKey, Vector512<ulong> product)
+    {
+        Vector512<ulong> x = Vector512.Create(positionKey) ^ product;
+        x = (x ^ (x >>> 32)) * Vector512.Create(DrawMultiplier);
+        return x ^ (x >>> 32);
     }
 
     // Eight draws of DigitMap.FillForm's AVX2 form from the four hashes of pairs s … s + 3 (product: their numbers times
-    // Combine's multiplier): 32-bit lane 2l the low half of pair s + l's hash, lane 2l + 1 its high half, each v taken to
+    // M; DrawHash4): 32-bit lane 2l the low half of pair s + l's hash, lane 2l + 1 its high half, each v taken to
     // ⌊v·m / 2^32⌋ with its lane's m (one vpmuludq for the even lanes, one for the odd ones, a blend).
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector256<uint> Draw8(ulong positionKey, Vector256<ulong> product, Vector256<uint> m)
     {
-        Vector256<ulong> h = SampleHash.Combine4Premultiplied(positionKey, product);
+        Vector256<ulong> h = DrawHash4(positionKey, product);
         Vector256<ulong> even = Avx2.Multiply(h.AsUInt32(), m) >>> 32;
         Vector256<ulong> odd = Avx2.Multiply((h >>> 32).AsUInt32(), (m.AsUInt64() >>> 32).AsUInt32());
         return Avx2.Blend(even.AsUInt32(), odd.AsUInt32(), 0b10101010);
     }
 
-    // Sixteen draws from the eight hashes of pairs s … s + 7 (product: their numbers times Combine's multiplier), in draw
+    // Sixteen draws from the eight hashes of pairs s … s + 7 (product: their numbers times M; DrawHash8), in draw
     // order: Draw8's arithmetic on 512-bit lanes with 64-bit products, low the m of the even draws, high of the odd ones.
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector512<uint> Draw16(ulong positionKey, Vector512<ulong> product, Vector512<ulong> low, Vector512<ulong> high)
     {
-        Vector512<ulong> h = SampleHash.Combine8Premultiplied(positionKey, product);
+        Vector512<ulong> h = DrawHash8(positionKey, product);
         Vector512<ulong> even = ((h & Vector512.Create(0xFFFFFFFFUL)) * low) >>> 32;
         Vector512<ulong> odd = ((h >>> 32) * high) & Vector512.Create(0xFFFFFFFF00000000UL);
         return (even | odd).AsUInt32();

@@ -292,6 +292,64 @@ public static class RadicalInverse
         PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes ? LargeBaseImages.ConflictLanes : LargeBaseImages.Scan);
 
     /// <summary>
+    /// <see cref="PermutedBatch"/> of two bases (a pair of dimensions, each with its own key) over the same indices, bit
+    /// for bit: a one-digit short run in two bases above <see cref="FullTableBase"/> (what the renderer's cache asks of
+    /// the deep dimensions) in one call (<see cref="ShortRunPair"/>), everything else as two <see cref="PermutedBatch"/> calls.
+    /// </summary>
+    public static void PermutedPairBatch(uint firstIndex, int b0, int b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length && ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys))
+        {
+            return;
+        }
+
+        PermutedBatch(firstIndex, b0, key0, xs);
+        PermutedBatch(firstIndex, b1, key1, ys);
+    }
+
+    /// <summary>
+    /// <see cref="ShortRun"/>'s form for two large bases on AVX2 (<see cref="ScanLanes"/>) for both dimensions of a pair in
+    /// one method: one call, one prologue and one vzeroupper, and the second dimension's hashes free to start while the
+    /// first one's comparisons run. False (nothing written) when the run is not of that kind.
+    /// </summary>
+    [SkipLocalsInit] // every image read is written first
+    [MethodImpl(InliningOptions.Kernel)] // its own frame (see ImageStorage)
+    private static bool ShortRunPair(uint first, uint b0, uint b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+        if (last < first || last >= DrawnDigits || b0 <= FullTableBase || b1 <= FullTableBase || ConflictLanes
+            || Generators.Lanes.Best != Generators.LaneWidth.Narrow || !Avx2.IsSupported)
+        {
+            return false;
+        }
+
+        double invBase0 = 1.0 / b0, invBase1 = 1.0 / b1;
+        ulong u0 = ZeroDigits(key0), u1 = ZeroDigits(key1);
+        double belowZero0 = Fraction(u0), belowZero1 = Fraction(u1);
+        uint zero0 = (uint)Math.BigMul(u0, b0, out u0), zero1 = (uint)Math.BigMul(u1, b1, out u1);
+        double belowOne0 = Fraction(u0) * invBase0, belowOne1 = Fraction(u1) * invBase1;
+        ulong positionKey0 = SampleHash.Combine(key0, 0), positionKey1 = SampleHash.Combine(key1, 0);
+        Unsafe.SkipInit(out ImageStorage storage0);
+        Unsafe.SkipInit(out ImageStorage storage1);
+        Span<uint> images0 = storage0, images1 = storage1;
+        uint count0 = FirstDraws(b0, positionKey0, zero0, images0);
+        uint count1 = FirstDraws(b1, positionKey1, zero1, images1);
+        if (count0 <= last)
+        {
+            LaterRounds(b0, positionKey0, last, images0, count0, Generators.LaneWidth.Narrow);
+        }
+
+        if (count1 <= last)
+        {
+            LaterRounds(b1, positionKey1, last, images1, count1, Generators.LaneWidth.Narrow);
+        }
+
+        OneDigitQuads(first, images0, invBase0, belowZero0, belowOne0, xs);
+        OneDigitQuads(first, images1, invBase1, belowZero1, belowOne1, ys);
+        return true;
+    }
+
+    /// <summary>
     /// Whether this machine draws a large base's images sixteen at a time with conflict detection (AVX-512 CD; see
     /// <see cref="ShortRun"/>); without it those runs take <see cref="LargeBaseImages.Scan"/>, the same bits.
     /// </summary>

@@ -220,7 +220,8 @@ public static class RadicalInverse
     /// drawn digits left, in increasing order (σ_k's single images are uniform, but pairs of neighbouring digits are
     /// not: measured 3–6 % from uniform in total variation for lengths near 51–111, so those digits are only
     /// approximately a uniformly random permutation; the previous construction hashed every digit this way). Draw n of
-    /// position k (<see cref="DigitMap.DrawOne"/>) is the 32-bit half v of the 64-bit hash h = Combine(Combine(key, k), ⌊n / 2⌋),
+    /// position k (<see cref="DigitMap.DrawOne"/>) is the 32-bit half v of the 64-bit hash h = <see cref="DrawHash"/>(Combine(key, k), ⌊n / 2⌋)
+    /// (one multiply: a bijection of the position key ⊕ ⌊n / 2⌋·M, so each half is exactly uniform for a uniform key),
     /// the low half for even n and the high half for odd n, taken into a range of m values by ⌊v·m / 2^32⌋ (Lemire 2019,
     /// "Fast Random Integer Generation in an Interval", ACM TOMACS 29(1): the multiply-shift without its rejection step;
     /// integer arithmetic, the same in every lane form): of the 2^32 values of v, each result takes ⌊2^32 / m⌋ or
@@ -289,6 +290,64 @@ public static class RadicalInverse
     /// </summary>
     public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs) =>
         PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes ? LargeBaseImages.ConflictLanes : LargeBaseImages.Scan);
+
+    /// <summary>
+    /// <see cref="PermutedBatch"/> of two bases (a pair of dimensions, each with its own key) over the same indices, bit
+    /// for bit: a one-digit short run in two bases above <see cref="FullTableBase"/> (what the renderer's cache asks of
+    /// the deep dimensions) in one call (<see cref="ShortRunPair"/>), everything else as two <see cref="PermutedBatch"/> calls.
+    /// </summary>
+    public static void PermutedPairBatch(uint firstIndex, int b0, int b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length && ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys))
+        {
+            return;
+        }
+
+        PermutedBatch(firstIndex, b0, key0, xs);
+        PermutedBatch(firstIndex, b1, key1, ys);
+    }
+
+    /// <summary>
+    /// <see cref="ShortRun"/>'s form for two large bases on AVX2 (<see cref="ScanLanes"/>) for both dimensions of a pair in
+    /// one method: one call, one prologue and one vzeroupper, and the second dimension's hashes free to start while the
+    /// first one's comparisons run. False (nothing written) when the run is not of that kind.
+    /// </summary>
+    [SkipLocalsInit] // every image read is written first
+    [MethodImpl(InliningOptions.Kernel)] // its own frame (see ImageStorage)
+    private static bool ShortRunPair(uint first, uint b0, uint b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+        if (last < first || last >= DrawnDigits || b0 <= FullTableBase || b1 <= FullTableBase || ConflictLanes
+            || Generators.Lanes.Best != Generators.LaneWidth.Narrow || !Avx2.IsSupported)
+        {
+            return false;
+        }
+
+        double invBase0 = 1.0 / b0, invBase1 = 1.0 / b1;
+        ulong u0 = ZeroDigits(key0), u1 = ZeroDigits(key1);
+        double belowZero0 = Fraction(u0), belowZero1 = Fraction(u1);
+        uint zero0 = (uint)Math.BigMul(u0, b0, out u0), zero1 = (uint)Math.BigMul(u1, b1, out u1);
+        double belowOne0 = Fraction(u0) * invBase0, belowOne1 = Fraction(u1) * invBase1;
+        ulong positionKey0 = SampleHash.Combine(key0, 0), positionKey1 = SampleHash.Combine(key1, 0);
+        Unsafe.SkipInit(out ImageStorage storage0);
+        Unsafe.SkipInit(out ImageStorage storage1);
+        Span<uint> images0 = storage0, images1 = storage1;
+        uint count0 = FirstDraws(b0, positionKey0, zero0, images0);
+        uint count1 = FirstDraws(b1, positionKey1, zero1, images1);
+        if (count0 <= last)
+        {
+            LaterRounds(b0, positionKey0, last, images0, count0, Generators.LaneWidth.Narrow);
+        }
+
+        if (count1 <= last)
+        {
+            LaterRounds(b1, positionKey1, last, images1, count1, Generators.LaneWidth.Narrow);
+        }
+
+        OneDigitQuads(first, images0, invBase0, belowZero0, belowOne0, xs);
+        OneDigitQuads(first, images1, invBase1, belowZero1, belowOne1, ys);
+        return true;
+    }
 
     /// <summary>
     /// Whether this machine draws a large base's images sixteen at a time with conflict detection (AVX-512 CD; see
@@ -474,23 +533,25 @@ public static class RadicalInverse
     [MethodImpl(InliningOptions.ShortMethod)] // into ShortRun: one method, one vzeroupper, for a large base's short run
     private static void OneDigitQuads(uint first, ReadOnlySpan<uint> images, double invBase, double below0, double below1, Span<double> xs)
     {
-        Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1);
+        // The clamp as Lanes.Clamp's (vminpd against the largest double below 1: x where x < 1); the loop without bounds
+        // checks (first + xs.Length ≤ 16 places of images, checked by the caller) and its constants outside it.
+        Vector256<double> scale = Vector256.Create(invBase), below = Vector256.Create(below1), top = Vector256.Create(UnitInterval.BelowOne);
         ref uint image = ref Unsafe.Add(ref MemoryMarshal.GetReference(images), (int)first);
-        int i = 0;
-        for (; i + 4 <= xs.Length; i += 4)
+        ref double x = ref MemoryMarshal.GetReference(xs);
+        int n = xs.Length, i = 0;
+        for (; i <= n - 4; i += 4)
         {
-            Vector256<double> x = (Avx.ConvertToVector256Double(Vector128.LoadUnsafe(ref image, (nuint)i).AsInt32()) * scale) + below;
-            Vector256.ConditionalSelect(Vector256.LessThan(x, Vector256<double>.One), x, Vector256.Create(UnitInterval.BelowOne)).CopyTo(xs[i..]);
+            Avx.Min((Avx.ConvertToVector256Double(Vector128.LoadUnsafe(ref image, (nuint)i).AsInt32()) * scale) + below, top).StoreUnsafe(ref x, (nuint)i);
         }
 
-        for (; i < xs.Length; i++)
+        for (; i < n; i++)
         {
-            xs[i] = UnitInterval.Clamp((Unsafe.Add(ref image, i) * invBase) + below1);
+            Unsafe.Add(ref x, i) = UnitInterval.Clamp((Unsafe.Add(ref image, i) * invBase) + below1);
         }
 
         if (first == 0)
         {
-            xs[0] = UnitInterval.Clamp(below0);
+            x = UnitInterval.Clamp(below0);
         }
     }
 
@@ -648,7 +709,7 @@ public static class RadicalInverse
         {
             // Lane l ≥ count takes draw next + l − count: the sixteen draws of pairs ⌊next / 2⌋ … + 7 (draws from
             // 2·⌊next / 2⌋) moved up by count − (next mod 2) lanes (index l − count + (next mod 2) ≤ 15, as count ≥ 1).
-            // Combine's value·M for pair s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
+            // DrawHash's pair·M for pair s + l is s·M + l·M modulo 2^64: one scalar multiply, the lanes' products constant.
             Vector512<ulong> n = Vector512.Create(unchecked((next >> 1) * SampleHash.ValueMultiplier));
             Vector512<uint> w = Draw16(positionKey, n + LaneProductsLow, m, m);
             w = Avx512F.PermuteVar16x32(w, lanes - Vector512.Create(count - (uint)(next & 1)));
@@ -747,26 +808,32 @@ public static class RadicalInverse
         d2.StoreUnsafe(ref MemoryMarshal.GetReference(draws), 16);
         Vector256<uint> z = Vector256.Create(zero);
         Vector256<uint> taken0 = Vector256.Equals(d0, z), taken1 = Vector256.Equals(d1, z), taken2 = Vector256.Equals(d2, z);
+        // Written out (constant places and masks: no loop counters or index arithmetic).
+        ref uint draw = ref MemoryMarshal.GetReference(draws);
         ref uint later = ref MemoryMarshal.GetReference(LaterLanes);
-        for (int j = 0; j < 8; j++)
-        {
-            Vector256<uint> w = Vector256.Create(draws[j]);
-            taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
-            taken1 |= Vector256.Equals(d1, w);
-            taken2 |= Vector256.Equals(d2, w);
-        }
-
-        for (int j = 8; j < 16; j++)
-        {
-            Vector256<uint> w = Vector256.Create(draws[j]);
-            taken1 |= Vector256.Equals(d1, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 8)));
-            taken2 |= Vector256.Equals(d2, w);
-        }
-
-        for (int j = 16; j < FirstDrawCount - 1; j++)
-        {
-            taken2 |= Vector256.Equals(d2, Vector256.Create(draws[j])) & Vector256.LoadUnsafe(ref later, (nuint)(8 * (j - 16)));
-        }
+        FirstThird(ref draw, ref later, 0, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 1, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 2, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 3, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 4, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 5, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 6, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        FirstThird(ref draw, ref later, 7, d0, d1, d2, ref taken0, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 0, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 1, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 2, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 3, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 4, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 5, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 6, d1, d2, ref taken1, ref taken2);
+        SecondThird(ref draw, ref later, 7, d1, d2, ref taken1, ref taken2);
+        LastThird(ref draw, ref later, 0, d2, ref taken2);
+        LastThird(ref draw, ref later, 1, d2, ref taken2);
+        LastThird(ref draw, ref later, 2, d2, ref taken2);
+        LastThird(ref draw, ref later, 3, d2, ref taken2);
+        LastThird(ref draw, ref later, 4, d2, ref taken2);
+        LastThird(ref draw, ref later, 5, d2, ref taken2);
+        LastThird(ref draw, ref later, 6, d2, ref taken2);
 
         uint fresh0 = ~Vector256.ExtractMostSignificantBits(taken0) & 0xFF, fresh1 = ~Vector256.ExtractMostSignificantBits(taken1) & 0xFF;
         uint fresh2 = ~Vector256.ExtractMostSignificantBits(taken2) & 0xFF;
@@ -780,6 +847,30 @@ public static class RadicalInverse
         Avx2.PermuteVar8x32(d2, LeftPackIndices(fresh2)).StoreUnsafe(ref image, count);
         return count + (uint)BitOperations.PopCount(fresh2);
     }
+
+    // FirstDraws' comparisons of draw j (< 8) with the lanes after it in the first third and all lanes of the other two.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void FirstThird(ref uint draw, ref uint later, int j, Vector256<uint> d0, Vector256<uint> d1, Vector256<uint> d2, ref Vector256<uint> taken0, ref Vector256<uint> taken1, ref Vector256<uint> taken2)
+    {
+        Vector256<uint> w = Vector256.Create(Unsafe.Add(ref draw, j));
+        taken0 |= Vector256.Equals(d0, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+        taken1 |= Vector256.Equals(d1, w);
+        taken2 |= Vector256.Equals(d2, w);
+    }
+
+    // Draw 8 + j against the lanes after it in the second third and all of the last.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void SecondThird(ref uint draw, ref uint later, int j, Vector256<uint> d1, Vector256<uint> d2, ref Vector256<uint> taken1, ref Vector256<uint> taken2)
+    {
+        Vector256<uint> w = Vector256.Create(Unsafe.Add(ref draw, 8 + j));
+        taken1 |= Vector256.Equals(d1, w) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
+        taken2 |= Vector256.Equals(d2, w);
+    }
+
+    // Draw 16 + j against the lanes after it in the last third.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void LastThird(ref uint draw, ref uint later, int j, Vector256<uint> d2, ref Vector256<uint> taken2) =>
+        taken2 |= Vector256.Equals(d2, Vector256.Create(Unsafe.Add(ref draw, 16 + j))) & Vector256.LoadUnsafe(ref later, (nuint)(8 * j));
 
     // Draws FirstDraws makes at once (three groups of eight), and where in the images' storage it keeps them.
     private const int FirstDrawCount = 24;
@@ -1229,8 +1320,8 @@ public static class RadicalInverse
             }
             else if (width == Generators.LaneWidth.Narrow && Avx2.IsSupported)
             {
-                // Four hashes on 256-bit lanes (AVX2, SampleHash.Combine4), their eight halves' draws by Draw8. Combine's
-                // value·M for pair s + l is s·M + l·M modulo 2^64 (as in ConflictImages). On the table, m = b − 1 − n per
+                // Four hashes on 256-bit lanes (AVX2, DrawHash4), their eight halves' draws by Draw8. DrawHash's
+                // pair·M for pair s + l is s·M + l·M modulo 2^64 (as in ConflictImages). On the table, m = b − 1 − n per
                 // 32-bit lane while n < b − 1 (then n and m are below 2^31: signed 32-bit arithmetic), else 1.
                 Vector256<uint> m = Vector256.Create(b);
                 Vector256<ulong> product = Vector256.Create(unchecked(((first + (ulong)k) >> 1) * SampleHash.ValueMultiplier)) + DrawLaneProducts;
@@ -1260,32 +1351,73 @@ public static class RadicalInverse
 
         /// <summary>
         /// Draw number <paramref name="n"/> of a position, uniform on 0 … m − 1 up to a bias below 2^−32 a value: the
-        /// 32-bit half v of h = Combine(position key, ⌊n / 2⌋) (the low half for even n, the high half for odd n) taken
-        /// to ⌊v·m / 2^32⌋, Lemire's (2019) multiply-shift without its rejection step.
+        /// 32-bit half v of h = <see cref="DrawHash"/>(position key, ⌊n / 2⌋) (the low half for even n, the high half for
+        /// odd n) taken to ⌊v·m / 2^32⌋, Lemire's (2019) multiply-shift without its rejection step.
         /// </summary>
         [MethodImpl(InliningOptions.ShortMethod)]
         public static uint DrawOne(ulong positionKey, ulong n, uint m) =>
-            (uint)(((ulong)(uint)(SampleHash.Combine(positionKey, n >> 1) >> (int)(32 * (n & 1))) * m) >> 32);
+            (uint)(((ulong)(uint)(DrawHash(positionKey, n >> 1) >> (int)(32 * (n & 1))) * m) >> 32);
+    }
+
+    /// <summary>
+    /// The hash of a digit position's draw pair <paramref name="pair"/> (its two 32-bit halves are draws 2·pair and
+    /// 2·pair + 1): x = key ⊕ pair·M (M = <see cref="SampleHash.ValueMultiplier"/>, as <see cref="SampleHash.Combine"/>
+    /// keys its value), then x ⊕= x ≫ 32, x ·= <see cref="DrawMultiplier"/> (mod 2^64), x ⊕= x ≫ 32: one multiply where
+    /// SplitMix64's finaliser has two (on AVX2 each 64-bit product is six instructions). Each step is a bijection of
+    /// 64-bit words, so for a uniformly random position key (itself a SplitMix64 hash of the pixel's key, dimension and
+    /// position) every draw's hash is uniform on 2^64 and its halves exactly uniform on 2^32: each draw is still within
+    /// 2^−32 of uniform on 0 … m − 1 (Lemire's bound), and the key stays 64 bits wide (two positions share their draws
+    /// only where their 64-bit keys are equal). What one multiply gives up is mixing between the draws of one position
+    /// (pairs whose x differ by a fixed xor); the tests check the images' pairs within and across hashes
+    /// (<c>Digit_images_and_pairs_are_uniform_against_scipy_critical_values</c>).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    internal static ulong DrawHash(ulong positionKey, ulong pair)
+    {
+        ulong x = positionKey ^ (pair * SampleHash.ValueMultiplier);
+        x = (x ^ (x >> 32)) * DrawMultiplier;
+        return x ^ (x >> 32);
+    }
+
+    /// <summary>The odd multiplier of <see cref="DrawHash"/>: SplitMix64's first finaliser multiplier (Steele, Lea &amp; Flood 2014).</summary>
+    internal const ulong DrawMultiplier = 0xBF58476D1CE4E5B9UL;
+
+    // DrawHash per 64-bit lane on AVX2, given each lane's pair times M (the 64-bit product by SampleHash.MultiplyLow4).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<ulong> DrawHash4(ulong positionKey, Vector256<ulong> product)
+    {
+        Vector256<ulong> x = Vector256.Create(positionKey) ^ product;
+        x = SampleHash.MultiplyLow4(x ^ (x >>> 32), DrawMultiplier);
+        return x ^ (x >>> 32);
+    }
+
+    // DrawHash per 64-bit lane on 512-bit lanes, given each lane's pair times M.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector512<ulong> DrawHash8(ulong positionKey, Vector512<ulong> product)
+    {
+        Vector512<ulong> x = Vector512.Create(positionKey) ^ product;
+        x = (x ^ (x >>> 32)) * Vector512.Create(DrawMultiplier);
+        return x ^ (x >>> 32);
     }
 
     // Eight draws of DigitMap.FillForm's AVX2 form from the four hashes of pairs s … s + 3 (product: their numbers times
-    // Combine's multiplier): 32-bit lane 2l the low half of pair s + l's hash, lane 2l + 1 its high half, each v taken to
+    // M; DrawHash4): 32-bit lane 2l the low half of pair s + l's hash, lane 2l + 1 its high half, each v taken to
     // ⌊v·m / 2^32⌋ with its lane's m (one vpmuludq for the even lanes, one for the odd ones, a blend).
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector256<uint> Draw8(ulong positionKey, Vector256<ulong> product, Vector256<uint> m)
     {
-        Vector256<ulong> h = SampleHash.Combine4Premultiplied(positionKey, product);
+        Vector256<ulong> h = DrawHash4(positionKey, product);
         Vector256<ulong> even = Avx2.Multiply(h.AsUInt32(), m) >>> 32;
         Vector256<ulong> odd = Avx2.Multiply((h >>> 32).AsUInt32(), (m.AsUInt64() >>> 32).AsUInt32());
         return Avx2.Blend(even.AsUInt32(), odd.AsUInt32(), 0b10101010);
     }
 
-    // Sixteen draws from the eight hashes of pairs s … s + 7 (product: their numbers times Combine's multiplier), in draw
+    // Sixteen draws from the eight hashes of pairs s … s + 7 (product: their numbers times M; DrawHash8), in draw
     // order: Draw8's arithmetic on 512-bit lanes with 64-bit products, low the m of the even draws, high of the odd ones.
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector512<uint> Draw16(ulong positionKey, Vector512<ulong> product, Vector512<ulong> low, Vector512<ulong> high)
     {
-        Vector512<ulong> h = SampleHash.Combine8Premultiplied(positionKey, product);
+        Vector512<ulong> h = DrawHash8(positionKey, product);
         Vector512<ulong> even = ((h & Vector512.Create(0xFFFFFFFFUL)) * low) >>> 32;
         Vector512<ulong> odd = ((h >>> 32) * high) & Vector512.Create(0xFFFFFFFF00000000UL);
         return (even | odd).AsUInt32();

@@ -252,10 +252,16 @@ public sealed class PermutedRadicalInverseTests
     /// its stratum of 1/b is π0(i)): over 60,000 fixed pixel keys per base, the image of each of the digits 0, 1, 2, 7, 15
     /// is uniform on 0 … b − 1, and the ordered pairs (π0(0), π0(1)) and (π0(1), π0(2)) (digits 1 and 2 draw from the
     /// two halves of one hash on the Fisher–Yates table) are uniform over the b·(b − 1) ordered pairs of distinct values.
-    /// Bases on the Fisher–Yates table (17, 61) and above it (67, 131; pairs only where the expected count of a cell is
-    /// at least 5, common practice for Pearson's (1900) χ²). Critical values from scipy.stats.chi2.ppf (Debian's
-    /// python3-scipy, run live) at level 1e-6 per statistic; with 26 statistics the false-failure rate of these fixed keys,
-    /// were they redrawn, is at most 2.6e-5 (Bonferroni). Deterministic: fixed keys.
+    /// The draws' hash has one multiply (<see cref="RadicalInverse.DrawHash"/>; each draw exactly uniform for a uniform key,
+    /// but consecutive pairs' hashes are its inputs at a fixed xor apart), so two pairs of digits whose draws come from
+    /// different hashes are checked too: (π0(1), π0(3)) (the low halves of pairs 0 and 1 above the table; draws 0 and 2 on
+    /// it) and (π0(2), π0(3)) (the high half of pair 0 and the low half of pair 1). Bases on the Fisher–Yates table (17,
+    /// 61) and above it (67, 131; pairs only where the expected count of a cell is at least 5, common practice for
+    /// Pearson's (1900) χ²). Critical values from scipy.stats.chi2.ppf (Debian's python3-scipy, run live) at level 1e-6 per
+    /// statistic; with 32 statistics the false-failure rate of these fixed keys, were they redrawn, is at most 3.2e-5
+    /// (Bonferroni). Deterministic: fixed keys. Checked that it fails on a broken hash whose pairs differ by a fixed xor
+    /// (the key mixed alone, the pair's product xored in after: every single draw still uniform): (π0(1), π0(3)) gave
+    /// χ² = 1,634,148 on 4421 dof for b = 67 (critical 4882.5), 444,045 on 271 dof for b = 17 (critical 396.4).
     /// </summary>
     [Fact]
     public void Digit_images_and_pairs_are_uniform_against_scipy_critical_values()
@@ -272,6 +278,8 @@ public sealed class PermutedRadicalInverseTests
             bool pairs = Keys / (double)(b * (b - 1)) >= 5;
             var pair01 = new long[b * b];
             var pair12 = new long[b * b];
+            var pair13 = new long[b * b];
+            var pair23 = new long[b * b];
             for (int k = 0; k < Keys; k++)
             {
                 RadicalInverse.PermutedBatch(0, b, SampleHash.PixelKey(k % 300, k / 300, 0x5EED0000UL + (ulong)b), xs);
@@ -289,6 +297,8 @@ public sealed class PermutedRadicalInverseTests
                 Assert.True(image[0] != image[1] && image[1] != image[2] && image[0] != image[2], $"b={b} key {k}: a repeated image");
                 pair01[image[0] * b + image[1]]++;
                 pair12[image[1] * b + image[2]]++;
+                pair13[image[1] * b + image[3]]++;
+                pair23[image[2] * b + image[3]]++;
             }
 
             double expected = Keys / (double)b;
@@ -307,17 +317,18 @@ public sealed class PermutedRadicalInverseTests
             {
                 statistics.Add(($"b={b} (π0(0), π0(1))", PairChi2(pair01, b, Keys), (b * (b - 1)) - 1));
                 statistics.Add(($"b={b} (π0(1), π0(2))", PairChi2(pair12, b, Keys), (b * (b - 1)) - 1));
+                statistics.Add(($"b={b} (π0(1), π0(3))", PairChi2(pair13, b, Keys), (b * (b - 1)) - 1));
+                statistics.Add(($"b={b} (π0(2), π0(3))", PairChi2(pair23, b, Keys), (b * (b - 1)) - 1));
             }
         }
 
-        Assert.Equal(26, statistics.Count);
+        Assert.Equal(32, statistics.Count);
         string script = $"from scipy.stats import chi2\nprint(' '.join(repr(float(chi2.ppf(1 - {Level:R}, d))) for d in [{string.Join(", ", statistics.Select(t => t.Dof))}]))";
         double[] critical = ReferenceTools.ParseNumbers(ReferenceTools.RunPython(script));
         Assert.Equal(statistics.Count, critical.Length);
-        for (int i = 0; i < statistics.Count; i++)
-        {
-            Assert.True(statistics[i].Chi2 < critical[i], $"{statistics[i].What}: χ² = {statistics[i].Chi2:F1} on {statistics[i].Dof} dof, critical {critical[i]:F1} at {Level}");
-        }
+        string[] failures = statistics.Select((t, i) => (t, i)).Where(x => !(x.t.Chi2 < critical[x.i]))
+            .Select(x => $"{x.t.What}: χ² = {x.t.Chi2:F1} on {x.t.Dof} dof, critical {critical[x.i]:F1} at {Level}").ToArray();
+        Assert.True(failures.Length == 0, string.Join("; ", failures));
     }
 
     // Pearson's χ² of ordered pairs of distinct values against the uniform law on the b·(b − 1) of them (a pair of equal

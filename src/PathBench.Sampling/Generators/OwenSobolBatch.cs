@@ -110,11 +110,15 @@ internal static class OwenSobolBatch
         {
             // Key 0 (seed 0, first index 0) with its true indices: no entry ever holds values that are not its key's.
             memo.Groups[k].Key = 0;
-            memo.Groups[k].R = LaineKarras(Reverse(Lane), Vector256<uint>.Zero);
+            memo.Groups[k].R = Vector256.Create(
+                Idx(0), Idx(1), Idx(2), Idx(3), Idx(4), Idx(5), Idx(6), Idx(7));
         }
 
         t_memo = memo;
         return memo;
+
+        // Scalar (no AVX2 needed: the memo is fetched before the caller's AVX2 check).
+        static uint Idx(uint k) => PathBench.Sampling.Sequences.OwenScrambler.LaineKarrasPermutation(PathBench.Sampling.Sequences.BitReversal.Reverse(k), 0);
     }
 
     /// <summary>

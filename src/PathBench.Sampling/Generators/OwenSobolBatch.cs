@@ -3,6 +3,8 @@ using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
 using System.Runtime.Intrinsics.X86;
 
+using PathBench.Sampling.Sequences;
+
 namespace PathBench.Sampling.Generators;
 
 /// <summary>
@@ -118,7 +120,7 @@ internal static class OwenSobolBatch
         return memo;
 
         // Scalar (no AVX2 needed: the memo is fetched before the caller's AVX2 check).
-        static uint Idx(uint k) => PathBench.Sampling.Sequences.OwenScrambler.LaineKarrasPermutation(PathBench.Sampling.Sequences.BitReversal.Reverse(k), 0);
+        static uint Idx(uint k) => OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(k), 0);
     }
 
     /// <summary>

@@ -1366,10 +1366,12 @@ public static class RadicalInverse
     /// SplitMix64's finaliser has two (on AVX2 each 64-bit product is six instructions). Each step is a bijection of
     /// 64-bit words, so for a uniformly random position key (itself a SplitMix64 hash of the pixel's key, dimension and
     /// position) every draw's hash is uniform on 2^64 and its halves exactly uniform on 2^32: each draw is still within
-    /// 2^−32 of uniform on 0 … m − 1 (Lemire's bound), and the key stays 64 bits wide (two positions share their draws
-    /// only where their 64-bit keys are equal). What one multiply gives up is mixing between the draws of one position
+    /// 2^−32 of uniform on 0 … m − 1 (Lemire's bound), and the key stays 64 bits wide: two positions' keys k1, k2 give
+    /// the same hash for pairs p1, p2 only where k1 ⊕ k2 = p1·M ⊕ p2·M, for hashed keys about 2^−64 a pair of draws, as
+    /// with <see cref="SampleHash.Combine"/>. What one multiply gives up is mixing between the draws of one position
     /// (pairs whose x differ by a fixed xor); the tests check the images' pairs within and across hashes
-    /// (<c>Digit_images_and_pairs_are_uniform_against_scipy_critical_values</c>).
+    /// (<c>Digit_images_and_pairs_are_uniform_against_scipy_critical_values</c>) and the whole permutation of small bases
+    /// (<c>Whole_digit_permutations_of_small_bases_are_uniform_against_scipy_critical_values</c>).
     /// </summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     internal static ulong DrawHash(ulong positionKey, ulong pair)

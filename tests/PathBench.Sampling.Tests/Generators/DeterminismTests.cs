@@ -140,7 +140,7 @@ public sealed class BatchTests
     /// <summary>
     /// Sobol/owen's batches keep a thread's scrambled indices of its last groups and reuse them when the index seed and the
     /// group's first index match: calls that alternate between pixels, first indices and dimensions (hits and misses in
-    /// turn, runs of one and two groups and a part-group), on two threads sharing the sampler as the renderer's do, each
+    /// turn, runs of one and two groups and a part-group), on two threads of their own sharing the sampler as the renderer's do, each
     /// equal to the one-point method (Sample2D, which keeps nothing).
     /// </summary>
     [Fact]
@@ -148,7 +148,32 @@ public sealed class BatchTests
     {
         PointSampler s = SamplerCatalog.Create(new SamplerSpec("sobol", Randomization.Owen, false, 64, 5), 40);
         (int Px, uint First, int Count)[] runs = [(0, 0u, 16), (1, 0u, 16), (0, 0u, 16), (0, 8u, 8), (0, 3u, 13), (1, 3u, 5), (0, 0u, 16), (2, 16u, 16)];
-        Parallel.For(0, 2, thread =>
+        // Two threads of their own (Parallel.For may run both iterations on one), each with its own memo.
+        var failures = new System.Collections.Concurrent.ConcurrentQueue<Exception>();
+        Thread[] threads = [.. Enumerable.Range(0, 2).Select(thread => new Thread(() =>
+        {
+            try
+            {
+                Calls(thread);
+            }
+            catch (Exception e)
+            {
+                failures.Enqueue(e);
+            }
+        }))];
+        foreach (Thread t in threads)
+        {
+            t.Start();
+        }
+
+        foreach (Thread t in threads)
+        {
+            t.Join();
+        }
+
+        Assert.Empty(failures);
+
+        void Calls(int thread)
         {
             var xs = new double[16];
             var ys = new double[16];
@@ -166,7 +191,7 @@ public sealed class BatchTests
                     }
                 }
             }
-        });
+        }
     }
 
     /// <summary>

@@ -153,7 +153,7 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
     /// <summary>Interleaved lanes (<see cref="Interleaved"/>) in point order and back: the 64-bit lanes 0, 2, 1, 3 (its own inverse).</summary>
     [MethodImpl(InliningOptions.ShortMethod)]
     private static Vector256<uint> PointOrder(Vector256<uint> v) =>
-        Avx2.IsSupported ? Avx2.Permute4x64(v.AsUInt64(), 0b11_01_10_00).AsUInt32() : Vector256.Shuffle(v, Vector256.Create(0u, 1u, 4u, 5u, 2u, 3u, 6u, 7u));
+        Avx2.IsSupported ? Avx2.Permute4x64(v.AsUInt64(), 0b11_01_10_00).AsUInt32() : Vector256.Shuffle(v, Lanes.Offsets(true));
 
     // Lanes 0–3 to Low and 4–7 to High as doubles, whatever points they hold (DivRem converts there and back in place).
     [MethodImpl(InliningOptions.ShortMethod)]

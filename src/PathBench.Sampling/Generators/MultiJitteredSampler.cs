@@ -64,7 +64,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         uint row = s / (uint)_grid.Columns;
         uint sx = KenslerPermutation.Permute(column, (uint)_grid.Columns, p * 0x68bc21ebu);
         uint sy = KenslerPermutation.Permute(row, (uint)_grid.Rows, p * 0x02e5be93u);
-        (ulong xStream, ulong yStream) = Streams(pixel, pair);
+        (ulong xStream, ulong yStream) = JitterHash.PixelPairStreams(pixel, pair);
         return Point(xStream, yStream, index, s, sx, sy);
     }
 
@@ -85,27 +85,22 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // The column and row shuffles of grids up to 8 × 8, whole, once per batch: permutations of the lanes 0 … m − 1
             // and 0 … n − 1 (padded with their last), looked up per point by lane permutes; larger grids permute per point.
             bool tabled = m <= 8 && n <= 8 && Avx2.IsSupported;
-            if (Width == LaneWidth.Wide)
+            (ulong X, ulong Y) streams = JitterHash.PixelPairStreams(pixel, pair);
+            if (Width == LaneWidth.Wide && _wholeCells)
             {
-                if (_wholeCells)
-                {
-                    WideBatch<WholeCells>(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
-                }
-                else
-                {
-                    WideBatch<SplitCells>(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
-                }
+                WideBatch<WholeCells>(streams, firstIndex, p, tabled, xs, ys);
+            }
+            else if (Width == LaneWidth.Wide)
+            {
+                WideBatch<SplitCells>(streams, firstIndex, p, tabled, xs, ys);
+            }
+            else if (_wholeCells)
+            {
+                NarrowBatch<WholeCells>(streams, firstIndex, p, tabled, xs, ys);
             }
             else
             {
-                if (_wholeCells)
-                {
-                    NarrowBatch<WholeCells>(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
-                }
-                else
-                {
-                    NarrowBatch<SplitCells>(Streams(pixel, pair), firstIndex, p, tabled, xs, ys);
-                }
+                NarrowBatch<SplitCells>(streams, firstIndex, p, tabled, xs, ys);
             }
 
             return;
@@ -132,7 +127,7 @@ public sealed class MultiJitteredSampler : PairedPointSampler
         Span<uint> rowShuffle = stackalloc uint[(int)n];
         columnShuffle.Fill(uint.MaxValue);
         rowShuffle.Fill(uint.MaxValue);
-        (ulong xStream, ulong yStream) = Streams(pixel, pair);
+        (ulong xStream, ulong yStream) = JitterHash.PixelPairStreams(pixel, pair);
         for (int i = 0; i < xs.Length; i++)
         {
             uint s = KenslerPermutation.Permute(firstIndex + (uint)i, (uint)Count, p * 0x51633e2du);
@@ -261,10 +256,6 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     }
 
     private static uint PairSeed(ulong pixel, int pair) => SampleHash.Combine32(pixel ^ Salts.StratumShuffle, (ulong)pair);
-
-    // The jitter streams of the pair's x and y dimensions (2·pair and 2·pair + 1), once per batch: one SplitMix64 round.
-    private static (ulong X, ulong Y) Streams(ulong pixel, int pair) =>
-        JitterHash.PixelPairStreams(pixel, pair);
 
     // The point with this index in stratum s (its column and row) at sub-strata sx, sy, jittered by the index in the two streams.
     private (double X, double Y) Point(ulong xStream, ulong yStream, uint index, uint s, uint sx, uint sy)

@@ -45,6 +45,10 @@ public static class CliApp
             // Every invocation sets its budget (the default when the option is absent), so an
             // earlier in-process run never leaks its budget into the next.
             MemoryBudget.Current = MaxMemory(parse.GetValue(MaxMemoryOption));
+            if (SamplerLanes.CheckVariable() is { } lanes)
+            {
+                throw new CliUsageException(lanes);
+            }
 
             // Plug-ins are seen by this invocation only (the catalog's scope ends with it), and only
             // when named: nothing is loaded from a folder or a setting behind the user's back.

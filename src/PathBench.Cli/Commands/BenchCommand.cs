@@ -1,6 +1,7 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Text.Json;
+using PathBench.Sampling.Generators;
 using PathBench.Rendering.Benchmarking;
 
 namespace PathBench.Cli.Commands;
@@ -115,6 +116,7 @@ internal static class BenchCommand
         w.WriteStartObject();
         w.WriteString("version", RenderCommand.Version);
         w.WriteNumber("processor_count", Environment.ProcessorCount);
+        w.WriteString("sampler_lanes", SamplerLanes.Form);
         w.WriteString("rays_counted_as", "one traversal query (closest hit) per ray; BVH build, scene generation and ray generation excluded");
         w.WriteStartArray("scenes");
         foreach (BenchReport r in reports)

@@ -1,5 +1,4 @@
 using System.Runtime.CompilerServices;
-using System.Runtime.Intrinsics;
 using PathBench.Sampling.Generators;
 
 namespace PathBench.Rendering.Integrators;
@@ -70,8 +69,8 @@ public sealed class SampleCache
         _limit = sampler.MaxDimensions;
         _pairsShareWork = sampler.PairsShareWork;
         _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
-        // Past the generator's limit the padding hash runs eight at a time on 512-bit lanes (SampleStream.Padding).
-        _paddingRun = Vector512.IsHardwareAccelerated ? 8 : DeepRun;
+        // Past the generator's limit the padding hash runs eight at a time in the 512-bit lane form (SampleStream.Padding, SamplerLanes).
+        _paddingRun = SamplerLanes.Uses512BitVectors ? 8 : DeepRun;
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];

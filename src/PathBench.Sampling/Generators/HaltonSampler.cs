@@ -1,5 +1,4 @@
 using System.Runtime.CompilerServices;
-using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 using PathBench.Sampling.Sequences;
 
@@ -21,8 +20,8 @@ public sealed class HaltonSampler(SamplerSpec spec) : PointSampler(spec)
     public override bool WholeRunsCostLittleMore => Spec.Randomize == Randomization.DigitPermutation;
 
     /// <inheritdoc/>
-    /// <remarks>Eight without digit permutations on 512-bit lanes (<see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
-    public override int PointsAtOnce => Spec.Randomize != Randomization.DigitPermutation && Vector512.IsHardwareAccelerated ? 8 : 1;
+    /// <remarks>Eight without digit permutations in the 512-bit lane form (<see cref="SamplerLanes"/>, <see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
+    public override int PointsAtOnce => Spec.Randomize != Randomization.DigitPermutation && Lanes.Wide512 ? 8 : 1;
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)
@@ -118,8 +117,8 @@ public sealed class HammersleySampler(SamplerSpec spec) : PointSampler(spec)
     public override int MaxDimensions => RadicalInverse.PrimeCount + 1;
 
     /// <inheritdoc/>
-    /// <remarks>Eight on 512-bit lanes (<see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
-    public override int PointsAtOnce => Vector512.IsHardwareAccelerated ? 8 : 1;
+    /// <remarks>Eight in the 512-bit lane form (<see cref="SamplerLanes"/>, <see cref="RadicalInverse.PlainBatch"/>), else 1.</remarks>
+    public override int PointsAtOnce => Lanes.Wide512 ? 8 : 1;
 
     /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension)

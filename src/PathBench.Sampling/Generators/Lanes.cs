@@ -24,14 +24,11 @@ internal static class Lanes
     /// </summary>
     public static int PointsAtOnce(LaneWidth width) => width == LaneWidth.Scalar ? 1 : Count;
 
-    /// <summary>
-    /// The widest form this machine runs on hardware: <see cref="LaneWidth.Wide"/> with 512-bit vectors (AVX-512),
-    /// <see cref="LaneWidth.Narrow"/> with 256-bit ones only (AVX2), else <see cref="LaneWidth.Scalar"/>.
-    /// </summary>
-    public static LaneWidth Best { get; } =
-        Vector512.IsHardwareAccelerated && Vector256.IsHardwareAccelerated ? LaneWidth.Wide
-        : Vector256.IsHardwareAccelerated ? LaneWidth.Narrow
-        : LaneWidth.Scalar;
+    /// <summary>The form the generators run (<see cref="SamplerLanes"/>: 256-bit lanes where the machine has them, AVX-512 machines included).</summary>
+    public static LaneWidth Best => SamplerLanes.Width;
+
+    /// <summary>Whether automatic choices outside <see cref="LaneWidth"/> may use 512-bit vectors: only in the wide form.</summary>
+    public static bool Wide512 => SamplerLanes.Uses512BitVectors;
 
     /// <summary>
     /// Indices <paramref name="first"/>, <paramref name="first"/>+1, …, <paramref name="first"/>+<paramref name="n"/>−1 in the

@@ -463,7 +463,7 @@ internal static class OwenSobolBatch
     }
 
     // TableRun's 512-bit form: AVX-512 (with BW for the byte shuffle) and GFNI.
-    private static bool Wide => Vector512.IsHardwareAccelerated && Avx512BW.IsSupported && Gfni.V512.IsSupported;
+    private static bool Wide => Lanes.Wide512 && Avx512BW.IsSupported && Gfni.V512.IsSupported;
 
     // LaineKarras on sixteen lanes.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]

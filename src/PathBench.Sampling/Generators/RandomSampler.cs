@@ -1,4 +1,3 @@
-using System.Runtime.Intrinsics;
 using PathBench.Sampling.Hashing;
 
 namespace PathBench.Sampling.Generators;
@@ -17,11 +16,11 @@ public sealed class RandomSampler(SamplerSpec spec) : PointSampler(spec)
         SampleHash.Uniform(pixel ^ Salts.Independent, index, dimension);
 
     /// <inheritdoc/>
-    /// <remarks>Eight on 512-bit lanes (the batch's hashes run eight at a time), else 1.</remarks>
-    public override int PointsAtOnce => Vector512.IsHardwareAccelerated ? 8 : 1;
+    /// <remarks>Eight in the 512-bit lane form (<see cref="SamplerLanes"/>; the batch's hashes run eight at a time), else 1.</remarks>
+    public override int PointsAtOnce => Lanes.Wide512 ? 8 : 1;
 
     /// <inheritdoc/>
-    /// <remarks>Eight coordinates at a time on 512-bit lanes where the machine has them, four with AVX2 only (<see cref="SampleHash.UniformRun"/>).</remarks>
+    /// <remarks>Eight coordinates at a time in the 512-bit lane form, four in the 256-bit one (<see cref="SampleHash.UniformRun"/>).</remarks>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) =>
         SampleHash.UniformRun(pixel ^ Salts.Independent, firstIndex, dimension, xs);
 

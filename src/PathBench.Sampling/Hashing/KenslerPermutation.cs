@@ -347,7 +347,7 @@ public static class KenslerPermutation
     // one 64-bit remainder per lane, as the scalar form.
     private static Vector256<uint> OffsetBySeed(Vector256<uint> i, uint l, Vector256<uint> p)
     {
-        if (Vector512.IsHardwareAccelerated)
+        if (Generators.Lanes.Wide512)
         {
             Vector512<double> pd = Vector512.ConvertToDouble(Vector512.WidenLower(p.ToVector512()));
             Vector512<double> ld = Vector512.Create((double)l);

@@ -137,7 +137,7 @@ public static class SampleHash
     public static void CombineLow32Run(ulong key, Span<uint> seeds)
     {
         int k = 0;
-        if (Vector512.IsHardwareAccelerated)
+        if (Generators.Lanes.Wide512)
         {
             Vector512<ulong> lane = Vector512.Create(0UL, 1UL, 2UL, 3UL, 4UL, 5UL, 6UL, 7UL);
             for (; k + 8 <= seeds.Length; k += 8)

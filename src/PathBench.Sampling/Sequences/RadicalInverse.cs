@@ -289,7 +289,7 @@ public static class RadicalInverse
     /// forms of <see cref="ShortRun"/> instead.
     /// </summary>
     public static void PermutedBatch(uint firstIndex, int b, ulong key, Span<double> xs) =>
-        PermutedBatchForm(firstIndex, b, key, xs, ConflictLanes ? LargeBaseImages.ConflictLanes : LargeBaseImages.Scan);
+        PermutedBatchForm(firstIndex, b, key, xs, ConflictLanesChosen ? LargeBaseImages.ConflictLanes : LargeBaseImages.Scan);
 
     /// <summary>
     /// <see cref="PermutedBatch"/> of two bases (a pair of dimensions, each with its own key) over the same indices, bit
@@ -317,7 +317,7 @@ public static class RadicalInverse
     private static bool ShortRunPair(uint first, uint b0, uint b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
     {
         uint last = first + (uint)(xs.Length - 1);
-        if (last < first || last >= DrawnDigits || b0 <= FullTableBase || b1 <= FullTableBase || ConflictLanes
+        if (last < first || last >= DrawnDigits || b0 <= FullTableBase || b1 <= FullTableBase || ConflictLanesChosen
             || Generators.Lanes.Best != Generators.LaneWidth.Narrow || !Avx2.IsSupported)
         {
             return false;
@@ -354,6 +354,9 @@ public static class RadicalInverse
     /// <see cref="ShortRun"/>); without it those runs take <see cref="LargeBaseImages.Scan"/>, the same bits.
     /// </summary>
     internal static bool ConflictLanes { get; } = Vector512.IsHardwareAccelerated && Avx512CD.IsSupported;
+
+    /// <summary>Whether the batches take the conflict-detection form by default: in the 512-bit lane form alone (<see cref="Generators.SamplerLanes"/>).</summary>
+    private static bool ConflictLanesChosen => ConflictLanes && Generators.Lanes.Wide512;
 
     /// <summary>
     /// <see cref="PermutedBatch"/> with a chosen form for the one-digit short runs of a base above <see cref="FullTableBase"/>
@@ -451,7 +454,7 @@ public static class RadicalInverse
             ScanImages(b, positionKey, zero, last, images);
         }
 
-        if (last < DrawnDigits && Vector512.IsHardwareAccelerated)
+        if (last < DrawnDigits && Generators.Lanes.Wide512)
         {
             OneDigitLanes(first, images, invBase, below0, below1, xs);
             return true;
@@ -1210,7 +1213,7 @@ public static class RadicalInverse
 
             // A uniform value, redrawn while it is taken: uniform among those left. The taken ones as one vector (the
             // places not yet drawn hold b, which no draw equals) where the machine has it.
-            if (Vector512.IsHardwareAccelerated)
+            if (Generators.Lanes.Wide512)
             {
                 Span<uint> padded = stackalloc uint[DrawnDigits];
                 padded.Fill(_b);
@@ -1240,7 +1243,7 @@ public static class RadicalInverse
         /// <summary>The images of digits up to <paramref name="digit"/> (a large base's drawn ones) drawn at once: <see cref="Draw"/>'s values, the taken set kept in a register.</summary>
         public void DrawTo(uint digit)
         {
-            if (_b <= FullTableBase || !Vector512.IsHardwareAccelerated || _drawn > digit)
+            if (_b <= FullTableBase || !Generators.Lanes.Wide512 || _drawn > digit)
             {
                 Image(digit);
                 return;

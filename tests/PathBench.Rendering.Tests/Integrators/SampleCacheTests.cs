@@ -1,4 +1,3 @@
-using System.Runtime.Intrinsics;
 using PathBench.Rendering.Geometry;
 using PathBench.Rendering.Integrators;
 using PathBench.Sampling.Generators;
@@ -103,13 +102,13 @@ public sealed class SampleCacheTests
         // whatever its length (Halton's digit permutations draw a position's map per run, the pmj family's Owen pairs and
         // multi-jittered's wide form are latency-bound chains a second group overlaps: the rest of the block) or it
         // makes more points at once (the eight-lane sets and the Owen-scrambled gathers: eight, on a machine with the lane forms).
-        // Run 0: the rest of the block on AVX-512 (multi-jittered's wide form), eight on AVX2 alone. Run −1: eight on
-        // AVX-512, DeepRun on AVX2 alone (Halton's plain radical inverses on 512-bit lanes; lattice's dimension 46 is past
+        // Run 0: the rest of the block in the 512-bit lane form (multi-jittered's wide form), eight in the 256-bit one. Run −1:
+        // eight in the 512-bit form, DeepRun in the 256-bit one (Halton's plain radical inverses on 512-bit lanes; lattice's dimension 46 is past
         // its limit of 12, where the padding hash runs on 512-bit lanes).
         run = run switch
         {
-            0 => Vector512.IsHardwareAccelerated ? SampleCache.BlockSize : 8,
-            -1 => Vector512.IsHardwareAccelerated ? 8 : SampleCache.DeepRun,
+            0 => SamplerLanes.Uses512BitVectors ? SampleCache.BlockSize : 8,
+            -1 => SamplerLanes.Uses512BitVectors ? 8 : SampleCache.DeepRun,
             _ => run,
         };
         PointSampler s = Create(generator, randomize, 16, 40);

@@ -40,9 +40,11 @@ internal static class OwenSobolBatch
     /// walk's loads start from two loaded words instead of after the reversal, four multiplications and two lane moves.
     /// The coordinates' seeds are the pair's (SobolSampler.PairSeeds). The caller checks AVX2 and a run of at least two points.
     /// </summary>
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static unsafe void Run(IndexMemo memo, ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
+    [MethodImpl(InliningOptions.Kernel)]
+    public static unsafe void Run(ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
     {
+        // The memo first: the lanes' longest chain starts from it.
+        IndexMemo memo = Memo;
         bool pair = !ys.IsEmpty;
         int shift = 32 * (dimension & 1), half = dimension & 1;
         uint seedIndex = (uint)(pixel >> 32);
@@ -58,35 +60,48 @@ internal static class OwenSobolBatch
                 uint s = firstIndex + (uint)i;
                 ulong key = ((ulong)seedIndex << 32) | s;
                 ref IndexMemo.Entry e = ref memo.Groups[(i >> 3) & 1];
-                Vector256<uint> r;
+                Quads r;
                 uint r0, r7;
                 if (e.Key == key)
                 {
                     r = e.R;
-                    r0 = Unsafe.As<Vector256<uint>, uint>(ref e.R);
-                    r7 = Unsafe.Add(ref Unsafe.As<Vector256<uint>, uint>(ref e.R), 7);
+                    r0 = Unsafe.As<Vector256<ulong>, uint>(ref e.R.A);
+                    r7 = Unsafe.Add(ref Unsafe.As<Vector256<ulong>, uint>(ref e.R.B), 6);
                 }
                 else
                 {
-                    r = LaineKarras(Reverse(Vector256.Create(s) + Lane), Vector256.Create(seedIndex));
+                    Vector256<ulong> sv = Vector256.Create((ulong)s), seed = Vector256.Create((ulong)seedIndex);
+                    r = new Quads(
+                        LaineKarras(ReverseLow(sv + Vector256.Create(0UL, 1, 2, 3)), seed),
+                        LaineKarras(ReverseLow(sv + Vector256.Create(4UL, 5, 6, 7)), seed));
                     e.R = r;
                     e.Key = key;
-                    r0 = r.ToScalar();
-                    r7 = r.GetElement(7);
+                    r0 = (uint)r.A.ToScalar();
+                    r7 = (uint)r.B.GetElement(3);
                 }
 
-                Vector256<uint> top = r >>> 29, first = Vector256.Equals(r << 3, Vector256.Create(r0 << 3));
+                // Per lane (the low half of each 64-bit lane): its top three bits, and whether it is in lane 0's group.
+                Vector256<uint> topA = r.A.AsUInt32() >>> 29, topB = r.B.AsUInt32() >>> 29, g0 = Vector256.Create(r0 << 3);
+                Vector256<uint> firstA = Vector256.Equals(r.A.AsUInt32() << 3, g0), firstB = Vector256.Equals(r.B.AsUInt32() << 3, g0);
                 ulong w0 = Low29(t, r0), w7 = Low29(t, r7);
 
                 // The coordinates' seeds (SobolSampler.PairSeeds) after the walks' loads: the scramble needs them last.
                 ulong seeds = SobolSampler.PairSeeds(pixel, dimension);
-                uint seedX = (uint)(seeds >> shift), seedY = (uint)(seeds >> 32);
-                Vector256<uint> x = Vector256.ConditionalSelect(first, Vector256.Create((uint)(w0 >> shift)), Vector256.Create((uint)(w7 >> shift)));
-                Store(ToDoubles(Reverse(Scrambled<Once>(x ^ Avx2.PermuteVar8x32(hx, top), seedX, 0))), px + i, xs.Length - i);
+                Vector256<ulong> seedX = Vector256.Create((ulong)(uint)(seeds >> shift)), seedY = Vector256.Create(seeds >> 32);
+                Vector256<uint> x0 = Vector256.Create(w0 >> shift).AsUInt32(), x7 = Vector256.Create(w7 >> shift).AsUInt32();
+                Store(
+                    Centred(ReverseLow(LaineKarras((Vector256.ConditionalSelect(firstA, x0, x7) ^ Avx2.PermuteVar8x32(hx, topA)).AsUInt64(), seedX))),
+                    Centred(ReverseLow(LaineKarras((Vector256.ConditionalSelect(firstB, x0, x7) ^ Avx2.PermuteVar8x32(hx, topB)).AsUInt64(), seedX))),
+                    px + i,
+                    xs.Length - i);
                 if (pair)
                 {
-                    Vector256<uint> y = Vector256.ConditionalSelect(first, Vector256.Create((uint)(w0 >> 32)), Vector256.Create((uint)(w7 >> 32)));
-                    Store(ToDoubles(Reverse(Scrambled<Once>(y ^ Avx2.PermuteVar8x32(hy, top), seedY, 0))), py + i, xs.Length - i);
+                    Vector256<uint> y0 = Vector256.Create(w0 >> 32).AsUInt32(), y7 = Vector256.Create(w7 >> 32).AsUInt32();
+                    Store(
+                        Centred(ReverseLow(LaineKarras((Vector256.ConditionalSelect(firstA, y0, y7) ^ Avx2.PermuteVar8x32(hy, topA)).AsUInt64(), seedY))),
+                        Centred(ReverseLow(LaineKarras((Vector256.ConditionalSelect(firstB, y0, y7) ^ Avx2.PermuteVar8x32(hy, topB)).AsUInt64(), seedY))),
+                        py + i,
+                        xs.Length - i);
                 }
             }
         }
@@ -112,15 +127,14 @@ internal static class OwenSobolBatch
         {
             // Key 0 (seed 0, first index 0) with its true indices: no entry ever holds values that are not its key's.
             memo.Groups[k].Key = 0;
-            memo.Groups[k].R = Vector256.Create(
-                Idx(0), Idx(1), Idx(2), Idx(3), Idx(4), Idx(5), Idx(6), Idx(7));
+            memo.Groups[k].R = new Quads(Vector256.Create(Idx(0), Idx(1), Idx(2), Idx(3)), Vector256.Create(Idx(4), Idx(5), Idx(6), Idx(7)));
         }
 
         t_memo = memo;
         return memo;
 
         // Scalar (no AVX2 needed: the memo is fetched before the caller's AVX2 check).
-        static uint Idx(uint k) => OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(k), 0);
+        static ulong Idx(uint k) => OwenScrambler.LaineKarrasPermutation(BitReversal.Reverse(k), 0);
     }
 
     /// <summary>
@@ -133,10 +147,10 @@ internal static class OwenSobolBatch
     {
         public TwoGroups Groups;
 
-        /// <summary>A group's indices R = LaineKarras(Reverse(first + lane), seed) under Key = seed · 2^32 + first.</summary>
+        /// <summary>A group's indices R = LaineKarras(Reverse(first + lane), seed) (as <see cref="Quads"/>) under Key = seed · 2^32 + first.</summary>
         public struct Entry
         {
-            public Vector256<uint> R;
+            public Quads R;
             public ulong Key;
         }
 
@@ -421,6 +435,77 @@ internal static class OwenSobolBatch
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector256<uint> Step(Vector256<uint> x, uint k) => x ^ (x * Vector256.Create(k));
 
+    /// <summary>
+    /// Eight words as two vectors of four, each word in the low half of a 64-bit lane (A: lanes 0-3, B: lanes 4-7); the
+    /// high halves are not part of the value (whatever the steps leave there), until <see cref="ReverseLow"/> clears them.
+    /// The form for the Laine–Karras steps: <c>vpmuludq</c> multiplies the low halves into a 64-bit product whose low
+    /// half is the 32-bit product: on Intel cores one micro-op of about five cycles, where <c>vpmulld</c> is two of about
+    /// ten (from memory; docs/performance.md, eleventh round, has the timings), and the scramble's four steps are one
+    /// dependent chain, so twice the vectors cost about half its latency.
+    /// </summary>
+    internal struct Quads(Vector256<ulong> a, Vector256<ulong> b)
+    {
+        /// <summary>Words 0-3.</summary>
+        public Vector256<ulong> A = a;
+
+        /// <summary>Words 4-7.</summary>
+        public Vector256<ulong> B = b;
+    }
+
+    // OwenScrambler.LaineKarrasPermutation on the low halves of four 64-bit lanes (Quads): the seed added, then
+    // x ^= x · k for each multiplier, by 32 × 32 → 64-bit products whose low half is the 32-bit product.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<ulong> LaineKarras(Vector256<ulong> x, Vector256<ulong> seed) => Step(Step(Step(Step(x + seed, K0), K1), K2), K3);
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<ulong> Step(Vector256<ulong> x, uint k) => x ^ Avx2.Multiply(x.AsUInt32(), Vector256.Create((ulong)k).AsUInt32());
+
+    /// <summary>
+    /// The bit reversal of the low half of each 64-bit lane, the high half cleared: each byte's bits reversed (GFNI where
+    /// the processor has it, else the nibble lookups), then one byte shuffle that reverses the low four bytes and zeroes
+    /// the high four.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector256<ulong> ReverseLow(Vector256<ulong> x)
+    {
+        const byte Zero = 0x80;
+        Vector256<byte> order = Vector256.Create(
+            (byte)3, 2, 1, 0, Zero, Zero, Zero, Zero, 11, 10, 9, 8, Zero, Zero, Zero, Zero,
+            3, 2, 1, 0, Zero, Zero, Zero, Zero, 11, 10, 9, 8, Zero, Zero, Zero, Zero);
+        Vector256<byte> bits = Gfni.V256.IsSupported ? ByteBitsGalois(x.AsByte()) : ByteBitsNibbles(x.AsByte());
+        return Avx2.Shuffle(bits, order).AsUInt64();
+    }
+
+    /// <summary>
+    /// Words below 2^32 in 64-bit lanes (high halves clear) as (v + 0.5) · 2^-32, the scalar code's value, by their bits:
+    /// v under the exponent of 2^20 is the double 2^20 + v · 2^-32 (v fills the low 32 of the 52 fraction bits: IEEE 754
+    /// binary64), and subtracting 2^20 − 2^-33 (53 significant bits, exact) leaves (v + 0.5) · 2^-32, which has at most
+    /// 33 significant bits, so the subtraction is exact: the same bits as the signed conversion and its exact steps.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    internal static Vector256<double> Centred(Vector256<ulong> v) =>
+        (v | Vector256.Create(0x4130000000000000UL)).AsDouble() - Vector256.Create(1048576.0 - (0.5 * Scale));
+
+    // Each byte's bits reversed by GFNI's affine transform (ReverseGalois).
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<byte> ByteBitsGalois(Vector256<byte> x) =>
+        Gfni.V256.GaloisFieldAffineTransform(x, Vector256.Create(0x8040201008040201UL).AsByte(), 0);
+
+    // Each byte's bits reversed by two nibble lookups (ReverseNibbles).
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static Vector256<byte> ByteBitsNibbles(Vector256<byte> x)
+    {
+        // rev4(n) for n = 0 … 15, and the same times 16, in each 128-bit half (vpshufb looks up within halves).
+        Vector256<byte> low = Vector256.Create((byte)0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0, 0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0);
+        Vector256<byte> high = Vector256.Create((byte)0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF, 0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF);
+        Vector256<byte> nibble = Vector256.Create((byte)0x0F);
+        return Avx2.Shuffle(low, x & nibble) | Avx2.Shuffle(high, (x.AsUInt32() >>> 4).AsByte() & nibble);
+    }
+
+    // Eight doubles (two vectors of four) to the run from destination, as Store.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static unsafe void Store(Vector256<double> low, Vector256<double> high, double* destination, int left) => Store((low, high), destination, left);
+
     // The bit reversal (BitReversal.Reverse) of eight words: GFNI's form where the processor has it, else the nibble lookups.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static Vector256<uint> Reverse(Vector256<uint> x) => Gfni.V256.IsSupported ? ReverseGalois(x) : ReverseNibbles(x);
@@ -432,16 +517,7 @@ internal static class OwenSobolBatch
     /// on the chain every scrambled point waits for.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    internal static Vector256<uint> ReverseNibbles(Vector256<uint> x)
-    {
-        // rev4(n) for n = 0 … 15, and the same times 16, in each 128-bit half (vpshufb looks up within halves).
-        Vector256<byte> low = Vector256.Create((byte)0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0, 0x00, 0x80, 0x40, 0xC0, 0x20, 0xA0, 0x60, 0xE0, 0x10, 0x90, 0x50, 0xD0, 0x30, 0xB0, 0x70, 0xF0);
-        Vector256<byte> high = Vector256.Create((byte)0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF, 0x0, 0x8, 0x4, 0xC, 0x2, 0xA, 0x6, 0xE, 0x1, 0x9, 0x5, 0xD, 0x3, 0xB, 0x7, 0xF);
-        Vector256<byte> nibble = Vector256.Create((byte)0x0F);
-        Vector256<byte> bytes = x.AsByte();
-        Vector256<byte> reversed = Avx2.Shuffle(low, bytes & nibble) | Avx2.Shuffle(high, (x >>> 4).AsByte() & nibble);
-        return SwapBytes(reversed);
-    }
+    internal static Vector256<uint> ReverseNibbles(Vector256<uint> x) => SwapBytes(ByteBitsNibbles(x.AsByte()));
 
     /// <summary>
     /// Eight words' bits reversed with GFNI: one affine transform over GF(2) reverses each byte's bits (the bit matrix
@@ -451,8 +527,7 @@ internal static class OwenSobolBatch
     /// Callers check <see cref="Gfni.V256.IsSupported"/>.
     /// </summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    internal static Vector256<uint> ReverseGalois(Vector256<uint> x) =>
-        SwapBytes(Gfni.V256.GaloisFieldAffineTransform(x.AsByte(), Vector256.Create(0x8040201008040201UL).AsByte(), 0));
+    internal static Vector256<uint> ReverseGalois(Vector256<uint> x) => SwapBytes(ByteBitsGalois(x.AsByte()));
 
     // Byte order within each 32-bit lane, as BinaryPrimitives.ReverseEndianness.
     [MethodImpl(MethodImplOptions.AggressiveInlining)]

@@ -161,7 +161,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     // (OwenSobolBatch.Run) where d is even and both are tabled, one dimension where it is tabled; the rest (a
     // single point, no AVX2, an untabled dimension) by the scalar form, the reference the vector code is tested against.
     // The other forms are calls of their own at the end, so nothing of theirs is kept across the lanes' path.
-    [MethodImpl(InliningOptions.Kernel)]
+    [MethodImpl(InliningOptions.ShortMethod)]
     private void OwenBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
         if (!ys.IsEmpty && (dimension & 1) != 0)
@@ -170,18 +170,14 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
             return;
         }
 
-        // The memo first: the lanes' longest chain starts from it.
-        OwenSobolBatch.IndexMemo memo = OwenSobolBatch.Memo;
         int count = ys.IsEmpty ? 1 : 2;
         if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
         {
-            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
+            OwenSobolBatch.Run(_matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
             return;
         }
 
-        ulong seeds = PairSeeds(pixel, dimension);
-        uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
-        OwenPoints(pixel, firstIndex, dimension, seedX, seedY, xs, ys);
+        OwenPoints(pixel, firstIndex, dimension, xs, ys);
     }
 
     // An odd pair straddles two seed pairs: two single dimensions (Sample2D's values, which are Sample's).
@@ -194,8 +190,10 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
     // OwenBatch's scalar form, one point at a time.
     [MethodImpl(InliningOptions.ColdPath)]
-    private void OwenPoints(ulong pixel, uint firstIndex, int dimension, uint seedX, uint seedY, Span<double> xs, Span<double> ys)
+    private void OwenPoints(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
     {
+        ulong seeds = PairSeeds(pixel, dimension);
+        uint seedX = (uint)(seeds >> (32 * (dimension & 1))), seedY = (uint)(seeds >> 32);
         for (int i = 0; i < xs.Length; i++)
         {
             uint reversed = ReversedShuffledIndex(pixel, firstIndex + (uint)i);

@@ -32,6 +32,22 @@ public sealed class OwenSobolBatchTests
 
         for (int i = 0; i < words.Count; i += 8)
         {
+            // The four-lane form (each word in the low half of a 64-bit lane, the high half anything): the reversed word
+            // with the high half cleared, and as a double the scalar code's (v + 0.5) · 2^-32 (an exact value: IEEE 754).
+            for (int q = 0; q < 8; q += 4)
+            {
+                Vector256<ulong> quad = Vector256.Create(
+                    words[i + q] | ((ulong)words[i + 7 - q] << 32), words[i + q + 1] | (0xFFFFFFFFUL << 32), words[i + q + 2], words[i + q + 3] | ((ulong)words[i] << 32));
+                Vector256<ulong> low = OwenSobolBatch.ReverseLow(quad);
+                Vector256<double> centred = OwenSobolBatch.Centred(low);
+                for (int k = 0; k < 4; k++)
+                {
+                    uint expected = BitReversal.Reverse(words[i + q + k]);
+                    Assert.Equal(expected, low.GetElement(k));
+                    Assert.Equal(BitConverter.DoubleToUInt64Bits((expected + 0.5) * (1.0 / 4294967296.0)), BitConverter.DoubleToUInt64Bits(centred.GetElement(k)));
+                }
+            }
+
             Vector256<uint> v = Vector256.Create(words.GetRange(i, 8).ToArray());
             Vector256<uint> nibbles = OwenSobolBatch.ReverseNibbles(v);
             Vector256<uint>? galois = Gfni.V256.IsSupported ? OwenSobolBatch.ReverseGalois(v) : null;

@@ -48,7 +48,7 @@ public class SamplerBenchmarks
         return sum;
     }
 
-    /// <summary>The same points through <see cref="PointSampler.Sample2DBatch"/> (AVX2 for Owen-scrambled Sobol).</summary>
+    /// <summary>The same points through <see cref="PointSampler.Sample2DBatch(ulong, uint, int, Span{double}, Span{double})"/> (AVX2 for Owen-scrambled Sobol).</summary>
     [Benchmark(OperationsPerInvoke = Points)]
     public double Sample2DBatch()
     {

@@ -361,6 +361,8 @@ public static class ThroughputBench
         Span<double> xs = stackalloc double[SampleCache.BlockSize];
         Span<double> ys = stackalloc double[SampleCache.BlockSize];
         int limit = sampler.MaxDimensions;
+        // The thread's memo, as the cache keeps one (a new one each replay: the frame's cache started with a new one too).
+        BatchScratch? scratch = sampler.NewBatchScratch();
         double sum = 0;
         foreach (SampleBatchCall c in batches)
         {
@@ -371,12 +373,24 @@ public static class ThroughputBench
             }
             else if (c.Pair)
             {
-                sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y);
+                if (scratch is null)
+                {
+                    sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y);
+                }
+                else
+                {
+                    sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y, scratch);
+                }
+
                 sum += y[0];
+            }
+            else if (scratch is null)
+            {
+                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x);
             }
             else
             {
-                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x);
+                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x, scratch);
             }
 
             sum += x[0];

@@ -23,7 +23,7 @@ public interface ISampleStream
 /// samples run in order, so the earlier ones did not need it): the rest of the block for the camera's
 /// and the first vertices' dimensions, which nearly every path uses, and a short run of
 /// <see cref="DeepRun"/> samples for the vertices from the fifth on (vertex 4), where Russian roulette ends many
-/// paths first. The values come from the sampler's batch methods (<see cref="PointSampler.SampleBatch"/>, <see cref="PointSampler.Sample2DBatch"/>),
+/// paths first. The values come from the sampler's batch methods (<see cref="PointSampler.SampleBatch(ulong, uint, int, Span{double})"/>, <see cref="PointSampler.Sample2DBatch(ulong, uint, int, Span{double}, Span{double})"/>),
 /// which compute a dimension's per-pixel seeds once per block and vectorise where they can; every later
 /// request is a load. Each value is the one <see cref="SampleStream"/> gives (the same method of the
 /// sampler computes it: <c>Sample</c> for single dimensions, <c>Sample2D</c> for pairs; past the
@@ -53,6 +53,7 @@ public sealed class SampleCache
     private readonly bool _pairsShareWork;
     private readonly int _deepRun;
     private readonly int _paddingRun;
+    private readonly BatchScratch? _scratch;
     private double[] _values;
     private int[] _filled;
     private int[] _filledEnd;
@@ -71,6 +72,8 @@ public sealed class SampleCache
         _deepRun = sampler.WholeRunsCostLittleMore ? BlockSize : Math.Clamp(sampler.PointsAtOnce, DeepRun, BlockSize);
         // Past the generator's limit the padding hash runs eight at a time in the 512-bit lane form (SampleStream.Padding, SamplerLanes).
         _paddingRun = SamplerLanes.Uses512BitVectors ? 8 : DeepRun;
+        // This thread's memo for the sampler's batches (Owen-scrambled Sobol's scrambled indices), when it keeps one.
+        _scratch = sampler.NewBatchScratch();
         int d = Math.Max(2, dimensions);
         _values = new double[d * BlockSize];
         _filled = new int[d];
@@ -147,7 +150,14 @@ public sealed class SampleCache
         Recorder?.Add(new SampleBatchCall(_pixel, first, row.Length, dimension, false));
         if (dimension < _limit)
         {
-            _sampler.SampleBatch(_pixel, first, dimension, row);
+            if (_scratch is null)
+            {
+                _sampler.SampleBatch(_pixel, first, dimension, row);
+            }
+            else
+            {
+                _sampler.SampleBatch(_pixel, first, dimension, row, _scratch);
+            }
         }
         else
         {
@@ -176,7 +186,15 @@ public sealed class SampleCache
         Reserve(dimension + 2);
         int n = Run(slot, dimension);
         Recorder?.Add(new SampleBatchCall(_pixel, _first + (uint)slot, n, dimension, true));
-        _sampler.Sample2DBatch(_pixel, _first + (uint)slot, dimension, _values.AsSpan(dimension * BlockSize + slot, n), _values.AsSpan((dimension + 1) * BlockSize + slot, n));
+        Span<double> xs = _values.AsSpan(dimension * BlockSize + slot, n), ys = _values.AsSpan((dimension + 1) * BlockSize + slot, n);
+        if (_scratch is null)
+        {
+            _sampler.Sample2DBatch(_pixel, _first + (uint)slot, dimension, xs, ys);
+        }
+        else
+        {
+            _sampler.Sample2DBatch(_pixel, _first + (uint)slot, dimension, xs, ys, _scratch);
+        }
         _filled[dimension] = _block;
         _filled[dimension + 1] = _block;
         _filledEnd[dimension] = slot + n;

@@ -36,15 +36,15 @@ internal static class OwenSobolBatch
     /// tables the random scrambled indices find in the level-one cache more often than the byte tables, and both
     /// dimensions of a pair by one walk of 64-bit entries. The scrambled reversed indices of a group depend on
     /// the index seed and the group's first index only, and a pixel's block asks for dimension after
-    /// dimension over the same run: they are kept per thread (<see cref="IndexMemo"/>) and reused when both match, so the
+    /// dimension over the same run: they are kept per thread (<see cref="IndexMemo"/>: <paramref name="scratch"/>, the caller's, or else this thread's thread-static one) and reused when both match, so the
     /// walk's loads start from two loaded words instead of after the reversal, four multiplications and two lane moves.
     /// The coordinates' seeds are the pair's (SobolSampler.PairSeeds). The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(InliningOptions.Kernel)]
-    public static unsafe void Run(ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(IndexMemo? scratch, ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
     {
-        // The memo first: the lanes' longest chain starts from it.
-        IndexMemo memo = Memo;
+        // The memo first (the caller's, else this thread's): the lanes' longest chain starts from it.
+        IndexMemo memo = scratch ?? Memo;
         bool pair = !ys.IsEmpty;
         int shift = 32 * (dimension & 1), half = dimension & 1;
         uint seedIndex = (uint)(pixel >> 32);
@@ -120,7 +120,10 @@ internal static class OwenSobolBatch
     }
 
     [MethodImpl(InliningOptions.ColdPath)]
-    private static IndexMemo NewMemo()
+    private static IndexMemo NewMemo() => t_memo = NewIndexMemo();
+
+    /// <summary>A new memo (for a caller that keeps one per thread: <see cref="PointSampler.NewBatchScratch"/>).</summary>
+    public static IndexMemo NewIndexMemo()
     {
         var memo = new IndexMemo();
         for (int k = 0; k < 2; k++)
@@ -130,7 +133,6 @@ internal static class OwenSobolBatch
             memo.Groups[k].R = new Quads(Vector256.Create(Idx(0), Idx(1), Idx(2), Idx(3)), Vector256.Create(Idx(4), Idx(5), Idx(6), Idx(7)));
         }
 
-        t_memo = memo;
         return memo;
 
         // Scalar (no AVX2 needed: the memo is fetched before the caller's AVX2 check).
@@ -143,7 +145,7 @@ internal static class OwenSobolBatch
     /// group's first index (low half), which are all the indices depend on. The renderer shares a sampler between threads;
     /// per thread, no entry is ever read while it is written.
     /// </summary>
-    internal sealed class IndexMemo
+    internal sealed class IndexMemo : BatchScratch
     {
         public TwoGroups Groups;
 

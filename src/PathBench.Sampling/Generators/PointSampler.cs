@@ -108,7 +108,29 @@ public abstract class PointSampler
     }
 
     /// <summary>
-    /// <see cref="Sample2DBatch"/> as two <see cref="SampleBatch"/> calls: for generators that do not
+    /// A new memo for one thread's batches (<see cref="BatchScratch"/>), or null when the generator keeps none (the
+    /// default). A caller that makes many batches on one thread (the renderer's per-thread sample cache) makes one and
+    /// passes it to every batch of that thread through the overloads that take it.
+    /// </summary>
+    public virtual BatchScratch? NewBatchScratch() => null;
+
+    /// <summary>
+    /// <see cref="Sample2DBatch(ulong, uint, int, Span{double}, Span{double})"/> with this thread's memo from
+    /// <see cref="NewBatchScratch"/> (the same values); callers whose <see cref="NewBatchScratch"/> gave null call the
+    /// overload without it.
+    /// </summary>
+    public virtual void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys, BatchScratch scratch) =>
+        Sample2DBatch(pixel, firstIndex, dimension, xs, ys);
+
+    /// <summary>
+    /// <see cref="SampleBatch(ulong, uint, int, Span{double})"/> with this thread's memo from <see cref="NewBatchScratch"/>
+    /// (the same values).
+    /// </summary>
+    public virtual void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, BatchScratch scratch) =>
+        SampleBatch(pixel, firstIndex, dimension, xs);
+
+    /// <summary>
+    /// <see cref="Sample2DBatch(ulong, uint, int, Span{double}, Span{double})"/> as two <see cref="SampleBatch(ulong, uint, int, Span{double})"/> calls: for generators that do not
     /// override <see cref="Sample2D"/>, whose pairs are two single coordinates.
     /// </summary>
     protected void PairBySingles(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
@@ -229,4 +251,16 @@ public sealed record SamplerSpec(string Generator, Randomization Randomize, bool
         Antithetic
             ? (Randomize == Randomization.None ? RandomizationNames.Antithetic : RandomizationNames.NameOf(Randomize) + "+" + RandomizationNames.Antithetic)
             : RandomizationNames.NameOf(Randomize);
+}
+
+/// <summary>
+/// What a generator keeps between one thread's batches (<see cref="PointSampler.NewBatchScratch"/>): only pure functions
+/// of their inputs, under keys of all those inputs, so the values never depend on it. One thread uses it at a time.
+/// </summary>
+public abstract class BatchScratch
+{
+    /// <summary>Only the library's generators make these.</summary>
+    private protected BatchScratch()
+    {
+    }
 }

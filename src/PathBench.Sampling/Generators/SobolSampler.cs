@@ -68,7 +68,25 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
     /// <inheritdoc/>
     /// <remarks>A dimension's randomization (seed, shift or offset) is computed once per batch.</remarks>
-    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) => Batch(pixel, firstIndex, dimension, xs, default);
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs) => Batch(pixel, firstIndex, dimension, xs, default, null);
+
+    /// <inheritdoc/>
+    /// <remarks>Owen scrambling's memo of the scrambled indices (<see cref="OwenSobolBatch.IndexMemo"/>), without the thread-static access.</remarks>
+    public override BatchScratch? NewBatchScratch() => _randomize == Randomization.Owen ? OwenSobolBatch.NewIndexMemo() : null;
+
+    /// <inheritdoc/>
+    public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, BatchScratch scratch) =>
+        Batch(pixel, firstIndex, dimension, xs, default, scratch as OwenSobolBatch.IndexMemo);
+
+    /// <inheritdoc/>
+    public override void Sample2DBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys, BatchScratch scratch)
+    {
+        RequireSameLength(xs, ys);
+        if (!xs.IsEmpty)
+        {
+            Batch(pixel, firstIndex, dimension, xs, ys, scratch as OwenSobolBatch.IndexMemo);
+        }
+    }
 
     /// <inheritdoc/>
     /// <remarks>Without Owen scrambling Sample2D is two single coordinates: both dimensions by one kernel, which shares the index's bytes between them.</remarks>
@@ -77,7 +95,7 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         RequireSameLength(xs, ys);
         if (!xs.IsEmpty)
         {
-            Batch(pixel, firstIndex, dimension, xs, ys);
+            Batch(pixel, firstIndex, dimension, xs, ys, null);
         }
     }
 
@@ -85,12 +103,12 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     // code and dynamic-PGO profile: a batch method shared by the four was compiled by the profile of whichever the
     // process ran first, the others' branches laid out as cold).
     [MethodImpl(InliningOptions.ShortMethod)]
-    private void Batch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    private void Batch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys, OwenSobolBatch.IndexMemo? memo)
     {
         switch (_randomize)
         {
             case Randomization.Owen:
-                OwenBatch(pixel, firstIndex, dimension, xs, ys);
+                OwenBatch(pixel, firstIndex, dimension, xs, ys, memo);
                 return;
             case Randomization.DigitalShift:
                 PlainBatch<OwenSobolBatch.Shifted>(pixel, firstIndex, dimension, xs, ys);
@@ -162,18 +180,18 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
     // single point, no AVX2, an untabled dimension) by the scalar form, the reference the vector code is tested against.
     // The other forms are calls of their own at the end, so nothing of theirs is kept across the lanes' path.
     [MethodImpl(InliningOptions.ShortMethod)]
-    private void OwenBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    private void OwenBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys, OwenSobolBatch.IndexMemo? memo)
     {
         if (!ys.IsEmpty && (dimension & 1) != 0)
         {
-            OddOwenPair(pixel, firstIndex, dimension, xs, ys);
+            OddOwenPair(pixel, firstIndex, dimension, xs, ys, memo);
             return;
         }
 
         int count = ys.IsEmpty ? 1 : 2;
         if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
         {
-            OwenSobolBatch.Run(_matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
+            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
             return;
         }
 
@@ -182,10 +200,10 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
 
     // An odd pair straddles two seed pairs: two single dimensions (Sample2D's values, which are Sample's).
     [MethodImpl(InliningOptions.ColdPath)]
-    private void OddOwenPair(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys)
+    private void OddOwenPair(ulong pixel, uint firstIndex, int dimension, Span<double> xs, Span<double> ys, OwenSobolBatch.IndexMemo? memo)
     {
-        OwenBatch(pixel, firstIndex, dimension, xs, default);
-        OwenBatch(pixel, firstIndex, dimension + 1, ys, default);
+        OwenBatch(pixel, firstIndex, dimension, xs, default, memo);
+        OwenBatch(pixel, firstIndex, dimension + 1, ys, default, memo);
     }
 
     // OwenBatch's scalar form, one point at a time.

@@ -177,17 +177,35 @@ public sealed class BatchTests
         {
             var xs = new double[16];
             var ys = new double[16];
-            for (int round = 0; round < 50; round++)
+            // The thread's own memo, as the renderer's cache keeps one (NewBatchScratch), in turn with the thread-static one.
+            BatchScratch scratch = s.NewBatchScratch() ?? throw new InvalidOperationException("sobol/owen keeps a memo");
+            for (int round = 0; round < 100; round++)
             {
                 foreach ((int px, uint first, int count) in runs)
                 {
                     ulong key = s.PixelKey(px + thread, round % 3);
                     int dimension = (round * 2 + px) % 38;
-                    s.Sample2DBatch(key, first, dimension, xs.AsSpan(0, count), ys.AsSpan(0, count));
+                    bool own = (round & 2) != 0;
+                    if (own)
+                    {
+                        s.Sample2DBatch(key, first, dimension, xs.AsSpan(0, count), ys.AsSpan(0, count), scratch);
+                    }
+                    else
+                    {
+                        s.Sample2DBatch(key, first, dimension, xs.AsSpan(0, count), ys.AsSpan(0, count));
+                    }
+
                     for (int i = 0; i < count; i++)
                     {
                         (double x, double y) = s.Sample2D(key, first + (uint)i, dimension);
-                        Assert.True(x == xs[i] && y == ys[i], $"pixel {px + thread}, dimension {dimension}, point {first + i}");
+                        Assert.True(x == xs[i] && y == ys[i], $"pixel {px + thread}, dimension {dimension}, point {first + i}, own memo {own}");
+                    }
+
+                    // A single dimension through the same memo.
+                    s.SampleBatch(key, first, dimension + 1, xs.AsSpan(0, count), scratch);
+                    for (int i = 0; i < count; i++)
+                    {
+                        Assert.True(s.Sample(key, first + (uint)i, dimension + 1) == xs[i], $"pixel {px + thread}, dimension {dimension + 1}, point {first + i}");
                     }
                 }
             }

@@ -196,13 +196,18 @@ internal static class OwenSobolBatch
         {
             uint* ty = tx + 1024;
             Vector256<uint> bx = Vector256.Create(Value(tx, block)), by = pair ? Vector256.Create(Value(ty, block)) : default;
+            Vector256<ulong> sx = Vector256.Create((ulong)seedX), cx = Vector256.Create((ulong)commonX);
+            Vector256<ulong> sy = Vector256.Create((ulong)seedY), cy = Vector256.Create((ulong)commonY);
             for (int i = 0; i < xs.Length; i += 8)
             {
+                // The scramble on four 64-bit lanes a vector (Quads: its chain about half as long).
                 uint s = firstIndex + (uint)i;
-                Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(tx, s) ^ bx, seedX, commonX))), px + i, xs.Length - i);
+                Vector256<uint> x = Consecutive(tx, s) ^ bx;
+                Store(Finished<TCommon>(x.GetLower(), sx, cx), Finished<TCommon>(x.GetUpper(), sx, cx), px + i, xs.Length - i);
                 if (pair)
                 {
-                    Store(ToDoubles(Reverse(Scrambled<TCommon>(Consecutive(ty, s) ^ by, seedY, commonY))), py + i, xs.Length - i);
+                    Vector256<uint> y = Consecutive(ty, s) ^ by;
+                    Store(Finished<TCommon>(y.GetLower(), sy, cy), Finished<TCommon>(y.GetUpper(), sy, cy), py + i, xs.Length - i);
                 }
             }
         }
@@ -214,12 +219,13 @@ internal static class OwenSobolBatch
     /// <summary>Blue noise's scramble under the pixel's seed, then the seed common to all pixels (<see cref="BlockLanes"/>).</summary>
     internal readonly struct Twice;
 
+    // Four of BlockLanes' words widened to 64-bit lanes, scrambled as TCommon says, reversed and converted (Quads).
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static Vector256<uint> Scrambled<TCommon>(Vector256<uint> x, uint seed, uint common)
+    private static Vector256<double> Finished<TCommon>(Vector128<uint> x, Vector256<ulong> seed, Vector256<ulong> common)
         where TCommon : struct
     {
-        x = LaineKarras(x, Vector256.Create(seed));
-        return typeof(TCommon) == typeof(Twice) ? LaineKarras(x, Vector256.Create(common)) : x;
+        Vector256<ulong> v = LaineKarras(Avx2.ConvertToVector256Int64(x).AsUInt64(), seed);
+        return Centred(ReverseLow(typeof(TCommon) == typeof(Twice) ? LaineKarras(v, common) : v));
     }
 
     // ShortMethod as a property getter: the JIT may otherwise leave it a call in a block the profile says is cold.

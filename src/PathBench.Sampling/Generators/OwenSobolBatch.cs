@@ -31,7 +31,7 @@ internal static class OwenSobolBatch
     /// columns picked by the index's bits; Sobol 1967), so a lane's walk is the walk of the group's low 29 bits, shared,
     /// XOR the walk of the lane's top three bits, picked from the dimension's eight such entries by vpermd. Eight
     /// consecutive indices lie in at most two aligned groups (lanes 0 and 7 stand for them): two shared walks and a
-    /// select. <paramref name="chunks"/> is <see cref="Sequences.SobolMatrices.PairChunkTables"/> of
+    /// select. The chunks are <see cref="Sequences.SobolMatrices.PairChunkTables"/> of
     /// <paramref name="dimension"/>'s pair (for a pair, <paramref name="dimension"/> is even): the walk by groups of six bits, whose small
     /// tables the random scrambled indices find in the level-one cache more often than the byte tables, and both
     /// dimensions of a pair by one walk of 64-bit entries. The scrambled reversed indices of a group depend on
@@ -41,10 +41,11 @@ internal static class OwenSobolBatch
     /// The coordinates' seeds are the pair's (SobolSampler.PairSeeds). The caller checks AVX2 and a run of at least two points.
     /// </summary>
     [MethodImpl(InliningOptions.Kernel)]
-    public static unsafe void Run(IndexMemo? scratch, ReadOnlySpan<ulong> chunks, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
+    public static unsafe void Run(IndexMemo? scratch, SobolMatrices matrices, ulong pixel, int dimension, uint firstIndex, Span<double> xs, Span<double> ys)
     {
         // The memo first (the caller's, else this thread's): the lanes' longest chain starts from it.
         IndexMemo memo = scratch ?? Memo;
+        ReadOnlySpan<ulong> chunks = matrices.PairChunkTables(dimension);
         bool pair = !ys.IsEmpty;
         int shift = 32 * (dimension & 1), half = dimension & 1;
         uint seedIndex = (uint)(pixel >> 32);

@@ -191,7 +191,8 @@ public sealed class SobolSampler(SamplerSpec spec) : PointSampler(spec)
         int count = ys.IsEmpty ? 1 : 2;
         if (Avx2.IsSupported && xs.Length >= 2 && (uint)(dimension + count) <= (uint)_tabled)
         {
-            OwenSobolBatch.Run(memo, _matrices.PairChunkTables(dimension), pixel, dimension, firstIndex, xs, ys);
+            // The matrices rather than the table slice: as many arguments as the callers', so the call can be a jump.
+            OwenSobolBatch.Run(memo, _matrices, pixel, dimension, firstIndex, xs, ys);
             return;
         }
 

@@ -54,6 +54,10 @@ internal static class OwenSobolBatch
         {
             uint* high = (uint*)(t + 288);
             Vector256<uint> hx = Vector256.Load(high + (8 * half)), hy = pair ? Vector256.Load(high + 8) : default;
+            // The coordinates' seeds once a run (SobolSampler.PairSeeds): on this round's Intel processor the hash's
+            // multiplications overlap the first group's chain wherever they stand, and a run of sixteen hashed twice.
+            ulong seeds = SobolSampler.PairSeeds(pixel, dimension);
+            Vector256<ulong> seedX = Vector256.Create((ulong)(uint)(seeds >> shift)), seedY = Vector256.Create(seeds >> 32);
             for (int i = 0; i < xs.Length; i += 8)
             {
                 // A run's last part-group computes every lane (a lane's table reads are bits of its own index, always
@@ -86,9 +90,6 @@ internal static class OwenSobolBatch
                 Vector256<uint> firstA = Vector256.Equals(r.A.AsUInt32() << 3, g0), firstB = Vector256.Equals(r.B.AsUInt32() << 3, g0);
                 ulong w0 = Low29(t, r0), w7 = Low29(t, r7);
 
-                // The coordinates' seeds (SobolSampler.PairSeeds) after the walks' loads: the scramble needs them last.
-                ulong seeds = SobolSampler.PairSeeds(pixel, dimension);
-                Vector256<ulong> seedX = Vector256.Create((ulong)(uint)(seeds >> shift)), seedY = Vector256.Create(seeds >> 32);
                 Vector256<uint> x0 = Vector256.Create(w0 >> shift).AsUInt32(), x7 = Vector256.Create(w7 >> shift).AsUInt32();
                 Store(
                     Centred(ReverseLow(LaineKarras((Vector256.ConditionalSelect(firstA, x0, x7) ^ Avx2.PermuteVar8x32(hx, topA)).AsUInt64(), seedX))),

@@ -155,7 +155,7 @@ public sealed class JitteredSampler : PointSampler
         where TDoubles : struct
     {
         bool even = (dimension & 1) == 0;
-        return TForm.Clamp(TForm.JitteredOver(even ? column : row, bits, even ? _columns : _rows));
+        return TForm.JitteredBelowOne(even ? column : row, bits, even ? _columns : _rows);
     }
 
     // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.

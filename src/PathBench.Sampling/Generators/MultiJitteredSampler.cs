@@ -223,8 +223,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // (column + (sy + jx)/n)/m = (column·n + sy + jx)/(m·n) exactly for powers of two m and n with m·n ≤ 2^20: every
             // step of the scalar form is exact there (sy + jx and column + (sy + jx)/n have at most 52 significant bits, the
             // divisions only rescale), so both are the exact value, and JitteredOver of the whole column·n + sy < m·n gives it.
-            TForm.Store(TForm.Clamp(TForm.JitteredOver((column << _rows.Log2) | rowShuffle, xBits, _cells)), xs);
-            TForm.Store(TForm.Clamp(TForm.JitteredOver((row << _columns.Log2) | columnShuffle, yBits, _cells)), ys);
+            TForm.Store(TForm.JitteredBelowOne((column << _rows.Log2) | rowShuffle, xBits, _cells), xs);
+            TForm.Store(TForm.JitteredBelowOne((row << _columns.Log2) | columnShuffle, yBits, _cells), ys);
             return;
         }
 

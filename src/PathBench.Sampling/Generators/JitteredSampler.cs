@@ -34,6 +34,10 @@ public sealed class JitteredSampler : PointSampler
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
         Coordinate(JitterHash.PixelStream(pixel, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 

@@ -28,6 +28,10 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
+
+    /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = StratumSeed(pixel, dimension);

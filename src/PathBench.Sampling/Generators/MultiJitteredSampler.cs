@@ -35,14 +35,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
-    /// <remarks>
-    /// True on the wide lane form (AVX-512): a batch of up to eight points is one chain of dependent vector multiplies
-    /// (the index's Kensler permutation, then, until the ninth round, the jitter hashes keyed by its result) after the grid's
-    /// shuffle tables, so a second group of eight overlaps the first: 16 points cost about 1.4 times 8 (110 → 150 ns a pair,
-    /// measured in the eighth round), less than the two calls a block's deep dimension would otherwise often take. Not
-    /// measured on the narrow form (AVX2), which keeps it off.
-    /// </remarks>
-    public override bool WholeRunsCostLittleMore => Width == LaneWidth.Wide;
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
 
     /// <summary>Creates the set for <see cref="PointSampler.Count"/> points.</summary>
     public MultiJitteredSampler(SamplerSpec spec) : base(spec)

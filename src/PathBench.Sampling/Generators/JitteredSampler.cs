@@ -34,6 +34,10 @@ public sealed class JitteredSampler : PointSampler
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
+
+    /// <inheritdoc/>
     public override double Sample(ulong pixel, uint index, int dimension) =>
         Coordinate(JitterHash.PixelStream(pixel, dimension), index, dimension, KenslerPermutation.Permute(index, (uint)Count, PairSeed(pixel, dimension)));
 
@@ -155,7 +159,7 @@ public sealed class JitteredSampler : PointSampler
         where TDoubles : struct
     {
         bool even = (dimension & 1) == 0;
-        return TForm.Clamp(TForm.JitteredOver(even ? column : row, bits, even ? _columns : _rows));
+        return TForm.JitteredBelowOne(even ? column : row, bits, even ? _columns : _rows);
     }
 
     // The coordinate in dimension of the point with this index in this cell; stream is the dimension's jitter stream.

@@ -35,6 +35,12 @@ internal interface ILaneForm<TDoubles>
     /// </summary>
     static abstract TDoubles JitteredOver(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor);
 
+    /// <summary>
+    /// <see cref="Clamp"/>(<see cref="JitteredOver"/>(whole, bits, divisor)) per lane (every lane's whole below the divisor): the
+    /// coordinate of a point in a stratum, as the scalar form's clamp gives it.
+    /// </summary>
+    static abstract TDoubles JitteredBelowOne(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor);
+
     /// <summary>a + b per lane.</summary>
     static abstract TDoubles Add(TDoubles a, TDoubles b);
 
@@ -70,6 +76,9 @@ internal readonly struct WideLanes : ILaneForm<Vector512<double>>
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> JitteredOver(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor) => Over(ToDouble(whole) + Jitter(bits), divisor);
+
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Vector512<double> JitteredBelowOne(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor) => Clamp(JitteredOver(whole, bits, divisor));
 
     [MethodImpl(InliningOptions.ShortMethod)]
     public static Vector512<double> Add(Vector512<double> a, Vector512<double> b) => a + b;
@@ -218,6 +227,23 @@ internal readonly struct NarrowLanes : ILaneForm<Doubles8>
             return JitteredOverDividing(whole, bits, divisor);
         }
 
+        return Packed(whole, bits, divisor);
+    }
+
+    /// <remarks>
+    /// Where <see cref="JitteredOver"/> takes its fused multiply-add, its exact result (whole + bits·2^-32)/d is below
+    /// (d − 1 + 1)/d = 1 (whole ≤ d − 1, bits·2^-32 &lt; 1), where the clamp returns it unchanged: the clamp's two vminpd are
+    /// left out (they share the two ports of the multiplies, shifts and fused multiply-adds, which these batches fill).
+    /// Elsewhere the clamp of the sum and division, as the scalar form.
+    /// </remarks>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    public static Doubles8 JitteredBelowOne(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor) =>
+        !Avx2.IsSupported || !Fma.IsSupported || !divisor.Packed ? Clamp(JitteredOverDividing(whole, bits, divisor)) : Packed(whole, bits, divisor);
+
+    // JitteredOver's fused multiply-add (AVX2, FMA, a packed divisor).
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Doubles8 Packed(Vector256<uint> whole, Vector256<uint> bits, LaneDivisor divisor)
+    {
         Vector256<uint> high = whole | Vector256.Create(0x43300000u);
         Vector256<uint> low = bits;
         Vector256<double> scale = Vector256.Create(divisor.JitterScale), offset = Vector256.Create(divisor.JitterOffset);

@@ -28,6 +28,10 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
+
+    /// <inheritdoc/>
     public override void SampleBatch(ulong pixel, uint firstIndex, int dimension, Span<double> xs)
     {
         uint seed = StratumSeed(pixel, dimension);
@@ -89,7 +93,7 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
     private TDoubles Points8<TForm, TDoubles>(Vector256<uint> stratum, Vector256<uint> bits)
         where TForm : struct, ILaneForm<TDoubles>
         where TDoubles : struct =>
-        TForm.Clamp(TForm.JitteredOver(stratum, bits, _strata));
+        TForm.JitteredBelowOne(stratum, bits, _strata);
 
     // The coordinate of the point with this index in this stratum; stream is the dimension's jitter stream.
     private double Coordinate(ulong stream, uint index, uint stratum) =>
@@ -133,12 +137,14 @@ public sealed class LatinHypercubeSampler(SamplerSpec spec) : PointSampler(spec)
             ? (Vector256<ushort>.Zero, Vector256<ushort>.Zero)
             : KenslerPermutation.Permute16Pair(index, KenslerPermutation.Seeds16.Of(l, seedX), index, KenslerPermutation.Seeds16.Of(l, seedY));
         int low = Math.Min(8, run);
-        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(x), x0), xs[..low]);
-        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenLower(y), y0), ys[..low]);
+        (Vector256<uint> xLow, Vector256<uint> xHigh) = Lanes.Widen16(x, NarrowLanes.Interleaved);
+        (Vector256<uint> yLow, Vector256<uint> yHigh) = Lanes.Widen16(y, NarrowLanes.Interleaved);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(xLow, x0), xs[..low]);
+        NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(yLow, y0), ys[..low]);
         if (run > 8)
         {
-            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(x), x1), xs[8..]);
-            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(Vector256.WidenUpper(y), y1), ys[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(xHigh, x1), xs[8..]);
+            NarrowLanes.Store(Points8<NarrowLanes, Doubles8>(yHigh, y1), ys[8..]);
         }
     }
 }

@@ -35,14 +35,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
     public override int PointsAtOnce => Lanes.PointsAtOnce(Width);
 
     /// <inheritdoc/>
-    /// <remarks>
-    /// True on the wide lane form (AVX-512): a batch of up to eight points is one chain of dependent vector multiplies
-    /// (the index's Kensler permutation, then, until the ninth round, the jitter hashes keyed by its result) after the grid's
-    /// shuffle tables, so a second group of eight overlaps the first: 16 points cost about 1.4 times 8 (110 → 150 ns a pair,
-    /// measured in the eighth round), less than the two calls a block's deep dimension would otherwise often take. Not
-    /// measured on the narrow form (AVX2), which keeps it off.
-    /// </remarks>
-    public override bool WholeRunsCostLittleMore => Width == LaneWidth.Wide;
+    /// <remarks><see cref="Lanes.WholeRuns"/>: true on the lane forms.</remarks>
+    public override bool WholeRunsCostLittleMore => Lanes.WholeRuns(Width);
 
     /// <summary>Creates the set for <see cref="PointSampler.Count"/> points.</summary>
     public MultiJitteredSampler(SamplerSpec spec) : base(spec)
@@ -223,8 +217,8 @@ public sealed class MultiJitteredSampler : PairedPointSampler
             // (column + (sy + jx)/n)/m = (column·n + sy + jx)/(m·n) exactly for powers of two m and n with m·n ≤ 2^20: every
             // step of the scalar form is exact there (sy + jx and column + (sy + jx)/n have at most 52 significant bits, the
             // divisions only rescale), so both are the exact value, and JitteredOver of the whole column·n + sy < m·n gives it.
-            TForm.Store(TForm.Clamp(TForm.JitteredOver((column << _rows.Log2) | rowShuffle, xBits, _cells)), xs);
-            TForm.Store(TForm.Clamp(TForm.JitteredOver((row << _columns.Log2) | columnShuffle, yBits, _cells)), ys);
+            TForm.Store(TForm.JitteredBelowOne((column << _rows.Log2) | rowShuffle, xBits, _cells), xs);
+            TForm.Store(TForm.JitteredBelowOne((row << _columns.Log2) | columnShuffle, yBits, _cells), ys);
             return;
         }
 

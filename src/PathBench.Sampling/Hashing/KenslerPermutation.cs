@@ -1,6 +1,7 @@
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 
 namespace PathBench.Sampling.Hashing;
 
@@ -191,10 +192,11 @@ public static class KenslerPermutation
     [MethodImpl(InliningOptions.HotPath)]
     internal static Vector256<ushort> Permute16(Vector256<ushort> i, in Seeds16 s)
     {
+        Masks16 m = new(s.Mask);
         Vector256<ushort> walking = Vector256<ushort>.AllBitsSet;
         do
         {
-            i = Vector256.ConditionalSelect(walking, Scramble16(i, s), i);
+            i = Vector256.ConditionalSelect(walking, Scramble16(i, s, m), i);
             // Values are below 2^15 and l below 2^15 too: the signed comparison is the unsigned one.
             walking = Vector256.AndNot(walking, Vector256.LessThan(i.AsInt16(), s.Limit).AsUInt16());
         }
@@ -210,11 +212,12 @@ public static class KenslerPermutation
     [MethodImpl(InliningOptions.HotPath)]
     internal static (Vector256<ushort> A, Vector256<ushort> B) Permute16Pair(Vector256<ushort> a, in Seeds16 sa, Vector256<ushort> b, in Seeds16 sb)
     {
+        Masks16 ma = new(sa.Mask), mb = new(sb.Mask);
         Vector256<ushort> walkingA = Vector256<ushort>.AllBitsSet, walkingB = Vector256<ushort>.AllBitsSet;
         do
         {
-            a = Vector256.ConditionalSelect(walkingA, Scramble16(a, sa), a);
-            b = Vector256.ConditionalSelect(walkingB, Scramble16(b, sb), b);
+            a = Vector256.ConditionalSelect(walkingA, Scramble16(a, sa, ma), a);
+            b = Vector256.ConditionalSelect(walkingB, Scramble16(b, sb, mb), b);
             walkingA = Vector256.AndNot(walkingA, Vector256.LessThan(a.AsInt16(), sa.Limit).AsUInt16());
             walkingB = Vector256.AndNot(walkingB, Vector256.LessThan(b.AsInt16(), sb.Limit).AsUInt16());
         }
@@ -226,25 +229,39 @@ public static class KenslerPermutation
     // One pass of the scalar loop's steps on sixteen 16-bit lanes (the low halves of the 32-bit steps), with the seed's words
     // folded where the steps are linear (Seeds16): x ^= p16; x ^= (x & w) >> 4; x ^= p8 is t ^ ((t & w) >> 4) ^ K1 for the
     // product t (xor, the mask and the shift distribute over xor), x ^= p23; x ^= (x & w) >> 1 is t ^ ((t & w) >> 1) ^ K2,
-    // and the two products by p27 and the constant are one product by their product (modulo 2^16). The same integers; the
-    // constant xors run beside the shifts, so the walk's chain is three xors and a multiply shorter.
+    // and the two products by p27 and the constant are one product by their product (modulo 2^16). Each (x & w) >> k is
+    // (x >> k) & (w >> k) (Masks16), so the shift starts the step and the mask and the xor are one operation where the
+    // machine has a three-input logic instruction (AVX-512VL vpternlogd; the JIT folds the and-xor into it): two steps on
+    // the chain instead of three, six passes of them a walk; without it the same count as before. The same integers; the
+    // constant xors run beside the shifts.
     [MethodImpl(InliningOptions.HotPath)]
-    private static Vector256<ushort> Scramble16(Vector256<ushort> i, in Seeds16 s)
+    private static Vector256<ushort> Scramble16(Vector256<ushort> i, in Seeds16 s, in Masks16 m)
     {
-        Vector256<ushort> mask = s.Mask;
         Vector256<ushort> x = (i ^ s.P) * Vector256.Create(unchecked((ushort)0xe170893du));
-        x = (x ^ s.K1) ^ ((x & mask) >>> 4);
+        x = XorAnd(x ^ s.K1, x >>> 4, m.Shift4);
         x *= Vector256.Create(unchecked((ushort)0x0929eb3fu));
-        x = (x ^ s.K2) ^ ((x & mask) >>> 1);
+        x = XorAnd(x ^ s.K2, x >>> 1, m.Shift1);
         x *= s.P27;
-        x ^= (x & mask) >>> 11;
+        x = XorAnd(x, x >>> 11, m.Shift11);
         x *= Vector256.Create(unchecked((ushort)0x74dcb303u));
-        x ^= (x & mask) >>> 2;
+        x = XorAnd(x, x >>> 2, m.Shift2);
         x *= Vector256.Create(unchecked((ushort)0x9e501cc3u));
-        x ^= (x & mask) >>> 2;
+        x = XorAnd(x, x >>> 2, m.Shift2);
         x *= Vector256.Create(unchecked((ushort)0xc860a3dfu));
-        x &= mask;
-        return x ^ (x >>> 5);
+        return XorAnd(x & s.Mask, x >>> 5, m.Shift5);
+    }
+
+    // a ^ (b & c): one vpternlogd where the machine has AVX-512VL (truth table 0x78: A ^ (B & C) of the operands' bit
+    // patterns 0xF0, 0xCC, 0xAA), so a step whose a is ready beside its shifted b waits one operation on the shift, not two
+    // (the JIT's own folding took the and apart from a four-input step); otherwise the and and the xor.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static Vector256<ushort> XorAnd(Vector256<ushort> a, Vector256<ushort> b, Vector256<ushort> c) =>
+        Avx512F.VL.IsSupported ? Avx512F.VL.TernaryLogic(a, b, c, 0x78) : a ^ (b & c);
+
+    /// <summary>A walk's mask w shifted as Scramble16's steps shift the value: w ≫ 1, 2, 4, 5 and 11, made once a walk.</summary>
+    private readonly struct Masks16(Vector256<ushort> w)
+    {
+        public readonly Vector256<ushort> Shift1 = w >>> 1, Shift2 = w >>> 2, Shift4 = w >>> 4, Shift5 = w >>> 5, Shift11 = w >>> 11;
     }
 
     /// <summary>

@@ -94,23 +94,19 @@ public sealed class SampleCacheTests
     [InlineData("sobol", "owen", 8)]
     [InlineData("sobol", "digital-shift", 8)]
     [InlineData("pmj02", "owen", SampleCache.BlockSize)]
-    [InlineData("multi-jittered", "none", 0)]
-    [InlineData("latin-hypercube", "none", 8)]
+    [InlineData("multi-jittered", "none", SampleCache.BlockSize)]
+    [InlineData("latin-hypercube", "none", SampleCache.BlockSize)]
+    [InlineData("jittered", "none", SampleCache.BlockSize)]
     public void A_deep_dimension_is_made_in_runs_the_sampler_makes_at_little_more_cost(string generator, string randomize, int run)
     {
         // A vertex past the fourth asks in runs of DeepRun samples, unless the sampler says a batch costs about the same
-        // whatever its length (Halton's digit permutations draw a position's map per run, the pmj family's Owen pairs and
-        // multi-jittered's wide form are latency-bound chains a second group overlaps: the rest of the block) or it
-        // makes more points at once (the eight-lane sets and the Owen-scrambled gathers: eight, on a machine with the lane forms).
-        // Run 0: the rest of the block in the 512-bit lane form (multi-jittered's wide form), eight in the 256-bit one. Run −1:
-        // eight in the 512-bit form, DeepRun in the 256-bit one (Halton's plain radical inverses on 512-bit lanes; lattice's dimension 46 is past
-        // its limit of 12, where the padding hash runs on 512-bit lanes).
-        run = run switch
-        {
-            0 => SamplerLanes.Uses512BitVectors ? SampleCache.BlockSize : 8,
-            -1 => SamplerLanes.Uses512BitVectors ? 8 : SampleCache.DeepRun,
-            _ => run,
-        };
+        // whatever its length (Halton's digit permutations draw a position's map per run, the pmj family's Owen pairs are
+        // latency-bound chains a second group overlaps, and the Kensler sets' lane forms walk sixteen indices at once or
+        // overlap two groups: the rest of the block) or it makes more points at once (the Owen-scrambled gathers: eight,
+        // on a machine with the lane forms). Run −1: eight in the 512-bit form, DeepRun in the 256-bit one (Halton's plain
+        // radical inverses on 512-bit lanes; lattice's dimension 46 is past its limit of 12, where the padding hash runs on
+        // 512-bit lanes).
+        run = run == -1 ? (SamplerLanes.Uses512BitVectors ? 8 : SampleCache.DeepRun) : run;
         PointSampler s = Create(generator, randomize, 16, 40);
         int roulette = DimensionLayout.Vertex(4) + DimensionLayout.Roulette;
         Assert.Equal(run == SampleCache.BlockSize, s.WholeRunsCostLittleMore);

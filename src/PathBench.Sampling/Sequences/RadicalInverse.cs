@@ -298,7 +298,8 @@ public static class RadicalInverse
     /// </summary>
     public static void PermutedPairBatch(uint firstIndex, int b0, int b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
     {
-        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length && ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys))
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length
+            && (ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys) || ShortTablePair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys)))
         {
             return;
         }
@@ -347,6 +348,43 @@ public static class RadicalInverse
         OneDigitQuads(first, images0, invBase0, belowZero0, belowOne0, xs);
         OneDigitQuads(first, images1, invBase1, belowZero1, belowOne1, ys);
         return true;
+    }
+
+    /// <summary>
+    /// <see cref="ShortRun"/>'s one-digit form for two bases on the Fisher–Yates table (17 … 61 in a pixel's block of 16) on
+    /// AVX2, both dimensions of a pair in one call (as <see cref="ShortRunPair"/> for the large bases): one call and one
+    /// prologue where two <see cref="PermutedBatch"/> calls each went through <see cref="PermutedBatchForm"/> and
+    /// <see cref="ShortRun"/>. False (nothing written) when the run is not of that kind.
+    /// </summary>
+    [SkipLocalsInit] // every image read is written first
+    [MethodImpl(InliningOptions.Kernel)] // its own frame (see ImageStorage)
+    private static bool ShortTablePair(uint first, uint b0, uint b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+        if (last < first || last >= b0 || last >= b1 || b0 == 2 || b1 == 2 || b0 > FullTableBase || b1 > FullTableBase
+            || Generators.Lanes.Best != Generators.LaneWidth.Narrow || !Avx2.IsSupported)
+        {
+            return false;
+        }
+
+        Unsafe.SkipInit(out ImageStorage storage0);
+        Unsafe.SkipInit(out ImageStorage storage1);
+        OneDigitFromTable(first, last, b0, key0, storage0, xs);
+        OneDigitFromTable(first, last, b1, key1, storage1, ys);
+        return true;
+    }
+
+    // One dimension of ShortTablePair: the zero digits and the fractions below lengths 0 and 1 as ShortRun makes them,
+    // position 0's table up to the run's last digit, the points four at a time.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void OneDigitFromTable(uint first, uint last, uint b, ulong key, Span<uint> images, Span<double> xs)
+    {
+        double invBase = 1.0 / b;
+        ulong u = ZeroDigits(key);
+        double below0 = Fraction(u);
+        uint zero = (uint)Math.BigMul(u, b, out u);
+        FisherYates(b, SampleHash.Combine(key, 0), zero, last, images);
+        OneDigitQuads(first, images, invBase, below0, Fraction(u) * invBase, xs);
     }
 
     /// <summary>

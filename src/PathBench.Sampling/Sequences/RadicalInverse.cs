@@ -766,10 +766,11 @@ public static class RadicalInverse
     {
         if (Avx.IsSupported && table.Length >= FullTableBase)
         {
-            // The identity in eight 256-bit stores (the copy routine's call cost more than the whole table).
+            // The identity in 256-bit stores (the copy routine's call cost more than the whole table), as far as place b − 1:
+            // no step reads a place from b on (step j's place is j + a draw below b − j).
             ref uint place = ref MemoryMarshal.GetReference(table);
             Vector256<uint> identity = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-            for (int k = 0; k < FullTableBase; k += 8)
+            for (int k = 0; k < (int)b; k += 8)
             {
                 (identity + Vector256.Create((uint)k)).StoreUnsafe(ref place, (nuint)k);
             }

@@ -298,7 +298,8 @@ public static class RadicalInverse
     /// </summary>
     public static void PermutedPairBatch(uint firstIndex, int b0, int b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
     {
-        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length && ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys))
+        if (xs.Length > 0 && xs.Length <= DrawnDigits && xs.Length == ys.Length
+            && (ShortRunPair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys) || ShortTablePair(firstIndex, (uint)b0, (uint)b1, key0, key1, xs, ys)))
         {
             return;
         }
@@ -347,6 +348,43 @@ public static class RadicalInverse
         OneDigitQuads(first, images0, invBase0, belowZero0, belowOne0, xs);
         OneDigitQuads(first, images1, invBase1, belowZero1, belowOne1, ys);
         return true;
+    }
+
+    /// <summary>
+    /// <see cref="ShortRun"/>'s one-digit form for two bases on the Fisher–Yates table (17 … 61 in a pixel's block of 16) on
+    /// AVX2, both dimensions of a pair in one call (as <see cref="ShortRunPair"/> for the large bases): one call and one
+    /// prologue where two <see cref="PermutedBatch"/> calls each went through <see cref="PermutedBatchForm"/> and
+    /// <see cref="ShortRun"/>. False (nothing written) when the run is not of that kind.
+    /// </summary>
+    [SkipLocalsInit] // every image read is written first
+    [MethodImpl(InliningOptions.Kernel)] // its own frame (see ImageStorage)
+    private static bool ShortTablePair(uint first, uint b0, uint b1, ulong key0, ulong key1, Span<double> xs, Span<double> ys)
+    {
+        uint last = first + (uint)(xs.Length - 1);
+        if (last < first || last >= b0 || last >= b1 || b0 == 2 || b1 == 2 || b0 > FullTableBase || b1 > FullTableBase
+            || Generators.Lanes.Best != Generators.LaneWidth.Narrow || !Avx2.IsSupported)
+        {
+            return false;
+        }
+
+        Unsafe.SkipInit(out ImageStorage storage0);
+        Unsafe.SkipInit(out ImageStorage storage1);
+        OneDigitFromTable(first, last, b0, key0, storage0, xs);
+        OneDigitFromTable(first, last, b1, key1, storage1, ys);
+        return true;
+    }
+
+    // One dimension of ShortTablePair: the zero digits and the fractions below lengths 0 and 1 as ShortRun makes them,
+    // position 0's table up to the run's last digit, the points four at a time.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void OneDigitFromTable(uint first, uint last, uint b, ulong key, Span<uint> images, Span<double> xs)
+    {
+        double invBase = 1.0 / b;
+        ulong u = ZeroDigits(key);
+        double below0 = Fraction(u);
+        uint zero = (uint)Math.BigMul(u, b, out u);
+        FisherYates(b, SampleHash.Combine(key, 0), zero, last, images);
+        OneDigitQuads(first, images, invBase, below0, Fraction(u) * invBase, xs);
     }
 
     /// <summary>
@@ -601,6 +639,12 @@ public static class RadicalInverse
 
         below[lengthOfLast] = Below(u, (int)b, lengthOfLast);
         double invBase = 1.0 / b;
+        if (Generators.Lanes.Best != Generators.LaneWidth.Scalar && Avx2.IsSupported)
+        {
+            SmallBaseLanes(first, b, lengthOfLast, digits, tables, below, invBase, xs);
+            return;
+        }
+
         for (int i = 0; ; i++)
         {
             double weight = invBase;
@@ -631,6 +675,82 @@ public static class RadicalInverse
         }
     }
 
+    /// <summary>
+    /// <see cref="SmallBaseRun"/>'s points on AVX2, the run's n ≤ 16 indices in two vectors of eight 32-bit lanes (the lanes
+    /// past the run repeat its last index), the odometer replaced by each lane's own digits: position k's digit of index
+    /// first + l is x mod b with x = (first's digit k) + the carry out of position k − 1 (l at position 0), the carry
+    /// ⌊x / b⌋ by a multiply-shift (⌊x·⌈2^20 / b⌉ / 2^20⌋, exact for x·(⌈2^20 / b⌉·b − 2^20) &lt; 2^20, here x &lt; 80 and b ≤ 64).
+    /// Each point is the scalar loop's sum in its order: 0 + t_0 + t_1 + … over the positions below the index's length (a
+    /// lane past its length adds +0, which leaves its non-negative sum's bits as they are), t_k = (double)image · w_k with
+    /// the scalar loop's weights w_0 = 1/b, w_{k+1} = w_k · (1/b) (no fused multiply-add), the image gathered from position
+    /// k's table (its b entries written by <see cref="FisherYates"/>); then + the fraction below the index's length
+    /// (gathered) and the clamp by vminpd (x where x &lt; 1, as <see cref="UnitInterval.Clamp"/>). The length of index i
+    /// is the number of positions k with i ≥ b^k. Same bits as the scalar loop (<c>PermutedRadicalInverseTests</c>).
+    /// </summary>
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static unsafe void SmallBaseLanes(uint first, uint b, int positions, ReadOnlySpan<uint> digits, ReadOnlySpan<uint> tables, ReadOnlySpan<double> below, double invBase, Span<double> xs)
+    {
+        int n = xs.Length;
+        Vector256<int> last = Vector256.Create(n - 1);
+        Vector256<int> offsetLow = Vector256.Min(Vector256.Create(0, 1, 2, 3, 4, 5, 6, 7), last);
+        Vector256<int> offsetHigh = Vector256.Min(Vector256.Create(8, 9, 10, 11, 12, 13, 14, 15), last);
+        Vector256<uint> indexLow = Vector256.Create(first) + offsetLow.AsUInt32(), indexHigh = Vector256.Create(first) + offsetHigh.AsUInt32();
+        Vector256<int> vb = Vector256.Create((int)b), magic = Vector256.Create((1 << 20) / (int)b + 1);
+        Vector256<int> carryLow = offsetLow, carryHigh = offsetHigh, lengthLow = Vector256<int>.Zero, lengthHigh = Vector256<int>.Zero;
+        Vector256<double> sum0 = Vector256<double>.Zero, sum1 = Vector256<double>.Zero, sum2 = Vector256<double>.Zero, sum3 = Vector256<double>.Zero;
+        double weight = invBase;
+        uint power = 1; // b^k ≤ the last index for every position k of the run
+        fixed (uint* table = tables)
+        {
+            for (int k = 0; k < positions; k++)
+            {
+                Vector256<int> digit = Vector256.Create((int)digits[k]);
+                Vector256<int> xLow = digit + carryLow, xHigh = digit + carryHigh;
+                carryLow = Avx2.ShiftRightLogical(Avx2.MultiplyLow(xLow, magic), 20);
+                carryHigh = Avx2.ShiftRightLogical(Avx2.MultiplyLow(xHigh, magic), 20);
+                Vector256<int> imageLow = Avx2.GatherVector256((int*)table + (k * FullTableBase), xLow - Avx2.MultiplyLow(carryLow, vb), 4);
+                Vector256<int> imageHigh = Avx2.GatherVector256((int*)table + (k * FullTableBase), xHigh - Avx2.MultiplyLow(carryHigh, vb), 4);
+                Vector256<uint> p = Vector256.Create(power);
+                Vector256<int> activeLow = Vector256.Equals(Vector256.Max(indexLow, p), indexLow).AsInt32();
+                Vector256<int> activeHigh = Vector256.Equals(Vector256.Max(indexHigh, p), indexHigh).AsInt32();
+                lengthLow -= activeLow;
+                lengthHigh -= activeHigh;
+                Vector256<double> w = Vector256.Create(weight);
+                sum0 += (Avx.ConvertToVector256Double(imageLow.GetLower()) * w) & Avx2.ConvertToVector256Int64(activeLow.GetLower()).AsDouble();
+                sum1 += (Avx.ConvertToVector256Double(imageLow.GetUpper()) * w) & Avx2.ConvertToVector256Int64(activeLow.GetUpper()).AsDouble();
+                sum2 += (Avx.ConvertToVector256Double(imageHigh.GetLower()) * w) & Avx2.ConvertToVector256Int64(activeHigh.GetLower()).AsDouble();
+                sum3 += (Avx.ConvertToVector256Double(imageHigh.GetUpper()) * w) & Avx2.ConvertToVector256Int64(activeHigh.GetUpper()).AsDouble();
+                weight *= invBase;
+                power *= b;
+            }
+        }
+
+        Vector256<double> top = Vector256.Create(UnitInterval.BelowOne);
+        fixed (double* fraction = below)
+        {
+            StoreQuad(Avx.Min(sum0 + Avx2.GatherVector256(fraction, lengthLow.GetLower(), 8), top), xs, 0);
+            StoreQuad(Avx.Min(sum1 + Avx2.GatherVector256(fraction, lengthLow.GetUpper(), 8), top), xs, 4);
+            StoreQuad(Avx.Min(sum2 + Avx2.GatherVector256(fraction, lengthHigh.GetLower(), 8), top), xs, 8);
+            StoreQuad(Avx.Min(sum3 + Avx2.GatherVector256(fraction, lengthHigh.GetUpper(), 8), top), xs, 12);
+        }
+    }
+
+    // Points start … start + 3 of xs where the run has them.
+    [MethodImpl(InliningOptions.ShortMethod)]
+    private static void StoreQuad(Vector256<double> x, Span<double> xs, int start)
+    {
+        if (start + 4 <= xs.Length)
+        {
+            x.StoreUnsafe(ref MemoryMarshal.GetReference(xs), (nuint)start);
+            return;
+        }
+
+        for (int i = start; i < xs.Length; i++)
+        {
+            xs[i] = x.GetElement(i - start);
+        }
+    }
+
     // Draws DigitMap.Fill makes at once on this machine's lanes (sixteen on 512-bit ones, else eight: two a hash):
     // FisherYates asks for whole groups (the scalar tail costs more per draw than a group's unused lanes).
     private static readonly uint DrawGroup = Generators.Lanes.Best == Generators.LaneWidth.Wide ? 16u : 8u;
@@ -646,10 +766,11 @@ public static class RadicalInverse
     {
         if (Avx.IsSupported && table.Length >= FullTableBase)
         {
-            // The identity in eight 256-bit stores (the copy routine's call cost more than the whole table).
+            // The identity in 256-bit stores (the copy routine's call cost more than the whole table), as far as place b − 1:
+            // no step reads a place from b on (step j's place is j + a draw below b − j).
             ref uint place = ref MemoryMarshal.GetReference(table);
             Vector256<uint> identity = Vector256.Create(0u, 1u, 2u, 3u, 4u, 5u, 6u, 7u);
-            for (int k = 0; k < FullTableBase; k += 8)
+            for (int k = 0; k < (int)b; k += 8)
             {
                 (identity + Vector256.Create((uint)k)).StoreUnsafe(ref place, (nuint)k);
             }

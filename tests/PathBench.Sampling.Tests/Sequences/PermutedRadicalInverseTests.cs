@@ -51,6 +51,40 @@ public sealed class PermutedRadicalInverseTests
     }
 
     /// <summary>
+    /// Runs of several digits in the bases up to 64 (the short form's per-position tables, whose points the vector form
+    /// makes with each lane's own digits and carries): from index 0, across digit boundaries (carries into one and several
+    /// positions, the length growing inside the run) and deep in the index range (21 positions in base 3), over many keys,
+    /// bit for bit against the one-point reference (first indices and counts chosen to reach those cases: common practice).
+    /// </summary>
+    [Fact]
+    public void Small_base_runs_equal_the_one_point_reference_at_every_depth()
+    {
+        int[] bases = [3, 5, 7, 11, 13, 61];
+        uint[] firsts = [0, 1, 7, 118, 1000, 59045, 12345678, 0xFFFFFFEFu];
+        int[] counts = [1, 2, 5, 9, 15, 16];
+        var xs = new double[16];
+        foreach (int b in bases)
+        {
+            for (ulong k = 0; k < 60; k++)
+            {
+                ulong key = SampleHash.Mix64(k + ((ulong)b << 24));
+                foreach (uint first in firsts)
+                {
+                    foreach (int n in counts)
+                    {
+                        RadicalInverse.PermutedBatch(first, b, key, xs.AsSpan(0, n));
+                        for (int i = 0; i < n; i++)
+                        {
+                            double reference = RadicalInverse.Permuted(first + (uint)i, b, key);
+                            Assert.True(reference == xs[i], $"b={b} key={key:x} first={first} n={n} i={i}: {xs[i]:R} vs {reference:R}");
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>
     /// A pixel's first 16 indices in the bases just above the Fisher–Yates table (where draws are often redrawn, so the
     /// conflict-detection form runs several rounds) and in the bases the cache meets from 17 on, over many keys: every
     /// form equals the one-point reference bit for bit, for the whole block and for runs starting inside it.

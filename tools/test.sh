@@ -42,8 +42,8 @@ trap 'rm -f "$log"' EXIT
 dotnet test PathBench.sln -c Release 2>&1 | tee "$log"
 status=${PIPESTATUS[0]}
 
-# The paths a machine without AVX2 takes (ARM64, older x86): the sampling tests and the rendering pins and determinism
-# tests again with the runtime's AVX2 turned off (DOTNET_EnableAVX2=0), so every batch's fallback is held to the same
+# The paths a machine without AVX2 takes (ARM64, older x86): the sampling tests and the rendering pins, determinism
+# and sample-cache tests again with the runtime's AVX2 turned off (DOTNET_EnableAVX2=0), so every batch's fallback is held to the same
 # bits; tests that need AVX2 skip themselves. Their counts join the totals below.
 if [ "$status" -eq 0 ]; then
   DOTNET_EnableAVX2=0 dotnet test tests/PathBench.Sampling.Tests -c Release --no-build 2>&1 | tee -a "$log"
@@ -51,7 +51,7 @@ if [ "$status" -eq 0 ]; then
 fi
 if [ "$status" -eq 0 ]; then
   DOTNET_EnableAVX2=0 dotnet test tests/PathBench.Rendering.Tests -c Release --no-build \
-    --filter "FullyQualifiedName~SamplerPathHashTests|FullyQualifiedName~DeterminismTests" 2>&1 | tee -a "$log"
+    --filter "FullyQualifiedName~SamplerPathHashTests|FullyQualifiedName~DeterminismTests|FullyQualifiedName~SampleCacheTests" 2>&1 | tee -a "$log"
   status=${PIPESTATUS[0]}
 fi
 

@@ -373,24 +373,12 @@ public static class ThroughputBench
             }
             else if (c.Pair)
             {
-                if (scratch is null)
-                {
-                    sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y);
-                }
-                else
-                {
-                    sampler.Sample2DBatch(c.Pixel, c.First, c.Dimension, x, y, scratch);
-                }
-
+                ScratchBatches.Sample2D(sampler, scratch, c.Pixel, c.First, c.Dimension, x, y);
                 sum += y[0];
-            }
-            else if (scratch is null)
-            {
-                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x);
             }
             else
             {
-                sampler.SampleBatch(c.Pixel, c.First, c.Dimension, x, scratch);
+                ScratchBatches.Sample(sampler, scratch, c.Pixel, c.First, c.Dimension, x);
             }
 
             sum += x[0];

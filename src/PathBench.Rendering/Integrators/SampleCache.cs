@@ -150,14 +150,7 @@ public sealed class SampleCache
         Recorder?.Add(new SampleBatchCall(_pixel, first, row.Length, dimension, false));
         if (dimension < _limit)
         {
-            if (_scratch is null)
-            {
-                _sampler.SampleBatch(_pixel, first, dimension, row);
-            }
-            else
-            {
-                _sampler.SampleBatch(_pixel, first, dimension, row, _scratch);
-            }
+            ScratchBatches.Sample(_sampler, _scratch, _pixel, first, dimension, row);
         }
         else
         {
@@ -186,15 +179,7 @@ public sealed class SampleCache
         Reserve(dimension + 2);
         int n = Run(slot, dimension);
         Recorder?.Add(new SampleBatchCall(_pixel, _first + (uint)slot, n, dimension, true));
-        Span<double> xs = _values.AsSpan(dimension * BlockSize + slot, n), ys = _values.AsSpan((dimension + 1) * BlockSize + slot, n);
-        if (_scratch is null)
-        {
-            _sampler.Sample2DBatch(_pixel, _first + (uint)slot, dimension, xs, ys);
-        }
-        else
-        {
-            _sampler.Sample2DBatch(_pixel, _first + (uint)slot, dimension, xs, ys, _scratch);
-        }
+        ScratchBatches.Sample2D(_sampler, _scratch, _pixel, _first + (uint)slot, dimension, _values.AsSpan(dimension * BlockSize + slot, n), _values.AsSpan((dimension + 1) * BlockSize + slot, n));
         _filled[dimension] = _block;
         _filled[dimension + 1] = _block;
         _filledEnd[dimension] = slot + n;
@@ -238,4 +223,38 @@ public readonly struct CachedSampleStream : ISampleStream
     /// <inheritdoc/>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public (double X, double Y) Get2D(int dimension) => _cache.Get2D(_slot, dimension);
+}
+
+/// <summary>
+/// A sampler's batch calls with one thread's scratch where the sampler keeps one (<see cref="PointSampler.NewBatchScratch"/>),
+/// else the plain calls, so a generator without one keeps its direct call: what the cache and the bench's replay of its
+/// calls both do.
+/// </summary>
+internal static class ScratchBatches
+{
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static void Sample(PointSampler sampler, BatchScratch? scratch, ulong pixel, uint first, int dimension, Span<double> xs)
+    {
+        if (scratch is null)
+        {
+            sampler.SampleBatch(pixel, first, dimension, xs);
+        }
+        else
+        {
+            sampler.SampleBatch(pixel, first, dimension, xs, scratch);
+        }
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static void Sample2D(PointSampler sampler, BatchScratch? scratch, ulong pixel, uint first, int dimension, Span<double> xs, Span<double> ys)
+    {
+        if (scratch is null)
+        {
+            sampler.Sample2DBatch(pixel, first, dimension, xs, ys);
+        }
+        else
+        {
+            sampler.Sample2DBatch(pixel, first, dimension, xs, ys, scratch);
+        }
+    }
 }
